@@ -1,0 +1,849 @@
+"""Reading flight logs and point tables into the canonical samples table.
+
+:func:`read_log` takes whatever a data logger, a panel display or a typed
+knee-board table produced and returns a :class:`LogRead`: a DataFrame with the
+canonical columns of ``DEVELOPERS.md`` (plus ``source_line``), what kind of
+input it was and why, how every column was understood, warnings, and every
+row or cell that was dropped or blanked, counted, with line numbers.
+
+What the reader copes with
+--------------------------
+* Delimiters comma, semicolon and tab (chosen from the layout of the first
+  lines); decimal comma with ``;`` or tab; a UTF-8 byte-order mark; Windows
+  code page 1252 when the bytes are not UTF-8 (warned).
+* Metadata lines before the header (skipped, and said so); units on a
+  second header row; quoted headers.
+* Missing values: empty cells, ``NaN``, ``---``, ``N/A`` and the like are
+  counted per column as dropouts; cells that are not numbers at all are
+  counted separately.  Blank lines and a partial last line (the logger was
+  switched off mid-line) are dropped and counted; a line with *more* fields
+  than the header is dropped and counted.
+* Time as seconds (any time unit in the header), as clock time
+  ``hh:mm:ss[.sss]`` (crossing midnight is unwrapped) or as ISO 8601 date
+  and time.  Clock and ISO stamps become seconds since midnight of the first
+  stamp's day, so a point's ``t_start_s`` can be read back on the logger's
+  clock.
+* Not a CSV at all (binary, HTML/XML, JSON, PDF, a zipped spreadsheet), an
+  empty file, a header without data: a specific :class:`InputFileError`.
+
+Decisions
+---------
+* **Time going backwards** (within one flight) is an error naming the line:
+  it means a concatenated file or a clock reset, which only the user can sort
+  out (split the file or add a ``flight`` column).  Duplicated time stamps
+  are a warning with their lines; both rows are kept.
+* **Implausible values** (airspeed outside 0…300 kt, elevator beyond ±45°,
+  OAT outside −70…+60 °C, pressure altitude outside −2,000…40,000 ft, load
+  factor outside −5…+10 g, weight not positive) are an error naming line and
+  column in a point table, where each row is a test point.  In a time series
+  a few isolated bad samples (at most 3, or 0.1 % of the rows) are taken as
+  sensor glitches: they are blanked (set missing), counted in ``dropped`` and
+  named in a loud warning; more than that is an error, since it usually means
+  a wrong unit or a wrong column.  Values are never clipped.
+* A column whose header is not understood is kept out of the samples table
+  and listed in a warning.  A column map entry whose target is ``""`` or
+  ``"-"`` tells the reader to ignore that column (also listed).
+* Required: an airspeed (``ias_kt`` or ``cas_kt``), ``pressure_alt_ft`` and
+  ``elevator_deg``.  Without ``oat_c`` ISA is assumed downstream (warned);
+  without ``stick_force_lbf`` there is no stick-free result (warned).
+* Kind: a time column with at least 30 rows at a regular-ish interval of at
+  most 10 s is a time series; anything else is a point table.  ``kind=``
+  forces the choice.  In a point table a time column, if any, is kept.
+"""
+
+from __future__ import annotations
+
+import csv
+import datetime as dt
+import difflib
+import io
+import re
+import tomllib
+import warnings
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from trimlog.columns import (
+    ISO_STAMP,
+    PLAUSIBLE_RANGES,
+    QUANTITIES,
+    TEXT_COLUMNS,
+    Dropped,
+    HeaderMeaning,
+    Kind,
+    Notes,
+    check_constant,
+    check_plausible,
+    check_time,
+    clock_seconds,
+    conversion_text,
+    decide_kind,
+    map_columns,
+    numeric_values,
+    require_columns,
+    text_values,
+)
+from trimlog.errors import InputFileError, TrimlogError, UnitError
+from trimlog.units import parse_quantity
+
+__all__ = [
+    "ColumnInfo",
+    "Dropped",
+    "LogRead",
+    "LoadingSheet",
+    "PLAUSIBLE_RANGES",
+    "read_log",
+    "read_loading_sheet",
+]
+
+
+NA_TOKENS = ["---", "--", "-", "NaN", "nan", "NAN", "N/A", "n/a", "NA", "null", "NULL", "None",
+             "#N/A", "?", "*", "ERR", "err", "inf", "-inf"]
+
+_DELIMITERS = {"\t": "tab", ";": "semicolon", ",": "comma", "|": "pipe"}
+_NUMBER = re.compile(r"^[-+]?(\d+([.,]\d*)?|[.,]\d+)([eE][-+]?\d+)?$")
+_CLOCK = re.compile(r"^\d{1,2}:\d{2}(:\d{2}([.,]\d+)?)?$")
+_LINE_SPLIT = re.compile(r"\r\n|\r|\n")
+_SNIFF_BYTES = 65536
+
+
+@dataclass(frozen=True)
+class ColumnInfo:
+    """How one column of the file was understood.
+
+    Parameters
+    ----------
+    header : str
+        The header as written in the file.
+    canonical : str
+        Canonical column name it became.
+    unit : str
+        The unit understood (``"assumed kt"`` when none was written).
+    conversion : str
+        The conversion applied, e.g. ``"mph -> kt: x 0.868976"`` or ``"none"``.
+    inverted : bool
+        Whether the sign was flipped (declared in the aircraft profile).
+    """
+
+    header: str
+    canonical: str
+    unit: str
+    conversion: str
+    inverted: bool
+
+
+@dataclass(frozen=True)
+class LogRead:
+    """A log or point table as read.
+
+    Parameters
+    ----------
+    data : pandas.DataFrame
+        Canonical columns in canonical units, plus ``source_line`` (int,
+        1-based file line of each row).
+    kind : {"point_table", "time_series"}
+        What the input was taken to be.
+    kind_reason : str
+        Why.
+    source : str
+        The file name as given.
+    columns : tuple of ColumnInfo
+        How each used column was understood.
+    warnings : tuple of str
+        Everything the user should know about the file.
+    dropped : tuple of Dropped
+        Every dropped or blanked row or cell, counted, with line numbers.
+    n_rows_read : int
+        Data lines read from the file (before anything was dropped).
+    """
+
+    data: pd.DataFrame
+    kind: Kind
+    kind_reason: str
+    source: str
+    columns: tuple[ColumnInfo, ...]
+    warnings: tuple[str, ...]
+    dropped: tuple[Dropped, ...]
+    n_rows_read: int
+
+
+@dataclass(frozen=True)
+class _Layout:
+    encoding: str
+    delimiter: str
+    decimal: str
+    header_line: int  # 0-based index of the header line
+    data_start: int  # 0-based index of the first data line
+    headers: tuple[str, ...]
+    units: tuple[str, ...]  # from a second header row; "" where none
+
+
+# --------------------------------------------------------------------- loading
+
+
+def _load(source: Any, name: str | None) -> tuple[bytes, str]:
+    if isinstance(source, bytes | bytearray | memoryview):
+        return bytes(source), name or "<uploaded file>"
+    if hasattr(source, "read"):
+        data = source.read()
+        label = name or str(getattr(source, "name", "<uploaded file>"))
+        if isinstance(data, str):
+            data = data.encode("utf-8")
+        return bytes(data), label
+    if isinstance(source, str | Path):
+        path = Path(source)
+        label = name or path.name
+        try:
+            return path.read_bytes(), label
+        except FileNotFoundError as exc:
+            raise InputFileError("file not found", file=str(source)) from exc
+        except IsADirectoryError as exc:
+            raise InputFileError("expected a CSV file, found a folder", file=str(source)) from exc
+        except OSError as exc:
+            raise InputFileError(f"cannot read the file: {exc.strerror}", file=str(source)) from exc
+    raise InputFileError(
+        f"expected a file path or the file's bytes, found {type(source).__name__}",
+        file=name,
+    )
+
+
+_SIGNATURES = (
+    (b"%PDF", "a PDF document"),
+    (b"PK\x03\x04", "a zip archive (an .xlsx/.ods spreadsheet?)"),
+    (b"\xd0\xcf\x11\xe0", "an old Office document (.xls?)"),
+    (b"\x89PNG", "a PNG image"),
+    (b"\xff\xd8\xff", "a JPEG image"),
+    (b"SQLite format 3", "an SQLite database"),
+    (b"\x1f\x8b", "a gzip archive"),
+)
+
+
+def _encoding(raw: bytes, label: str, notes: Notes) -> str:
+    """Refuse what is plainly not a text table; choose the text encoding."""
+    if not raw.strip():
+        raise InputFileError("the file is empty; expected a CSV log or point table", file=label)
+    for signature, what in _SIGNATURES:
+        if raw.startswith(signature):
+            raise InputFileError(
+                f"this is {what}, not a CSV text file; export the data as CSV", file=label
+            )
+    head = raw[:_SNIFF_BYTES]
+    if head.startswith((b"\xff\xfe", b"\xfe\xff")) or b"\x00" in head:
+        raise InputFileError(
+            "this is a binary file (or UTF-16 text), not a CSV text file; "
+            "export the data as CSV in UTF-8",
+            file=label,
+        )
+    try:
+        raw.decode("utf-8")
+        encoding = "utf-8-sig"
+    except UnicodeDecodeError:
+        encoding = "cp1252"
+        notes.warnings.append(
+            "the file is not UTF-8; read it as Windows code page 1252 (check degree signs "
+            "and accented letters in the headers)"
+        )
+    text = head.decode(encoding, errors="replace").lstrip("\ufeff \t\r\n")
+    first = text[:1]
+    if first == "<":
+        raise InputFileError(
+            "this looks like an HTML or XML page, not a CSV file (was a web page saved "
+            "instead of the download?)",
+            file=label,
+        )
+    if first in "{[" and text.rstrip().endswith(("}", "]")) or text.startswith(("{\"", "[{")):
+        raise InputFileError("this looks like a JSON file, not a CSV file", file=label)
+    return encoding
+
+
+# --------------------------------------------------------------------- layout
+
+
+def _fields(line: str, delimiter: str) -> list[str]:
+    if not line.strip():
+        return []
+    try:
+        return next(csv.reader([line], delimiter=delimiter, skipinitialspace=True))
+    except (csv.Error, StopIteration):
+        return []
+
+
+def _is_data_cell(cell: str) -> bool:
+    cell = cell.strip()
+    return (
+        not cell
+        or cell in NA_TOKENS
+        or bool(_NUMBER.match(cell) or _CLOCK.match(cell) or ISO_STAMP.match(cell))
+    )
+
+
+def _looks_like_header(fields: list[str]) -> bool:
+    cells = [c for c in fields if c.strip()]
+    words = [c for c in cells if not _is_data_cell(c)]
+    return bool(cells) and len(words) * 2 >= len(cells)
+
+
+def _sniff(raw: bytes, encoding: str, label: str, notes: Notes) -> _Layout:
+    """Find delimiter, header line, unit row and decimal mark from the first lines."""
+    head = raw[:_SNIFF_BYTES].decode(encoding, errors="replace")
+    lines = _LINE_SPLIT.split(head)
+    if len(raw) > _SNIFF_BYTES and len(lines) > 1:
+        lines = lines[:-1]  # cut mid-line
+    lines = lines[:2000]
+    if lines:
+        lines[0] = lines[0].lstrip("\ufeff")
+    best: tuple[tuple[float, int], str, int, int] | None = None
+    for priority, delimiter in enumerate(reversed(list(_DELIMITERS))):
+        split = [_fields(line, delimiter) for line in lines]
+        counts = [len(f) for f in split]
+        nonblank = [i for i, c in enumerate(counts) if c]
+        tail = [counts[i] for i in nonblank[-50:]]
+        if not tail:
+            continue
+        values, freq = np.unique(tail, return_counts=True)
+        width = int(values[freq == freq.max()].max())
+        if width < 2:
+            continue
+        header = next(
+            (i for i in nonblank if counts[i] == width and _looks_like_header(split[i])), None
+        )
+        if header is None:
+            continue
+        after = [counts[i] for i in nonblank if i > header]
+        fit = sum(c == width for c in after) / len(after) if after else 1.0
+        key = (round(fit, 1), priority)
+        if best is None or key > best[0]:
+            best = (key, delimiter, header, width)
+    if best is None:
+        first = next((line for line in lines if line.strip()), "")[:60]
+        raise InputFileError(
+            "found no header row of column names separated by comma, semicolon or tab "
+            f"(the first line reads '{first}'); expected a CSV log or point table",
+            file=label,
+            line=1,
+        )
+    _, delimiter, header, width = best
+    headers = [h.strip() for h in _fields(lines[header], delimiter)]
+    if header > 0:
+        notes.warnings.append(
+            f"skipped {header} line(s) before the header (metadata preamble, lines 1-{header})"
+        )
+    units = [""] * width
+    data_start = header + 1
+    if data_start < len(lines):
+        second = _fields(lines[data_start], delimiter)
+        if second and len(second) <= width and _is_unit_row(second):
+            units = [u.strip() for u in second] + [""] * (width - len(second))
+            data_start += 1
+    return _Layout(
+        encoding=encoding,
+        delimiter=delimiter,
+        decimal=_decimal_mark(lines[data_start : data_start + 200], delimiter),
+        header_line=header,
+        data_start=data_start,
+        headers=tuple(_unique_headers(headers)),
+        units=tuple(units),
+    )
+
+
+def _is_unit_row(fields: list[str]) -> bool:
+    cells = [c.strip() for c in fields if c.strip()]
+    return bool(cells) and not any(_is_data_cell(c) for c in cells)
+
+
+def _unique_headers(headers: list[str]) -> list[str]:
+    seen: dict[str, int] = {}
+    out = []
+    for i, header in enumerate(headers):
+        header = header or f"column {i + 1}"
+        seen[header] = seen.get(header, 0) + 1
+        out.append(header if seen[header] == 1 else f"{header} ({seen[header]})")
+    return out
+
+
+def _decimal_mark(lines: list[str], delimiter: str) -> str:
+    if delimiter == ",":
+        return "."
+    comma = point = 0
+    for line in lines:
+        for cell in _fields(line, delimiter):
+            cell = cell.strip()
+            if _NUMBER.match(cell):
+                comma += "," in cell
+                point += "." in cell
+    return "," if comma > point else "."
+
+
+# --------------------------------------------------------------------- parsing
+
+
+def _parse(
+    raw: bytes, layout: _Layout, label: str, notes: Notes
+) -> tuple[pd.DataFrame, np.ndarray]:
+    """Read the data lines; return the raw frame and each row's 1-based file line."""
+    width = len(layout.headers)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", pd.errors.ParserWarning)
+        try:
+            frame = pd.read_csv(
+                io.BytesIO(raw),
+                sep=layout.delimiter,
+                decimal=layout.decimal,
+                header=None,
+                names=list(range(width)),
+                skiprows=layout.data_start,
+                skip_blank_lines=False,
+                skipinitialspace=True,
+                encoding=layout.encoding,
+                encoding_errors="replace",
+                na_values=NA_TOKENS,
+                on_bad_lines="warn",
+                low_memory=False,
+            )
+        except pd.errors.EmptyDataError:
+            frame = pd.DataFrame(columns=list(range(width)))
+        except (pd.errors.ParserError, ValueError, OverflowError, csv.Error) as exc:
+            if isinstance(exc, TrimlogError):
+                raise
+            raise InputFileError(f"cannot be read as a table: {exc}", file=label) from exc
+    bad = sorted(
+        int(m.group(1))
+        for w in caught
+        for m in re.finditer(r"line (\d+)", str(w.message))
+    )
+    if bad:
+        notes.drop(f"line with more than the header's {width} fields", np.asarray(bad))
+    candidates = np.arange(layout.data_start + 1, layout.data_start + 1 + len(frame) + len(bad))
+    lines = np.setdiff1d(candidates, np.asarray(bad, dtype=int))[: len(frame)]
+    return frame, lines
+
+
+def _partial_tail(raw: bytes, layout: _Layout, lines: np.ndarray) -> np.ndarray:
+    """File lines among the last three that have fewer fields than the header."""
+    terminator = b"\n" if b"\n" in raw else b"\r"
+    n_lines = raw.count(terminator) + (0 if raw.endswith(terminator) else 1)
+    tail = _LINE_SPLIT.split(raw[-4096:].decode(layout.encoding, errors="replace"))
+    if raw.endswith(terminator):
+        tail = tail[:-1]
+    width = len(layout.headers)
+    partial = []
+    for back, line in enumerate(reversed(tail[-3:])):
+        count = len(_fields(line, layout.delimiter))
+        if 0 < count < width:
+            partial.append(n_lines - back)
+    return np.intersect1d(np.asarray(partial, dtype=int), lines)
+
+
+# --------------------------------------------------------------------- public
+
+
+def read_log(
+    source: str | Path | bytes | Any,
+    *,
+    name: str | None = None,
+    column_map: Mapping[str, str] | None = None,
+    inverted: Iterable[str] = (),
+    kind: Kind | None = None,
+) -> LogRead:
+    """Read a data-logger CSV or a typed table of trim points.
+
+    Parameters
+    ----------
+    source : str, pathlib.Path, bytes or file-like
+        A path, the file's bytes (e.g. a dashboard upload), or an object
+        with ``read()``.
+    name : str, optional
+        The file name to use in messages (default: the path's name).
+    column_map : mapping of str to str, optional
+        Logger header -> canonical name, which may carry another unit
+        (``{"AS_IND": "ias_mph"}``); ``""`` or ``"-"`` ignores the column.
+        From the aircraft profile's ``[logger] columns``.
+    inverted : iterable of str, optional
+        Canonical names whose sign the logger records opposite to the
+        package convention (e.g. ``"elevator_deg"`` when up is positive);
+        these columns are multiplied by -1.
+    kind : {"point_table", "time_series"}, optional
+        Force the kind of input instead of detecting it.
+
+    Returns
+    -------
+    LogRead
+        The samples table and everything learnt while reading it.
+
+    Raises
+    ------
+    InputFileError
+        Not a CSV table, no data, a required column missing (with the nearest
+        column names found), a unit of the wrong kind, time going backwards,
+        implausible values (see the module notes).
+    """
+    notes = Notes()
+    raw, label = _load(source, name)
+    encoding = _encoding(raw, label, notes)
+    layout = _sniff(raw, encoding, label, notes)
+    found, unknown, ignored = map_columns(
+        layout.headers, layout.units, layout.header_line, dict(column_map or {}), label, notes
+    )
+    inverted = tuple(inverted)
+    for canonical in inverted:
+        if canonical not in QUANTITIES or canonical in TEXT_COLUMNS:
+            raise InputFileError(
+                f"'{canonical}' is declared inverted but is not a numeric canonical column name",
+                file=label,
+            )
+    require_columns(found, layout.headers, layout.header_line, label, notes)
+    if unknown:
+        notes.warnings.append(
+            "columns not understood, kept out of the analysis: "
+            + ", ".join(f"'{h}'" for h in unknown)
+            + " (map them in the profile's [logger] columns to use them)"
+        )
+    if ignored:
+        notes.warnings.append(
+            "columns ignored as the column map says: " + ", ".join(f"'{h}'" for h in ignored)
+        )
+
+    frame, lines = _parse(raw, layout, label, notes)
+    n_rows_read = len(frame) + sum(d.count for d in notes.dropped)
+    data, missing, headers, infos = _convert(frame, found, layout, inverted, lines, label, notes)
+
+    keep = _drop_empty_rows(data, frame, raw, layout, lines, notes)
+    if not keep.any():
+        raise InputFileError(
+            "has a header but no data rows; expected at least one row of values",
+            file=label,
+            line=layout.data_start + 1,
+        )
+    time = data.get("time_s")
+    decided, reason = decide_kind(None if time is None else time[keep], kind, label)
+    if decided == "time_series":
+        no_time = keep & ~np.isfinite(data["time_s"])
+        notes.drop(
+            f"row without a usable time stamp in '{headers['time_s']}'", lines[no_time]
+        )
+        keep &= ~no_time
+    data = {k: v[keep] for k, v in data.items()}
+    missing = {k: v[keep] for k, v in missing.items()}
+    lines = lines[keep]
+    if decided == "time_series":
+        check_time(data["time_s"], data.get("flight"), lines, label, headers["time_s"], notes)
+    for canonical, mask in missing.items():
+        notes.drop(
+            f"missing value in '{headers[canonical]}' ({canonical}): empty cell, NaN, '---' "
+            "or similar",
+            lines[mask],
+        )
+    check_plausible(data, decided, lines, headers, label, notes)
+    check_constant(data, decided, headers, notes)
+
+    order = [c for c in QUANTITIES if c in data]
+    table = pd.DataFrame({c: data[c] for c in order})
+    for c in TEXT_COLUMNS:
+        if c in table:
+            table[c] = table[c].astype(str)
+    table["source_line"] = lines.astype(np.int64)
+    return LogRead(
+        data=table,
+        kind=decided,
+        kind_reason=reason,
+        source=label,
+        columns=tuple(sorted(infos, key=lambda c: order.index(c.canonical))),
+        warnings=tuple(notes.warnings),
+        dropped=tuple(notes.dropped),
+        n_rows_read=n_rows_read,
+    )
+
+
+def _convert(
+    frame: pd.DataFrame, found: dict[int, HeaderMeaning], layout: _Layout,
+    inverted: tuple[str, ...], lines: np.ndarray, label: str, notes: Notes,
+) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray], dict[str, str], list[ColumnInfo]]:
+    """Each understood column in canonical units, once and vectorised.
+
+    Returns the values, the cells the file left empty (per numeric column),
+    the header of each canonical name, and the column descriptions.
+    """
+    data: dict[str, np.ndarray] = {}
+    missing: dict[str, np.ndarray] = {}
+    headers: dict[str, str] = {}
+    infos: list[ColumnInfo] = []
+    for i, meaning in found.items():
+        header, canonical, column = layout.headers[i], meaning.canonical, frame[i]
+        headers[canonical] = header
+        if canonical in TEXT_COLUMNS:
+            data[canonical] = text_values(column)
+            infos.append(ColumnInfo(header, canonical, "text", "none", False))
+            continue
+        unit = ("assumed " if meaning.unit_assumed else "") + meaning.unit_text
+        missing[canonical] = column.isna().to_numpy()
+        if canonical == "time_s" and not pd.api.types.is_numeric_dtype(column):
+            values, conversion = clock_seconds(column, header, lines, label)
+            missing[canonical] = ~np.isfinite(values)
+            unit = "clock"
+        else:
+            values = numeric_values(column, header, lines, notes)
+            conversion = conversion_text(meaning)
+            if conversion != "none":
+                values = values * meaning.scale + meaning.offset
+            if meaning.unit_assumed:
+                notes.warnings.append(f"'{header}' has no unit; assumed {meaning.unit_text}")
+        flip = canonical in inverted
+        if flip:
+            values = -values
+            notes.warnings.append(
+                f"'{header}' ({canonical}) sign inverted, as the aircraft profile declares"
+            )
+        data[canonical] = values
+        infos.append(ColumnInfo(header, canonical, unit, conversion, flip))
+    for canonical in inverted:
+        if canonical not in data:
+            notes.warnings.append(f"'{canonical}' is declared inverted but is not in the file")
+    return data, missing, headers, infos
+
+
+def _drop_empty_rows(
+    data: dict[str, np.ndarray], frame: pd.DataFrame, raw: bytes, layout: _Layout,
+    lines: np.ndarray, notes: Notes,
+) -> np.ndarray:
+    """Mask of rows to keep: drop blank lines, rows without values, a partial tail."""
+    keep = np.ones(len(lines), dtype=bool)
+    if not len(lines):
+        return keep
+    blank = frame.isna().all(axis=1).to_numpy()
+    notes.drop("blank line", lines[blank])
+    numeric = [v for k, v in data.items() if k not in TEXT_COLUMNS]
+    if numeric:
+        empty = ~blank & ~np.any(np.isfinite(np.vstack(numeric)), axis=0)
+        notes.drop("row without any value in the columns used", lines[empty])
+        keep &= ~empty
+    keep &= ~blank
+    partial = _partial_tail(raw, layout, lines)
+    partial = partial[np.isin(partial, lines[keep])]
+    if len(partial):
+        notes.drop("partial line at the end of the file (fewer fields than the header)", partial)
+        keep &= ~np.isin(lines, partial)
+    return keep
+
+
+# --------------------------------------------------------------------- loading sheet
+
+_SHEET_KEYS: dict[str, tuple[str, ...]] = {
+    "": ("flight", "date", "label", "notes", "takeoff", "fuel", "config"),
+    "takeoff": ("weight", "cg", "fuel"),
+    "fuel": ("flow",),
+    "config": ("flap", "stab_setting", "stab_incidence"),
+}
+
+
+@dataclass(frozen=True)
+class LoadingSheet:
+    """The loading of one flight, from a loading sheet.
+
+    Parameters
+    ----------
+    source : str
+        File name.
+    flight : str
+        Flight label (matches the log's ``flight`` column or the flight
+        given when importing the log).
+    date : datetime.date or None
+        Date flown.
+    label, notes : str
+        Free text.
+    takeoff_weight_lb : float
+        Weight at takeoff [lb].
+    takeoff_cg_in : float or None
+        CG station at takeoff [in aft of datum], when given as a station.
+    takeoff_cg_pct_mac : float or None
+        CG at takeoff [% MAC], when given in %MAC.
+    takeoff_fuel_gal : float
+        Fuel on board at takeoff [US gal].
+    fuel_flow_gph : float or None
+        Constant fuel flow [US gal/h]; None to rely on the log's ``fuel_gal``
+        (or no burn when the log has none).
+    flap_deg : float or None
+        Flap setting flown [deg].
+    stab_setting : str or None
+        Label of the stabilizer incidence setting flown.
+    stab_incidence_deg : float or None
+        That incidence [deg, leading edge up positive].
+    """
+
+    source: str
+    flight: str
+    date: dt.date | None
+    label: str
+    notes: str
+    takeoff_weight_lb: float
+    takeoff_cg_in: float | None
+    takeoff_cg_pct_mac: float | None
+    takeoff_fuel_gal: float
+    fuel_flow_gph: float | None
+    flap_deg: float | None
+    stab_setting: str | None
+    stab_incidence_deg: float | None
+
+
+def read_loading_sheet(
+    source: str | Path | bytes | Any, *, name: str | None = None
+) -> LoadingSheet:
+    """Read the loading sheet of one flight (a small TOML file).
+
+    The format, one file per flight; quantities are strings with a unit::
+
+        flight = "3"                 # the log's flight label
+        date = 2026-06-14            # optional (TOML date)
+        label = "aft CG, original stab"   # optional
+        notes = "calm air, 2 on board"    # optional
+
+        [takeoff]
+        weight = "1520 lb"           # any mass unit
+        cg = "78.4 in"               # station aft of datum, or "27.5 %MAC"
+        fuel = "24 gal"              # US gallons, or litres ("91 l")
+
+        [fuel]                       # optional
+        flow = "7.5 gal/h"           # constant burn; without it the log's fuel_gal is used
+
+        [config]                     # optional
+        flap = "0 deg"
+        stab_setting = "original"    # label of the incidence setting flown
+        stab_incidence = "0 deg"     # its incidence, leading edge up positive
+
+    Parameters
+    ----------
+    source : str, pathlib.Path, bytes or file-like
+        The sheet.
+    name : str, optional
+        File name for messages.
+
+    Returns
+    -------
+    LoadingSheet
+
+    Raises
+    ------
+    InputFileError
+        Not TOML, an unknown key (with the nearest known ones), a missing
+        takeoff value, a value without a unit or with a unit of the wrong
+        kind, or an implausible value.
+    """
+    raw, label = _load(source, name)
+    try:
+        text = raw.decode("utf-8-sig")
+        table = tomllib.loads(text)
+    except UnicodeDecodeError as exc:
+        raise InputFileError("a loading sheet must be UTF-8 text (TOML)", file=label) from exc
+    except tomllib.TOMLDecodeError as exc:
+        where = re.search(r"line (\d+)", str(exc))
+        raise InputFileError(
+            f"not a valid TOML loading sheet: {exc}",
+            file=label,
+            line=int(where.group(1)) if where else None,
+        ) from exc
+    _check_sheet_keys(table, label)
+    takeoff = table.get("takeoff")
+    if not isinstance(takeoff, dict):
+        raise InputFileError(
+            "missing [takeoff] table with weight, cg and fuel (e.g. weight = \"1520 lb\")",
+            file=label,
+        )
+    for key in _SHEET_KEYS["takeoff"]:
+        if key not in takeoff:
+            raise InputFileError(f"missing key 'takeoff.{key}'", file=label)
+    fuel = table.get("fuel", {})
+    config = table.get("config", {})
+    weight = _sheet_quantity(takeoff["weight"], "lb", "takeoff.weight", label, (1.0, 1e5))
+    cg_in, cg_pct = _sheet_cg(takeoff["cg"], label)
+    fuel_gal = _sheet_quantity(takeoff["fuel"], "gal", "takeoff.fuel", label, (0.0, 5000.0))
+    flow = fuel.get("flow")
+    date = table.get("date")
+    if date is not None and not isinstance(date, dt.date):
+        raise InputFileError(
+            f"key 'date': expected a TOML date such as 2026-06-14, found {date!r}", file=label
+        )
+    if isinstance(date, dt.datetime):
+        date = date.date()
+    return LoadingSheet(
+        source=label,
+        flight=_sheet_text(table, "flight", label, required=True),
+        date=date,
+        label=_sheet_text(table, "label", label),
+        notes=_sheet_text(table, "notes", label),
+        takeoff_weight_lb=weight,
+        takeoff_cg_in=cg_in,
+        takeoff_cg_pct_mac=cg_pct,
+        takeoff_fuel_gal=fuel_gal,
+        fuel_flow_gph=None
+        if flow is None
+        else _sheet_quantity(flow, "gal/h", "fuel.flow", label, (1e-6, 200.0)),
+        flap_deg=None
+        if "flap" not in config
+        else _sheet_quantity(config["flap"], "deg", "config.flap", label, (-20.0, 60.0)),
+        stab_setting=_sheet_text(config, "stab_setting", label) or None,
+        stab_incidence_deg=None
+        if "stab_incidence" not in config
+        else _sheet_quantity(
+            config["stab_incidence"], "deg", "config.stab_incidence", label, (-15.0, 15.0)
+        ),
+    )
+
+
+def _check_sheet_keys(table: dict[str, Any], label: str) -> None:
+    for section, allowed in _SHEET_KEYS.items():
+        part = table if not section else table.get(section, {})
+        if not isinstance(part, dict):
+            raise InputFileError(f"'{section}' must be a table ([{section}])", file=label)
+        for key in part:
+            if key in allowed:
+                continue
+            near = difflib.get_close_matches(key, allowed, n=2, cutoff=0.5)
+            full = f"{section}.{key}" if section else key
+            hint = f"; did you mean {' or '.join(repr(n) for n in near)}?" if near else ""
+            raise InputFileError(
+                f"unknown key '{full}'; expected one of {', '.join(allowed)}{hint}", file=label
+            )
+
+
+def _sheet_text(table: dict[str, Any], key: str, label: str, *, required: bool = False) -> str:
+    value = table.get(key, "")
+    if isinstance(value, int) and not isinstance(value, bool):
+        value = str(value)
+    if not isinstance(value, str):
+        raise InputFileError(f"key '{key}': expected text, found {value!r}", file=label)
+    if required and not value.strip():
+        raise InputFileError(f"missing key '{key}' (e.g. {key} = \"3\")", file=label)
+    return value.strip()
+
+
+def _sheet_quantity(
+    value: Any, unit: str, key: str, label: str, bounds: tuple[float, float]
+) -> float:
+    try:
+        number = parse_quantity(value, unit, key=key)
+    except UnitError as exc:
+        raise InputFileError(str(exc), file=label) from exc
+    low, high = bounds
+    if not low <= number <= high:
+        raise InputFileError(
+            f"key '{key}': {value!r} is outside the plausible range {low:g}...{high:g} {unit}",
+            file=label,
+        )
+    return number
+
+
+def _sheet_cg(value: Any, label: str) -> tuple[float | None, float | None]:
+    """Return the takeoff CG as a station [in] or as %MAC, decided by its unit."""
+    if isinstance(value, str) and ("%" in value or "mac" in value.lower() or "pct" in value):
+        return None, _sheet_quantity(value, "percent", "takeoff.cg", label, (-50.0, 150.0))
+    if not isinstance(value, str):
+        raise InputFileError(
+            f"key 'takeoff.cg': expected a station such as \"78.4 in\" or \"27.5 %MAC\", "
+            f"found the bare value {value!r}",
+            file=label,
+        )
+    return _sheet_quantity(value, "in", "takeoff.cg", label, (-1000.0, 1000.0)), None
