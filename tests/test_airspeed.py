@@ -26,7 +26,7 @@ def test_sea_level_speed_of_sound_in_knots():
     assert asp.A0_KT == pytest.approx(661.48, abs=0.005)
 
 
-# --- compressibility correction ---------------------------------------------------------------
+# --- compressibility correction -----
 
 
 @pytest.mark.parametrize(
@@ -98,7 +98,7 @@ def test_tas_equals_mach_times_speed_of_sound():
         assert asp.cas_to_tas(180.0, alt_ft, oat_c) == pytest.approx(mach * a_kt, rel=1e-7)
 
 
-# --- round trips ----------------------------------------------------------------------------
+# --- round trips -----
 
 alt = st.floats(min_value=-5000.0, max_value=40000.0)
 speed = st.floats(min_value=0.0, max_value=250.0)  # stays below Mach 0.9 up to 40,000 ft
@@ -154,7 +154,7 @@ def test_lift_coefficient_series_and_errors():
         asp.lift_coefficient(-5.0, 100.0, 120.0)
 
 
-# --- input kinds and errors ---------------------------------------------------------------
+# --- input kinds and errors -----
 
 
 def test_series_in_series_out():
@@ -186,7 +186,7 @@ def test_negative_and_supersonic_speeds_are_refused():
         asp.cas_to_eas(100.0, 99000.0)
 
 
-# --- position error -----------------------------------------------------------------------
+# --- position error -----
 
 TABLE_IAS = [50.0, 70.0, 90.0, 110.0, 130.0]
 TABLE_CAS = [54.0, 72.0, 91.0, 110.0, 128.5]

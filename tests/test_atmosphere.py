@@ -18,7 +18,7 @@ def geometric_m(geopotential_m):
     return EARTH_RADIUS_M * geopotential_m / (EARTH_RADIUS_M - geopotential_m)
 
 
-# --- published values --------------------------------------------------------------------
+# --- published values -----
 # U.S. Standard Atmosphere 1976 (NOAA-S/T 76-1562) at geopotential pressure altitude;
 # printed to 0.01 K, 1 Pa (0.1 Pa at 20 km), 5 decimals of kg/m^3 and 4 decimals of the
 # ratios.  The tolerance is half a unit of the last printed digit.
@@ -76,7 +76,7 @@ def test_constants_agree_with_each_other():
     assert atm._PRESSURE_EXPONENT == pytest.approx(5.25588, abs=5e-6)
 
 
-# --- independent implementations ----------------------------------------------------------
+# --- independent implementations -----
 
 SWEEP_FT = np.linspace(-5000.0, 20000.0 / FT, 143)
 
@@ -110,7 +110,7 @@ def test_against_fluids(alt_ft):
     assert atm.density_kgm3(alt_ft) == pytest.approx(ref.rho, rel=1e-5)
 
 
-# --- density with a measured temperature -------------------------------------------------
+# --- density with a measured temperature -----
 
 
 def test_density_uses_measured_temperature():
@@ -146,7 +146,7 @@ def test_isa_deviation():
     assert atm.isa_deviation_c(40000.0, -56.5) == pytest.approx(0.0, abs=1e-9)
 
 
-# --- properties ------------------------------------------------------------------------------
+# --- properties -----
 
 altitudes = st.floats(min_value=-5000.0, max_value=65617.0, allow_nan=False)
 
@@ -173,7 +173,7 @@ def test_density_altitude_of_a_standard_day_is_pressure_altitude(alt_ft):
     assert atm.density_altitude_ft(alt_ft, isa_c) == pytest.approx(alt_ft, abs=1e-6)
 
 
-# --- input kinds and errors ---------------------------------------------------------------
+# --- input kinds and errors -----
 
 
 def test_scalar_array_series():
