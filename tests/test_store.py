@@ -179,7 +179,8 @@ def test_points_round_trip_keeps_dtypes(store, aircraft):
     back = store.flight_points(1)
     assert back["included"].dtype == bool and back["point"].dtype == np.int64
     assert back["ias_kt"].dtype == np.float64
-    assert pd.api.types.is_string_dtype(back["flags"]) and pd.api.types.is_string_dtype(back["flight"])
+    assert pd.api.types.is_string_dtype(back["flags"])
+    assert pd.api.types.is_string_dtype(back["flight"])
     pd.testing.assert_frame_equal(back, pts)
 
 
@@ -508,6 +509,27 @@ def test_unwritable_location_gives_clear_error(tmp_path):
     assert blocker.read_text() == "x"
 
 
+def test_read_only_database_gives_clear_error(tmp_path, monkeypatch):
+    # Opening read-only through SQLite works as root too, unlike chmod.
+    path = tmp_path / "h.sqlite"
+    with open_store(path) as s:
+        s.upsert_aircraft("Demo two-seater", PROFILE)
+    before = sha(path)
+    real_connect = sqlite3.connect
+
+    def read_only(db, **kw):
+        return real_connect(f"file:{db}?mode=ro", uri=True, **kw)
+
+    monkeypatch.setattr(sqlite3, "connect", read_only)
+    with pytest.raises(StoreError, match=r"h\.sqlite: the history database cannot be written "
+                                         r"\(attempt to write a readonly database.*TRIMLOG_DB"):
+        open_store(path)
+    with pytest.raises(StoreError, match=r"new\.sqlite: cannot open the history database"):
+        open_store(tmp_path / "new.sqlite")
+    monkeypatch.undo()
+    assert sha(path) == before
+
+
 @pytest.mark.skipif(os.name != "posix" or os.geteuid() == 0,
                     reason="root ignores permission bits")
 def test_read_only_folder_and_file_give_clear_error(tmp_path):
@@ -672,7 +694,8 @@ def test_csv_export_neutralises_formulas_but_keeps_numbers(store, tmp_path):
     assert [r["elevator_deg"] for r in rows] == ["-1.5", "-2.0", "3.0"]
     assert rows[0]["aircraft"] == "'=evil()"
     (flight,) = csv.DictReader((tmp_path / "out" / "flights.csv").open(encoding="utf-8"))
-    assert (flight["filename"], flight["label"], flight["notes"]) == ("'@file.csv", "'-2", "'+notes")
+    assert (flight["filename"], flight["label"]) == ("'@file.csv", "'-2")
+    assert flight["notes"] == "'+notes"
     # the lossless JSON keeps the text exactly
     doc = json.loads((tmp_path / "out" / "trimlog-history.json").read_text(encoding="utf-8"))
     assert doc["flights"][0]["label"] == "-2" and doc["aircraft"][0]["name"] == "=evil()"

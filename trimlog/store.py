@@ -362,10 +362,14 @@ def _migrate(conn: sqlite3.Connection, start: int, target: int) -> None:
 
 def _check_writable(conn: sqlite3.Connection, db: Path, hint: str) -> None:
     """Fail now, not at the first import, when the file cannot be written."""
+    # BEGIN IMMEDIATE alone succeeds on a read-only file; a rolled-back header write does not.
     try:
         conn.execute("BEGIN IMMEDIATE")
+        conn.execute(f"PRAGMA user_version = {SCHEMA_VERSION}")
         conn.execute("ROLLBACK")
     except sqlite3.Error as exc:
+        if conn.in_transaction:
+            conn.execute("ROLLBACK")
         raise StoreError(
             f"{db}: the history database cannot be written ({exc}: read-only location or "
             f"permission denied); {hint}"
