@@ -1,3 +1,5 @@
+import doctest
+
 import numpy as np
 import pandas as pd
 import pytest
@@ -252,3 +254,14 @@ def test_position_error_result_is_frozen():
     r = asp.ias_to_cas(60.0, TABLE_IAS, TABLE_CAS)
     with pytest.raises(AttributeError):
         r.n_outside_table = 3
+
+
+def test_inputs_of_different_lengths_are_refused():
+    with pytest.raises(TrimlogError, match="found lengths cas_kt 3, pressure_alt_ft 2"):
+        asp.cas_to_eas(np.array([90.0, 100.0, 110.0]), np.array([0.0, 10.0]))
+    with pytest.raises(TrimlogError, match="one length"):
+        asp.lift_coefficient(np.array([1500.0, 1400.0]), np.array([90.0, 95.0, 99.0]), 120.0)
+
+
+def test_docstring_examples_run():
+    assert doctest.testmod(asp, raise_on_error=False).failed == 0

@@ -1,3 +1,5 @@
+import doctest
+
 import numpy as np
 import pandas as pd
 import pytest
@@ -218,3 +220,19 @@ def test_bad_temperatures():
         atm.speed_of_sound_mps(-5.0)
     with pytest.raises(TrimlogError, match="expected a number"):
         atm.density_kgm3("high")
+
+
+def test_error_shows_a_numeric_label_as_written():
+    with pytest.raises(TrimlogError, match=r"found 70000 ft at index 4;"):
+        atm.density_kgm3(pd.Series([1000.0, 70000.0], index=[3, 4]))
+
+
+def test_inputs_of_different_lengths_are_refused():
+    with pytest.raises(TrimlogError, match="found lengths pressure_alt_ft 3, oat_c 2"):
+        atm.density_kgm3(np.array([0.0, 1.0, 2.0]), np.array([15.0, 15.0]))
+    with pytest.raises(TrimlogError, match="one length"):
+        atm.isa_deviation_c([0.0, 1.0, 2.0], [15.0, 15.0])
+
+
+def test_docstring_examples_run():
+    assert doctest.testmod(atm, raise_on_error=False).failed == 0

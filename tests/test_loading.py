@@ -1,3 +1,5 @@
+import doctest
+
 import numpy as np
 import pandas as pd
 import pytest
@@ -125,6 +127,8 @@ def test_cg_through_flight_example():
     assert result.cg_in[30] == pytest.approx(80.0)
     # fuel aft of the zero-fuel CG: burning it moves the CG forward
     assert np.all(np.diff(result.cg_in.to_numpy()) < 0.0)
+    weight, cg = result
+    assert weight is result.weight_lb and cg is result.cg_in
 
 
 @given(st.floats(min_value=500.0, max_value=3000.0), st.floats(min_value=60.0, max_value=100.0),
@@ -203,3 +207,7 @@ def test_fuel_from_flow_error_names_series_label():
     t = pd.Series([0.0, 3600.0], index=["a", "b"])
     with pytest.raises(TrimlogError, match="t = 3600 s at index 'b'"):
         ld.fuel_from_flow(t, pd.Series([20.0, 20.0], index=["a", "b"]), 5.0)
+
+
+def test_docstring_examples_run():
+    assert doctest.testmod(ld, raise_on_error=False).failed == 0

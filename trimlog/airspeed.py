@@ -30,6 +30,7 @@ from trimlog.atmosphere import (
     RHO0_KGM3,
     _as_float_array,
     _check_range,
+    _check_shapes,
     _like_input,
     _series_template,
     _where,
@@ -117,6 +118,7 @@ def cas_to_mach(cas_kt: Any, pressure_alt_ft: Any) -> Any:
     >>> round(cas_to_mach(250.0, 30000.0), 3)
     0.668
     """
+    _check_shapes(cas_kt=cas_kt, pressure_alt_ft=pressure_alt_ft)
     cas = _speeds(cas_kt, "cas_kt")
     _check_subsonic(cas / A0_KT, cas, "cas_kt", _series_template(cas_kt))
     qc_over_p0 = _impact_ratio_from_mach(cas / A0_KT)
@@ -198,6 +200,7 @@ def eas_to_cas(eas_kt: Any, pressure_alt_ft: Any) -> Any:
     >>> round(eas_to_cas(285.0, 30000.0), 1)
     300.0
     """
+    _check_shapes(eas_kt=eas_kt, pressure_alt_ft=pressure_alt_ft)
     eas = _speeds(eas_kt, "eas_kt")
     delta = _as_float_array(pressure_ratio(pressure_alt_ft), "pressure_alt_ft")
     mach = eas / (A0_KT * np.sqrt(delta))
@@ -249,6 +252,7 @@ def eas_to_tas(eas_kt: Any, pressure_alt_ft: Any, oat_c: Any = None) -> Any:
     >>> round(eas_to_tas(100.0, 10000.0), 2)
     116.37
     """
+    _check_shapes(eas_kt=eas_kt, pressure_alt_ft=pressure_alt_ft, oat_c=oat_c)
     eas = _speeds(eas_kt, "eas_kt")
     sigma = _as_float_array(density_ratio(pressure_alt_ft, oat_c), "pressure_alt_ft")
     tas = eas / np.sqrt(sigma)
@@ -294,12 +298,13 @@ def tas_to_eas(tas_kt: Any, pressure_alt_ft: Any, oat_c: Any = None) -> Any:
     >>> round(tas_to_eas(116.37, 10000.0), 2)
     100.0
     """
+    _check_shapes(tas_kt=tas_kt, pressure_alt_ft=pressure_alt_ft, oat_c=oat_c)
     tas = _speeds(tas_kt, "tas_kt")
+    sigma = _as_float_array(density_ratio(pressure_alt_ft, oat_c), "pressure_alt_ft")
     sound_kt = _as_float_array(speed_of_sound_mps(_temperature_k(pressure_alt_ft, oat_c)),
                                "oat_c") / KT_TO_MPS
     _check_subsonic(tas / sound_kt, tas, "tas_kt",
                     _series_template(tas_kt, pressure_alt_ft, oat_c))
-    sigma = _as_float_array(density_ratio(pressure_alt_ft, oat_c), "pressure_alt_ft")
     return _like_input(tas * np.sqrt(sigma), tas_kt, pressure_alt_ft, oat_c, name="eas_kt")
 
 
@@ -420,6 +425,7 @@ def lift_coefficient(
     >>> round(lift_coefficient(1500.0, 100.0, 120.0), 4)
     0.3692
     """
+    _check_shapes(weight_lb=weight_lb, eas_kt=eas_kt, nz_g=nz_g)
     weight = _as_float_array(weight_lb, "weight_lb")
     _check_range(weight, 0.0, np.inf, "weight_lb", "lb", _series_template(weight_lb),
                  low_inclusive=False)
@@ -428,6 +434,7 @@ def lift_coefficient(
     area = _as_float_array(wing_area_ft2, "wing_area_ft2")
     _check_range(area, 0.0, np.inf, "wing_area_ft2", "ft^2", low_inclusive=False)
     nz = _as_float_array(nz_g, "nz_g")
+    _check_range(nz, -np.inf, np.inf, "nz_g", "g", _series_template(nz_g))
     q = _as_float_array(dynamic_pressure_psf(eas), "eas_kt")
     return _like_input(nz * weight / (q * area), weight_lb, eas_kt, nz_g, name="cl")
 

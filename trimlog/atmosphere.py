@@ -116,10 +116,26 @@ def _like_input(result: np.ndarray, *inputs: Any, name: str | None = None) -> An
     return result
 
 
+def _check_shapes(**values: Any) -> None:
+    """Raise unless the named inputs have matching lengths (single values always match)."""
+    shapes = {name: np.shape(value) for name, value in values.items() if value is not None}
+    try:
+        np.broadcast_shapes(*shapes.values())
+    except ValueError:
+        found = ", ".join(f"{name} {shape[0] if shape else 1}" for name, shape in shapes.items())
+        raise TrimlogError(
+            f"expected inputs of one length (or single values), found lengths {found}"
+        ) from None
+
+
 def _where(index: int, size: int, template: pd.Series | None) -> str:
     """Describe where element ``index`` sits, for error messages."""
     if template is not None:
-        return f" at index {template.index[index]!r}"
+        label = template.index[index]
+        # numpy scalars print as np.int64(4); the user wrote 4
+        if isinstance(label, np.generic):
+            label = label.item()
+        return f" at index {label!r}"
     if size > 1:
         return f" at position {index}"
     return ""
@@ -290,6 +306,7 @@ def pressure_ratio(pressure_alt_ft: Any) -> Any:
 
 
 def _density(pressure_alt_ft: Any, oat_c: Any) -> np.ndarray:
+    _check_shapes(pressure_alt_ft=pressure_alt_ft, oat_c=oat_c)
     h_m = _altitude_m(pressure_alt_ft)
     temperature = _isa_temperature_from_m(h_m) if oat_c is None else _oat_k(oat_c)
     return _static_pressure_from_m(h_m) / (R_AIR_J_PER_KG_K * temperature)
@@ -485,5 +502,6 @@ def isa_deviation_c(pressure_alt_ft: Any, oat_c: Any) -> Any:
     >>> round(isa_deviation_c(0.0, 25.0), 2)
     10.0
     """
+    _check_shapes(pressure_alt_ft=pressure_alt_ft, oat_c=oat_c)
     isa_k = _isa_temperature_from_m(_altitude_m(pressure_alt_ft))
     return _like_input(_oat_k(oat_c) - isa_k, pressure_alt_ft, oat_c, name="isa_deviation_c")

@@ -15,7 +15,7 @@ from __future__ import annotations
 
 from collections.abc import Iterable
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, NamedTuple
 
 import numpy as np
 import pandas as pd
@@ -32,7 +32,25 @@ from trimlog.errors import TrimlogError
 
 @dataclass(frozen=True)
 class Loading:
-    """Weight, CG and moment of a loading (or of each sample of a flight).
+    """Weight, CG and moment of a loading.
+
+    Attributes
+    ----------
+    weight_lb : float
+        Total weight [lb].
+    cg_in : float
+        CG station [in aft of datum].
+    moment_lb_in : float
+        Total moment about the datum [lb·in].
+    """
+
+    weight_lb: float
+    cg_in: float
+    moment_lb_in: float
+
+
+class WeightAndCg(NamedTuple):
+    """Weight and CG at each sample of a flight; unpacks as ``weight, cg = ...``.
 
     Attributes
     ----------
@@ -40,13 +58,10 @@ class Loading:
         Total weight [lb].
     cg_in : float, array or Series
         CG station [in aft of datum].
-    moment_lb_in : float, array or Series
-        Total moment about the datum [lb·in].
     """
 
     weight_lb: Any
     cg_in: Any
-    moment_lb_in: Any
 
 
 def _positive(value: Any, name: str, unit: str) -> np.ndarray:
@@ -234,7 +249,7 @@ def cg_through_flight(
     fuel_gal: Any,
     fuel_arm_in: float,
     fuel_density_lb_per_gal: float,
-) -> Loading:
+) -> WeightAndCg:
     """Weight and CG at each fuel quantity of a flight.
 
     Parameters
@@ -252,8 +267,8 @@ def cg_through_flight(
 
     Returns
     -------
-    Loading
-        Weight [lb], CG [in] and moment [lb·in], each of the kind of ``fuel_gal``.
+    WeightAndCg
+        Weight [lb] and CG [in], each of the kind of ``fuel_gal``.
 
     Raises
     ------
@@ -283,10 +298,9 @@ def cg_through_flight(
     fuel_weight = fuel * density
     weight = zfw + fuel_weight
     moment = zfw * zf_cg + fuel_weight * arm
-    return Loading(
+    return WeightAndCg(
         weight_lb=_like_input(weight, fuel_gal, name="weight_lb"),
         cg_in=_like_input(moment / weight, fuel_gal, name="cg_in"),
-        moment_lb_in=_like_input(moment, fuel_gal, name="moment_lb_in"),
     )
 
 
