@@ -347,3 +347,13 @@ def test_recommendation_fills_json_contract():
     for value in block.values():
         if isinstance(value, float):
             assert math.isfinite(value)
+
+
+def test_recommendation_with_uncertain_change_says_none():
+    rec = recommend_incidence(
+        cruise_cl=0.3, cruise_cg_pct_mac=25.0, elevator_cruise_deg=-0.3,
+        elevator_ci95_deg=(-1.0, 0.4), tau=choose_tau(None, 0.5), spacing_in=14.0,
+    )
+    assert not rec.shim_recommended and rec.shim_location.startswith("none")
+    assert rec.residual_elevator_deg == pytest.approx(-0.3)
+    assert "No change recommended" in rec.words

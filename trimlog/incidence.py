@@ -909,8 +909,8 @@ def recommend_incidence(
             f"~{LINEAR_DEFLECTION_LIMIT_DEG:g} deg where tau is near its linear value; the "
             "change may be underestimated: make it in steps and re-fly"
         )
-    if cut.location is None:
-        location = "none"
+    if cut.location is None or not cut.recommended:
+        location = "none (no change recommended)"
     elif cut.location == "rear":
         location = "rear attach points (leading edge down)"
     else:
