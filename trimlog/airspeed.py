@@ -28,6 +28,7 @@ from trimlog.atmosphere import (
     A0_MPS,
     GAMMA,
     RHO0_KGM3,
+    Numeric,
     _as_float_array,
     _check_range,
     _check_shapes,
@@ -84,7 +85,7 @@ def _impact_ratio_from_mach(mach: np.ndarray) -> np.ndarray:
     return np.expm1(_EXP * np.log1p(_HALF_GM1 * mach**2))
 
 
-def cas_to_mach(cas_kt: Any, pressure_alt_ft: Any) -> Any:
+def cas_to_mach(cas_kt: Numeric, pressure_alt_ft: Numeric) -> Numeric:
     """Mach number from calibrated airspeed and pressure altitude.
 
     Parameters
@@ -128,7 +129,7 @@ def cas_to_mach(cas_kt: Any, pressure_alt_ft: Any) -> Any:
     return _like_input(mach, cas_kt, pressure_alt_ft, name="mach")
 
 
-def cas_to_eas(cas_kt: Any, pressure_alt_ft: Any) -> Any:
+def cas_to_eas(cas_kt: Numeric, pressure_alt_ft: Numeric) -> Numeric:
     """Equivalent airspeed from calibrated airspeed (the compressibility correction).
 
     Parameters
@@ -166,7 +167,7 @@ def cas_to_eas(cas_kt: Any, pressure_alt_ft: Any) -> Any:
     return _like_input(A0_KT * mach * np.sqrt(delta), cas_kt, pressure_alt_ft, name="eas_kt")
 
 
-def eas_to_cas(eas_kt: Any, pressure_alt_ft: Any) -> Any:
+def eas_to_cas(eas_kt: Numeric, pressure_alt_ft: Numeric) -> Numeric:
     """Calibrated airspeed from equivalent airspeed: the exact inverse of :func:`cas_to_eas`.
 
     Parameters
@@ -216,7 +217,7 @@ def _temperature_k(pressure_alt_ft: Any, oat_c: Any) -> np.ndarray:
     return _as_float_array(oat_c, "oat_c") + 273.15
 
 
-def eas_to_tas(eas_kt: Any, pressure_alt_ft: Any, oat_c: Any = None) -> Any:
+def eas_to_tas(eas_kt: Numeric, pressure_alt_ft: Numeric, oat_c: Numeric | None = None) -> Numeric:
     """Convert equivalent airspeed to true airspeed.
 
     Parameters
@@ -263,7 +264,7 @@ def eas_to_tas(eas_kt: Any, pressure_alt_ft: Any, oat_c: Any = None) -> Any:
     return _like_input(tas, eas_kt, pressure_alt_ft, oat_c, name="tas_kt")
 
 
-def tas_to_eas(tas_kt: Any, pressure_alt_ft: Any, oat_c: Any = None) -> Any:
+def tas_to_eas(tas_kt: Numeric, pressure_alt_ft: Numeric, oat_c: Numeric | None = None) -> Numeric:
     """Equivalent airspeed from true airspeed: the inverse of :func:`eas_to_tas`.
 
     Parameters
@@ -308,7 +309,7 @@ def tas_to_eas(tas_kt: Any, pressure_alt_ft: Any, oat_c: Any = None) -> Any:
     return _like_input(tas * np.sqrt(sigma), tas_kt, pressure_alt_ft, oat_c, name="eas_kt")
 
 
-def cas_to_tas(cas_kt: Any, pressure_alt_ft: Any, oat_c: Any = None) -> Any:
+def cas_to_tas(cas_kt: Numeric, pressure_alt_ft: Numeric, oat_c: Numeric | None = None) -> Numeric:
     """Convert calibrated airspeed to true airspeed, given pressure altitude and temperature.
 
     Parameters
@@ -347,7 +348,7 @@ def cas_to_tas(cas_kt: Any, pressure_alt_ft: Any, oat_c: Any = None) -> Any:
     return eas_to_tas(cas_to_eas(cas_kt, pressure_alt_ft), pressure_alt_ft, oat_c)
 
 
-def dynamic_pressure_psf(eas_kt: Any) -> Any:
+def dynamic_pressure_psf(eas_kt: Numeric) -> Numeric:
     """Dynamic pressure q = ½·ρ0·Ve² from equivalent airspeed.
 
     Parameters
@@ -386,8 +387,8 @@ def dynamic_pressure_psf(eas_kt: Any) -> Any:
 
 
 def lift_coefficient(
-    weight_lb: Any, eas_kt: Any, wing_area_ft2: float, nz_g: Any = 1.0
-) -> Any:
+    weight_lb: Numeric, eas_kt: Numeric, wing_area_ft2: float, nz_g: Numeric = 1.0
+) -> Numeric:
     """Lift coefficient of a point: CL = nz·W / (q·S).
 
     Parameters
@@ -494,9 +495,9 @@ def _validate_table(table_ias_kt: Any, table_cas_kt: Any) -> tuple[np.ndarray, n
 
 
 def ias_to_cas(
-    ias_kt: Any,
-    table_ias_kt: Any,
-    table_cas_kt: Any,
+    ias_kt: Numeric,
+    table_ias_kt: Numeric,
+    table_cas_kt: Numeric,
     extrapolate: Literal["error", "clamp"] = "error",
 ) -> PositionErrorResult:
     """Calibrated airspeed from indicated airspeed through a position-error table.

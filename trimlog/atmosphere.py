@@ -21,7 +21,7 @@ References
 
 from __future__ import annotations
 
-from typing import Any
+from typing import Any, TypeAlias
 
 import numpy as np
 import pandas as pd
@@ -60,6 +60,10 @@ OAT_MIN_C = -100.0
 OAT_MAX_C = 70.0
 
 KELVIN_OFFSET = 273.15
+
+#: What the physics functions take and give: a number, a numpy array or a pandas Series
+#: (lists are accepted too); a Series in gives a Series out.
+Numeric: TypeAlias = float | np.ndarray | pd.Series
 
 # Exponent g0/(L R) of the troposphere pressure law, 5.25588 (ref. [1], eq. 33a).
 _PRESSURE_EXPONENT = G0_MPS2 / (LAPSE_RATE_K_PER_M * R_AIR_J_PER_KG_K)
@@ -203,7 +207,7 @@ def _static_pressure_from_m(h_m: np.ndarray) -> np.ndarray:
     return np.where(h_m <= TROPOPAUSE_M, troposphere, stratosphere)
 
 
-def isa_temperature_k(pressure_alt_ft: Any) -> Any:
+def isa_temperature_k(pressure_alt_ft: Numeric) -> Numeric:
     """Standard-day temperature at a pressure altitude.
 
     Parameters
@@ -238,7 +242,7 @@ def isa_temperature_k(pressure_alt_ft: Any) -> Any:
                        name="isa_temperature_k")
 
 
-def static_pressure_pa(pressure_alt_ft: Any) -> Any:
+def static_pressure_pa(pressure_alt_ft: Numeric) -> Numeric:
     """Return the static pressure at a pressure altitude.
 
     Parameters
@@ -274,7 +278,7 @@ def static_pressure_pa(pressure_alt_ft: Any) -> Any:
                        name="static_pressure_pa")
 
 
-def pressure_ratio(pressure_alt_ft: Any) -> Any:
+def pressure_ratio(pressure_alt_ft: Numeric) -> Numeric:
     """Pressure ratio δ = p/p0 at a pressure altitude.
 
     Parameters
@@ -312,7 +316,7 @@ def _density(pressure_alt_ft: Any, oat_c: Any) -> np.ndarray:
     return _static_pressure_from_m(h_m) / (R_AIR_J_PER_KG_K * temperature)
 
 
-def density_kgm3(pressure_alt_ft: Any, oat_c: Any = None) -> Any:
+def density_kgm3(pressure_alt_ft: Numeric, oat_c: Numeric | None = None) -> Numeric:
     """Air density from pressure altitude and (optionally) outside air temperature.
 
     Parameters
@@ -353,7 +357,7 @@ def density_kgm3(pressure_alt_ft: Any, oat_c: Any = None) -> Any:
                        name="density_kgm3")
 
 
-def density_ratio(pressure_alt_ft: Any, oat_c: Any = None) -> Any:
+def density_ratio(pressure_alt_ft: Numeric, oat_c: Numeric | None = None) -> Numeric:
     """Density ratio σ = ρ/ρ0.
 
     Parameters
@@ -386,7 +390,7 @@ def density_ratio(pressure_alt_ft: Any, oat_c: Any = None) -> Any:
                        name="density_ratio")
 
 
-def speed_of_sound_mps(temperature_k: Any) -> Any:
+def speed_of_sound_mps(temperature_k: Numeric) -> Numeric:
     """Speed of sound in air at a temperature.
 
     Parameters
@@ -424,7 +428,7 @@ def speed_of_sound_mps(temperature_k: Any) -> Any:
                        name="speed_of_sound_mps")
 
 
-def density_altitude_ft(pressure_alt_ft: Any, oat_c: Any) -> Any:
+def density_altitude_ft(pressure_alt_ft: Numeric, oat_c: Numeric) -> Numeric:
     """Density altitude: the standard-atmosphere altitude that has the air's density.
 
     Parameters
@@ -473,7 +477,7 @@ def density_altitude_ft(pressure_alt_ft: Any, oat_c: Any) -> Any:
     return _like_input(h_ft, pressure_alt_ft, oat_c, name="density_altitude_ft")
 
 
-def isa_deviation_c(pressure_alt_ft: Any, oat_c: Any) -> Any:
+def isa_deviation_c(pressure_alt_ft: Numeric, oat_c: Numeric) -> Numeric:
     """Deviation of the outside air temperature from the standard day (ISA + x).
 
     Parameters

@@ -21,6 +21,7 @@ import numpy as np
 import pandas as pd
 
 from trimlog.atmosphere import (
+    Numeric,
     _as_float_array,
     _check_range,
     _like_input,
@@ -76,7 +77,7 @@ def _finite(value: Any, name: str, unit: str) -> np.ndarray:
     return values
 
 
-def station_to_pct_mac(station_in: Any, lemac_in: float, mac_in: float) -> Any:
+def station_to_pct_mac(station_in: Numeric, lemac_in: float, mac_in: float) -> Numeric:
     """Express a station as percent of the mean aerodynamic chord.
 
     Parameters
@@ -117,7 +118,7 @@ def station_to_pct_mac(station_in: Any, lemac_in: float, mac_in: float) -> Any:
     return _like_input(100.0 * (station - lemac) / mac, station_in, name="cg_pct_mac")
 
 
-def pct_mac_to_station(pct_mac: Any, lemac_in: float, mac_in: float) -> Any:
+def pct_mac_to_station(pct_mac: Numeric, lemac_in: float, mac_in: float) -> Numeric:
     """Convert percent of MAC to a station: the inverse of :func:`station_to_pct_mac`.
 
     Parameters
@@ -198,7 +199,7 @@ def _items_arrays(items: Any) -> tuple[np.ndarray, np.ndarray]:
     return weights, arms
 
 
-def weight_and_cg(items: Any) -> Loading:
+def weight_and_cg(items: Iterable[tuple[float, float]] | pd.DataFrame) -> Loading:
     """Total weight, CG and moment of a list of items.
 
     Parameters
@@ -246,7 +247,7 @@ def weight_and_cg(items: Any) -> Loading:
 def cg_through_flight(
     zero_fuel_weight_lb: float,
     zero_fuel_cg_in: float,
-    fuel_gal: Any,
+    fuel_gal: Numeric,
     fuel_arm_in: float,
     fuel_density_lb_per_gal: float,
 ) -> WeightAndCg:
@@ -367,7 +368,7 @@ def zero_fuel_loading(
     return Loading(weight_lb=zfw, cg_in=moment / zfw, moment_lb_in=moment)
 
 
-def fuel_from_flow(time_s: Any, fuel_flow_gph: Any, start_fuel_gal: float) -> Any:
+def fuel_from_flow(time_s: Numeric, fuel_flow_gph: Numeric, start_fuel_gal: float) -> Numeric:
     """Fuel on board through a flight, integrated from logged fuel flow.
 
     Parameters
