@@ -116,6 +116,7 @@ _MIGRATIONS: Final[tuple[tuple[str, ...], ...]] = (
 )
 SCHEMA_VERSION: Final = len(_MIGRATIONS)
 _RESERVED_POINT_COLUMNS: Final = frozenset({"flight_id"})
+_FIXED_POINT_COLUMNS: Final = ("point", "included")  # stored as columns, not in values_json
 
 
 class _Keep(enum.Enum):
@@ -527,33 +528,31 @@ def _points_frame(
     schemas: Mapping[int, list[list[str]]], rows: list[tuple], with_flight_id: bool
 ) -> pd.DataFrame:
     """Build a Points DataFrame from stored rows ``(flight_id, point, included, values_json)``."""
-    order: dict[str, None] = {}
-    dtypes: dict[str, set[str]] = {}
+    union: dict[str, set[str]] = {}
     for schema in schemas.values():
         for name, dtype in schema:
-            order.setdefault(name, None)
-            dtypes.setdefault(name, set()).add(dtype)
-    positions = {
-        fid: {name: i for i, name in enumerate(n for n, _ in s if n not in ("point", "included"))}
-        for fid, s in schemas.items()
-    }
-    present = {name: sum(name in {n for n, _ in s} for s in schemas.values()) for name in order}
-    values = [json.loads(r[3]) for r in rows]
-    data: dict[str, pd.Series] = {}
-    if with_flight_id:
-        data["flight_id"] = pd.Series([r[0] for r in rows], dtype="int64")
-    for name in order:
-        dtype = _common_dtype(dtypes[name], present[name] < len(schemas))
-        if name == "point":
-            col = [r[1] for r in rows]
-        elif name == "included":
-            col = [bool(r[2]) for r in rows]
-        else:
-            col = [
-                v[positions[r[0]][name]] if name in positions[r[0]] else None
-                for r, v in zip(rows, values, strict=True)
-            ]
-        data[name] = pd.Series(col, dtype=dtype)
+            union.setdefault(name, set()).add(dtype)
+    names = [n for n in union if n not in _FIXED_POINT_COLUMNS]
+    # For each flight, where each column of the union sits in its stored values (None: absent).
+    slots = {}
+    for fid, schema in schemas.items():
+        own = {n: i for i, n in enumerate(n for n, _ in schema if n not in _FIXED_POINT_COLUMNS)}
+        slots[fid] = [own.get(n) for n in names]
+    identity = list(range(len(names)))
+    values = json.loads("[" + ",".join(r[3] for r in rows) + "]")
+    padded = [
+        v if slots[r[0]] == identity else [None if i is None else v[i] for i in slots[r[0]]]
+        for r, v in zip(rows, values, strict=True)
+    ]
+    columns = dict(zip(names, zip(*padded, strict=True) if padded else [()] * len(names),
+                       strict=True))
+    columns["point"] = [r[1] for r in rows]
+    columns["included"] = [bool(r[2]) for r in rows]
+    own_names = [{n for n, _ in s} for s in schemas.values()]
+    data = {"flight_id": pd.Series([r[0] for r in rows], dtype="int64")} if with_flight_id else {}
+    for name, dtypes in union.items():
+        missing = any(name not in o for o in own_names)
+        data[name] = pd.Series(columns[name], dtype=_common_dtype(dtypes, missing))
     return pd.DataFrame(data, index=pd.RangeIndex(len(rows)))
 
 
