@@ -55,6 +55,17 @@ def test_flight_computer_worked_example():
     assert asp.cas_to_tas(250.0, 40000.0, -56.5) == pytest.approx(470.0, abs=5.0)
 
 
+@pytest.mark.parametrize(("mach", "p_over_pt"), [(0.5, 0.8430), (0.8, 0.6560)])
+def test_isentropic_pitot_relation_against_naca_1135(mach, p_over_pt):
+    # NACA Report 1135 (1953), Table I, isentropic flow for gamma = 1.4: p/pt at M = 0.5 and
+    # 0.8, printed to 4 decimals (from memory).  The CAS whose impact pressure gives that
+    # p/pt at 30,000 ft must read that Mach number; 0.5e-4 in p/pt is about 1e-4 in M.
+    delta = atm.pressure_ratio(30000.0)
+    qc_over_p0 = delta * (1.0 / p_over_pt - 1.0)
+    cas = asp.A0_KT * np.sqrt(5.0 * ((qc_over_p0 + 1.0) ** (2.0 / 7.0) - 1.0))
+    assert asp.cas_to_mach(cas, 30000.0) == pytest.approx(mach, abs=2e-4)
+
+
 def test_below_10000_ft_and_200_kt_eas_is_within_a_knot_of_cas():
     # common practice, no source: "below 10,000 ft and 200 kt take EAS = CAS"
     cas = np.linspace(40.0, 200.0, 17)

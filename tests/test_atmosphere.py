@@ -21,9 +21,11 @@ def geometric_m(geopotential_m):
 
 
 # --- published values -----
-# U.S. Standard Atmosphere 1976 (NOAA-S/T 76-1562) at geopotential pressure altitude;
-# printed to 0.01 K, 1 Pa (0.1 Pa at 20 km), 5 decimals of kg/m^3 and 4 decimals of the
-# ratios.  The tolerance is half a unit of the last printed digit.
+# U.S. Standard Atmosphere 1976 (NOAA-S/T 76-1562), identical to ICAO Doc 7488/3 below
+# 20 km, at geopotential pressure altitude (the ICAO tables are by geopotential altitude);
+# printed to 0.01 K, 1 Pa, 5 decimals of kg/m^3 and 4 decimals of the ratios.  The
+# tolerance is half a unit of the last printed digit.  The table was not re-read for this
+# test; the geometric-altitude English-units table is checked separately below.
 TABLE = [
     # alt_ft, T_K, p_Pa, rho_kgm3, sigma, delta
     (0.0, 288.15, 101325.0, 1.22500, 1.0000, 1.0000),
