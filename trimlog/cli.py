@@ -1,0 +1,472 @@
+"""The ``trimlog`` command.
+
+Every subcommand reads its inputs, calls the package and prints or writes the
+result.  Exit status: 0 results, 1 analysis refused (e.g. a neutral point the
+data cannot identify yet), 2 bad input.  A :class:`~trimlog.errors.TrimlogError`
+becomes one clear message on stderr, never a traceback.
+
+Heavy libraries load only inside the subcommand that needs them:
+``trimlog analyze --json`` imports neither matplotlib nor streamlit.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import sys
+from collections.abc import Callable, Sequence
+from pathlib import Path
+
+from trimlog import __version__
+from trimlog.errors import TrimlogError
+
+EXIT_OK, EXIT_REFUSED, EXIT_BAD_INPUT = 0, 1, 2
+
+_EPILOG_EXAMPLE = "example:\n  {0}\n"
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Run the command line; return the exit status."""
+    parser = _build_parser()
+    args = parser.parse_args(argv)
+    if not hasattr(args, "run"):
+        parser.print_help()
+        return EXIT_BAD_INPUT
+    try:
+        return args.run(args)
+    except TrimlogError as exc:
+        print(f"trimlog: error: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except KeyboardInterrupt:
+        print("trimlog: interrupted", file=sys.stderr)
+        return 130
+    except BrokenPipeError:
+        return EXIT_OK
+
+
+def _build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="trimlog",
+        description=(
+            "Flight-test trim analysis for light aircraft: neutral points, static margins, "
+            "stick-force stability, elevator authority and the stabilizer shim. Results are "
+            "estimates from your data, never an approval."
+        ),
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+        epilog=(
+            "start here:\n"
+            "  trimlog demo demo_data          write the invented demo aircraft and flights\n"
+            "  trimlog analyze demo_data/*.csv --aircraft demo_data/demo_aircraft.toml\n"
+            "  trimlog dashboard               the web dashboard, demo preloaded"
+        ),
+    )
+    parser.add_argument("--version", action="version", version=f"trimlog {__version__}")
+    sub = parser.add_subparsers(title="commands", metavar="COMMAND")
+
+    def command(
+        name: str, run: Callable[[argparse.Namespace], int], help_text: str, example: str
+    ) -> argparse.ArgumentParser:
+        p = sub.add_parser(
+            name,
+            help=help_text,
+            description=help_text,
+            epilog=_EPILOG_EXAMPLE.format(example),
+            formatter_class=argparse.RawDescriptionHelpFormatter,
+        )
+        p.set_defaults(run=run)
+        return p
+
+    p = command(
+        "analyze",
+        _run_analyze,
+        "Analyse one or more logs or point tables together (each file one flight).",
+        "trimlog analyze flight1.csv flight2.csv --aircraft plane.toml --json result.json",
+    )
+    _add_log_inputs(p)
+    p.add_argument("--json", metavar="OUT.json", help="write the machine-readable result")
+    p.add_argument("--quiet", action="store_true", help="no terminal summary")
+
+    p = command(
+        "report",
+        _run_report,
+        "Write a PDF flight-test report from logs or from the flight history.",
+        "trimlog report flight*.csv --aircraft plane.toml -o report.pdf",
+    )
+    p.add_argument("logs", nargs="*", metavar="LOG", help="logs or point tables (CSV)")
+    p.add_argument("--aircraft", metavar="PROFILE.toml", help="aircraft profile")
+    p.add_argument("--db", metavar="DB", help="make the report from this flight history")
+    p.add_argument("-o", "--output", required=True, metavar="REPORT.pdf", help="PDF to write")
+    _add_detection_options(p)
+
+    p = command(
+        "import",
+        _run_import,
+        "Add flights to the aircraft's history (re-importing a file changes nothing).",
+        "trimlog import flight3.csv --aircraft plane.toml --db history.sqlite",
+    )
+    _add_log_inputs(p)
+    _add_db(p)
+    p.add_argument("--label", help="label for the flight (one file only)")
+    p.add_argument("--notes", help="notes for the flight (one file only)")
+
+    p = command(
+        "flights",
+        _run_flights,
+        "List the flights in the history.",
+        "trimlog flights --db history.sqlite",
+    )
+    _add_db(p)
+    p.add_argument("--json", metavar="OUT.json", help="write the list as JSON")
+
+    p = command(
+        "trend",
+        _run_trend,
+        "Neutral point after each successive flight, and the next CG step.",
+        "trimlog trend --db history.sqlite --json trend.json",
+    )
+    _add_db(p)
+    p.add_argument("--json", metavar="OUT.json", help="write the trend as JSON")
+
+    p = command(
+        "plan",
+        _run_plan,
+        "Suggest how far aft the next flight may go, with the reasoning.",
+        "trimlog plan --db history.sqlite --min-margin 5 --max-step 2",
+    )
+    _add_db(p)
+    p.add_argument("--min-margin", type=float, metavar="PCT_MAC",
+                   help="minimum static margin policy [%%MAC] (default: the profile's)")
+    p.add_argument("--max-step", type=float, metavar="PCT_MAC",
+                   help="largest step beyond the most aft CG flown [%%MAC]")
+    p.add_argument("--json", metavar="OUT.json", help="write the plan as JSON")
+
+    p = command(
+        "exclude",
+        _run_exclude,
+        "Exclude (or --include again) a point of a stored flight; the choice is kept.",
+        "trimlog exclude --db history.sqlite --flight 3 --point 5",
+    )
+    _add_db(p)
+    p.add_argument("--flight", type=int, required=True, help="flight id (see 'trimlog flights')")
+    p.add_argument("--point", type=int, required=True, help="point number within the flight")
+    p.add_argument("--include", action="store_true", help="include the point again")
+
+    p = command(
+        "export",
+        _run_export,
+        "Export every flight, point and result as CSV and JSON.",
+        "trimlog export --db history.sqlite exported/",
+    )
+    _add_db(p)
+    p.add_argument("directory", help="folder to write into")
+
+    p = command(
+        "restore",
+        _run_restore,
+        "Import an export folder into an empty history database.",
+        "trimlog restore exported/ --db new.sqlite",
+    )
+    _add_db(p)
+    p.add_argument("directory", help="a folder written by 'trimlog export'")
+
+    p = command(
+        "backup",
+        _run_backup,
+        "Copy the history database safely while it may be in use.",
+        "trimlog backup --db history.sqlite backup.sqlite",
+    )
+    _add_db(p)
+    p.add_argument("destination", help="backup file to write")
+
+    p = command(
+        "demo",
+        _run_demo,
+        "Write the invented demo aircraft profile and its flights.",
+        "trimlog demo demo_data",
+    )
+    p.add_argument("directory", nargs="?", default="demo_data", help="folder (default demo_data)")
+
+    p = command(
+        "dashboard",
+        _run_dashboard,
+        "Start the web dashboard on this computer (http://127.0.0.1:8501).",
+        "trimlog dashboard --port 8501",
+    )
+    p.add_argument("--port", type=int, default=8501)
+    p.add_argument("--address", default="127.0.0.1", help="listen address (default localhost)")
+
+    p = command(
+        "bench",
+        _run_bench,
+        "Measure speed on generated logs and print the figures and ratios.",
+        "trimlog bench --quick",
+    )
+    p.add_argument("--quick", action="store_true", help="smaller sizes, for a first look")
+    return parser
+
+
+def _add_log_inputs(p: argparse.ArgumentParser) -> None:
+    p.add_argument("logs", nargs="+", metavar="LOG", help="logs or point tables (CSV)")
+    p.add_argument("--aircraft", required=True, metavar="PROFILE.toml", help="aircraft profile")
+    _add_detection_options(p)
+
+
+def _add_detection_options(p: argparse.ArgumentParser) -> None:
+    p.add_argument(
+        "--loading",
+        action="append",
+        default=[],
+        metavar="LOG=SHEET",
+        help="loading sheet for a log (default: LOG's name with .loading.toml beside it)",
+    )
+    p.add_argument(
+        "--exclude",
+        action="append",
+        default=[],
+        metavar="FLIGHT:POINT",
+        help="leave a point out of the fits (repeatable); it stays listed",
+    )
+    p.add_argument(
+        "--min-hold",
+        type=float,
+        metavar="SECONDS",
+        help="minimum duration of a stabilized point in a time-series log",
+    )
+
+
+def _add_db(p: argparse.ArgumentParser) -> None:
+    p.add_argument(
+        "--db",
+        metavar="DB",
+        help="history database (default: $TRIMLOG_DB, else the user data directory)",
+    )
+
+
+def _progress(message: str) -> None:
+    """Progress on stderr when it is a terminal; quiet in pipes and CI logs."""
+    if sys.stderr.isatty():
+        print(message, file=sys.stderr, flush=True)
+
+
+def _write_json(path: str, payload: object) -> None:
+    target = Path(path)
+    try:
+        target.write_text(json.dumps(payload, indent=2, allow_nan=False) + "\n", encoding="utf-8")
+    except OSError as exc:
+        raise TrimlogError(f"{path}: cannot write the JSON result: {exc.strerror}") from None
+
+
+def _load_inputs(args: argparse.Namespace):  # -> (profile, flights)
+    from trimlog import analysis
+
+    profile = analysis.load_profile(args.aircraft)
+    loading_overrides = _parse_pairs(args.loading, "--loading", "LOG=SHEET", "=")
+    flights = []
+    for number, log in enumerate(args.logs, start=1):
+        _progress(f"reading {log} ({number}/{len(args.logs)})")
+        flights.extend(
+            analysis.load_flight_file(
+                log,
+                profile,
+                loading_path=loading_overrides.get(log),
+                min_hold_s=args.min_hold,
+            )
+        )
+    return profile, flights
+
+
+def _parse_pairs(values: list[str], option: str, form: str, sep: str) -> dict[str, str]:
+    pairs = {}
+    for value in values:
+        left, found, right = value.rpartition(sep)
+        if not found or not left or not right:
+            raise TrimlogError(f"{option}: expected {form}, found {value!r}")
+        pairs[left] = right
+    return pairs
+
+
+def _exclusions(values: list[str]) -> set[tuple[str, int]]:
+    out = set()
+    for flight, point in _parse_pairs(values, "--exclude", "FLIGHT:POINT", ":").items():
+        try:
+            out.add((flight, int(point)))
+        except ValueError:
+            raise TrimlogError(
+                f"--exclude: point must be a whole number, found {point!r}"
+            ) from None
+    return out
+
+
+def _run_analyze(args: argparse.Namespace) -> int:
+    from trimlog import analysis, summary
+
+    profile, flights = _load_inputs(args)
+    _progress("fitting")
+    result = analysis.analyze(flights, profile, exclusions=_exclusions(args.exclude))
+    if args.json:
+        _write_json(args.json, result.to_dict())
+    if not args.quiet:
+        print(summary.render(result, color=_use_color()))
+    return EXIT_OK if result.identifiable else EXIT_REFUSED
+
+
+def _run_report(args: argparse.Namespace) -> int:
+    from trimlog import analysis, report
+
+    if args.db:
+        result = _history_analysis(args.db)
+    else:
+        if not args.logs or not args.aircraft:
+            raise TrimlogError("report: give LOG files with --aircraft, or --db DB")
+        profile, flights = _load_inputs(args)
+        result = analysis.analyze(flights, profile, exclusions=_exclusions(args.exclude))
+    _progress("drawing the report")
+    path = report.write_report(result, args.output)
+    print(f"report written to {path}")
+    return EXIT_OK if result.identifiable else EXIT_REFUSED
+
+
+def _open_store(db: str | None):
+    from trimlog import store
+
+    return store.open_store(db)
+
+
+def _history_analysis(db: str):
+    from trimlog import history
+
+    with _open_store(db) as st:
+        return history.analyze_history(st)
+
+
+def _run_import(args: argparse.Namespace) -> int:
+    from trimlog import history
+
+    if (args.label or args.notes) and len(args.logs) > 1:
+        raise TrimlogError("import: --label and --notes apply to one file at a time")
+    profile_text = Path(args.aircraft).read_text(encoding="utf-8-sig")
+    loading_overrides = _parse_pairs(args.loading, "--loading", "LOG=SHEET", "=")
+    with _open_store(args.db) as st:
+        for number, log in enumerate(args.logs, start=1):
+            _progress(f"importing {log} ({number}/{len(args.logs)})")
+            outcome = history.import_log(
+                st,
+                log,
+                profile_text=profile_text,
+                profile_source=args.aircraft,
+                loading_path=loading_overrides.get(log),
+                label=args.label,
+                notes=args.notes,
+                min_hold_s=args.min_hold,
+            )
+            print(f"{log}: {outcome.message}")
+    return EXIT_OK
+
+
+def _run_flights(args: argparse.Namespace) -> int:
+    from trimlog import history, summary
+
+    with _open_store(args.db) as st:
+        listing = history.flight_listing(st)
+    if args.json:
+        _write_json(args.json, listing)
+    print(summary.render_flights(listing))
+    return EXIT_OK
+
+
+def _run_trend(args: argparse.Namespace) -> int:
+    from trimlog import history, summary
+
+    with _open_store(args.db) as st:
+        trend = history.trend(st)
+    if args.json:
+        _write_json(args.json, trend.to_dict())
+    print(summary.render_trend(trend, color=_use_color()))
+    return EXIT_OK if trend.identifiable else EXIT_REFUSED
+
+
+def _run_plan(args: argparse.Namespace) -> int:
+    from trimlog import history, summary
+
+    with _open_store(args.db) as st:
+        trend = history.trend(st, min_margin_pct_mac=args.min_margin, max_step_pct_mac=args.max_step)
+    if args.json:
+        _write_json(args.json, trend.to_dict()["next_step"])
+    print(summary.render_plan(trend, color=_use_color()))
+    return EXIT_OK if trend.identifiable else EXIT_REFUSED
+
+
+def _run_exclude(args: argparse.Namespace) -> int:
+    with _open_store(args.db) as st:
+        st.set_point_included(args.flight, args.point, args.include)
+    state = "included" if args.include else "excluded"
+    print(f"flight {args.flight} point {args.point}: {state}")
+    return EXIT_OK
+
+
+def _run_export(args: argparse.Namespace) -> int:
+    with _open_store(args.db) as st:
+        written = st.export(Path(args.directory))
+    print(f"{len(written)} files written to {args.directory}")
+    return EXIT_OK
+
+
+def _run_restore(args: argparse.Namespace) -> int:
+    with _open_store(args.db) as st:
+        st.import_export(Path(args.directory))
+    print(f"restored {args.directory}")
+    return EXIT_OK
+
+
+def _run_backup(args: argparse.Namespace) -> int:
+    with _open_store(args.db) as st:
+        st.backup(Path(args.destination))
+    print(f"backup written to {args.destination}")
+    return EXIT_OK
+
+
+def _run_demo(args: argparse.Namespace) -> int:
+    from trimlog import demo
+
+    written = demo.write_demo(Path(args.directory))
+    for path in written:
+        print(path)
+    return EXIT_OK
+
+
+def _run_dashboard(args: argparse.Namespace) -> int:
+    import subprocess
+
+    app = Path(__file__).resolve().parent.parent / "app.py"
+    if not app.is_file():
+        raise TrimlogError(
+            f"the dashboard script {app} is missing: install trimlog from its source "
+            "folder with 'pip install -e .'"
+        )
+    command = [
+        sys.executable, "-m", "streamlit", "run", str(app),
+        "--server.headless", "true",
+        "--server.address", args.address,
+        "--server.port", str(args.port),
+        "--server.maxUploadSize", "200",
+        "--browser.gatherUsageStats", "false",
+    ]
+    print(f"trimlog dashboard on http://{args.address}:{args.port} (Ctrl-C to stop)")
+    return subprocess.call(command)
+
+
+def _run_bench(args: argparse.Namespace) -> int:
+    from trimlog import bench
+
+    return bench.run(quick=args.quick)
+
+
+def _use_color() -> bool:
+    return sys.stdout.isatty() and os.environ.get("NO_COLOR") is None and (
+        os.environ.get("TERM") not in (None, "dumb")
+    )
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())

@@ -1,0 +1,254 @@
+"""Reduction of stabilized points to the quantities the stability fits need.
+
+For each point: calibrated, equivalent and true airspeed, dynamic pressure,
+load factor, weight and CG (from the log or from the flight's loading sheet
+with fuel burn applied), CG as a fraction of the MAC, lift coefficient
+``CL = n·W/(q·S)`` and ``Fs/q``; plus the label of the stabilizer-incidence
+setting and of the configuration, which decide what may be pooled.
+
+References
+----------
+Gracey, W., *Measurement of Aircraft Speed and Altitude*, NASA RP-1046 (1980):
+airspeed relations.  Etkin, B. and Reid, L. D., *Dynamics of Flight*, 3rd ed.,
+Wiley (1996), ch. 2: lift coefficient and trim.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+from typing import Protocol
+
+import numpy as np
+import pandas as pd
+
+from trimlog import airspeed, loading
+from trimlog.errors import InputFileError
+from trimlog.profile import AircraftProfile
+
+#: A CG this far outside the profile's limits [%MAC] is taken as a loading error.
+CG_IMPLAUSIBLE_BEYOND_LIMITS_PCT_MAC = 15.0
+
+DEFAULT_SETTING_LABEL = "as rigged"
+
+
+class FlightLoadingLike(Protocol):
+    """What the reduction needs of a flight's loading sheet."""
+
+    takeoff_weight_lb: float
+    takeoff_cg_in: float
+    takeoff_fuel_gal: float | None
+    incidence_label: str | None
+    incidence_deg: float | None
+    config: str | None
+
+
+@dataclass(frozen=True)
+class ReducedPoints:
+    """Reduced points of one or more flights, and what the reduction had to assume."""
+
+    points: pd.DataFrame
+    warnings: tuple[str, ...]
+
+
+def reduce_points(
+    points: pd.DataFrame,
+    profile: AircraftProfile,
+    loadings: Mapping[str, FlightLoadingLike] | None = None,
+) -> ReducedPoints:
+    """Compute EAS, q, CL, Fs/q and h for every stabilized point.
+
+    Parameters
+    ----------
+    points : DataFrame
+        The Points table (see DEVELOPERS.md): one row per point with a
+        ``flight`` column and canonical quantity columns.
+    profile : AircraftProfile
+        Wing area, MAC, position-error table, fuel arm and density.
+    loadings : mapping of flight -> loading sheet, optional
+        Takeoff weight, CG and fuel per flight, for logs that do not carry
+        weight and CG per row; fuel burn is applied from ``fuel_gal``.
+
+    Returns
+    -------
+    ReducedPoints
+        The reduced table (columns of the Reduced-points contract) and the
+        warnings about assumptions made.
+
+    Raises
+    ------
+    InputFileError
+        A flight with neither weight/CG columns nor a loading sheet, or a CG
+        far outside the aircraft's limits.
+    """
+    loadings = dict(loadings or {})
+    out = points.copy()
+    warnings: list[str] = []
+
+    out["cas_kt"] = _calibrated_airspeed(out, profile, warnings)
+    out["eas_kt"] = airspeed.cas_to_eas(out["cas_kt"], out["pressure_alt_ft"])
+    if "oat_c" in out and out["oat_c"].notna().all():
+        oat = out["oat_c"]
+    else:
+        oat = None
+        warnings.append("outside air temperature not logged: ISA temperature assumed for TAS")
+    out["tas_kt"] = airspeed.eas_to_tas(out["eas_kt"], out["pressure_alt_ft"], oat)
+    out["q_psf"] = airspeed.dynamic_pressure_psf(out["eas_kt"])
+
+    out["nz_logged"] = "nz_g" in out and out["nz_g"].notna()
+    if "nz_g" not in out:
+        out["nz_g"] = 1.0
+        warnings.append("normal load factor not logged: n = 1 assumed for CL")
+    out["nz_g"] = out["nz_g"].fillna(1.0)
+
+    _weight_and_cg(out, profile, loadings, warnings)
+    out["h"] = (out["cg_in"] - profile.lemac_in) / profile.mac_in
+    out["cg_pct_mac"] = 100.0 * out["h"]
+    _check_cg_plausible(out, profile, warnings)
+
+    out["cl"] = airspeed.lift_coefficient(
+        out["weight_lb"], out["eas_kt"], profile.wing_area_ft2, out["nz_g"]
+    )
+    if "stick_force_lbf" in out:
+        out["fs_over_q_ft2"] = out["stick_force_lbf"] / out["q_psf"]
+    else:
+        out["stick_force_lbf"] = np.nan
+        out["fs_over_q_ft2"] = np.nan
+
+    _incidence_and_configuration(out, loadings, warnings)
+    return ReducedPoints(points=out, warnings=tuple(warnings))
+
+
+def _calibrated_airspeed(
+    out: pd.DataFrame, profile: AircraftProfile, warnings: list[str]
+) -> pd.Series:
+    if "cas_kt" in out and out["cas_kt"].notna().all():
+        return out["cas_kt"]
+    if "ias_kt" not in out:
+        raise InputFileError("no airspeed: expected a column ias_kt or cas_kt", column="ias_kt")
+    if profile.position_error_ias_kt is None:
+        warnings.append(
+            "no airspeed calibration in the profile: CAS = IAS assumed (position error "
+            "ignored); add [airspeed_calibration] for calibrated results"
+        )
+        return out["ias_kt"].astype(float)
+    result = airspeed.ias_to_cas(
+        out["ias_kt"],
+        profile.position_error_ias_kt,
+        profile.position_error_cas_kt,
+        extrapolate="clamp",
+    )
+    warnings.extend(result.warnings)
+    return result.cas_kt
+
+
+def _weight_and_cg(
+    out: pd.DataFrame,
+    profile: AircraftProfile,
+    loadings: Mapping[str, FlightLoadingLike],
+    warnings: list[str],
+) -> None:
+    if "cg_in" not in out and "cg_pct_mac" in out:
+        out["cg_in"] = profile.lemac_in + out["cg_pct_mac"] / 100.0 * profile.mac_in
+    for column in ("weight_lb", "cg_in"):
+        if column not in out:
+            out[column] = np.nan
+    for flight, rows in out.groupby("flight", sort=False).groups.items():
+        missing = out.loc[rows, ["weight_lb", "cg_in"]].isna().any(axis=1)
+        if not missing.any():
+            continue
+        sheet = loadings.get(str(flight))
+        if sheet is None:
+            raise InputFileError(
+                "weight and CG are needed for every point: expected columns weight_lb and "
+                "cg_in (or cg_pct_mac) in the log, or a loading sheet for this flight",
+                file=str(flight),
+                column="weight_lb",
+            )
+        idx = missing[missing].index
+        fuel = out.loc[idx, "fuel_gal"] if "fuel_gal" in out else None
+        if fuel is None or sheet.takeoff_fuel_gal is None or fuel.isna().all():
+            out.loc[idx, "weight_lb"] = sheet.takeoff_weight_lb
+            out.loc[idx, "cg_in"] = sheet.takeoff_cg_in
+            warnings.append(
+                f"flight {flight}: no fuel quantity logged: takeoff weight and CG used for "
+                "every point (fuel burn not applied)"
+            )
+            continue
+        if profile.fuel_arm_in is None:
+            raise InputFileError(
+                "fuel burn needs the fuel arm: add [fuel] arm to the aircraft profile",
+                file=str(flight),
+                column="fuel_gal",
+            )
+        zero_fuel = loading.zero_fuel_loading(
+            sheet.takeoff_weight_lb,
+            sheet.takeoff_cg_in,
+            sheet.takeoff_fuel_gal,
+            profile.fuel_arm_in,
+            profile.fuel_density_lb_per_gal,
+        )
+        weight, cg = loading.cg_through_flight(
+            zero_fuel.weight_lb,
+            zero_fuel.cg_in,
+            fuel.astype(float),
+            profile.fuel_arm_in,
+            profile.fuel_density_lb_per_gal,
+        )
+        out.loc[idx, "weight_lb"] = weight
+        out.loc[idx, "cg_in"] = cg
+
+
+def _check_cg_plausible(out: pd.DataFrame, profile: AircraftProfile, warnings: list[str]) -> None:
+    fwd, aft = profile.cg_forward_pct_mac, profile.cg_aft_pct_mac
+    for flight, cgs in out.groupby("flight", sort=False)["cg_pct_mac"]:
+        lo, hi = float(cgs.min()), float(cgs.max())
+        if lo < fwd - CG_IMPLAUSIBLE_BEYOND_LIMITS_PCT_MAC or hi > aft + (
+            CG_IMPLAUSIBLE_BEYOND_LIMITS_PCT_MAC
+        ):
+            raise InputFileError(
+                f"CG {lo:.1f}..{hi:.1f} %MAC is far outside the profile's limits "
+                f"({fwd:.1f}..{aft:.1f} %MAC): check the loading, the datum, lemac and mac",
+                file=str(flight),
+                column="cg_in",
+            )
+        if lo < fwd - 1e-9 or hi > aft + 1e-9:
+            warnings.append(
+                f"flight {flight}: CG {lo:.1f}..{hi:.1f} %MAC lies outside the profile's "
+                f"limits ({fwd:.1f}..{aft:.1f} %MAC)"
+            )
+
+
+def _incidence_and_configuration(
+    out: pd.DataFrame, loadings: Mapping[str, FlightLoadingLike], warnings: list[str]
+) -> None:
+    if "stab_incidence_deg" not in out:
+        out["stab_incidence_deg"] = np.nan
+    labels = pd.Series(DEFAULT_SETTING_LABEL, index=out.index, dtype=object)
+    configs = pd.Series("", index=out.index, dtype=object)
+    for flight, rows in out.groupby("flight", sort=False).groups.items():
+        sheet = loadings.get(str(flight))
+        logged = out.loc[rows, "stab_incidence_deg"].dropna()
+        if not logged.empty:
+            if logged.max() - logged.min() > 0.01:
+                warnings.append(
+                    f"flight {flight}: stab_incidence_deg varies within the flight "
+                    f"({logged.min():g}..{logged.max():g} deg); each point keeps its own value"
+                )
+            values = out.loc[rows, "stab_incidence_deg"]
+            labels.loc[rows] = [
+                f"{v:+.2f} deg" if np.isfinite(v) else DEFAULT_SETTING_LABEL for v in values
+            ]
+        elif sheet is not None and (sheet.incidence_label or sheet.incidence_deg is not None):
+            if sheet.incidence_deg is not None:
+                out.loc[rows, "stab_incidence_deg"] = sheet.incidence_deg
+            labels.loc[rows] = sheet.incidence_label or f"{sheet.incidence_deg:+.2f} deg"
+        configs.loc[rows] = (sheet.config if sheet is not None and sheet.config else "")
+    if "flap_deg" in out and out["flap_deg"].notna().any():
+        flap_text = out["flap_deg"].round(0).map(
+            lambda v: f"flaps {v:g} deg" if np.isfinite(v) else "flaps not logged"
+        )
+        configs = configs.where(configs != "", flap_text)
+    configs = configs.where(configs != "", "clean")
+    out["stab_setting"] = labels.astype(str)
+    out["config"] = configs.astype(str)
