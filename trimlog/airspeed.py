@@ -24,17 +24,19 @@ from typing import Any, Literal
 
 import numpy as np
 
+from trimlog.arrays import (
+    Numeric,
+    as_float_array,
+    check_range,
+    check_shapes,
+    like_input,
+    series_template,
+    where,
+)
 from trimlog.atmosphere import (
     A0_MPS,
     GAMMA,
     RHO0_KGM3,
-    Numeric,
-    _as_float_array,
-    _check_range,
-    _check_shapes,
-    _like_input,
-    _series_template,
-    _where,
     density_ratio,
     isa_temperature_k,
     pressure_ratio,
@@ -56,8 +58,8 @@ _HALF_GM1 = (GAMMA - 1.0) / 2.0
 
 def _speeds(value: Any, name: str) -> np.ndarray:
     """Validate airspeeds [kt]: finite (or NaN) and not negative."""
-    speed = _as_float_array(value, name)
-    _check_range(speed, 0.0, np.inf, name, "kt", _series_template(value))
+    speed = as_float_array(value, name)
+    check_range(speed, 0.0, np.inf, name, "kt", series_template(value))
     return speed
 
 
@@ -69,7 +71,7 @@ def _check_subsonic(mach: np.ndarray, speed: np.ndarray, name: str, template: An
         first = int(np.flatnonzero(bad)[0])
         flat_v = np.broadcast_arrays(speed, mach)[0].ravel()
         raise TrimlogError(
-            f"{name}: {flat_v[first]:g} kt{_where(first, flat_m.size, template)} is Mach "
+            f"{name}: {flat_v[first]:g} kt{where(first, flat_m.size, template)} is Mach "
             f"{flat_m[first]:.3f}; the airspeed relations here hold only below Mach 1"
         )
 
@@ -119,14 +121,14 @@ def cas_to_mach(cas_kt: Numeric, pressure_alt_ft: Numeric) -> Numeric:
     >>> round(cas_to_mach(250.0, 30000.0), 3)
     0.668
     """
-    _check_shapes(cas_kt=cas_kt, pressure_alt_ft=pressure_alt_ft)
+    check_shapes(cas_kt=cas_kt, pressure_alt_ft=pressure_alt_ft)
     cas = _speeds(cas_kt, "cas_kt")
-    _check_subsonic(cas / A0_KT, cas, "cas_kt", _series_template(cas_kt))
+    _check_subsonic(cas / A0_KT, cas, "cas_kt", series_template(cas_kt))
     qc_over_p0 = _impact_ratio_from_mach(cas / A0_KT)
-    delta = _as_float_array(pressure_ratio(pressure_alt_ft), "pressure_alt_ft")
+    delta = as_float_array(pressure_ratio(pressure_alt_ft), "pressure_alt_ft")
     mach = _mach_from_impact_ratio(qc_over_p0 / delta)
-    _check_subsonic(mach, cas, "cas_kt", _series_template(cas_kt, pressure_alt_ft))
-    return _like_input(mach, cas_kt, pressure_alt_ft, name="mach")
+    _check_subsonic(mach, cas, "cas_kt", series_template(cas_kt, pressure_alt_ft))
+    return like_input(mach, cas_kt, pressure_alt_ft, name="mach")
 
 
 def cas_to_eas(cas_kt: Numeric, pressure_alt_ft: Numeric) -> Numeric:
@@ -162,9 +164,9 @@ def cas_to_eas(cas_kt: Numeric, pressure_alt_ft: Numeric) -> Numeric:
     >>> round(cas_to_eas(300.0, 30000.0), 1)
     285.0
     """
-    mach = _as_float_array(cas_to_mach(cas_kt, pressure_alt_ft), "cas_kt")
-    delta = _as_float_array(pressure_ratio(pressure_alt_ft), "pressure_alt_ft")
-    return _like_input(A0_KT * mach * np.sqrt(delta), cas_kt, pressure_alt_ft, name="eas_kt")
+    mach = as_float_array(cas_to_mach(cas_kt, pressure_alt_ft), "cas_kt")
+    delta = as_float_array(pressure_ratio(pressure_alt_ft), "pressure_alt_ft")
+    return like_input(A0_KT * mach * np.sqrt(delta), cas_kt, pressure_alt_ft, name="eas_kt")
 
 
 def eas_to_cas(eas_kt: Numeric, pressure_alt_ft: Numeric) -> Numeric:
@@ -201,20 +203,20 @@ def eas_to_cas(eas_kt: Numeric, pressure_alt_ft: Numeric) -> Numeric:
     >>> round(eas_to_cas(285.0, 30000.0), 1)
     300.0
     """
-    _check_shapes(eas_kt=eas_kt, pressure_alt_ft=pressure_alt_ft)
+    check_shapes(eas_kt=eas_kt, pressure_alt_ft=pressure_alt_ft)
     eas = _speeds(eas_kt, "eas_kt")
-    delta = _as_float_array(pressure_ratio(pressure_alt_ft), "pressure_alt_ft")
+    delta = as_float_array(pressure_ratio(pressure_alt_ft), "pressure_alt_ft")
     mach = eas / (A0_KT * np.sqrt(delta))
-    _check_subsonic(mach, eas, "eas_kt", _series_template(eas_kt, pressure_alt_ft))
+    _check_subsonic(mach, eas, "eas_kt", series_template(eas_kt, pressure_alt_ft))
     qc_over_p0 = _impact_ratio_from_mach(mach) * delta
     cas = A0_KT * _mach_from_impact_ratio(qc_over_p0)
-    return _like_input(cas, eas_kt, pressure_alt_ft, name="cas_kt")
+    return like_input(cas, eas_kt, pressure_alt_ft, name="cas_kt")
 
 
 def _temperature_k(pressure_alt_ft: Any, oat_c: Any) -> np.ndarray:
     if oat_c is None:
-        return _as_float_array(isa_temperature_k(pressure_alt_ft), "pressure_alt_ft")
-    return _as_float_array(oat_c, "oat_c") + 273.15
+        return as_float_array(isa_temperature_k(pressure_alt_ft), "pressure_alt_ft")
+    return as_float_array(oat_c, "oat_c") + 273.15
 
 
 def eas_to_tas(eas_kt: Numeric, pressure_alt_ft: Numeric, oat_c: Numeric | None = None) -> Numeric:
@@ -253,15 +255,15 @@ def eas_to_tas(eas_kt: Numeric, pressure_alt_ft: Numeric, oat_c: Numeric | None 
     >>> round(eas_to_tas(100.0, 10000.0), 2)
     116.37
     """
-    _check_shapes(eas_kt=eas_kt, pressure_alt_ft=pressure_alt_ft, oat_c=oat_c)
+    check_shapes(eas_kt=eas_kt, pressure_alt_ft=pressure_alt_ft, oat_c=oat_c)
     eas = _speeds(eas_kt, "eas_kt")
-    sigma = _as_float_array(density_ratio(pressure_alt_ft, oat_c), "pressure_alt_ft")
+    sigma = as_float_array(density_ratio(pressure_alt_ft, oat_c), "pressure_alt_ft")
     tas = eas / np.sqrt(sigma)
-    sound_kt = _as_float_array(speed_of_sound_mps(_temperature_k(pressure_alt_ft, oat_c)),
+    sound_kt = as_float_array(speed_of_sound_mps(_temperature_k(pressure_alt_ft, oat_c)),
                                "oat_c") / KT_TO_MPS
     _check_subsonic(tas / sound_kt, eas, "eas_kt",
-                    _series_template(eas_kt, pressure_alt_ft, oat_c))
-    return _like_input(tas, eas_kt, pressure_alt_ft, oat_c, name="tas_kt")
+                    series_template(eas_kt, pressure_alt_ft, oat_c))
+    return like_input(tas, eas_kt, pressure_alt_ft, oat_c, name="tas_kt")
 
 
 def tas_to_eas(tas_kt: Numeric, pressure_alt_ft: Numeric, oat_c: Numeric | None = None) -> Numeric:
@@ -299,14 +301,14 @@ def tas_to_eas(tas_kt: Numeric, pressure_alt_ft: Numeric, oat_c: Numeric | None 
     >>> round(tas_to_eas(116.37, 10000.0), 2)
     100.0
     """
-    _check_shapes(tas_kt=tas_kt, pressure_alt_ft=pressure_alt_ft, oat_c=oat_c)
+    check_shapes(tas_kt=tas_kt, pressure_alt_ft=pressure_alt_ft, oat_c=oat_c)
     tas = _speeds(tas_kt, "tas_kt")
-    sigma = _as_float_array(density_ratio(pressure_alt_ft, oat_c), "pressure_alt_ft")
-    sound_kt = _as_float_array(speed_of_sound_mps(_temperature_k(pressure_alt_ft, oat_c)),
+    sigma = as_float_array(density_ratio(pressure_alt_ft, oat_c), "pressure_alt_ft")
+    sound_kt = as_float_array(speed_of_sound_mps(_temperature_k(pressure_alt_ft, oat_c)),
                                "oat_c") / KT_TO_MPS
     _check_subsonic(tas / sound_kt, tas, "tas_kt",
-                    _series_template(tas_kt, pressure_alt_ft, oat_c))
-    return _like_input(tas * np.sqrt(sigma), tas_kt, pressure_alt_ft, oat_c, name="eas_kt")
+                    series_template(tas_kt, pressure_alt_ft, oat_c))
+    return like_input(tas * np.sqrt(sigma), tas_kt, pressure_alt_ft, oat_c, name="eas_kt")
 
 
 def cas_to_tas(cas_kt: Numeric, pressure_alt_ft: Numeric, oat_c: Numeric | None = None) -> Numeric:
@@ -383,7 +385,7 @@ def dynamic_pressure_psf(eas_kt: Numeric) -> Numeric:
     """
     eas = _speeds(eas_kt, "eas_kt")
     q_pa = 0.5 * RHO0_KGM3 * (eas * KT_TO_MPS) ** 2
-    return _like_input(q_pa / PSF_TO_PA, eas_kt, name="q_psf")
+    return like_input(q_pa / PSF_TO_PA, eas_kt, name="q_psf")
 
 
 def lift_coefficient(
@@ -426,18 +428,18 @@ def lift_coefficient(
     >>> round(lift_coefficient(1500.0, 100.0, 120.0), 4)
     0.3692
     """
-    _check_shapes(weight_lb=weight_lb, eas_kt=eas_kt, nz_g=nz_g)
-    weight = _as_float_array(weight_lb, "weight_lb")
-    _check_range(weight, 0.0, np.inf, "weight_lb", "lb", _series_template(weight_lb),
+    check_shapes(weight_lb=weight_lb, eas_kt=eas_kt, nz_g=nz_g)
+    weight = as_float_array(weight_lb, "weight_lb")
+    check_range(weight, 0.0, np.inf, "weight_lb", "lb", series_template(weight_lb),
                  low_inclusive=False)
-    eas = _as_float_array(eas_kt, "eas_kt")
-    _check_range(eas, 0.0, np.inf, "eas_kt", "kt", _series_template(eas_kt), low_inclusive=False)
-    area = _as_float_array(wing_area_ft2, "wing_area_ft2")
-    _check_range(area, 0.0, np.inf, "wing_area_ft2", "ft^2", low_inclusive=False)
-    nz = _as_float_array(nz_g, "nz_g")
-    _check_range(nz, -np.inf, np.inf, "nz_g", "g", _series_template(nz_g))
-    q = _as_float_array(dynamic_pressure_psf(eas), "eas_kt")
-    return _like_input(nz * weight / (q * area), weight_lb, eas_kt, nz_g, name="cl")
+    eas = as_float_array(eas_kt, "eas_kt")
+    check_range(eas, 0.0, np.inf, "eas_kt", "kt", series_template(eas_kt), low_inclusive=False)
+    area = as_float_array(wing_area_ft2, "wing_area_ft2")
+    check_range(area, 0.0, np.inf, "wing_area_ft2", "ft^2", low_inclusive=False)
+    nz = as_float_array(nz_g, "nz_g")
+    check_range(nz, -np.inf, np.inf, "nz_g", "g", series_template(nz_g))
+    q = as_float_array(dynamic_pressure_psf(eas), "eas_kt")
+    return like_input(nz * weight / (q * area), weight_lb, eas_kt, nz_g, name="cl")
 
 
 # --------------------------------------------------------------------------
@@ -465,8 +467,8 @@ class PositionErrorResult:
 
 
 def _validate_table(table_ias_kt: Any, table_cas_kt: Any) -> tuple[np.ndarray, np.ndarray]:
-    ias = np.ravel(_as_float_array(table_ias_kt, "table_ias_kt"))
-    cas = np.ravel(_as_float_array(table_cas_kt, "table_cas_kt"))
+    ias = np.ravel(as_float_array(table_ias_kt, "table_ias_kt"))
+    cas = np.ravel(as_float_array(table_cas_kt, "table_cas_kt"))
     if ias.size != cas.size:
         raise TrimlogError(
             f"position-error table: expected as many CAS as IAS values, found {ias.size} IAS "
@@ -547,7 +549,7 @@ def ias_to_cas(
         )
     table_ias, table_cas = _validate_table(table_ias_kt, table_cas_kt)
     ias = _speeds(ias_kt, "ias_kt")
-    template = _series_template(ias_kt)
+    template = series_template(ias_kt)
     lo, hi = table_ias[0], table_ias[-1]
     flat = np.atleast_1d(ias).ravel()
     outside = (flat < lo) | (flat > hi)
@@ -557,7 +559,7 @@ def ias_to_cas(
         first = int(np.flatnonzero(outside)[0])
         detail = (
             f"{n_outside} of {flat.size} IAS values lie outside the position-error table "
-            f"({lo:g}-{hi:g} kt), the first {flat[first]:g} kt{_where(first, flat.size, template)}"
+            f"({lo:g}-{hi:g} kt), the first {flat[first]:g} kt{where(first, flat.size, template)}"
         )
         if extrapolate == "error":
             raise TrimlogError(
@@ -566,10 +568,10 @@ def ias_to_cas(
         warnings = (f"{detail}; their correction was held at the table's end value",)
     correction = np.interp(ias, table_ias, table_cas - table_ias)
     cas = ias + correction
-    _check_range(cas, 0.0, np.inf, "CAS from ias_kt and the position-error table", "kt",
+    check_range(cas, 0.0, np.inf, "CAS from ias_kt and the position-error table", "kt",
                  template)
     return PositionErrorResult(
-        cas_kt=_like_input(cas, ias_kt, name="cas_kt"),
+        cas_kt=like_input(cas, ias_kt, name="cas_kt"),
         n_outside_table=n_outside,
         warnings=warnings,
     )

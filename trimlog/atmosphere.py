@@ -21,12 +21,18 @@ References
 
 from __future__ import annotations
 
-from typing import Any, TypeAlias
+from typing import Any
 
 import numpy as np
-import pandas as pd
 
-from trimlog.errors import TrimlogError
+from trimlog.arrays import (
+    Numeric,
+    as_float_array,
+    check_range,
+    check_shapes,
+    like_input,
+    series_template,
+)
 
 #: Sea-level standard pressure [Pa] (U.S. Standard Atmosphere 1976, Table 2).
 P0_PA = 101325.0
@@ -62,8 +68,6 @@ OAT_MAX_C = 70.0
 KELVIN_OFFSET = 273.15
 
 #: What the physics functions take and give: a number, a numpy array or a pandas Series
-#: (lists are accepted too); a Series in gives a Series out.
-Numeric: TypeAlias = float | np.ndarray | pd.Series
 
 # Exponent g0/(L R) of the troposphere pressure law, 5.25588 (ref. [1], eq. 33a).
 _PRESSURE_EXPONENT = G0_MPS2 / (LAPSE_RATE_K_PER_M * R_AIR_J_PER_KG_K)
@@ -77,117 +81,18 @@ _RHO0_EXACT_KGM3 = P0_PA / (R_AIR_J_PER_KG_K * T0_K)
 _SCALE_HEIGHT_M = R_AIR_J_PER_KG_K * T_TROPOPAUSE_K / G0_MPS2
 
 
-# --------------------------------------------------------------------------
-# Input handling shared by the physics modules (airspeed, loading use it too).
-# --------------------------------------------------------------------------
-
-
-def _as_float_array(value: Any, name: str) -> np.ndarray:
-    """Return ``value`` as a float array, or raise naming the argument."""
-    if isinstance(value, pd.Series):
-        value = value.to_numpy(dtype=float, na_value=np.nan)
-    try:
-        return np.asarray(value, dtype=float)
-    except (TypeError, ValueError) as exc:
-        raise TrimlogError(
-            f"{name}: expected a number, array or Series of numbers, found {value!r}"
-        ) from exc
-
-
-def _series_template(*values: Any) -> pd.Series | None:
-    """Return the first Series among ``values``; every other Series must share its index."""
-    template = None
-    for value in values:
-        if isinstance(value, pd.Series):
-            if template is None:
-                template = value
-            elif not value.index.equals(template.index):
-                raise TrimlogError(
-                    "Series arguments must share one index; found indexes of lengths "
-                    f"{len(template.index)} and {len(value.index)} that differ"
-                )
-    return template
-
-
-def _like_input(result: np.ndarray, *inputs: Any, name: str | None = None) -> Any:
-    """Give ``result`` the kind of the inputs: Series, array or float."""
-    template = _series_template(*inputs)
-    if template is not None:
-        return pd.Series(np.broadcast_to(result, template.shape).copy(),
-                         index=template.index, name=name)
-    if np.ndim(result) == 0:
-        return float(result)
-    return result
-
-
-def _check_shapes(**values: Any) -> None:
-    """Raise unless the named inputs have matching lengths (single values always match)."""
-    shapes = {name: np.shape(value) for name, value in values.items() if value is not None}
-    try:
-        np.broadcast_shapes(*shapes.values())
-    except ValueError:
-        found = ", ".join(f"{name} {shape[0] if shape else 1}" for name, shape in shapes.items())
-        raise TrimlogError(
-            f"expected inputs of one length (or single values), found lengths {found}"
-        ) from None
-
-
-def _where(index: int, size: int, template: pd.Series | None) -> str:
-    """Describe where element ``index`` sits, for error messages."""
-    if template is not None:
-        label = template.index[index]
-        # numpy scalars print as np.int64(4); the user wrote 4
-        if isinstance(label, np.generic):
-            label = label.item()
-        return f" at index {label!r}"
-    if size > 1:
-        return f" at position {index}"
-    return ""
-
-
-def _check_range(
-    values: np.ndarray,
-    low: float,
-    high: float,
-    name: str,
-    unit: str,
-    template: pd.Series | None = None,
-    *,
-    low_inclusive: bool = True,
-) -> None:
-    """Raise a TrimlogError naming the first value outside ``[low, high]``.
-
-    NaN is let through (it marks a missing sample and propagates); +-inf is not.
-    """
-    flat = np.atleast_1d(values).ravel()
-    below = flat < low if low_inclusive else flat <= low
-    bad = below | (flat > high) | np.isinf(flat)
-    if not bad.any():
-        return
-    positions = np.flatnonzero(bad)
-    first = int(positions[0])
-    count = (
-        f"; {positions.size} of {flat.size} values are outside" if flat.size > 1 else ""
-    )
-    bracket = "[" if low_inclusive else "("
-    raise TrimlogError(
-        f"{name}: expected a value in {bracket}{low:g}, {high:g}] {unit}, "
-        f"found {flat[first]:g} {unit}{_where(first, flat.size, template)}{count}"
-    )
-
-
 def _altitude_m(pressure_alt_ft: Any) -> np.ndarray:
     """Validate pressure altitudes [ft] and return them in metres."""
-    alt_ft = _as_float_array(pressure_alt_ft, "pressure_alt_ft")
-    _check_range(alt_ft, ALT_MIN_FT, ALT_MAX_FT, "pressure_alt_ft", "ft",
-                 _series_template(pressure_alt_ft))
+    alt_ft = as_float_array(pressure_alt_ft, "pressure_alt_ft")
+    check_range(alt_ft, ALT_MIN_FT, ALT_MAX_FT, "pressure_alt_ft", "ft",
+                 series_template(pressure_alt_ft))
     return alt_ft * FT_TO_M
 
 
 def _oat_k(oat_c: Any) -> np.ndarray:
     """Validate outside air temperatures [degC] and return them in kelvin."""
-    oat = _as_float_array(oat_c, "oat_c")
-    _check_range(oat, OAT_MIN_C, OAT_MAX_C, "oat_c", "degC", _series_template(oat_c))
+    oat = as_float_array(oat_c, "oat_c")
+    check_range(oat, OAT_MIN_C, OAT_MAX_C, "oat_c", "degC", series_template(oat_c))
     return oat + KELVIN_OFFSET
 
 
@@ -238,7 +143,7 @@ def isa_temperature_k(pressure_alt_ft: Numeric) -> Numeric:
     >>> round(isa_temperature_k(10000.0), 2)
     268.34
     """
-    return _like_input(_isa_temperature_from_m(_altitude_m(pressure_alt_ft)), pressure_alt_ft,
+    return like_input(_isa_temperature_from_m(_altitude_m(pressure_alt_ft)), pressure_alt_ft,
                        name="isa_temperature_k")
 
 
@@ -274,7 +179,7 @@ def static_pressure_pa(pressure_alt_ft: Numeric) -> Numeric:
     >>> round(static_pressure_pa(5000.0))
     84307
     """
-    return _like_input(_static_pressure_from_m(_altitude_m(pressure_alt_ft)), pressure_alt_ft,
+    return like_input(_static_pressure_from_m(_altitude_m(pressure_alt_ft)), pressure_alt_ft,
                        name="static_pressure_pa")
 
 
@@ -306,11 +211,11 @@ def pressure_ratio(pressure_alt_ft: Numeric) -> Numeric:
     0.6877
     """
     delta = _static_pressure_from_m(_altitude_m(pressure_alt_ft)) / P0_PA
-    return _like_input(delta, pressure_alt_ft, name="pressure_ratio")
+    return like_input(delta, pressure_alt_ft, name="pressure_ratio")
 
 
 def _density(pressure_alt_ft: Any, oat_c: Any) -> np.ndarray:
-    _check_shapes(pressure_alt_ft=pressure_alt_ft, oat_c=oat_c)
+    check_shapes(pressure_alt_ft=pressure_alt_ft, oat_c=oat_c)
     h_m = _altitude_m(pressure_alt_ft)
     temperature = _isa_temperature_from_m(h_m) if oat_c is None else _oat_k(oat_c)
     return _static_pressure_from_m(h_m) / (R_AIR_J_PER_KG_K * temperature)
@@ -353,7 +258,7 @@ def density_kgm3(pressure_alt_ft: Numeric, oat_c: Numeric | None = None) -> Nume
     >>> round(density_kgm3(0.0, oat_c=30.0), 4)
     1.1644
     """
-    return _like_input(_density(pressure_alt_ft, oat_c), pressure_alt_ft, oat_c,
+    return like_input(_density(pressure_alt_ft, oat_c), pressure_alt_ft, oat_c,
                        name="density_kgm3")
 
 
@@ -386,7 +291,7 @@ def density_ratio(pressure_alt_ft: Numeric, oat_c: Numeric | None = None) -> Num
     >>> round(density_ratio(5000.0), 4)
     0.8617
     """
-    return _like_input(_density(pressure_alt_ft, oat_c) / RHO0_KGM3, pressure_alt_ft, oat_c,
+    return like_input(_density(pressure_alt_ft, oat_c) / RHO0_KGM3, pressure_alt_ft, oat_c,
                        name="density_ratio")
 
 
@@ -421,10 +326,10 @@ def speed_of_sound_mps(temperature_k: Numeric) -> Numeric:
     >>> round(speed_of_sound_mps(288.15), 3)
     340.294
     """
-    temp = _as_float_array(temperature_k, "temperature_k")
-    _check_range(temp, OAT_MIN_C + KELVIN_OFFSET, OAT_MAX_C + KELVIN_OFFSET, "temperature_k",
-                 "K", _series_template(temperature_k))
-    return _like_input(np.sqrt(GAMMA * R_AIR_J_PER_KG_K * temp), temperature_k,
+    temp = as_float_array(temperature_k, "temperature_k")
+    check_range(temp, OAT_MIN_C + KELVIN_OFFSET, OAT_MAX_C + KELVIN_OFFSET, "temperature_k",
+                 "K", series_template(temperature_k))
+    return like_input(np.sqrt(GAMMA * R_AIR_J_PER_KG_K * temp), temperature_k,
                        name="speed_of_sound_mps")
 
 
@@ -471,10 +376,10 @@ def density_altitude_ft(pressure_alt_ft: Numeric, oat_c: Numeric) -> Numeric:
         troposphere_m = (T0_K / LAPSE_RATE_K_PER_M) * (1.0 - theta)
         stratosphere_m = TROPOPAUSE_M + _SCALE_HEIGHT_M * np.log(_RHO_TROPOPAUSE_KGM3 / rho)
     h_ft = np.where(rho >= _RHO_TROPOPAUSE_KGM3, troposphere_m, stratosphere_m) / FT_TO_M
-    template = _series_template(pressure_alt_ft, oat_c)
-    _check_range(h_ft, -np.inf, ALT_MAX_FT, "density altitude (from pressure_alt_ft, oat_c)",
+    template = series_template(pressure_alt_ft, oat_c)
+    check_range(h_ft, -np.inf, ALT_MAX_FT, "density altitude (from pressure_alt_ft, oat_c)",
                  "ft", template)
-    return _like_input(h_ft, pressure_alt_ft, oat_c, name="density_altitude_ft")
+    return like_input(h_ft, pressure_alt_ft, oat_c, name="density_altitude_ft")
 
 
 def isa_deviation_c(pressure_alt_ft: Numeric, oat_c: Numeric) -> Numeric:
@@ -506,6 +411,6 @@ def isa_deviation_c(pressure_alt_ft: Numeric, oat_c: Numeric) -> Numeric:
     >>> round(isa_deviation_c(0.0, 25.0), 2)
     10.0
     """
-    _check_shapes(pressure_alt_ft=pressure_alt_ft, oat_c=oat_c)
+    check_shapes(pressure_alt_ft=pressure_alt_ft, oat_c=oat_c)
     isa_k = _isa_temperature_from_m(_altitude_m(pressure_alt_ft))
-    return _like_input(_oat_k(oat_c) - isa_k, pressure_alt_ft, oat_c, name="isa_deviation_c")
+    return like_input(_oat_k(oat_c) - isa_k, pressure_alt_ft, oat_c, name="isa_deviation_c")

@@ -20,13 +20,13 @@ from typing import Any, NamedTuple
 import numpy as np
 import pandas as pd
 
-from trimlog.atmosphere import (
+from trimlog.arrays import (
     Numeric,
-    _as_float_array,
-    _check_range,
-    _like_input,
-    _series_template,
-    _where,
+    as_float_array,
+    check_range,
+    like_input,
+    series_template,
+    where,
 )
 from trimlog.errors import TrimlogError
 
@@ -66,14 +66,14 @@ class WeightAndCg(NamedTuple):
 
 
 def _positive(value: Any, name: str, unit: str) -> np.ndarray:
-    values = _as_float_array(value, name)
-    _check_range(values, 0.0, np.inf, name, unit, _series_template(value), low_inclusive=False)
+    values = as_float_array(value, name)
+    check_range(values, 0.0, np.inf, name, unit, series_template(value), low_inclusive=False)
     return values
 
 
 def _finite(value: Any, name: str, unit: str) -> np.ndarray:
-    values = _as_float_array(value, name)
-    _check_range(values, -np.inf, np.inf, name, unit, _series_template(value))
+    values = as_float_array(value, name)
+    check_range(values, -np.inf, np.inf, name, unit, series_template(value))
     return values
 
 
@@ -115,7 +115,7 @@ def station_to_pct_mac(station_in: Numeric, lemac_in: float, mac_in: float) -> N
     mac = _positive(mac_in, "mac_in", "in")
     lemac = _finite(lemac_in, "lemac_in", "in")
     station = _finite(station_in, "station_in", "in")
-    return _like_input(100.0 * (station - lemac) / mac, station_in, name="cg_pct_mac")
+    return like_input(100.0 * (station - lemac) / mac, station_in, name="cg_pct_mac")
 
 
 def pct_mac_to_station(pct_mac: Numeric, lemac_in: float, mac_in: float) -> Numeric:
@@ -156,7 +156,7 @@ def pct_mac_to_station(pct_mac: Numeric, lemac_in: float, mac_in: float) -> Nume
     mac = _positive(mac_in, "mac_in", "in")
     lemac = _finite(lemac_in, "lemac_in", "in")
     pct = _finite(pct_mac, "pct_mac", "%MAC")
-    return _like_input(lemac + pct / 100.0 * mac, pct_mac, name="cg_in")
+    return like_input(lemac + pct / 100.0 * mac, pct_mac, name="cg_in")
 
 
 def _items_arrays(items: Any) -> tuple[np.ndarray, np.ndarray]:
@@ -167,8 +167,8 @@ def _items_arrays(items: Any) -> tuple[np.ndarray, np.ndarray]:
                 f"loading items: expected columns 'weight_lb' and 'arm_in', missing "
                 f"{', '.join(repr(c) for c in missing)} (found {list(map(str, items.columns))})"
             )
-        weights = _as_float_array(items["weight_lb"], "weight_lb")
-        arms = _as_float_array(items["arm_in"], "arm_in")
+        weights = as_float_array(items["weight_lb"], "weight_lb")
+        arms = as_float_array(items["arm_in"], "arm_in")
         labels = list(items.index)
     else:
         if not isinstance(items, Iterable):
@@ -182,8 +182,8 @@ def _items_arrays(items: Any) -> tuple[np.ndarray, np.ndarray]:
                 raise TrimlogError(
                     f"loading item {number}: expected a (weight_lb, arm_in) pair, found {pair!r}"
                 )
-        weights = _as_float_array([p[0] for p in pairs], "weight_lb")
-        arms = _as_float_array([p[1] for p in pairs], "arm_in")
+        weights = as_float_array([p[0] for p in pairs], "weight_lb")
+        arms = as_float_array([p[1] for p in pairs], "arm_in")
         labels = list(range(1, len(pairs) + 1))
     if weights.size == 0:
         raise TrimlogError(
@@ -294,14 +294,14 @@ def cg_through_flight(
     zf_cg = _finite(zero_fuel_cg_in, "zero_fuel_cg_in", "in")
     density = _positive(fuel_density_lb_per_gal, "fuel_density_lb_per_gal", "lb/gal")
     arm = _finite(fuel_arm_in, "fuel_arm_in", "in")
-    fuel = _as_float_array(fuel_gal, "fuel_gal")
-    _check_range(fuel, 0.0, np.inf, "fuel_gal", "gal", _series_template(fuel_gal))
+    fuel = as_float_array(fuel_gal, "fuel_gal")
+    check_range(fuel, 0.0, np.inf, "fuel_gal", "gal", series_template(fuel_gal))
     fuel_weight = fuel * density
     weight = zfw + fuel_weight
     moment = zfw * zf_cg + fuel_weight * arm
     return WeightAndCg(
-        weight_lb=_like_input(weight, fuel_gal, name="weight_lb"),
-        cg_in=_like_input(moment / weight, fuel_gal, name="cg_in"),
+        weight_lb=like_input(weight, fuel_gal, name="weight_lb"),
+        cg_in=like_input(moment / weight, fuel_gal, name="cg_in"),
     )
 
 
@@ -355,8 +355,8 @@ def zero_fuel_loading(
     cg = float(_finite(takeoff_cg_in, "takeoff_cg_in", "in"))
     density = float(_positive(fuel_density_lb_per_gal, "fuel_density_lb_per_gal", "lb/gal"))
     arm = float(_finite(fuel_arm_in, "fuel_arm_in", "in"))
-    fuel = _as_float_array(fuel_gal, "fuel_gal")
-    _check_range(fuel, 0.0, np.inf, "fuel_gal", "gal")
+    fuel = as_float_array(fuel_gal, "fuel_gal")
+    check_range(fuel, 0.0, np.inf, "fuel_gal", "gal")
     fuel_weight = float(fuel) * density
     zfw = weight - fuel_weight
     if zfw <= 0.0:
@@ -405,9 +405,9 @@ def fuel_from_flow(time_s: Numeric, fuel_flow_gph: Numeric, start_fuel_gal: floa
     >>> fuel_from_flow([0.0, 1800.0, 3600.0], [8.0, 8.0, 8.0], 20.0).tolist()
     [20.0, 16.0, 12.0]
     """
-    template = _series_template(time_s, fuel_flow_gph)
-    time = np.ravel(_as_float_array(time_s, "time_s"))
-    flow = np.ravel(_as_float_array(fuel_flow_gph, "fuel_flow_gph"))
+    template = series_template(time_s, fuel_flow_gph)
+    time = np.ravel(as_float_array(time_s, "time_s"))
+    flow = np.ravel(as_float_array(fuel_flow_gph, "fuel_flow_gph"))
     if time.size != flow.size:
         raise TrimlogError(
             f"fuel_flow_gph: expected one value per time sample, found {flow.size} values "
@@ -415,25 +415,25 @@ def fuel_from_flow(time_s: Numeric, fuel_flow_gph: Numeric, start_fuel_gal: floa
         )
     if time.size == 0:
         raise TrimlogError("time_s: expected at least one sample, found none")
-    start = float(_as_float_array(start_fuel_gal, "start_fuel_gal"))
-    _check_range(np.array(start), 0.0, np.inf, "start_fuel_gal", "gal")
+    start = float(as_float_array(start_fuel_gal, "start_fuel_gal"))
+    check_range(np.array(start), 0.0, np.inf, "start_fuel_gal", "gal")
     for name, values in (("time_s", time), ("fuel_flow_gph", flow)):
         missing = np.isnan(values)
         if missing.any():
             row = int(np.flatnonzero(missing)[0])
             raise TrimlogError(
                 f"{name}: expected a number at every sample, found a missing value"
-                f"{_where(row, values.size, template)} ({int(missing.sum())} missing); "
+                f"{where(row, values.size, template)} ({int(missing.sum())} missing); "
                 "fuel cannot be integrated across a gap"
             )
-    _check_range(time, -np.inf, np.inf, "time_s", "s", template)
-    _check_range(flow, 0.0, np.inf, "fuel_flow_gph", "gal/h", template)
+    check_range(time, -np.inf, np.inf, "time_s", "s", template)
+    check_range(flow, 0.0, np.inf, "fuel_flow_gph", "gal/h", template)
     steps = np.diff(time)
     if (steps < 0.0).any():
         row = int(np.flatnonzero(steps < 0.0)[0]) + 1
         raise TrimlogError(
             f"time_s: expected times that do not go backwards, found {time[row]:g} s after "
-            f"{time[row - 1]:g} s{_where(row, time.size, template)}"
+            f"{time[row - 1]:g} s{where(row, time.size, template)}"
         )
     burnt = np.concatenate(([0.0], np.cumsum(0.5 * (flow[1:] + flow[:-1]) * steps / 3600.0)))
     fuel = start - burnt
@@ -443,7 +443,7 @@ def fuel_from_flow(time_s: Numeric, fuel_flow_gph: Numeric, start_fuel_gal: floa
         row = int(np.flatnonzero(empty)[0])
         raise TrimlogError(
             f"fuel_flow_gph: the fuel on board would fall below zero at t = {time[row]:g} s"
-            f"{_where(row, time.size, template)} ({fuel[row]:.3g} gal from a start of "
+            f"{where(row, time.size, template)} ({fuel[row]:.3g} gal from a start of "
             f"{start:g} gal); check start_fuel_gal and the fuel-flow unit"
         )
     fuel = np.maximum(fuel, 0.0)
