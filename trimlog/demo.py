@@ -1,0 +1,858 @@
+"""The invented demo aircraft and the generator of its flights.
+
+The demo is a test programme on an invented two-seat light aircraft, the
+*Tinkerfinch TF-2* (tail mark ``DEMO-1``; no such aircraft exists).  Five
+flights move the CG aft in steps and then re-fly one CG after a stabilizer
+incidence shim:
+
+====== ============ ========= ================================================
+flight kind         CG (%MAC) what it shows
+====== ============ ========= ================================================
+1      point table  ~16       forward CG, eight hand-typed points 60-130 KIAS
+2      time series  ~22       first logged flight, 10 Hz
+3      time series  ~27       20 Hz
+4      time series  ~30       most aft CG flown, 10 Hz
+5      time series  ~27       after a -0.6 deg (leading-edge down) shim, 10 Hz
+====== ============ ========= ================================================
+
+Every number in the files comes from the model below with the values of
+:data:`DEMO_TRUTH`, so an analysis of the files can be checked against the
+truth.  :func:`write_demo` writes the same bytes for the same seed.
+
+Truth model
+-----------
+*Stick-fixed trim.*  The pitching moment about the CG,
+``Cm = Cm0 + (h - hn)·CL + Cmδ·(δe + Δi_t/τ)``, is zero at trim, so
+
+``δe_trim = -[Cm0 + (h - hn)·CL] / Cmδ - Δi_t/τ``
+
+with δe trailing-edge down positive, Δi_t the stabilizer incidence relative
+to the original rigging (leading-edge up positive), ``h`` the CG and ``hn``
+the stick-fixed neutral point as fractions of the MAC.  Hence
+``dδe/dCL = (hn - h)/Cmδ`` and an incidence change moves every trim line by
+``-Δi_t/τ`` [1]_ [2]_.
+
+*Stick force* (pull positive).  ``Fs/q = A + K·(hn' - h)·CL``, so
+``d(Fs/q)/dCL = K·(hn' - h)`` is positive forward of the stick-free neutral
+point ``hn'`` (stable: a pull is needed to fly slower than trim) [1]_ [3]_.
+``A`` is the trim-tab term: the pilot sets the tab once per flight so that
+``Fs = 0`` at that flight's trim speed and leaves it there.
+
+*Flight condition.*  ``CL = n·W/(q·S)`` with ``q`` from EAS; EAS from CAS
+through the compressible relations of :mod:`trimlog.airspeed` at the pressure
+altitude; IAS from CAS through the inverse of the profile's position-error
+table.  ``n = cos γ / cos φ`` (climb angle γ, bank angle φ).  Weight and CG
+follow the fuel burnt, at the profile's fuel arm and density.  Thrust,
+pitch-rate damping in turns and the tab's own pitching moment are left out:
+the model is a clean oracle, not a simulation.
+
+*Measurement.*  Light turbulence as first-order autoregressive noise
+(smooth morning air: airspeed 0.3 kt, load factor 0.02 g, the pilot's
+elevator 0.12 deg and force 0.3 lbf), white sensor noise, the logger's resolution, about one
+single-sample spike per minute in airspeed, elevator and force, and short
+dropouts (empty cells) in every channel.  The point table is rounded as a
+pilot types it (1 kt, 10 ft, 1 degC, 0.1 deg, 0.5 lbf, 1 lb, 0.1 in).
+
+Reproducibility: each flight draws from ``numpy.random.default_rng([seed,
+flight])`` and every value is written through a fixed format.
+
+References
+----------
+.. [1] B. Etkin and L. D. Reid, *Dynamics of Flight: Stability and Control*,
+   3rd ed., Wiley, 1996, ch. 2 (static longitudinal stability, elevator angle
+   to trim, stick-free stability and control force).
+.. [2] R. C. Nelson, *Flight Stability and Automatic Control*, 2nd ed.,
+   McGraw-Hill, 1998, ch. 2 (elevator angle to trim, stick-fixed and
+   stick-free neutral points).
+.. [3] USAF Test Pilot School, *Flying Qualities Textbook*, vol. II part 1,
+   1988 (DTIC ADA319976), ch. 5: the stabilized-trim method, Fs/q against CL.
+.. [4] W. Gracey, *Measurement of Aircraft Speed and Altitude*, NASA RP-1046,
+   1980 (position error; CAS, EAS).
+"""
+
+from __future__ import annotations
+
+import argparse
+import math
+import sys
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from trimlog import airspeed, atmosphere
+from trimlog.profile import AircraftProfile, parse_profile
+
+#: The seed of the files in ``sample_logs/``.
+DEFAULT_SEED = 20260
+
+PROFILE_FILE = "tinkerfinch_tf2.toml"
+
+PROFILE_TOML = """\
+# Aircraft profile of the INVENTED demo aircraft of trimlog.  No such aircraft
+# exists; every value was made up to give a plausible two-seat light aircraft.
+[aircraft]
+name = "Tinkerfinch TF-2 DEMO-1 (invented demo aircraft)"
+wing_area = "120 ft^2"
+mac = "53 in"
+lemac = "58 in"
+wing_span = "27 ft"
+clmax_clean = 1.5
+clmax_landing = 1.95
+
+[tail]
+elevator_chord_ratio = 0.30   # tau is left to estimation and to flight calibration
+stabilizer_attach_spacing = "14 in"
+elevator_up_stop = "25 deg"
+elevator_down_stop = "15 deg"
+current_incidence = "-1.0 deg"  # as originally rigged (flights 1-4)
+horizontal_area = "24 ft^2"
+horizontal_span = "8.5 ft"
+horizontal_arm = "168 in"
+vertical_area = "10 ft^2"
+vertical_height = "4 ft"
+vertical_arm = "175 in"
+
+[limits]
+cg_forward = "65.5 in"
+cg_aft = "74.5 in"
+max_weight = "1650 lb"
+min_static_margin = 5.0
+cg_step_max = 3.0
+elevator_reserve = "3 deg"
+
+[cruise]
+cas = "110 kt"
+pressure_altitude = "5500 ft"
+weight = "1550 lb"
+cg = "70.5 in"
+
+[fuel]
+arm = "62 in"
+density = "6.0 lb/gal"
+
+[airspeed_calibration]
+ias = [50, 60, 70, 80, 90, 100, 110, 120, 130, 140]
+cas = [53.5, 62.0, 71.0, 80.5, 90.0, 99.5, 109.0, 118.5, 128.0, 137.5]
+unit = "kt"
+
+[logger]
+# The demo logger's own channel names; it records the elevator trailing-edge
+# UP positive and the stick force in newtons.
+columns = { "ELEV_POS" = "elevator_deg", "FSTK" = "stick_force_N" }
+inverted = ["elevator_deg"]
+"""
+
+KT_TO_MPH = 1852.0 / 1609.344
+LBF_TO_N = 4.4482216152605
+FT_PER_NM = 1852.0 / 0.3048
+
+
+@dataclass(frozen=True)
+class Segment:
+    """One piece of a flight's programme.
+
+    Parameters
+    ----------
+    kind : {"move", "hold", "turn"}
+        ``move``: change speed and vertical speed smoothly (a transition);
+        ``hold``: a stabilized point (level, or an off-trim climb or descent
+        at fixed power when ``vs_fpm`` is not zero); ``turn``: a level turn at
+        constant speed.
+    duration_s : float
+        Duration [s] (for a point table: time to the next point).
+    ias_kt : float
+        Indicated airspeed at the end of the segment [kt].
+    vs_fpm : float
+        Vertical speed at the end of the segment [ft/min].
+    bank_deg : float
+        Bank angle of a turn [deg].
+    alt_ft : float or None
+        Pressure altitude of a point-table hold [ft]; None: the altitude
+        follows the vertical speed from the start of the test block.
+    """
+
+    kind: str
+    duration_s: float
+    ias_kt: float
+    vs_fpm: float = 0.0
+    bank_deg: float = 0.0
+    alt_ft: float | None = None
+
+
+@dataclass(frozen=True)
+class DemoFlight:
+    """The plan and loading of one demo flight (all of it truth).
+
+    Parameters
+    ----------
+    number : int
+        Flight number, 1-based.
+    kind : {"point_table", "time_series"}
+        What the file is.
+    log_file : str
+        File name of the log or point table.
+    loading_file : str or None
+        File name of the loading sheet (time series only).
+    takeoff_weight_lb, takeoff_cg_in, takeoff_fuel_gal : float
+        Loading at takeoff [lb], [in aft of datum], [US gal].
+    stab_setting : str
+        Label of the stabilizer incidence setting.
+    stab_incidence_deg : float
+        Stabilizer incidence flown [deg], leading-edge up positive.
+    trim_ias_kt : float
+        Speed at which the trim tab was set for zero stick force [kt IAS].
+    sample_rate_hz : float or None
+        Logging rate of a time series [Hz].
+    segments : tuple of Segment
+        The programme flown, in order.
+    """
+
+    number: int
+    kind: str
+    log_file: str
+    loading_file: str | None
+    takeoff_weight_lb: float
+    takeoff_cg_in: float
+    takeoff_fuel_gal: float
+    stab_setting: str
+    stab_incidence_deg: float
+    trim_ias_kt: float
+    sample_rate_hz: float | None
+    segments: tuple[Segment, ...]
+
+    @property
+    def n_points(self) -> int:
+        """Stabilized 1-g points in the flight: the holds (turns are not points)."""
+        return sum(s.kind == "hold" for s in self.segments)
+
+    @property
+    def n_turns(self) -> int:
+        """Level turns flown (nz away from 1, never a point)."""
+        return sum(s.kind == "turn" for s in self.segments)
+
+    @property
+    def takeoff_cg_pct_mac(self) -> float:
+        """Takeoff CG [%MAC]."""
+        return DEMO_PROFILE.pct_mac(self.takeoff_cg_in)
+
+
+def _logged_programme(trim: float) -> tuple[Segment, ...]:
+    """Return the programme of a logged flight trimmed at ``trim`` KIAS.
+
+    Holds of 20-30 s joined by brisk speed changes (about 1 kt/s at most,
+    so that no transition is steady for the 10 s a point needs), an off-trim
+    climb and an off-trim descent at fixed power, and three level turns at
+    30-40 deg bank (about 1.15-1.3 g), which are never points.
+    """
+    m, h, t = "move", "hold", "turn"
+    return (
+        Segment(m, 15, trim),
+        Segment(h, 30, trim),
+        Segment(m, 12, trim - 5),
+        Segment(h, 30, trim - 5),
+        Segment(m, 12, trim - 10),
+        Segment(h, 25, trim - 10),
+        Segment(m, 12, trim - 15),
+        Segment(h, 30, trim - 15),
+        Segment(m, 12, trim - 20),
+        Segment(h, 25, trim - 20),
+        Segment(m, 18, trim - 28),
+        Segment(h, 25, trim - 28),
+        Segment(m, 35, trim),
+        Segment(t, 70, trim, bank_deg=30.0),
+        Segment(h, 30, trim),
+        Segment(m, 18, trim + 10),
+        Segment(h, 25, trim + 10),
+        Segment(m, 18, trim + 20),
+        Segment(h, 25, trim + 20),
+        Segment(t, 70, trim + 20, bank_deg=35.0),
+        Segment(m, 18, trim + 30),
+        Segment(h, 20, trim + 30),
+        Segment(m, 40, trim - 15, vs_fpm=450.0),
+        Segment(h, 30, trim - 15, vs_fpm=450.0),
+        Segment(m, 35, trim + 15, vs_fpm=-550.0),
+        Segment(h, 30, trim + 15, vs_fpm=-550.0),
+        Segment(m, 25, trim),
+        Segment(t, 60, trim, bank_deg=40.0),
+        Segment(h, 30, trim),
+        Segment(t, 45, trim, bank_deg=30.0),
+        Segment(m, 20, trim + 12),
+    )
+
+
+def _point_programme() -> tuple[Segment, ...]:
+    """Eight points of a hand-flown card, each at its own altitude, 4 min apart."""
+    speeds = (100, 90, 80, 70, 60, 110, 120, 130)
+    altitudes = (5500, 5450, 5600, 5700, 5650, 5400, 5300, 5200)
+    return tuple(
+        Segment("hold", 240.0, float(v), alt_ft=float(a)) for v, a in zip(speeds, altitudes,
+                                                                          strict=True)
+    )
+
+
+DEMO_PROFILE: AircraftProfile = parse_profile(PROFILE_TOML, source=PROFILE_FILE)
+
+_RIGGED_DEG = -1.0
+_SHIM_DEG = -0.6
+
+DEMO_FLIGHTS: tuple[DemoFlight, ...] = (
+    DemoFlight(1, "point_table", "flight1_points.csv", None, 1620.0, 66.5, 24.0,
+               "as rigged", _RIGGED_DEG, 100.0, None, _point_programme()),
+    DemoFlight(2, "time_series", "flight2.csv", "flight2.loading.toml", 1585.0, 69.7, 24.0,
+               "as rigged", _RIGGED_DEG, 100.0, 10.0, _logged_programme(100.0)),
+    DemoFlight(3, "time_series", "flight3.csv", "flight3.loading.toml", 1565.0, 72.3, 22.0,
+               "as rigged", _RIGGED_DEG, 95.0, 20.0, _logged_programme(95.0)),
+    DemoFlight(4, "time_series", "flight4.csv", "flight4.loading.toml", 1550.0, 73.9, 22.0,
+               "as rigged", _RIGGED_DEG, 95.0, 10.0, _logged_programme(95.0)),
+    DemoFlight(5, "time_series", "flight5.csv", "flight5.loading.toml", 1570.0, 72.3, 24.0,
+               "shim 0.6 deg LE down", _RIGGED_DEG + _SHIM_DEG, 95.0, 10.0,
+               _logged_programme(95.0)),
+)
+
+
+@dataclass(frozen=True)
+class DemoTruth:
+    """The true aerodynamics of the demo aircraft and the flights flown.
+
+    Parameters
+    ----------
+    cm0 : float
+        Pitching moment coefficient at CL = 0, δe = 0, original rigging [-].
+    neutral_point_fixed : float
+        Stick-fixed neutral point hn [fraction of MAC].
+    neutral_point_free : float
+        Stick-free neutral point hn' [fraction of MAC].
+    cm_delta_per_rad : float
+        Elevator power Cmδ [1/rad] (negative).
+    tau : float
+        Elevator effectiveness τ = dα_t/dδe [-].
+    force_gain_ft2 : float
+        K of ``Fs/q = A + K·(hn' - h)·CL`` [ft^2].
+    rigged_incidence_deg : float
+        Stabilizer incidence as originally rigged [deg], leading-edge up positive.
+    isa_deviation_c : float
+        Temperature of the day relative to ISA [degC].
+    burn_gph : float
+        Fuel flow during the test points [US gal/h].
+    test_altitude_ft : float
+        Pressure altitude of the test block [ft].
+    flights : tuple of DemoFlight
+        The five flights.
+    """
+
+    cm0: float
+    neutral_point_fixed: float
+    neutral_point_free: float
+    cm_delta_per_rad: float
+    tau: float
+    force_gain_ft2: float
+    rigged_incidence_deg: float
+    isa_deviation_c: float
+    burn_gph: float
+    test_altitude_ft: float
+    flights: tuple[DemoFlight, ...]
+
+    def elevator_deg(self, cl: float | np.ndarray, h: float | np.ndarray,
+                     stab_incidence_deg: float) -> float | np.ndarray:
+        """Elevator angle to trim, stick fixed.
+
+        Parameters
+        ----------
+        cl : float or array
+            Lift coefficient [-].
+        h : float or array
+            CG [fraction of MAC].
+        stab_incidence_deg : float
+            Stabilizer incidence flown [deg], leading-edge up positive.
+
+        Returns
+        -------
+        float or array
+            δe [deg], trailing-edge down positive.
+
+        Notes
+        -----
+        δe = -[Cm0 + (h - hn)·CL]/Cmδ - Δi_t/τ, Δi_t from the original rigging.
+
+        References
+        ----------
+        Etkin and Reid (1996), ch. 2; Nelson (1998), ch. 2.
+        """
+        delta_it = math.radians(stab_incidence_deg - self.rigged_incidence_deg)
+        rad = (-(self.cm0 + (h - self.neutral_point_fixed) * cl) / self.cm_delta_per_rad
+               - delta_it / self.tau)
+        return np.degrees(rad)
+
+    def tab_term_ft2(self, cl_trim: float, h: float) -> float:
+        """Trim-tab term A [ft^2] that makes Fs = 0 at ``cl_trim`` and CG ``h``."""
+        return -self.force_gain_ft2 * (self.neutral_point_free - h) * cl_trim
+
+    def stick_force_lbf(self, q_psf: float | np.ndarray, cl: float | np.ndarray,
+                        h: float | np.ndarray, tab_term_ft2: float) -> float | np.ndarray:
+        """Stick force, pull positive.
+
+        Parameters
+        ----------
+        q_psf : float or array
+            Dynamic pressure [lbf/ft^2].
+        cl : float or array
+            Lift coefficient [-].
+        h : float or array
+            CG [fraction of MAC].
+        tab_term_ft2 : float
+            The flight's trim-tab term A [ft^2] (:meth:`tab_term_ft2`).
+
+        Returns
+        -------
+        float or array
+            Fs [lbf].
+
+        References
+        ----------
+        Etkin and Reid (1996), ch. 2; USAF TPS Flying Qualities Textbook, ch. 5.
+        """
+        return q_psf * (tab_term_ft2 + self.force_gain_ft2 * (self.neutral_point_free - h) * cl)
+
+    @property
+    def cruise_cl(self) -> float:
+        """CL at the profile's cruise condition [-]."""
+        p = DEMO_PROFILE
+        eas = airspeed.cas_to_eas(p.cruise_cas_kt, p.cruise_pressure_alt_ft)
+        return airspeed.lift_coefficient(p.cruise_weight_lb, eas, p.wing_area_ft2)
+
+    @property
+    def cruise_h(self) -> float:
+        """CG of the cruise condition [fraction of MAC]."""
+        return DEMO_PROFILE.pct_mac(DEMO_PROFILE.cruise_cg_in) / 100.0
+
+    def cruise_elevator_deg(self, stab_incidence_deg: float) -> float:
+        """Elevator at the cruise condition with a given incidence [deg]."""
+        return float(self.elevator_deg(self.cruise_cl, self.cruise_h, stab_incidence_deg))
+
+    def incidence_change_deg(self, stab_incidence_deg: float) -> float:
+        """Change from ``stab_incidence_deg`` that makes the cruise elevator zero [deg]."""
+        return self.tau * self.cruise_elevator_deg(stab_incidence_deg)
+
+    def shim_in(self, stab_incidence_deg: float) -> float:
+        """Shim under one attach pair for :meth:`incidence_change_deg` [in]."""
+        change = math.radians(abs(self.incidence_change_deg(stab_incidence_deg)))
+        return DEMO_PROFILE.stabilizer_attach_spacing_in * math.tan(change)
+
+
+DEMO_TRUTH = DemoTruth(
+    cm0=0.004,
+    neutral_point_fixed=0.38,
+    neutral_point_free=0.34,
+    cm_delta_per_rad=-1.0,
+    tau=0.45,
+    force_gain_ft2=7.0,
+    rigged_incidence_deg=_RIGGED_DEG,
+    isa_deviation_c=7.0,
+    burn_gph=8.0,
+    test_altitude_ft=5500.0,
+    flights=DEMO_FLIGHTS,
+)
+
+#: Fuel used from engine start to the start of the test block [US gal].
+_CLIMB_FUEL_GAL = 1.5
+#: Duration of the roll into and out of a turn [s].
+_ROLL_S = 5.0
+_KT_TO_FPS = 1852.0 / 0.3048 / 3600.0
+
+
+def _programme(flight: DemoFlight, dt: float) -> dict[str, np.ndarray]:
+    """Commanded IAS, vertical speed, bank, altitude and segment index, per sample."""
+    ias0, vs0 = flight.trim_ias_kt + 12.0, 0.0
+    parts: dict[str, list[np.ndarray]] = {"ias": [], "vs": [], "bank": [], "seg": [], "alt": []}
+    for k, seg in enumerate(flight.segments):
+        n = int(round(seg.duration_s / dt))
+        u = np.arange(1, n + 1) / n
+        ramp = 0.5 * (1.0 - np.cos(np.pi * u)) if seg.kind == "move" else np.ones(n)
+        ias = ias0 + (seg.ias_kt - ias0) * ramp
+        vs = vs0 + (seg.vs_fpm - vs0) * ramp
+        bank = np.zeros(n)
+        if seg.kind == "turn":
+            edge = np.minimum(u, 1.0 - u + 1.0 / n) * seg.duration_s
+            bank = seg.bank_deg * np.clip(edge / _ROLL_S, 0.0, 1.0)
+        parts["ias"].append(ias)
+        parts["vs"].append(vs)
+        parts["bank"].append(bank)
+        parts["seg"].append(np.full(n, k))
+        parts["alt"].append(np.full(n, np.nan if seg.alt_ft is None else seg.alt_ft))
+        ias0, vs0 = float(ias[-1]), float(vs[-1])
+    out = {key: np.concatenate(value) for key, value in parts.items()}
+    out["t"] = dt * np.arange(out["ias"].size)
+    climbed = DEMO_TRUTH.test_altitude_ft + np.cumsum(out["vs"] / 60.0 * dt)
+    out["alt"] = np.where(np.isnan(out["alt"]), climbed, out["alt"])
+    return out
+
+
+def _smooth_state(flight: DemoFlight, dt: float, truth: DemoTruth) -> dict[str, np.ndarray]:
+    """Compute the noise-free flight: programme, loading, and the model's δe and Fs."""
+    p = DEMO_PROFILE
+    s = _programme(flight, dt)
+    s["oat"] = atmosphere.isa_temperature_k(s["alt"]) - atmosphere.KELVIN_OFFSET + (
+        truth.isa_deviation_c
+    )
+    s["fuel"] = flight.takeoff_fuel_gal - _CLIMB_FUEL_GAL - truth.burn_gph * s["t"] / 3600.0
+    fuel_lb = p.fuel_density_lb_per_gal * flight.takeoff_fuel_gal
+    zero_fuel_lb = flight.takeoff_weight_lb - fuel_lb
+    zero_fuel_moment = flight.takeoff_weight_lb * flight.takeoff_cg_in - fuel_lb * p.fuel_arm_in
+    fuel_now_lb = p.fuel_density_lb_per_gal * s["fuel"]
+    s["weight"] = zero_fuel_lb + fuel_now_lb
+    s["cg"] = (zero_fuel_moment + fuel_now_lb * p.fuel_arm_in) / s["weight"]
+    s["h"] = (s["cg"] - p.lemac_in) / p.mac_in
+    s["cas"] = airspeed.ias_to_cas(
+        s["ias"], p.position_error_ias_kt, p.position_error_cas_kt
+    ).cas_kt
+    s["eas"] = airspeed.cas_to_eas(s["cas"], s["alt"])
+    tas = airspeed.eas_to_tas(s["eas"], s["alt"], s["oat"])
+    gamma = np.arcsin(s["vs"] / 60.0 / (tas * _KT_TO_FPS))
+    s["nz"] = np.cos(gamma) / np.cos(np.radians(s["bank"]))
+    s["q"] = airspeed.dynamic_pressure_psf(s["eas"])
+    s["cl"] = airspeed.lift_coefficient(s["weight"], s["eas"], p.wing_area_ft2, s["nz"])
+    s["elevator"] = truth.elevator_deg(s["cl"], s["h"], flight.stab_incidence_deg)
+    trim_hold = next(
+        k for k, seg in enumerate(flight.segments)
+        if seg.kind == "hold" and seg.ias_kt == flight.trim_ias_kt and seg.vs_fpm == 0.0
+    )
+    in_trim = s["seg"] == trim_hold
+    tab = truth.tab_term_ft2(float(s["cl"][in_trim].mean()), float(s["h"][in_trim].mean()))
+    s["force"] = truth.stick_force_lbf(s["q"], s["cl"], s["h"], tab)
+    return s
+
+
+def _sample_interval(flight: DemoFlight) -> float:
+    return 1.0 / flight.sample_rate_hz if flight.sample_rate_hz else 1.0
+
+
+def truth_points(flight: DemoFlight, truth: DemoTruth | None = None) -> pd.DataFrame:
+    """Return the noise-free stabilized points of a demo flight (the oracle for tests).
+
+    Parameters
+    ----------
+    flight : DemoFlight
+        One of ``DEMO_TRUTH.flights``.
+    truth : DemoTruth, optional
+        The model values (default :data:`DEMO_TRUTH`).
+
+    Returns
+    -------
+    pandas.DataFrame
+        One row per hold, in flight order: ``point`` (1-based), ``t_start_s``,
+        ``t_end_s`` (time in the log; point tables: minutes of the card times
+        60), and the means over the hold of ``ias_kt``, ``cas_kt``,
+        ``eas_kt``, ``pressure_alt_ft``, ``oat_c``, ``vs_fpm``, ``nz_g``,
+        ``fuel_gal``, ``weight_lb``, ``cg_in``, ``h``, ``cl``, ``q_psf``,
+        ``elevator_deg`` (trailing-edge down positive) and
+        ``stick_force_lbf`` (pull positive), plus ``stab_incidence_deg``.
+    """
+    truth = truth or DEMO_TRUTH
+    dt = _sample_interval(flight)
+    s = _smooth_state(flight, dt, truth)
+    names = {"ias": "ias_kt", "cas": "cas_kt", "eas": "eas_kt", "alt": "pressure_alt_ft",
+             "oat": "oat_c", "vs": "vs_fpm", "nz": "nz_g", "fuel": "fuel_gal",
+             "weight": "weight_lb", "cg": "cg_in", "h": "h", "cl": "cl", "q": "q_psf",
+             "elevator": "elevator_deg", "force": "stick_force_lbf"}
+    rows = []
+    holds = [k for k, seg in enumerate(flight.segments) if seg.kind == "hold"]
+    for number, k in enumerate(holds, start=1):
+        mask = s["seg"] == k
+        row = {"flight": str(flight.number), "point": number,
+               "t_start_s": float(s["t"][mask][0]), "t_end_s": float(s["t"][mask][-1])}
+        row.update({out: float(s[key][mask].mean()) for key, out in names.items()})
+        row["stab_incidence_deg"] = flight.stab_incidence_deg
+        rows.append(row)
+    return pd.DataFrame(rows)
+
+
+# ------------------------------------------------------------------ noise and files
+
+
+def _ar1(rng: np.random.Generator, n: int, sigma: float, tc_s: float, dt: float) -> np.ndarray:
+    """Stationary first-order autoregressive noise: std ``sigma``, time constant ``tc_s``."""
+    phi = math.exp(-dt / tc_s)
+    shocks = (rng.standard_normal(n) * sigma * math.sqrt(1.0 - phi * phi)).tolist()
+    x = sigma * float(rng.standard_normal())
+    out = [0.0] * n
+    for i, shock in enumerate(shocks):
+        x = phi * x + shock
+        out[i] = x
+    return np.array(out)
+
+
+def _spikes(rng: np.random.Generator, values: np.ndarray, per_s: float, dt: float,
+            low: float, high: float) -> None:
+    """Add single-sample spikes of random sign and size ``low..high`` (in place)."""
+    n = int(rng.poisson(per_s * values.size * dt))
+    where = rng.choice(values.size, size=n, replace=False)
+    values[where] += rng.choice([-1.0, 1.0], size=n) * rng.uniform(low, high, size=n)
+
+
+def _dropouts(rng: np.random.Generator, values: np.ndarray, per_s: float, dt: float) -> None:
+    """Blank short runs of 1-5 samples (in place), as a logger that missed a reading."""
+    n = int(rng.poisson(per_s * values.size * dt))
+    for start, length in zip(rng.integers(0, values.size, size=n),
+                             rng.integers(1, 6, size=n), strict=True):
+        values[start:start + length] = np.nan
+
+
+def _cells(values: np.ndarray, decimals: int, step: float | None = None) -> list[str]:
+    """Format a column at a fixed resolution; NaN becomes an empty cell."""
+    rounded = np.round(values / step) * step if step else values
+    rounded = np.round(rounded, decimals) + 0.0  # + 0.0 turns -0.0 into 0.0
+    return ["" if v != v else f"{v:.{decimals}f}" for v in rounded.tolist()]
+
+
+def _table(header: list[str], columns: list[list[str]], preamble: list[str]) -> str:
+    lines = [*preamble, ",".join(header)]
+    lines.extend(",".join(row) for row in zip(*columns, strict=True))
+    return "\n".join(lines) + "\n"
+
+
+def _point_table_csv(flight: DemoFlight, rng: np.random.Generator) -> str:
+    """Write the hand-typed card of a point-table flight, rounded as a pilot types it."""
+    pts = truth_points(flight)
+    n = len(pts)
+
+    def read(column: str, sigma: float) -> np.ndarray:
+        return pts[column].to_numpy() + sigma * rng.standard_normal(n)
+
+    columns = [
+        [f"TP{k}" for k in pts["point"]],
+        _cells(read("ias_kt", 0.3), 0, 1.0),
+        _cells(read("pressure_alt_ft", 8.0), 0, 10.0),
+        _cells(read("oat_c", 0.4), 0, 1.0),
+        _cells(-read("elevator_deg", 0.15), 1),
+        _cells(read("stick_force_lbf", 0.4), 1, 0.5),
+        _cells(read("weight_lb", 2.0), 0, 1.0),
+        _cells(read("cg_in", 0.04), 1),
+    ]
+    # The elevator is typed as the panel indicator shows it: the logger's channel,
+    # trailing-edge up positive, under the logger's name (see the profile's [logger]).
+    header = ["test_point", "ias_kt", "pressure_alt_ft", "oat_c", "ELEV_POS",
+              "stick_force_lbf", "weight_lb", "cg_in"]
+    preamble = [f"Tinkerfinch TF-2 DEMO-1 (invented demo aircraft): flight {flight.number}, "
+                f"forward CG, typed from the knee-board card"]
+    return _table(header, columns, preamble)
+
+
+def _time_series_csv(flight: DemoFlight, rng: np.random.Generator) -> str:
+    """Write the demo logger's file: turbulence, noise, resolution, spikes, dropouts."""
+    p = DEMO_PROFILE
+    dt = _sample_interval(flight)
+    s = _smooth_state(flight, dt, DEMO_TRUTH)
+    n = s["t"].size
+    white = rng.standard_normal
+    cas = s["cas"] + _ar1(rng, n, 0.3, 1.5, dt)
+    ias = np.interp(cas, p.position_error_cas_kt, p.position_error_ias_kt) + 0.15 * white(n)
+    channels = {
+        "IAS (mph)": ias * KT_TO_MPH,
+        "PALT (ft)": s["alt"] + _ar1(rng, n, 6.0, 5.0, dt) + 2.0 * white(n),
+        "OAT (C)": s["oat"] + 0.1 * white(n),
+        # The logger records the elevator trailing-edge up positive.
+        "ELEV_POS": -(s["elevator"] + _ar1(rng, n, 0.12, 0.8, dt) + 0.03 * white(n)),
+        "FSTK": (s["force"] + _ar1(rng, n, 0.3, 0.8, dt) + 0.1 * white(n)) * LBF_TO_N,
+        "NZ": s["nz"] + _ar1(rng, n, 0.02, 0.3, dt) + 0.005 * white(n),
+        "FUEL_QTY (gal)": s["fuel"] + 0.05 * white(n),
+    }
+    _spikes(rng, channels["IAS (mph)"], 1 / 60, dt, 12.0, 30.0)
+    _spikes(rng, channels["ELEV_POS"], 1 / 60, dt, 4.0, 9.0)
+    _spikes(rng, channels["FSTK"], 1 / 60, dt, 30.0, 70.0)
+    for values in channels.values():
+        _dropouts(rng, values, 1 / 150, dt)
+    resolution = {"IAS (mph)": (1, None), "PALT (ft)": (0, 1.0), "OAT (C)": (1, None),
+                  "ELEV_POS": (2, None), "FSTK": (1, None), "NZ": (3, None),
+                  "FUEL_QTY (gal)": (1, None)}
+    time_decimals = 1 if dt >= 0.1 else 2
+    columns = [_cells(s["t"], time_decimals)]
+    columns += [_cells(values, *resolution[name]) for name, values in channels.items()]
+    preamble = [
+        "DEMO-LOG (invented logger) session export",
+        f"aircraft: DEMO-1 Tinkerfinch TF-2 (invented); flight {flight.number}; "
+        f"{flight.sample_rate_hz:g} Hz",
+    ]
+    return _table(["Time (s)", *channels], columns, preamble)
+
+
+def _loading_sheet_toml(flight: DemoFlight) -> str:
+    """Write the loading sheet of a logged flight (format of ``read_loading_sheet``)."""
+    return (
+        f'flight = "{flight.number}"\n'
+        f"date = 2026-05-{10 + 3 * flight.number:02d}\n"
+        f'label = "flight {flight.number}: CG {flight.takeoff_cg_pct_mac:.1f} %MAC at takeoff, '
+        f'{flight.stab_setting}"\n'
+        'notes = "invented demo flight; smooth morning air, two on board plus ballast"\n'
+        "\n[takeoff]\n"
+        f'weight = "{flight.takeoff_weight_lb:.0f} lb"\n'
+        f'cg = "{flight.takeoff_cg_in:.1f} in"\n'
+        f'fuel = "{flight.takeoff_fuel_gal:.1f} gal"\n'
+        "\n[config]\n"
+        'flap = "0 deg"\n'
+        f'stab_setting = "{flight.stab_setting}"\n'
+        f'stab_incidence = "{flight.stab_incidence_deg:.1f} deg"\n'
+    )
+
+
+def _readme(seed: int) -> str:
+    """Write ``sample_logs/README.md``: the scenario, the truth and how to regenerate."""
+    t = DEMO_TRUTH
+    p = DEMO_PROFILE
+    rows = []
+    for f in t.flights:
+        h = f.takeoff_cg_pct_mac / 100.0
+        files = f"`{f.log_file}`" + (f", `{f.loading_file}`" if f.loading_file else "")
+        rate = f"{f.sample_rate_hz:g} Hz" if f.sample_rate_hz else "typed card"
+        rows.append(
+            f"| {f.number} | {files} | {rate} | {f.takeoff_weight_lb:.0f} lb, "
+            f"{f.takeoff_cg_in:.1f} in ({100 * h:.1f} %MAC) | {f.stab_setting} "
+            f"({f.stab_incidence_deg:+.1f} deg) | {f.trim_ias_kt:.0f} | {f.n_points} | "
+            f"{100 * (t.neutral_point_fixed - h):.1f} / {100 * (t.neutral_point_free - h):.1f} |"
+        )
+    shimmed = t.rigged_incidence_deg + _SHIM_DEG
+    rigged = t.rigged_incidence_deg
+    truth = (
+        ("stick-fixed neutral point hn", f"{100 * t.neutral_point_fixed:.1f} %MAC"),
+        ("stick-free neutral point hn'", f"{100 * t.neutral_point_free:.1f} %MAC"),
+        ("Cm0 (CL = 0, δe = 0, as rigged)", f"{t.cm0:g}"),
+        ("elevator power Cmδ", f"{t.cm_delta_per_rad:g} /rad"),
+        ("elevator effectiveness τ",
+         f"{t.tau:g} (the profile gives only the chord ratio {p.elevator_chord_ratio:g})"),
+        ("stick-force gain K in Fs/q = A + K·(hn' − h)·CL", f"{t.force_gain_ft2:g} ft²"),
+        ("stabilizer incidence as rigged / after the shim", f"{rigged:+.1f} / {shimmed:+.1f} deg"),
+        ("cruise condition (profile)",
+         f"{p.cruise_cas_kt:g} KCAS, {p.cruise_pressure_alt_ft:g} ft, "
+         f"{p.cruise_weight_lb:g} lb, {p.cruise_cg_in:g} in: CL = {t.cruise_cl:.4f}"),
+        ("elevator at cruise, as rigged", f"{t.cruise_elevator_deg(rigged):+.2f} deg"),
+        ("elevator at cruise, after the shim", f"{t.cruise_elevator_deg(shimmed):+.2f} deg"),
+        ("incidence change for zero cruise elevator, from as rigged",
+         f"{t.incidence_change_deg(rigged):+.3f} deg (shim {t.shim_in(rigged):.3f} in over "
+         f"{p.stabilizer_attach_spacing_in:g} in)"),
+        ("remaining change after the shim",
+         f"{t.incidence_change_deg(shimmed):+.3f} deg (shim {t.shim_in(shimmed):.3f} in)"),
+        ("day", f"ISA {t.isa_deviation_c:+g} degC, test block at {t.test_altitude_ft:g} ft, "
+                f"fuel flow {t.burn_gph:g} gal/h"),
+    )
+    truth_rows = "\n".join(f"| {name} | {value} |" for name, value in truth)
+    header = ("| flight | files | kind | takeoff loading | stabilizer | trim KIAS | points "
+              "| static margin fixed / free (%MAC) |")
+    return f"""# Demo data: the invented Tinkerfinch TF-2
+
+Everything here is **invented** and was written by `trimlog.demo` (seed {seed}).
+The Tinkerfinch TF-2 (tail mark DEMO-1) does not exist; no real aircraft,
+registration or person is described.  The numbers come from a stated model with
+known truth, so an analysis of these files can be checked against the values
+below.  They are not data for any real aircraft and must never be used as such.
+
+## Scenario
+
+A homebuilt two-seater ({p.wing_area_ft2:g} ft² wing, MAC {p.mac_in:g} in from
+{p.lemac_in:g} in aft of the datum, CG limits {p.cg_forward_in:g}-{p.cg_aft_in:g} in =
+{p.cg_forward_pct_mac:.1f}-{p.cg_aft_pct_mac:.1f} %MAC) flies a stabilized-trim programme,
+moving the CG aft one flight at a time.  Its elevator sits about
+{-t.cruise_elevator_deg(rigged):.1f} deg trailing-edge up in cruise, so after
+flight 4 the builder puts a {abs(_SHIM_DEG):.1f} deg leading-edge-down shim under the stabilizer
+and re-flies the mid CG (flight 5), which also calibrates the elevator effectiveness τ.
+
+{header}
+|---|---|---|---|---|---|---|---|
+{chr(10).join(rows)}
+
+Flight 1 is a hand-typed card (one row per point, weight and CG per row; the
+elevator typed as the panel indicator shows it, trailing-edge up positive, under
+the logger's channel name `ELEV_POS`).  Flights 2-5 are logger files, each with a
+loading sheet (`*.loading.toml`: takeoff weight, CG and fuel, stabilizer setting);
+weight and CG through the flight follow the logged fuel quantity.  Each logged
+flight holds {t.flights[1].n_points} stabilized points of 20-30 s (level holds, an
+off-trim climb at +450 ft/min and an off-trim descent at -550 ft/min at fixed power)
+joined by speed changes, and flies three level turns at 30-40 deg bank that are not
+points.  The logger (see `[logger]` in `{PROFILE_FILE}`) writes airspeed in mph,
+stick force in newtons under `FSTK`, and the elevator trailing-edge up positive
+under `ELEV_POS`; the files carry turbulence, sensor noise, single-sample spikes
+and short dropouts (empty cells).
+
+## Truth
+
+| quantity | value |
+|---|---|
+{truth_rows}
+
+Model (details and references in the docstring of `trimlog/demo.py`):
+δe = −[Cm0 + (h − hn)·CL]/Cmδ − Δi_t/τ, with CL = n·W/(q·S), q from EAS, EAS
+from CAS (compressible), IAS from CAS through the inverse of the profile's
+position-error table; the trim tab is set once per flight for zero force at that
+flight's trim speed.  Signs: elevator trailing-edge down positive, incidence
+leading-edge up positive, stick force pull positive.
+
+## Regenerate
+
+```bash
+trimlog demo OUTDIR                  # or: python -m trimlog.demo OUTDIR [--seed N]
+```
+
+or from Python, `trimlog.demo.write_demo(Path("OUTDIR"), seed={seed})`.  The same seed
+gives the same bytes; the test suite regenerates these files and compares them
+byte for byte.  `trimlog.demo.DEMO_TRUTH` holds the truth and
+`trimlog.demo.truth_points(flight)` the noise-free points of each flight.
+"""
+
+
+def write_demo(directory: Path, *, seed: int = DEFAULT_SEED) -> list[Path]:
+    """Write the demo profile, flights, loading sheets and README into ``directory``.
+
+    Parameters
+    ----------
+    directory : pathlib.Path
+        Folder to write into (created if missing); existing files of the same
+        names are replaced.
+    seed : int
+        Seed of the noise.  The default gives the files in ``sample_logs/``.
+
+    Returns
+    -------
+    list of pathlib.Path
+        The files written: profile, then each flight's log (and loading
+        sheet), then ``README.md``.
+    """
+    directory = Path(directory)
+    directory.mkdir(parents=True, exist_ok=True)
+    texts = {PROFILE_FILE: PROFILE_TOML}
+    for flight in DEMO_TRUTH.flights:
+        rng = np.random.default_rng([seed, flight.number])
+        if flight.kind == "point_table":
+            texts[flight.log_file] = _point_table_csv(flight, rng)
+        else:
+            texts[flight.log_file] = _time_series_csv(flight, rng)
+            texts[flight.loading_file] = _loading_sheet_toml(flight)
+    texts["README.md"] = _readme(seed)
+    written = []
+    for name, text in texts.items():
+        path = directory / name
+        path.write_bytes(text.encode("utf-8"))
+        written.append(path)
+    return written
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Command line: ``python -m trimlog.demo OUTDIR [--seed N]``."""
+    parser = argparse.ArgumentParser(
+        prog="python -m trimlog.demo",
+        description="Write the invented demo aircraft profile and its flights.",
+    )
+    parser.add_argument("directory", type=Path, help="folder to write into")
+    parser.add_argument("--seed", type=int, default=DEFAULT_SEED, help="noise seed")
+    args = parser.parse_args(argv)
+    try:
+        written = write_demo(args.directory, seed=args.seed)
+    except OSError as exc:
+        print(f"{args.directory}: cannot write the demo files: {exc.strerror}", file=sys.stderr)
+        return 2
+    for path in written:
+        print(path)
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
