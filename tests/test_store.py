@@ -12,6 +12,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 import trimlog
 from trimlog import store as store_mod
@@ -182,6 +184,36 @@ def test_points_round_trip_keeps_dtypes(store, aircraft):
     assert pd.api.types.is_string_dtype(back["flags"])
     assert pd.api.types.is_string_dtype(back["flight"])
     pd.testing.assert_frame_equal(back, pts)
+
+
+@settings(max_examples=40, deadline=None,
+          suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(
+    floats=st.lists(st.floats(allow_infinity=False, width=64), min_size=1, max_size=6),
+    text=st.text(max_size=8),
+    data=st.data(),
+)
+def test_points_round_trip_any_values(store, aircraft, floats, text, data):
+    n = len(floats)
+    pts = pd.DataFrame({
+        "point": data.draw(st.permutations(range(1, n + 1))),
+        "x_deg": floats,
+        "k": data.draw(st.lists(st.integers(-2**63, 2**63 - 1), min_size=n, max_size=n)),
+        "flags": data.draw(st.lists(st.one_of(st.none(), st.text(max_size=5)),
+                                    min_size=n, max_size=n)),
+        "included": data.draw(st.lists(st.booleans(), min_size=n, max_size=n)),
+    })
+    out = store.import_flight(aircraft.id, f"{text!r}{pts.to_dict()!r}".encode("utf-8", "replace"),
+                              text, pts)
+    back = store.flight_points(out.flight_id)
+    expected = pts.sort_values("point", ignore_index=True)
+    pd.testing.assert_frame_equal(back, expected)
+    assert store.flight(out.flight_id).filename == text
+
+
+def test_undecodable_text_is_refused_not_a_traceback(store, aircraft):
+    with pytest.raises(StoreError, match="file name: .* is not valid Unicode"):
+        store.import_flight(aircraft.id, b"x", "log\udcff.csv", make_points())
 
 
 def test_points_sorted_by_number_and_default_included(store, aircraft):

@@ -36,7 +36,7 @@ import os
 import sqlite3
 from collections.abc import Iterator, Mapping, Sequence
 from contextlib import contextmanager
-from dataclasses import dataclass
+from dataclasses import asdict, dataclass
 from pathlib import Path
 from typing import Any, Final, Literal
 
@@ -412,13 +412,20 @@ def _plain(obj: Any, where: str) -> Any:
 
 
 def _dumps(obj: Any, where: str) -> str:
-    return json.dumps(_plain(obj, where), ensure_ascii=False, allow_nan=False)
+    # ASCII escapes keep any text, even lone surrogates from undecodable file names.
+    return json.dumps(_plain(obj, where), allow_nan=False)
 
 
 def _opt_text(value: Any, key: str) -> str | None:
-    if value is None or isinstance(value, str):
-        return value
-    raise StoreError(f"{key}: expected text or None, found {type(value).__name__} {value!r}")
+    if value is None:
+        return None
+    if not isinstance(value, str):
+        raise StoreError(f"{key}: expected text or None, found {type(value).__name__} {value!r}")
+    try:
+        value.encode("utf-8")
+    except UnicodeEncodeError:
+        raise StoreError(f"{key}: {value!r} is not valid Unicode text") from None
+    return value
 
 
 def _opt_deg(value: Any, key: str) -> float | None:
@@ -495,30 +502,27 @@ def _point_columns(points: pd.DataFrame, where: str) -> tuple[list[list[str]], l
 
 
 def _dtype_name(col: pd.Series, where: str) -> str:
-    """Name of a storable column dtype, ``"str"`` for text; refuse anything else."""
-    if pd.api.types.is_bool_dtype(col) or pd.api.types.is_integer_dtype(col):
-        return str(col.dtype)
+    """Name of a storable column dtype (numbers, True/False, text); refuse anything else."""
     if pd.api.types.is_float_dtype(col):
         if np.isinf(col.to_numpy(dtype=float, na_value=np.nan)).any():
             raise StoreError(f"{where}: holds an infinite value; give NaN for a missing number")
-        return str(col.dtype)
-    if isinstance(col.dtype, pd.StringDtype) or col.dtype == object:
-        odd = [v for v in col.dropna() if not isinstance(v, str)]
-        if not odd:
-            return "str"
-        raise StoreError(f"{where}: text column holds a {type(odd[0]).__name__} {odd[0]!r}")
-    raise StoreError(f"{where}: dtype {col.dtype} cannot be stored (numbers, True/False or text)")
+    elif isinstance(col.dtype, pd.StringDtype) or col.dtype == object:
+        if odd := [v for v in col.dropna() if not isinstance(v, str)]:
+            raise StoreError(f"{where}: text column holds a {type(odd[0]).__name__} {odd[0]!r}")
+    elif not (pd.api.types.is_bool_dtype(col) or pd.api.types.is_integer_dtype(col)):
+        raise StoreError(f"{where}: dtype {col.dtype} cannot be stored (numbers, True/False, text)")
+    return str(col.dtype)
 
 
 def _common_dtype(dtypes: set[str], missing: bool) -> str | None:
     """Dtype for a column gathered from several flights (None: let pandas choose)."""
-    if len(dtypes) == 1 and not missing:
-        return next(iter(dtypes))
-    kinds = {"str" if d == "str" else pd.api.types.pandas_dtype(d).kind for d in dtypes}
+    if len(dtypes) == 1:
+        (only,) = dtypes
+        if not missing or pd.api.types.pandas_dtype(only).kind == "O":
+            return only
+    kinds = {pd.api.types.pandas_dtype(d).kind for d in dtypes}
     if kinds <= {"i", "u", "f"}:
         return "float64"
-    if kinds == {"str"}:
-        return "str"
     if kinds == {"b"}:
         return "boolean"
     return None
@@ -716,10 +720,10 @@ class Store:
         -------
         AircraftRecord
         """
-        if not isinstance(name, str) or not name.strip():
+        if not _opt_text(name, "aircraft name") or not name.strip():
             raise StoreError(f"aircraft name: expected non-empty text, found {name!r}")
-        if not isinstance(profile_text, str):
-            raise StoreError(f"profile of '{name}': expected TOML text, found {profile_text!r}")
+        if _opt_text(profile_text, f"profile of '{name}'") is None:
+            raise StoreError(f"profile of '{name}': expected TOML text, found None")
         digest = _sha256(profile_text)
         with self._write(f"store the profile of '{name}'") as c:
             row = c.execute("SELECT id FROM aircraft WHERE name = ?", (name,)).fetchone()
@@ -833,8 +837,8 @@ class Store:
         if not isinstance(raw, bytes | bytearray | memoryview):
             raise StoreError(f"{filename}: expected the log as bytes, found {type(raw).__name__}")
         raw = bytes(raw)
-        if not isinstance(filename, str):
-            raise StoreError(f"file name: expected text, found {type(filename).__name__}")
+        if _opt_text(filename, "file name") is None:
+            raise StoreError("file name: expected text, found None")
         if not raw:
             raise StoreError(f"{filename}: the log is empty (0 bytes); nothing to store")
         schema, rows = _point_columns(points, f"{filename}, points")
@@ -1099,26 +1103,23 @@ class Store:
             doc = self._export_document(c)
             aircraft = self.aircraft_list()
             flights = [f for a in aircraft for f in self.flights(a.id)]
-            points = [self.all_points(a.id).assign(aircraft=a.name) for a in aircraft]
+            points = [self.all_points(a.id) for a in aircraft]
         names_by_id = {a.id: a.name for a in aircraft}
+        for a, frame in zip(aircraft, points, strict=True):
+            frame.insert(0, "aircraft", a.name)
         tables = {
             "aircraft.csv": pd.DataFrame(
-                [{k: getattr(a, k) for k in ("id", "name", "created_at", "profile_version",
-                                             "profile_sha256", "profile_imported_at")}
-                 for a in aircraft],
-                columns=["id", "name", "created_at", "profile_version", "profile_sha256",
-                         "profile_imported_at"],
-            ),
+                [asdict(a) for a in aircraft], columns=list(AircraftRecord.__dataclass_fields__)
+            ).drop(columns="profile_text"),
             "flights.csv": pd.DataFrame(
-                [{"aircraft": names_by_id[f.aircraft_id], **{
-                    k: v for k, v in vars(f).items() if k != "loading"},
+                [{"aircraft": names_by_id[f.aircraft_id], **asdict(f),
                   "loading": None if f.loading is None else json.dumps(f.loading)}
                  for f in flights],
-                columns=["aircraft", *(k for k in FlightRecord.__dataclass_fields__)],
+                columns=["aircraft", *FlightRecord.__dataclass_fields__],
             ),
             "points.csv": (
                 pd.concat(points, ignore_index=True) if points
-                else pd.DataFrame(columns=["flight_id"])
+                else pd.DataFrame(columns=["aircraft", "flight_id"])
             ),
             "analyses.csv": pd.DataFrame(
                 [{**a, "flight_ids": json.dumps(a["flight_ids"]), "result": json.dumps(a["result"])}
@@ -1127,15 +1128,13 @@ class Store:
                          "flight_ids", "result"],
             ),
         }
-        if "aircraft" in tables["points.csv"]:
-            pts = tables["points.csv"]
-            tables["points.csv"] = pts[["aircraft", *(c for c in pts.columns if c != "aircraft")]]
         try:
             out.mkdir(parents=True, exist_ok=True)
             written = [out / EXPORT_JSON]
-            written[0].write_text(json.dumps(doc, ensure_ascii=False, indent=1), encoding="utf-8")
+            written[0].write_text(json.dumps(doc, indent=1), encoding="utf-8")
             for name, frame in tables.items():
-                _neutralise(frame).to_csv(out / name, index=False, encoding="utf-8")
+                _neutralise(frame).to_csv(
+                    out / name, index=False, encoding="utf-8", errors="backslashreplace")
                 written.append(out / name)
         except OSError as exc:
             raise StoreError(f"{out}: cannot write the export ({exc.strerror or exc})") from exc
@@ -1254,7 +1253,7 @@ class Store:
                     c.execute("INSERT INTO raw_logs (flight_id, raw) VALUES (?, ?)", (f["id"], raw))
                     c.executemany(
                         _INSERT_POINT,
-                        [(f["id"], p, int(bool(inc)), json.dumps(v, ensure_ascii=False))
+                        [(f["id"], p, int(bool(inc)), json.dumps(v))
                          for p, inc, v in f["points"]],
                     )
                     n_points += len(f["points"])
@@ -1263,7 +1262,7 @@ class Store:
                     "profile_version, flight_ids_json, result_json) VALUES (?, ?, ?, ?, ?, ?, ?)",
                     [(a["id"], a["aircraft_id"], a["created_at"], a["software_version"],
                       a["profile_version"], json.dumps(a["flight_ids"]),
-                      json.dumps(a["result"], ensure_ascii=False))
+                      json.dumps(a["result"]))
                      for a in doc["analyses"]],
                 )
             except (KeyError, TypeError, ValueError) as exc:
