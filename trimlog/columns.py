@@ -39,7 +39,8 @@ class Quantity:
     canonical : str
         Canonical column name, e.g. ``"ias_kt"``.
     unit : str or None
-        Canonical unit (registry spelling); None for text columns.
+        Canonical unit, spelt as the unit registry knows it (``"knot"``,
+        ``"standard_gravity"``); None for text columns.
     description : str
         Words for messages.
     """
@@ -52,21 +53,21 @@ class Quantity:
 QUANTITIES: dict[str, Quantity] = {
     q.canonical: q
     for q in (
-        Quantity("time_s", "s", "time"),
-        Quantity("ias_kt", "kt", "indicated airspeed"),
-        Quantity("cas_kt", "kt", "calibrated airspeed"),
-        Quantity("pressure_alt_ft", "ft", "pressure altitude"),
+        Quantity("time_s", "second", "time"),
+        Quantity("ias_kt", "knot", "indicated airspeed"),
+        Quantity("cas_kt", "knot", "calibrated airspeed"),
+        Quantity("pressure_alt_ft", "foot", "pressure altitude"),
         Quantity("oat_c", "degC", "outside air temperature"),
-        Quantity("elevator_deg", "deg", "elevator deflection"),
+        Quantity("elevator_deg", "degree", "elevator deflection"),
         Quantity("stick_force_lbf", "lbf", "stick force"),
-        Quantity("nz_g", "g", "normal load factor"),
+        Quantity("nz_g", "standard_gravity", "normal load factor"),
         Quantity("weight_lb", "lb", "weight"),
-        Quantity("cg_in", "in", "CG station"),
-        Quantity("cg_pct_mac", "%", "CG in %MAC"),
-        Quantity("fuel_gal", "gal", "fuel on board"),
-        Quantity("flap_deg", "deg", "flap deflection"),
-        Quantity("vs_fpm", "fpm", "vertical speed"),
-        Quantity("stab_incidence_deg", "deg", "stabilizer incidence"),
+        Quantity("cg_in", "inch", "CG station"),
+        Quantity("cg_pct_mac", "percent", "CG in %MAC"),
+        Quantity("fuel_gal", "gallon", "fuel on board"),
+        Quantity("flap_deg", "degree", "flap deflection"),
+        Quantity("vs_fpm", "foot / minute", "vertical speed"),
+        Quantity("stab_incidence_deg", "degree", "stabilizer incidence"),
         Quantity("flight", None, "flight label"),
         Quantity("event", None, "event marker"),
     )
@@ -181,7 +182,12 @@ def _unit_for(canonical: str, unit_token: str, *, file: str, header: str) -> Hea
             file=file,
             column=header,
         )
-    scale, offset = unit_factor(unit, quantity.unit)
+    try:
+        scale, offset = unit_factor(unit, quantity.unit)
+    except Exception as exc:  # pint raises several unrelated types here
+        raise InputFileError(
+            f"cannot convert '{unit_token}' to {quantity.unit}", file=file, column=header
+        ) from exc
     written = unit_token.strip()
     understood = str(unit).replace("_", " ")
     text = written if written.lower() == understood.lower() else f"{written} = {understood}"
@@ -194,9 +200,9 @@ _ANGLE_WORDS = ("degree", "radian", "arcminute", "arcsecond", "turn")
 def _same_kind(unit: object, canonical_unit: str) -> bool:
     """Separate the dimensionless kinds pint lumps together: angle, percent, plain."""
     name = str(unit)
-    if canonical_unit == "deg":
+    if canonical_unit == "degree":
         return any(word in name for word in _ANGLE_WORDS)
-    if canonical_unit == "%":
+    if canonical_unit == "percent":
         return "percent" in name
     return True
 
@@ -312,8 +318,10 @@ def _split_header(header: str, *, file: str) -> tuple[str | None, str]:
 
 
 def _canonical_unit_token(canonical: str) -> str:
-    unit = QUANTITIES[canonical].unit
-    return "" if unit is None else unit
+    """Return the unit suffix of a canonical name as written (``"kt"`` of ``"ias_kt"``)."""
+    if QUANTITIES[canonical].unit is None:
+        return ""
+    return "pct_mac" if canonical == "cg_pct_mac" else canonical.rsplit("_", 1)[1]
 
 
 def suggestions(wanted: list[str], headers: list[str], n: int = 3) -> list[str]:

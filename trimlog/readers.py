@@ -294,7 +294,7 @@ def _sniff(raw: bytes, encoding: str, label: str, notes: Notes) -> _Layout:
     lines = _LINE_SPLIT.split(head)
     if len(raw) > _SNIFF_BYTES and len(lines) > 1:
         lines = lines[:-1]  # cut mid-line
-    lines = lines[:2000]
+    lines = lines[:300]
     if lines:
         lines[0] = lines[0].lstrip("\ufeff")
     best: tuple[tuple[float, int], str, int, int] | None = None
@@ -403,7 +403,6 @@ def _parse(
                 encoding_errors="replace",
                 na_values=NA_TOKENS,
                 on_bad_lines="warn",
-                low_memory=False,
             )
         except pd.errors.EmptyDataError:
             frame = pd.DataFrame(columns=list(range(width)))
@@ -418,9 +417,20 @@ def _parse(
     )
     if bad:
         notes.drop(f"line with more than the header's {width} fields", np.asarray(bad))
-    candidates = np.arange(layout.data_start + 1, layout.data_start + 1 + len(frame) + len(bad))
-    lines = np.setdiff1d(candidates, np.asarray(bad, dtype=int))[: len(frame)]
-    return frame, lines
+    lines = np.arange(layout.data_start + 1, layout.data_start + 1 + len(frame) + len(bad))
+    if bad:
+        lines = lines[~_member(lines, np.asarray(bad, dtype=np.int64))]
+    return frame, lines[: len(frame)]
+
+
+def _member(sorted_lines: np.ndarray, wanted: np.ndarray) -> np.ndarray:
+    """Return a mask of the elements of ``sorted_lines`` that are in ``wanted`` (small)."""
+    mask = np.zeros(len(sorted_lines), dtype=bool)
+    if len(wanted) and len(sorted_lines):
+        at = np.clip(np.searchsorted(sorted_lines, wanted), 0, len(sorted_lines) - 1)
+        at = at[sorted_lines[at] == wanted]
+        mask[at] = True
+    return mask
 
 
 def _partial_tail(raw: bytes, layout: _Layout, lines: np.ndarray) -> np.ndarray:
@@ -436,7 +446,8 @@ def _partial_tail(raw: bytes, layout: _Layout, lines: np.ndarray) -> np.ndarray:
         count = len(_fields(line, layout.delimiter))
         if 0 < count < width:
             partial.append(n_lines - back)
-    return np.intersect1d(np.asarray(partial, dtype=int), lines)
+    partial = np.asarray(sorted(partial), dtype=np.int64)
+    return lines[_member(lines, partial)]
 
 
 # --------------------------------------------------------------------- public
@@ -622,12 +633,9 @@ def _drop_empty_rows(
         notes.drop("row without any value in the columns used", lines[empty])
         keep &= ~empty
     keep &= ~blank
-    partial = _partial_tail(raw, layout, lines)
-    partial = partial[np.isin(partial, lines[keep])]
-    if len(partial):
-        notes.drop("partial line at the end of the file (fewer fields than the header)", partial)
-        keep &= ~np.isin(lines, partial)
-    return keep
+    partial = _member(lines, _partial_tail(raw, layout, lines)) & keep
+    notes.drop("partial line at the end of the file (fewer fields than the header)", lines[partial])
+    return keep & ~partial
 
 
 # --------------------------------------------------------------------- loading sheet
