@@ -243,7 +243,7 @@ def _logged_programme(trim: float) -> tuple[Segment, ...]:
 
     Holds of 20-30 s joined by brisk speed changes (about 1 kt/s at most,
     so that no transition is steady for the 10 s a point needs), an off-trim
-    climb and an off-trim descent at fixed power, and three level turns at
+    climb and an off-trim descent at fixed power, and four level turns at
     30-40 deg bank (about 1.15-1.3 g), which are never points.
     """
     m, h, t = "move", "hold", "turn"
@@ -521,6 +521,7 @@ def _smooth_state(flight: DemoFlight, dt: float, truth: DemoTruth) -> dict[str, 
     in_trim = s["seg"] == trim_hold
     tab = truth.tab_term_ft2(float(s["cl"][in_trim].mean()), float(s["h"][in_trim].mean()))
     s["force"] = truth.stick_force_lbf(s["q"], s["cl"], s["h"], tab)
+    s["tab"] = np.array(tab)
     return s
 
 
@@ -545,9 +546,9 @@ def truth_points(flight: DemoFlight, truth: DemoTruth | None = None) -> pd.DataF
         ``t_end_s`` (time in the log; point tables: minutes of the card times
         60), and the means over the hold of ``ias_kt``, ``cas_kt``,
         ``eas_kt``, ``pressure_alt_ft``, ``oat_c``, ``vs_fpm``, ``nz_g``,
-        ``fuel_gal``, ``weight_lb``, ``cg_in``, ``h``, ``cl``, ``q_psf``,
-        ``elevator_deg`` (trailing-edge down positive) and
-        ``stick_force_lbf`` (pull positive), plus ``stab_incidence_deg``.
+        ``fuel_gal``, ``weight_lb``, ``cg_in``, ``h``, ``cl`` and ``q_psf``;
+        ``elevator_deg`` (trailing-edge down positive) and ``stick_force_lbf``
+        (pull positive) from the model at those means; ``stab_incidence_deg``.
     """
     truth = truth or DEMO_TRUTH
     dt = _sample_interval(flight)
@@ -563,6 +564,11 @@ def truth_points(flight: DemoFlight, truth: DemoTruth | None = None) -> pd.DataF
         row = {"flight": str(flight.number), "point": number,
                "t_start_s": float(s["t"][mask][0]), "t_end_s": float(s["t"][mask][-1])}
         row.update({out: float(s[key][mask].mean()) for key, out in names.items()})
+        # The model at the hold's mean condition, so that the oracle is exact.
+        row["elevator_deg"] = float(truth.elevator_deg(row["cl"], row["h"],
+                                                       flight.stab_incidence_deg))
+        row["stick_force_lbf"] = float(truth.stick_force_lbf(row["q_psf"], row["cl"], row["h"],
+                                                             float(s["tab"])))
         row["stab_incidence_deg"] = flight.stab_incidence_deg
         rows.append(row)
     return pd.DataFrame(rows)
@@ -767,8 +773,8 @@ loading sheet (`*.loading.toml`: takeoff weight, CG and fuel, stabilizer setting
 weight and CG through the flight follow the logged fuel quantity.  Each logged
 flight holds {t.flights[1].n_points} stabilized points of 20-30 s (level holds, an
 off-trim climb at +450 ft/min and an off-trim descent at -550 ft/min at fixed power)
-joined by speed changes, and flies three level turns at 30-40 deg bank that are not
-points.  The logger (see `[logger]` in `{PROFILE_FILE}`) writes airspeed in mph,
+joined by speed changes, and flies {t.flights[1].n_turns} level turns at 30-40 deg bank that
+are not points.  The logger (see `[logger]` in `{PROFILE_FILE}`) writes airspeed in mph,
 stick force in newtons under `FSTK`, and the elevator trailing-edge up positive
 under `ELEV_POS`; the files carry turbulence, sensor noise, single-sample spikes
 and short dropouts (empty cells).
