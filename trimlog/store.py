@@ -20,8 +20,17 @@ Guarantees
 * A file that is not a trimlog database (not SQLite, or SQLite holding other
   tables) is reported and never modified.
 
+Location: the path given to :func:`open_store` (the command line's
+``--db``), else the ``TRIMLOG_DB`` environment variable, else
+``history.sqlite`` in ``platformdirs.user_data_dir("trimlog")``.
+
 A :class:`Store` holds one SQLite connection and is meant for one thread;
 opening another is cheap.
+
+References
+----------
+SQLite documentation: "Write-Ahead Logging", "Atomic Commit In SQLite",
+"The SQLite Online Backup API" (https://sqlite.org/docs.html).
 """
 
 from __future__ import annotations
