@@ -146,7 +146,6 @@ inverted = ["elevator_deg"]
 
 KT_TO_MPH = 1852.0 / 1609.344
 LBF_TO_N = 4.4482216152605
-FT_PER_NM = 1852.0 / 0.3048
 
 
 @dataclass(frozen=True)
@@ -246,50 +245,29 @@ def _logged_programme(trim: float) -> tuple[Segment, ...]:
     climb and an off-trim descent at fixed power, and four level turns at
     30-40 deg bank (about 1.15-1.3 g), which are never points.
     """
-    m, h, t = "move", "hold", "turn"
-    return (
-        Segment(m, 15, trim),
-        Segment(h, 30, trim),
-        Segment(m, 12, trim - 5),
-        Segment(h, 30, trim - 5),
-        Segment(m, 12, trim - 10),
-        Segment(h, 25, trim - 10),
-        Segment(m, 12, trim - 15),
-        Segment(h, 30, trim - 15),
-        Segment(m, 12, trim - 20),
-        Segment(h, 25, trim - 20),
-        Segment(m, 18, trim - 28),
-        Segment(h, 25, trim - 28),
-        Segment(m, 35, trim),
-        Segment(t, 70, trim, bank_deg=30.0),
-        Segment(h, 30, trim),
-        Segment(m, 18, trim + 10),
-        Segment(h, 25, trim + 10),
-        Segment(m, 18, trim + 20),
-        Segment(h, 25, trim + 20),
-        Segment(t, 70, trim + 20, bank_deg=35.0),
-        Segment(m, 18, trim + 30),
-        Segment(h, 20, trim + 30),
-        Segment(m, 40, trim - 15, vs_fpm=450.0),
-        Segment(h, 30, trim - 15, vs_fpm=450.0),
-        Segment(m, 35, trim + 15, vs_fpm=-550.0),
-        Segment(h, 30, trim + 15, vs_fpm=-550.0),
-        Segment(m, 25, trim),
-        Segment(t, 60, trim, bank_deg=40.0),
-        Segment(h, 30, trim),
-        Segment(t, 45, trim, bank_deg=30.0),
-        Segment(m, 20, trim + 12),
+    plan = (  # (kind, duration [s], IAS - trim [kt], vertical speed [ft/min], bank [deg])
+        ("move", 15, 0, 0, 0), ("hold", 30, 0, 0, 0), ("move", 12, -5, 0, 0),
+        ("hold", 30, -5, 0, 0), ("move", 12, -10, 0, 0), ("hold", 25, -10, 0, 0),
+        ("move", 12, -15, 0, 0), ("hold", 30, -15, 0, 0), ("move", 12, -20, 0, 0),
+        ("hold", 25, -20, 0, 0), ("move", 18, -28, 0, 0), ("hold", 25, -28, 0, 0),
+        ("move", 35, 0, 0, 0), ("turn", 70, 0, 0, 30), ("hold", 30, 0, 0, 0),
+        ("move", 18, 10, 0, 0), ("hold", 25, 10, 0, 0), ("move", 18, 20, 0, 0),
+        ("hold", 25, 20, 0, 0), ("turn", 70, 20, 0, 35), ("move", 18, 30, 0, 0),
+        ("hold", 20, 30, 0, 0), ("move", 40, -15, 450, 0), ("hold", 30, -15, 450, 0),
+        ("move", 35, 15, -550, 0), ("hold", 30, 15, -550, 0), ("move", 25, 0, 0, 0),
+        ("turn", 60, 0, 0, 40), ("hold", 30, 0, 0, 0), ("turn", 45, 0, 0, 30),
+        ("move", 20, 12, 0, 0),
     )
+    return tuple(Segment(kind, float(duration), trim + dv, float(vs), float(bank))
+                 for kind, duration, dv, vs, bank in plan)
 
 
 def _point_programme() -> tuple[Segment, ...]:
     """Eight points of a hand-flown card, each at its own altitude, 4 min apart."""
     speeds = (100, 90, 80, 70, 60, 110, 120, 130)
     altitudes = (5500, 5450, 5600, 5700, 5650, 5400, 5300, 5200)
-    return tuple(
-        Segment("hold", 240.0, float(v), alt_ft=float(a)) for v, a in zip(speeds, altitudes,
-                                                                          strict=True)
-    )
+    pairs = zip(speeds, altitudes, strict=True)
+    return tuple(Segment("hold", 240.0, float(v), alt_ft=float(a)) for v, a in pairs)
 
 
 DEMO_PROFILE: AircraftProfile = parse_profile(PROFILE_TOML, source=PROFILE_FILE)
@@ -360,10 +338,8 @@ class DemoTruth:
 
         Parameters
         ----------
-        cl : float or array
-            Lift coefficient [-].
-        h : float or array
-            CG [fraction of MAC].
+        cl, h : float or array
+            Lift coefficient [-] and CG [fraction of MAC].
         stab_incidence_deg : float
             Stabilizer incidence flown [deg], leading-edge up positive.
 
@@ -395,12 +371,8 @@ class DemoTruth:
 
         Parameters
         ----------
-        q_psf : float or array
-            Dynamic pressure [lbf/ft^2].
-        cl : float or array
-            Lift coefficient [-].
-        h : float or array
-            CG [fraction of MAC].
+        q_psf, cl, h : float or array
+            Dynamic pressure [lbf/ft^2], lift coefficient [-], CG [fraction of MAC].
         tab_term_ft2 : float
             The flight's trim-tab term A [ft^2] (:meth:`tab_term_ft2`).
 
@@ -661,7 +633,8 @@ def _time_series_csv(flight: DemoFlight, rng: np.random.Generator) -> str:
         # The logger records the elevator trailing-edge up positive.
         "ELEV_POS": -(s["elevator"] + _ar1(rng, n, 0.12, 0.8, dt) + 0.03 * white(n)),
         "FSTK": (s["force"] + _ar1(rng, n, 0.3, 0.8, dt) + 0.1 * white(n)) * LBF_TO_N,
-        "NZ": s["nz"] + _ar1(rng, n, 0.02, 0.3, dt) + 0.005 * white(n),
+        "NZ (g)": s["nz"] + _ar1(rng, n, 0.02, 0.3, dt) + 0.005 * white(n),
+        "VSI (fpm)": s["vs"] + _ar1(rng, n, 60.0, 1.5, dt),
         "FUEL_QTY (gal)": s["fuel"] + 0.05 * white(n),
     }
     _spikes(rng, channels["IAS (mph)"], 1 / 60, dt, 12.0, 30.0)
@@ -670,8 +643,8 @@ def _time_series_csv(flight: DemoFlight, rng: np.random.Generator) -> str:
     for values in channels.values():
         _dropouts(rng, values, 1 / 150, dt)
     resolution = {"IAS (mph)": (1, None), "PALT (ft)": (0, 1.0), "OAT (C)": (1, None),
-                  "ELEV_POS": (2, None), "FSTK": (1, None), "NZ": (3, None),
-                  "FUEL_QTY (gal)": (1, None)}
+                  "ELEV_POS": (2, None), "FSTK": (1, None), "NZ (g)": (3, None),
+                  "VSI (fpm)": (0, 10.0), "FUEL_QTY (gal)": (1, None)}
     time_decimals = 1 if dt >= 0.1 else 2
     columns = [_cells(s["t"], time_decimals)]
     columns += [_cells(values, *resolution[name]) for name, values in channels.items()]
@@ -746,11 +719,10 @@ def _readme(seed: int) -> str:
               "| static margin fixed / free (%MAC) |")
     return f"""# Demo data: the invented Tinkerfinch TF-2
 
-Everything here is **invented** and was written by `trimlog.demo` (seed {seed}).
-The Tinkerfinch TF-2 (tail mark DEMO-1) does not exist; no real aircraft,
-registration or person is described.  The numbers come from a stated model with
-known truth, so an analysis of these files can be checked against the values
-below.  They are not data for any real aircraft and must never be used as such.
+Everything here is **invented**, written by `trimlog.demo` (seed {seed}) from a stated
+model with known truth, so an analysis of these files can be checked against the values
+below.  The Tinkerfinch TF-2 (tail mark DEMO-1) does not exist; no real aircraft,
+registration or person is described, and these are not data for any real aircraft.
 
 ## Scenario
 
@@ -785,23 +757,16 @@ and short dropouts (empty cells).
 |---|---|
 {truth_rows}
 
-Model (details and references in the docstring of `trimlog/demo.py`):
-δe = −[Cm0 + (h − hn)·CL]/Cmδ − Δi_t/τ, with CL = n·W/(q·S), q from EAS, EAS
-from CAS (compressible), IAS from CAS through the inverse of the profile's
-position-error table; the trim tab is set once per flight for zero force at that
-flight's trim speed.  Signs: elevator trailing-edge down positive, incidence
-leading-edge up positive, stick force pull positive.
+Model (details and references in `trimlog/demo.py`): δe = −[Cm0 + (h − hn)·CL]/Cmδ − Δi_t/τ,
+CL = n·W/(q·S) with q from EAS; the trim tab is set once per flight for zero force at the
+trim speed.  Elevator trailing-edge down, incidence leading-edge up, pull force positive.
 
 ## Regenerate
 
-```bash
-trimlog demo OUTDIR                  # or: python -m trimlog.demo OUTDIR [--seed N]
-```
-
-or from Python, `trimlog.demo.write_demo(Path("OUTDIR"), seed={seed})`.  The same seed
-gives the same bytes; the test suite regenerates these files and compares them
-byte for byte.  `trimlog.demo.DEMO_TRUTH` holds the truth and
-`trimlog.demo.truth_points(flight)` the noise-free points of each flight.
+`trimlog demo OUTDIR`, `python -m trimlog.demo OUTDIR [--seed N]` or
+`trimlog.demo.write_demo(Path("OUTDIR"), seed={seed})`: the same seed gives the same
+bytes (the tests compare them byte for byte).  `trimlog.demo.DEMO_TRUTH` holds the
+truth, `trimlog.demo.truth_points(flight)` the noise-free points of each flight.
 """
 
 
