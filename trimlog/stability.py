@@ -150,7 +150,16 @@ def included_points(points: pd.DataFrame) -> pd.DataFrame:
                 "reduced points: one configuration per stability analysis, found "
                 + ", ".join(configs) + " (separate them first; they are never pooled)"
             )
-    frame = points.loc[points["included"].astype(bool)].copy()
+    included = points["included"]
+    if included.dtype != bool:
+        values = set(included.dropna().tolist())
+        # 0 and 1 compare equal to False and True, so this set admits both spellings.
+        bad = sorted(repr(v) for v in values - {True, False})
+        if included.isna().any() or bad:
+            raise TrimlogError(
+                "reduced points: column 'included' expected True/False for every point, found "
+                + (", ".join(bad[:5]) if bad else "a missing value"))
+    frame = points.loc[included.astype(bool)].copy()
     frame["flight"] = frame["flight"].astype(str)
     frame["stab_setting"] = frame["stab_setting"].astype(str)
     for column in ("cl", "elevator_deg", "h"):
@@ -354,6 +363,9 @@ def _neutral_point(
     ratio: RatioInterval = ratio_interval(-b, c, vbb, vcc, -vbc, t)
     # c > 0 stick-fixed (Cm_de < 0); c < 0 stick-free (more pull when slower forward of hn').
     expected = 1.0 if kind == "stick_fixed" else -1.0
+    if spread < MIN_CG_SPREAD_PCT_MAC:
+        return no(f"the CGs flown span only {spread:.1f} %MAC; at least "
+                  f"{MIN_CG_SPREAD_PCT_MAC:g} %MAC is needed to extrapolate to a neutral point")
     if not ratio.bounded:
         return no(
             "the change of the trim gradient with CG is not clearly different from zero "
@@ -365,9 +377,6 @@ def _neutral_point(
                 else "stick-force sign convention (pull positive)")
         return no(f"the trim gradients change with CG in the physically wrong direction: check "
                   f"the {what} and the CG values")
-    if spread < MIN_CG_SPREAD_PCT_MAC:
-        return no(f"the CGs flown span only {spread:.1f} %MAC; at least "
-                  f"{MIN_CG_SPREAD_PCT_MAC:g} %MAC is needed to extrapolate to a neutral point")
     lo, hi = ratio.fieller_ci
     width = 100.0 * (hi - lo)
     if width > MAX_NP_CI_WIDTH_PCT_MAC:
