@@ -483,7 +483,8 @@ def require_columns(
                 else f"; columns found: {', '.join(repr(h) for h in headers[:12])}"
             )
             raise InputFileError(
-                f"no {what.split(' (')[0]} found; expected {what}{hint}",
+                f"no {what.split(' (')[0].removeprefix('an ').removeprefix('a ')} found; "
+                f"expected {what}{hint}",
                 file=label,
                 line=header_line + 1,
             )
@@ -611,8 +612,8 @@ def decide_kind(
     median = float(np.median(steps))
     if median > 10.0:
         return "point_table", f"rows are a median {median:.0f} s apart: one row per test point"
-    regular = np.mean((steps > 0.5 * median) & (steps < 2.0 * median))
-    if regular < 0.8:
+    regular = np.mean((steps >= 0.5 * median) & (steps <= 2.0 * median))
+    if regular < 0.6:
         return "point_table", (
             f"time stamps are irregular (only {regular:.0%} of intervals near the median "
             f"{median:.3g} s): one row per test point"

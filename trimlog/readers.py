@@ -46,9 +46,10 @@ Decisions
 * Required: an airspeed (``ias_kt`` or ``cas_kt``), ``pressure_alt_ft`` and
   ``elevator_deg``.  Without ``oat_c`` ISA is assumed downstream (warned);
   without ``stick_force_lbf`` there is no stick-free result (warned).
-* Kind: a time column with at least 30 rows at a regular-ish interval of at
-  most 10 s is a time series; anything else is a point table.  ``kind=``
-  forces the choice.  In a point table a time column, if any, is kept.
+* Kind: a time column with at least 30 rows, a median interval of at most
+  10 s and at least 60 % of intervals within half to twice the median is a
+  time series; anything else is a point table.  ``kind=`` forces the
+  choice.  In a point table a time column, if any, is kept.
 """
 
 from __future__ import annotations
