@@ -48,9 +48,9 @@ the model is a clean oracle, not a simulation.
 
 *Measurement.*  Light turbulence as first-order autoregressive noise
 (smooth morning air: airspeed 0.3 kt, load factor 0.02 g, the pilot's
-elevator 0.12 deg and force 0.3 lbf), white sensor noise, the logger's resolution, about one
-single-sample spike per minute in airspeed, elevator and force, and short
-dropouts (empty cells) in every channel.  The point table is rounded as a
+elevator 0.12 deg and force 0.3 lbf), white sensor noise, the logger's
+resolution, about one single-sample spike per minute in airspeed, elevator
+and force, and short dropouts (empty cells) in every channel.  The point table is rounded as a
 pilot types it (1 kt, 10 ft, 1 degC, 0.1 deg, 0.5 lbf, 1 lb, 0.1 in).
 
 Reproducibility: each flight draws from ``numpy.random.default_rng([seed,
@@ -434,7 +434,7 @@ _ROLL_S = 5.0
 _KT_TO_FPS = 1852.0 / 0.3048 / 3600.0
 
 
-def _programme(flight: DemoFlight, dt: float) -> dict[str, np.ndarray]:
+def _programme(flight: DemoFlight, dt: float, truth: DemoTruth) -> dict[str, np.ndarray]:
     """Commanded IAS, vertical speed, bank, altitude and segment index, per sample."""
     ias0, vs0 = flight.trim_ias_kt + 12.0, 0.0
     parts: dict[str, list[np.ndarray]] = {"ias": [], "vs": [], "bank": [], "seg": [], "alt": []}
@@ -456,7 +456,7 @@ def _programme(flight: DemoFlight, dt: float) -> dict[str, np.ndarray]:
         ias0, vs0 = float(ias[-1]), float(vs[-1])
     out = {key: np.concatenate(value) for key, value in parts.items()}
     out["t"] = dt * np.arange(out["ias"].size)
-    climbed = DEMO_TRUTH.test_altitude_ft + np.cumsum(out["vs"] / 60.0 * dt)
+    climbed = truth.test_altitude_ft + np.cumsum(out["vs"] / 60.0 * dt)
     out["alt"] = np.where(np.isnan(out["alt"]), climbed, out["alt"])
     return out
 
@@ -464,7 +464,7 @@ def _programme(flight: DemoFlight, dt: float) -> dict[str, np.ndarray]:
 def _smooth_state(flight: DemoFlight, dt: float, truth: DemoTruth) -> dict[str, np.ndarray]:
     """Compute the noise-free flight: programme, loading, and the model's δe and Fs."""
     p = DEMO_PROFILE
-    s = _programme(flight, dt)
+    s = _programme(flight, dt, truth)
     s["oat"] = atmosphere.isa_temperature_k(s["alt"]) - atmosphere.KELVIN_OFFSET + (
         truth.isa_deviation_c
     )
@@ -515,8 +515,8 @@ def truth_points(flight: DemoFlight, truth: DemoTruth | None = None) -> pd.DataF
     -------
     pandas.DataFrame
         One row per hold, in flight order: ``point`` (1-based), ``t_start_s``,
-        ``t_end_s`` (time in the log; point tables: minutes of the card times
-        60), and the means over the hold of ``ias_kt``, ``cas_kt``,
+        ``t_end_s`` (time in the log; point tables: from the first point, 4 min
+        apart), and the means over the hold of ``ias_kt``, ``cas_kt``,
         ``eas_kt``, ``pressure_alt_ft``, ``oat_c``, ``vs_fpm``, ``nz_g``,
         ``fuel_gal``, ``weight_lb``, ``cg_in``, ``h``, ``cl`` and ``q_psf``;
         ``elevator_deg`` (trailing-edge down positive) and ``stick_force_lbf``
