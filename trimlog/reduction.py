@@ -33,14 +33,15 @@ DEFAULT_SETTING_LABEL = "as rigged"
 
 
 class FlightLoadingLike(Protocol):
-    """What the reduction needs of a flight's loading sheet."""
+    """What the reduction needs of a flight's loading sheet (see ``readers.LoadingSheet``)."""
 
     takeoff_weight_lb: float
-    takeoff_cg_in: float
-    takeoff_fuel_gal: float | None
-    incidence_label: str | None
-    incidence_deg: float | None
-    config: str | None
+    takeoff_cg_in: float | None
+    takeoff_cg_pct_mac: float | None
+    takeoff_fuel_gal: float
+    flap_deg: float | None
+    stab_setting: str | None
+    stab_incidence_deg: float | None
 
 
 @dataclass(frozen=True)
@@ -166,10 +167,14 @@ def _weight_and_cg(
                 column="weight_lb",
             )
         idx = missing[missing].index
+        takeoff_cg_in = (
+            sheet.takeoff_cg_in if sheet.takeoff_cg_in is not None
+            else profile.station(sheet.takeoff_cg_pct_mac)
+        )
         fuel = out.loc[idx, "fuel_gal"] if "fuel_gal" in out else None
-        if fuel is None or sheet.takeoff_fuel_gal is None or fuel.isna().all():
+        if fuel is None or fuel.isna().all():
             out.loc[idx, "weight_lb"] = sheet.takeoff_weight_lb
-            out.loc[idx, "cg_in"] = sheet.takeoff_cg_in
+            out.loc[idx, "cg_in"] = takeoff_cg_in
             warnings.append(
                 f"flight {flight}: no fuel quantity logged: takeoff weight and CG used for "
                 "every point (fuel burn not applied)"
@@ -183,7 +188,7 @@ def _weight_and_cg(
             )
         zero_fuel = loading.zero_fuel_loading(
             sheet.takeoff_weight_lb,
-            sheet.takeoff_cg_in,
+            takeoff_cg_in,
             sheet.takeoff_fuel_gal,
             profile.fuel_arm_in,
             profile.fuel_density_lb_per_gal,
@@ -225,7 +230,6 @@ def _incidence_and_configuration(
     if "stab_incidence_deg" not in out:
         out["stab_incidence_deg"] = np.nan
     labels = pd.Series(DEFAULT_SETTING_LABEL, index=out.index, dtype=object)
-    configs = pd.Series("", index=out.index, dtype=object)
     for flight, rows in out.groupby("flight", sort=False).groups.items():
         sheet = loadings.get(str(flight))
         logged = out.loc[rows, "stab_incidence_deg"].dropna()
@@ -239,16 +243,25 @@ def _incidence_and_configuration(
             labels.loc[rows] = [
                 f"{v:+.2f} deg" if np.isfinite(v) else DEFAULT_SETTING_LABEL for v in values
             ]
-        elif sheet is not None and (sheet.incidence_label or sheet.incidence_deg is not None):
-            if sheet.incidence_deg is not None:
-                out.loc[rows, "stab_incidence_deg"] = sheet.incidence_deg
-            labels.loc[rows] = sheet.incidence_label or f"{sheet.incidence_deg:+.2f} deg"
-        configs.loc[rows] = (sheet.config if sheet is not None and sheet.config else "")
-    if "flap_deg" in out and out["flap_deg"].notna().any():
-        flap_text = out["flap_deg"].round(0).map(
-            lambda v: f"flaps {v:g} deg" if np.isfinite(v) else "flaps not logged"
+        elif sheet is not None and (sheet.stab_setting or sheet.stab_incidence_deg is not None):
+            if sheet.stab_incidence_deg is not None:
+                out.loc[rows, "stab_incidence_deg"] = sheet.stab_incidence_deg
+            labels.loc[rows] = sheet.stab_setting or f"{sheet.stab_incidence_deg:+.2f} deg"
+        if sheet is not None and sheet.flap_deg is not None:
+            if "flap_deg" not in out:
+                out["flap_deg"] = np.nan
+            out.loc[rows, "flap_deg"] = out.loc[rows, "flap_deg"].fillna(sheet.flap_deg)
+    if "flap_deg" not in out:
+        out["flap_deg"] = np.nan
+    unknown = out["flap_deg"].isna()
+    if unknown.any():
+        flights = ", ".join(str(f) for f in dict.fromkeys(out.loc[unknown, "flight"]))
+        warnings.append(
+            f"flap setting not logged nor in a loading sheet for flight(s) {flights}: "
+            "taken as clean (flaps up)"
         )
-        configs = configs.where(configs != "", flap_text)
-    configs = configs.where(configs != "", "clean")
+    configs = out["flap_deg"].fillna(0.0).round(0).map(
+        lambda v: "clean" if v == 0 else f"flaps {v:g} deg"
+    )
     out["stab_setting"] = labels.astype(str)
     out["config"] = configs.astype(str)
