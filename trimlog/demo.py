@@ -607,11 +607,12 @@ def _point_table_csv(flight: DemoFlight, rng: np.random.Generator) -> str:
         _cells(read("stick_force_lbf", 0.4), 1, 0.5),
         _cells(read("weight_lb", 2.0), 0, 1.0),
         _cells(read("cg_in", 0.04), 1),
+        ["0"] * n,
     ]
     # The elevator is typed as the panel indicator shows it: the logger's channel,
     # trailing-edge up positive, under the logger's name (see the profile's [logger]).
     header = ["test_point", "ias_kt", "pressure_alt_ft", "oat_c", "ELEV_POS",
-              "stick_force_lbf", "weight_lb", "cg_in"]
+              "stick_force_lbf", "weight_lb", "cg_in", "flap_deg"]
     preamble = [f"Tinkerfinch TF-2 DEMO-1 (invented demo aircraft): flight {flight.number}, "
                 f"forward CG, typed from the knee-board card"]
     return _table(header, columns, preamble)
