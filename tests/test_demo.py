@@ -14,9 +14,10 @@ import pytest
 
 from trimlog import demo, loading
 from trimlog.demo import DEMO_TRUTH, truth_points, write_demo
-from trimlog.points import find_stabilized_points
+from trimlog.points import find_stabilized_points, points_from_log
 from trimlog.profile import load_profile, parse_profile
 from trimlog.readers import read_loading_sheet, read_log
+from trimlog.reduction import reduce_points
 
 SAMPLE_LOGS = Path(__file__).resolve().parent.parent / "sample_logs"
 LOGGED = [f for f in DEMO_TRUTH.flights if f.kind == "time_series"]
@@ -265,3 +266,23 @@ def test_truth_points_table_has_the_documented_columns():
     assert list(pts["point"]) == list(range(1, DEMO_TRUTH.flights[1].n_points + 1))
     assert pts.notna().all().all()
     assert DEMO_TRUTH.flights[1].n_turns == 4
+
+
+def test_all_flights_reduce_to_one_configuration_with_the_true_loading(profile):
+    frames, sheets = [], {}
+    for flight in DEMO_TRUTH.flights:
+        frames.append(points_from_log(_read(flight, profile), flight=str(flight.number)))
+        if flight.loading_file:
+            sheet = read_loading_sheet(SAMPLE_LOGS / flight.loading_file)
+            sheets[sheet.flight] = sheet
+    reduced = reduce_points(pd.concat(frames, ignore_index=True), profile, sheets).points
+    assert set(reduced["config"]) == {"clean"}
+    assert set(reduced["stab_setting"]) == {"as rigged", DEMO_TRUTH.flights[4].stab_setting}
+    for flight in DEMO_TRUTH.flights:
+        got = reduced[reduced["flight"] == str(flight.number)].reset_index(drop=True)
+        truth = truth_points(flight)
+        # weight and CG from the typed card (1 lb, 0.1 in) or from the sheet and the
+        # logged fuel quantity (0.1 gal resolution, 0.05 gal noise)
+        np.testing.assert_allclose(got["weight_lb"], truth["weight_lb"], atol=6.0)
+        np.testing.assert_allclose(got["cg_in"], truth["cg_in"], atol=0.25)
+        np.testing.assert_allclose(got["cl"], truth["cl"], rtol=0.02)
