@@ -471,6 +471,28 @@ def test_curvature_is_found_and_a_cl_range_given():
     assert any("bends" in w for w in fit.warnings)
 
 
+def test_trim_lines_not_meeting_at_cl_zero_are_reported():
+    # synthetic, known truth: flight F1's elevator reads 1 deg high (a zero offset)
+    pts = make_points(TRUTH, cgs_pct_mac=(15.0, 20.0, 25.0, 30.0), sigma_elev_deg=0.1, seed=18)
+    pts.loc[pts["flight"] == "F1", "elevator_deg"] += 1.0
+    r = analyze_stability(pts)
+    check = r.stick_fixed.intercept_check
+    assert check.significant and check.p_value < 0.01
+    assert check.worst_flight == "F1" and check.worst_offset_deg > 0.5
+    assert any("do not meet at CL = 0" in w for w in r.warnings)
+    # the two-stage estimate, free of the intercepts, stays near the truth
+    two = r.stick_fixed_two_stage.neutral_point
+    assert two.ci95_pct_mac[0] <= 40.0 <= two.ci95_pct_mac[1]
+    assert abs(r.stick_fixed.neutral_point.pct_mac - 40.0) > abs(two.pct_mac - 40.0)
+
+
+def test_trim_lines_meeting_at_cl_zero_pass_the_check():
+    fit = pooled_fit(make_points(TRUTH, sigma_elev_deg=0.1, seed=19))
+    assert fit.intercept_check.tested and not fit.intercept_check.significant
+    one_each = pooled_fit(make_points(TRUTH, settings={1: ("b", 0.3), 2: ("c", 0.6)}))
+    assert not one_each.intercept_check.tested
+
+
 def test_wrong_elevator_sign_is_reported():
     pts = make_points(TRUTH, sigma_elev_deg=0.05, seed=10)
     pts["elevator_deg"] = -pts["elevator_deg"]

@@ -215,6 +215,40 @@ class Curvature:
     note: str
 
 
+@dataclass(frozen=True)
+class InterceptCheck:
+    """Test whether the trim lines of flights with one stabilizer setting meet at CL = 0.
+
+    The pooled stick-fixed model assumes they do (one intercept per setting).
+    An elevator zero offset between flights, an unlogged rigging change or a
+    mislabelled setting breaks that and biases the pooled neutral point; the
+    two-stage estimate does not depend on it.
+
+    Attributes
+    ----------
+    tested : bool
+        False when no setting was flown on two or more flights.
+    f_statistic, p_value : float or None
+        F test of one intercept per flight against one per setting.
+    significant : bool
+        p < 0.01.
+    worst_flight : str or None
+        The flight whose own intercept lies farthest from the median
+        intercept of the flights of its setting.
+    worst_offset_deg : float or None
+        That distance [deg].
+    note : str
+    """
+
+    tested: bool
+    f_statistic: float | None
+    p_value: float | None
+    significant: bool
+    worst_flight: str | None
+    worst_offset_deg: float | None
+    note: str
+
+
 @dataclass(frozen=True, eq=False)
 class PooledFit:
     """One linear model over every included point, and what follows from it.
@@ -249,6 +283,8 @@ class PooledFit:
     robust : RobustCheck or None
     outliers : tuple of Outlier
     curvature : Curvature or None
+    intercept_check : InterceptCheck or None
+        Stick-fixed only.
     warnings : tuple of str
     """
 
@@ -267,6 +303,7 @@ class PooledFit:
     robust: RobustCheck | None = None
     outliers: tuple[Outlier, ...] = ()
     curvature: Curvature | None = None
+    intercept_check: InterceptCheck | None = None
     warnings: tuple[str, ...] = ()
 
     @property
