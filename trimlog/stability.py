@@ -47,7 +47,6 @@ from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
-from scipy import stats
 
 from trimlog.errors import TrimlogError
 from trimlog.fits import (
@@ -58,7 +57,6 @@ from trimlog.fits import (
     fit_linear,
     is_full_rank,
     ratio_interval,
-    robust_params,
     studentized_outliers,
     t_quantile,
     trim_design,
@@ -71,14 +69,13 @@ from trimlog.stability_authority import (
     predict_elevator,
     static_margins,
 )
+from trimlog.stability_checks import intercept_check, robust_check
 from trimlog.stability_results import (
     Curvature,
     FlightGradient,
-    InterceptCheck,
     NeutralPoint,
     Outlier,
     PooledFit,
-    RobustCheck,
     StabilityResult,
     TwoStageFit,
 )
@@ -513,7 +510,6 @@ def pooled_fit(points: pd.DataFrame, kind: str = "stick_fixed", *,
         return PooledFit(**base)
     power = _power(core.linear, "h_cl") if kind == "stick_fixed" and core.has_cg_term else (
         None, None)
-    design = core.linear.params.index
     outliers = tuple(
         Outlier(kind, str(frame["flight"].iloc[o.position]), int(frame["point"].iloc[o.position]),
                 frame.index[o.position], float(np.asarray(core.linear.result.resid)[o.position]),
@@ -523,7 +519,10 @@ def pooled_fit(points: pd.DataFrame, kind: str = "stick_fixed", *,
     warnings = [f"{kind.replace('_', '-')}: flight '{o.flight}' point {o.point} is an outlier "
                 f"(studentized residual {o.studentized_residual:+.1f}); consider excluding it"
                 for o in outliers]
-    robust = _robust(frame, response, group_col, core, list(design))
+    robust = None
+    if core.has_cg_term:
+        robust = robust_check(frame, response, group_col, core.linear,
+                              core.neutral_point.pct_mac)
     if robust is not None and robust.shift_pct_mac is not None and core.neutral_point.se_pct_mac:
         if abs(robust.shift_pct_mac) > 2.0 * core.neutral_point.se_pct_mac:
             warnings.append(f"{kind.replace('_', '-')}: the robust fit moves the neutral point by "
@@ -532,77 +531,13 @@ def pooled_fit(points: pd.DataFrame, kind: str = "stick_fixed", *,
     curvature = _curvature(frame, response, group_col, core, kind, lemac_in, mac_in)
     if curvature.significant:
         warnings.append(f"{kind.replace('_', '-')}: {curvature.note}")
-    intercepts = _intercept_check(frame, core) if kind == "stick_fixed" else None
+    intercepts = (intercept_check(frame, core.linear, core.has_cg_term)
+                  if kind == "stick_fixed" else None)
     if intercepts is not None and intercepts.significant:
         warnings.append(f"stick-fixed: {intercepts.note}")
     return PooledFit(**base, elevator_power_per_rad=power[0], elevator_power_ci95_per_rad=power[1],
                      robust=robust, outliers=outliers, curvature=curvature,
                      intercept_check=intercepts, warnings=tuple(warnings))
-
-
-def _intercept_check(frame: pd.DataFrame, core: _Core) -> InterceptCheck:
-    """F test of an intercept per flight against the pooled model's intercept per setting."""
-    shared = frame.groupby("stab_setting")["flight"].nunique()
-    if not (shared >= 2).any():
-        return InterceptCheck(False, None, None, False, None, None,
-                              "no stabilizer setting was flown on two or more flights")
-    key = frame["flight"] + "\x1f" + frame["stab_setting"]
-    cells = pd.DataFrame({"cell": key, "cl": frame["cl"], "h": frame["h"]}, index=frame.index)
-    design = trim_design(cells, "cell", list(dict.fromkeys(key)), cg_term=core.has_cg_term)
-    fit_r = core.linear
-    if not is_full_rank(design) or len(frame) - design.shape[1] < 1:
-        return InterceptCheck(False, None, None, False, None, None,
-                              "too few points to test one intercept per flight")
-    fit_f = fit_linear(frame["elevator_deg"], design)
-    df_num = fit_r.df_resid - fit_f.df_resid
-    rss_r, rss_f = fit_r.residual_std**2 * fit_r.df_resid, fit_f.residual_std**2 * fit_f.df_resid
-    # Each flight's own intercept against the median of its setting's flights: robust to
-    # the pooled fit tilting towards an offset flight at an extreme CG.
-    cell_a = pd.Series({c: float(fit_f.params[f"a[{c}]"]) for c in dict.fromkeys(key)})
-    cell_setting = pd.Series({c: c.split("\x1f", 1)[1] for c in cell_a.index})
-    cell_flight = pd.Series({c: c.split("\x1f", 1)[0] for c in cell_a.index})
-    shared_cells = cell_setting.map(cell_setting.value_counts()) >= 2
-    dev = (cell_a - cell_a.groupby(cell_setting).transform("median"))[shared_cells]
-    worst_cell = str(dev.abs().idxmax())
-    worst, offset = str(cell_flight[worst_cell]), float(dev[worst_cell])
-    if rss_f <= 1e-24 * max(rss_r, 1.0):
-        significant = rss_r > 1e-20
-        return InterceptCheck(True, None, 0.0 if significant else 1.0, significant, worst,
-                              offset, _intercept_note(significant, worst, offset, None))
-    f = (rss_r - rss_f) / df_num / (rss_f / fit_f.df_resid)
-    p = float(stats.f.sf(f, df_num, fit_f.df_resid))
-    significant = p < CURVATURE_P
-    return InterceptCheck(True, finite(f), finite(p), significant, worst, offset,
-                          _intercept_note(significant, worst, offset, p))
-
-
-def _intercept_note(significant: bool, worst: str, offset: float, p: float | None) -> str:
-    if not significant:
-        return "the trim lines of each stabilizer setting meet at CL = 0, as the model assumes"
-    return (f"the trim lines of flights with the same stabilizer setting do not meet at CL = 0"
-            f"{'' if p is None else f' (F test p = {p:.2g})'}; the line of flight '{worst}' sits "
-            f"{offset:+.2f} deg off the others of its setting: an elevator zero offset, a "
-            "rigging change or a mislabelled setting biases the pooled neutral point (the "
-            "two-stage one does not depend on it)")
-
-
-def _robust(frame: pd.DataFrame, response: str, group_col: str, core: _Core,
-            columns: list[str]) -> RobustCheck | None:
-    if not core.has_cg_term:
-        return None
-    if core.linear.residual_std <= 1e-12:
-        return RobustCheck(None, None, "exact fit: no robust check needed")
-    params = robust_params(frame[response], trim_design(frame, group_col,
-                                                    list(dict.fromkeys(frame[group_col])),
-                                                    cg_term=True)[columns])
-    if params is None or params["h_cl"] == 0.0:
-        return RobustCheck(None, None, "the robust (Huber) fit did not converge")
-    est = finite(-100.0 * params["cl"] / params["h_cl"])
-    shift = None
-    if est is not None and core.neutral_point.pct_mac is not None:
-        shift = est - core.neutral_point.pct_mac
-    return RobustCheck(est, shift, "Huber M-estimate (statsmodels RLM, HuberT); a check, "
-                                   "no interval")
 
 
 def _curvature(frame: pd.DataFrame, response: str, group_col: str, core: _Core, kind: str,

@@ -1,0 +1,126 @@
+"""Checks on the pooled trim model: a robust refit and common intercepts.
+
+Split from :mod:`trimlog.stability`, which calls them; see there for the model.
+
+References
+----------
+.. [1] P. J. Huber, *Robust Statistics*, Wiley, 1981, ch. 7.
+.. [2] D. C. Montgomery, E. A. Peck and G. G. Vining, *Introduction to Linear
+   Regression Analysis*, 5th ed., Wiley, 2012, sec. 3.3.2.
+.. [3] F. G. Irving, *An Introduction to the Longitudinal Static Stability of
+   Low-Speed Aircraft*, Pergamon, 1966, ch. 5.
+"""
+
+from __future__ import annotations
+
+import pandas as pd
+from scipy import stats
+
+from trimlog.fits import LinearFit, finite, fit_linear, is_full_rank, robust_params, trim_design
+from trimlog.stability_results import InterceptCheck, RobustCheck
+
+#: Significance level of the common-intercept test.
+INTERCEPT_P = 0.01
+
+
+def intercept_check(frame: pd.DataFrame, linear: LinearFit, has_cg_term: bool) -> InterceptCheck:
+    """F test of an intercept per flight against the pooled model's intercept per setting.
+
+    Parameters
+    ----------
+    frame : pandas.DataFrame
+        The included points the pooled stick-fixed model was fitted to.
+    linear : LinearFit
+        That fit (intercept per ``stab_setting``).
+    has_cg_term : bool
+        Whether it has the ``h_cl`` term.
+
+    Returns
+    -------
+    InterceptCheck
+
+    References
+    ----------
+    .. [1] Montgomery, Peck and Vining (2012), sec. 3.3.2 (extra-sum-of-squares F
+       test); Irving (1966), ch. 5 (trim lines of one tail setting meet at CL = 0).
+    """
+    shared = frame.groupby("stab_setting")["flight"].nunique()
+    if not (shared >= 2).any():
+        return InterceptCheck(False, None, None, False, None, None,
+                              "no stabilizer setting was flown on two or more flights")
+    key = frame["flight"] + "\x1f" + frame["stab_setting"]
+    cells = pd.DataFrame({"cell": key, "cl": frame["cl"], "h": frame["h"]}, index=frame.index)
+    design = trim_design(cells, "cell", list(dict.fromkeys(key)), cg_term=has_cg_term)
+    fit_r = linear
+    if not is_full_rank(design) or len(frame) - design.shape[1] < 1:
+        return InterceptCheck(False, None, None, False, None, None,
+                              "too few points to test one intercept per flight")
+    fit_f = fit_linear(frame["elevator_deg"], design)
+    df_num = fit_r.df_resid - fit_f.df_resid
+    rss_r, rss_f = fit_r.residual_std**2 * fit_r.df_resid, fit_f.residual_std**2 * fit_f.df_resid
+    # Each flight's own intercept against the median of its setting's flights: robust to
+    # the pooled fit tilting towards an offset flight at an extreme CG.
+    cell_a = pd.Series({c: float(fit_f.params[f"a[{c}]"]) for c in dict.fromkeys(key)})
+    cell_setting = pd.Series({c: c.split("\x1f", 1)[1] for c in cell_a.index})
+    cell_flight = pd.Series({c: c.split("\x1f", 1)[0] for c in cell_a.index})
+    shared_cells = cell_setting.map(cell_setting.value_counts()) >= 2
+    dev = (cell_a - cell_a.groupby(cell_setting).transform("median"))[shared_cells]
+    worst_cell = str(dev.abs().idxmax())
+    worst, offset = str(cell_flight[worst_cell]), float(dev[worst_cell])
+    if rss_f <= 1e-24 * max(rss_r, 1.0):
+        significant = rss_r > 1e-20
+        return InterceptCheck(True, None, 0.0 if significant else 1.0, significant, worst,
+                              offset, _intercept_note(significant, worst, offset, None))
+    f = (rss_r - rss_f) / df_num / (rss_f / fit_f.df_resid)
+    p = float(stats.f.sf(f, df_num, fit_f.df_resid))
+    significant = p < INTERCEPT_P
+    return InterceptCheck(True, finite(f), finite(p), significant, worst, offset,
+                          _intercept_note(significant, worst, offset, p))
+
+
+def _intercept_note(significant: bool, worst: str, offset: float, p: float | None) -> str:
+    if not significant:
+        return "the trim lines of each stabilizer setting meet at CL = 0, as the model assumes"
+    return (f"the trim lines of flights with the same stabilizer setting do not meet at CL = 0"
+            f"{'' if p is None else f' (F test p = {p:.2g})'}; the line of flight '{worst}' sits "
+            f"{offset:+.2f} deg off the others of its setting: an elevator zero offset, a "
+            "rigging change or a mislabelled setting biases the pooled neutral point (the "
+            "two-stage one does not depend on it)")
+
+
+def robust_check(frame: pd.DataFrame, response: str, group_col: str, linear: LinearFit,
+                 np_pct_mac: float | None) -> RobustCheck:
+    """Huber M-estimate of the pooled neutral point beside the least-squares one.
+
+    Parameters
+    ----------
+    frame : pandas.DataFrame
+        The included points of the pooled fit.
+    response, group_col : str
+        Response column and intercept grouping column of the pooled model.
+    linear : LinearFit
+        The least-squares fit (with the ``h_cl`` term).
+    np_pct_mac : float or None
+        Its neutral point [%MAC] when identifiable.
+
+    Returns
+    -------
+    RobustCheck
+
+    References
+    ----------
+    .. [1] P. J. Huber, *Robust Statistics*, Wiley, 1981, ch. 7.
+    """
+    if linear.residual_std <= 1e-12:
+        return RobustCheck(None, None, "exact fit: no robust check needed")
+    params = robust_params(frame[response], trim_design(frame, group_col,
+                                                    list(dict.fromkeys(frame[group_col])),
+                                                    cg_term=True)[list(linear.params.index)])
+    if params is None or params["h_cl"] == 0.0:
+        return RobustCheck(None, None, "the robust (Huber) fit did not converge")
+    est = finite(-100.0 * params["cl"] / params["h_cl"])
+    shift = None
+    if est is not None and np_pct_mac is not None:
+        shift = est - np_pct_mac
+    return RobustCheck(est, shift, "Huber M-estimate (statsmodels RLM, HuberT); a check, "
+                                   "no interval")
