@@ -252,9 +252,13 @@ def analyze(
             continue
         seen_logs.add(id(f.log))
         warnings.extend(f"{f.source}: {w}" for w in f.log.warnings)
-        warnings.extend(
-            f"{f.source}: {d.count} {d.reason}" for d in f.log.dropped if d.count
-        )
+        dropped = [d for d in f.log.dropped if d.count]
+        if dropped:
+            total = sum(d.count for d in dropped)
+            warnings.append(
+                f"{f.source}: {total} value(s) or line(s) not used: "
+                + "; ".join(f"{d.count} {d.reason.split(':')[0]}" for d in dropped)
+            )
         if f.log.kind == "time_series" and not len(f.points):
             warnings.append(f"{f.source}: no stabilized point found in this log")
     warnings.extend(reduced.warnings)
