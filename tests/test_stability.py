@@ -631,3 +631,31 @@ def test_any_small_table_gives_verdicts_never_nonfinite_numbers(data):
     for np_ in (r.stick_fixed.neutral_point, r.stick_fixed_two_stage.neutral_point):
         assert np_.identifiable == (np_.pct_mac is not None)
         assert np_.identifiable or np_.reason
+
+
+def test_demo_truth_points_are_recovered_exactly():
+    # synthetic, known truth: the demo aircraft's noise-free points (trimlog.demo), whose
+    # CG moves with fuel burn during each flight.
+    from trimlog.demo import DEMO_TRUTH, truth_points
+
+    pts = pd.concat([truth_points(f) for f in DEMO_TRUTH.flights], ignore_index=True)
+    pts["included"] = True
+    pts["fs_over_q_ft2"] = pts["stick_force_lbf"] / pts["q_psf"]
+    pts["stab_setting"] = pts["stab_incidence_deg"].map(lambda v: f"{v:+.1f} deg")
+    pts["cg_pct_mac"] = 100 * pts["h"]
+    pts["config"] = "clean"
+    r = analyze_stability(pts)
+    t = DEMO_TRUTH
+    assert r.stick_fixed.neutral_point.pct_mac == pytest.approx(100 * t.neutral_point_fixed,
+                                                                abs=1e-6)
+    assert r.stick_free.neutral_point.pct_mac == pytest.approx(100 * t.neutral_point_free,
+                                                               abs=1e-6)
+    assert r.stick_fixed.elevator_power_per_rad == pytest.approx(t.cm_delta_per_rad, rel=1e-6)
+    # intercept shift between settings: d(de0) = -d(i_t)/tau
+    a = r.stick_fixed.intercepts()
+    settings = sorted(pts["stab_incidence_deg"].unique())
+    lo, hi = (f"{v:+.1f} deg" for v in settings)
+    assert a[hi] - a[lo] == pytest.approx(-(settings[1] - settings[0]) / t.tau, rel=1e-6)
+    # the two-stage method places each flight at its mean CG: close, not exact
+    assert r.stick_fixed_two_stage.neutral_point.pct_mac == pytest.approx(
+        100 * t.neutral_point_fixed, abs=0.3)

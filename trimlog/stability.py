@@ -282,8 +282,16 @@ def flight_gradients(points: pd.DataFrame) -> tuple[FlightGradient, ...]:
     -----
     ``de = a + (dde/dCL) CL`` (one intercept per stabilizer setting) and
     ``Fs/q = A + B CL`` by least squares; 95 % intervals from Student's t with
-    the residual degrees of freedom.  dFs/dV is derived in
-    ``_stick_force_gradient`` (negative is stable with pull positive).
+    the residual degrees of freedom.
+
+    Stick-force gradient: with ``CL = nW/(qS)``, ``Fs = q (A + B CL) = A q +
+    B nW/S`` and ``q = K V^2`` (EAS, ``K = rho0/2``), so ``dFs/dV = 2 A K V``.
+    The trim speed is where ``Fs = 0``: ``CL_t = -A/B``, ``q_t = (nW/S)/CL_t``,
+    ``V_t = sqrt(q_t/K)``, and there ``dFs/dV = 2 A q_t/V_t = sign(A) 2
+    sqrt(K (nW/S)(-A B))`` [lbf/kt]; ``nW/S`` is the mean ``q CL`` of the
+    flight.  With pull positive, negative is stable (a pull is needed to slow
+    down); its interval is by the delta method from the covariance of A and B.
+    No trim speed exists when A and B have the same sign.
 
     References
     ----------
@@ -601,6 +609,11 @@ def two_stage_neutral_point(gradients: tuple[FlightGradient, ...], *,
     gradient is exact.  The gradient is zero at
     ``hn = -alpha/beta`` (Fieller interval from the WLS covariance, t on
     ``n_flights - 2`` degrees of freedom); ``beta = -1/Cm_de'``.
+
+    Each flight is placed at its mean CG.  Fuel burn moving the CG during a
+    flight tilts that flight's gradient slightly (0.1 %MAC on noise-free
+    points with typical burn); the pooled model, which uses each point's CG,
+    does not have this bias.
 
     References
     ----------
