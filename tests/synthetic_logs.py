@@ -69,7 +69,7 @@ def make_log(
     pieces: list[dict[str, np.ndarray]] = []
     truth: list[tuple[float, float, Hold]] = []
     t = 0.0
-    state = {"ias": 105.0, "elev": elevator_for(105.0), "force": force_for(105.0)}
+    state = {"ias": 125.0, "elev": elevator_for(125.0), "force": force_for(125.0)}
     state["alt"] = altitude_ft
 
     def add(duration: float, ias: np.ndarray | float, elev, force, nz, vs) -> None:

@@ -18,10 +18,13 @@ Method (all vectorised over the log)
    tolerance and, with ``nz_g`` logged, the smoothed load factor stays within
    ``nz_tol_g`` of 1 g (turns and pull-ups are excluded).  At least 80 % of
    the window's bins must hold data.
-4. A point is the union of the windows of a run of steady bins.  A run that
-   drifts slowly (each window steady, the whole run not) is cut where the
-   range from its start exceeds the tolerance; those pieces are flagged
-   ``drift``.
+4. A point is the union of the windows of a run of steady bins.  A run
+   whose straight-line trend exceeds a tolerance (a slow drift: each window
+   steady, the whole run not) is halved until each piece passes; those
+   pieces are flagged ``drift``.  End bins off the piece's median by more
+   than half a tolerance (the tail of a transition) are trimmed.  Two pieces
+   split by a burst of turbulence of at most ``merge_gap_s`` at 1 g, with
+   medians within half a tolerance and no trend together, are joined.
 5. Each point is summarised from the raw samples: samples further than
    ``spike_sigma`` robust standard deviations (1.4826 x MAD) from the median
    are left out (flag ``spike``), then mean and standard deviation.  The
@@ -34,7 +37,9 @@ When the samples have an ``event`` column with markers (any value other
 than empty, ``0``, ``false``, ``off`` or ``no``), the markers are the
 pilot's word on where the points are.  Consecutive rows with the same marker
 form one mark.  Each mark claims the detected point that overlaps it (the
-largest overlap), or else the nearest one within ``event_search_s``; when
+largest overlap); a mark that overlaps none then claims the first unclaimed
+point starting within ``event_search_s`` after it (the button pressed just
+before the hold settled); when
 the mark spans at least ``min_duration_s`` and overlaps the point by that
 much, the point is clipped to the mark.  The point's ``event`` column
 carries the marker text.  A detected point that no mark claims is kept with
@@ -104,11 +109,14 @@ class PointSettings:
     spike_sigma : float
         Robust standard deviations beyond which a sample is a spike.
     event_search_s : float
-        How far from a mark a point may be and still be claimed by it [s].
+        How long after a mark a point may start and still be claimed by it [s].
     alt_scatter_ft : float
         Altitude scatter about a straight line that raises ``alt_unsteady`` [ft].
     turbulence_ias_kt : float
         Airspeed standard deviation that raises ``turbulent`` [kt].
+    merge_gap_s : float
+        Longest unsteady burst between two pieces of equal values that are
+        joined into one point [s].
 
     Notes
     -----
@@ -129,6 +137,7 @@ class PointSettings:
     event_search_s: float = 30.0
     alt_scatter_ft: float = 30.0
     turbulence_ias_kt: float = 2.0
+    merge_gap_s: float = 5.0
 
     def __post_init__(self) -> None:
         for f in fields(self):
@@ -370,6 +379,11 @@ def _points_of_flight(
             p0, p1 = _trim_edges(values[p0 : p1 + 1], tol, p0)
             if p1 - p0 + 1 >= window:
                 pieces.append((p0, p1, flag))
+    one_g = (
+        np.ones(n_bins, dtype=bool) if "nz_g" not in smooth
+        else ((smooth["nz_g"] - 1.0).abs() <= settings.nz_tol_g).to_numpy()
+    )
+    pieces = _rejoin(pieces, values, tol, one_g, int(round(settings.merge_gap_s / bin_s)), window)
     windows = [(time[0] + a * bin_s, time[0] + (b + 1) * bin_s, drift) for a, b, drift in pieces]
     marks = _marks(samples)
     rows = _match_marks(windows, marks, settings) if marks is not None else [
@@ -424,6 +438,38 @@ def _split_trend(
     )
 
 
+def _rejoin(
+    pieces: list[tuple[int, int, str]],
+    values: np.ndarray,
+    tol: np.ndarray,
+    one_g: np.ndarray,
+    max_gap: int,
+    window: int,
+) -> list[tuple[int, int, str]]:
+    """Join neighbouring pieces that a short burst of turbulence split.
+
+    Two pieces are one point when the bins between them are at most
+    ``max_gap``, stayed at 1 g, their medians agree within half a tolerance,
+    and the joined span still has no trend beyond the tolerance.
+    """
+    out: list[tuple[int, int, str]] = []
+    for piece in pieces:
+        if out:
+            a0, a1, flag_a = out[-1]
+            b0, b1, flag_b = piece
+            close = b0 - a1 - 1 <= max_gap and bool(one_g[a1 : b0 + 1].all())
+            same = np.all(
+                np.abs(_column_median(values[a0 : a1 + 1]) - _column_median(values[b0 : b1 + 1]))
+                <= 0.5 * tol
+            )
+            joined = _split_trend(values, a0, b1, tol, window, drifted=False)
+            if close and same and len(joined) == 1:
+                out[-1] = (a0, b1, _join(flag_a, flag_b))
+                continue
+        out.append(piece)
+    return out
+
+
 def _trim_edges(part: np.ndarray, tol: np.ndarray, offset: int) -> tuple[int, int]:
     """Drop end bins whose smoothed value is off the piece's median by over half a tolerance.
 
@@ -463,23 +509,28 @@ def _match_marks(
 ) -> list[tuple[float, float, str, str, bool]]:
     """Pair marks with detected windows; see the module notes."""
     claimed: dict[int, tuple[float, float, str]] = {}
-    orphans = []
+    pending = []
     for m0, m1, label in marks:
-        best, best_key = None, None
-        for i, (w0, w1, _) in enumerate(windows):
-            if i in claimed:
-                continue
-            overlap = min(w1, m1) - max(w0, m0)
-            distance = max(w0 - m1, m0 - w1, 0.0)
-            if distance > settings.event_search_s:
-                continue
-            key = (overlap >= 0, overlap if overlap >= 0 else -distance)
-            if best_key is None or key > best_key:
-                best, best_key = i, key
-        if best is None:
-            orphans.append((m0, max(m1, m0 + settings.min_duration_s), label))
+        overlaps = [
+            (min(w1, m1) - max(w0, m0), i)
+            for i, (w0, w1, _) in enumerate(windows)
+            if i not in claimed and min(w1, m1) >= max(w0, m0)
+        ]
+        if overlaps:
+            claimed[max(overlaps)[1]] = (m0, m1, label)
         else:
-            claimed[best] = (m0, m1, label)
+            pending.append((m0, m1, label))
+    orphans = []
+    for m0, m1, label in pending:
+        # The button pressed just before the hold settled: the next point soon after.
+        after = [
+            (w0, i) for i, (w0, _, _) in enumerate(windows)
+            if i not in claimed and m1 < w0 <= m1 + settings.event_search_s
+        ]
+        if after:
+            claimed[min(after)[1]] = (m0, m1, label)
+        else:
+            orphans.append((m0, max(m1, m0 + settings.min_duration_s), label))
     rows = []
     for i, (w0, w1, flags) in enumerate(windows):
         if i not in claimed:
