@@ -404,7 +404,8 @@ def map_columns(
     """Map file columns to canonical names.
 
     The column map is tried first (exact header, then the normalised header),
-    then :func:`understand_header`.
+    then :func:`understand_header`.  Map entries absent from the file are not
+    reported: one aircraft's map serves files of several kinds.
 
     Returns
     -------
@@ -417,11 +418,9 @@ def map_columns(
     found: dict[int, HeaderMeaning] = {}
     unknown: list[str] = []
     ignored: list[str] = []
-    used_map: set[str] = set()
     for i, (header, unit) in enumerate(zip(headers, units, strict=True)):
         target = column_map.get(header, by_norm.get(normalise(header)))
         if target is not None:
-            used_map.add(normalise(header))
             if target.strip() in ("", "-"):
                 ignored.append(header)
                 continue
@@ -440,11 +439,6 @@ def map_columns(
             unknown.append(header)
         else:
             found[i] = meaning
-    missing_keys = [k for k in column_map if normalise(k) not in used_map]
-    if missing_keys:
-        notes.warnings.append(
-            "column map entries not found in the file: " + ", ".join(f"'{k}'" for k in missing_keys)
-        )
     seen: dict[str, str] = {}
     for i, meaning in found.items():
         header = headers[i]

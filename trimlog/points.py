@@ -63,6 +63,17 @@ Quality flags
 ``marker_unsteady``  marked by the pilot but not steady (excluded)
 ``table``            a row of a point table: no window statistics
 ``incomplete``       a point-table row missing airspeed, altitude or elevator (excluded)
+
+References
+----------
+.. [1] P. J. Huber and E. M. Ronchetti, *Robust Statistics*, 2nd ed., Wiley,
+   2009, sec. 5.1: the median absolute deviation, scaled by 1/0.6745 = 1.4826
+   to estimate the standard deviation of a normal sample.
+.. [2] P. J. Rousseeuw and C. Croux, "Alternatives to the median absolute
+   deviation", *J. Amer. Statist. Assoc.* 88 (1993) 1273-1283.
+.. [3] The mean absolute deviation of a normal sample is sigma*sqrt(2/pi), so
+   sigma = 1.2533 x mean absolute deviation (any statistics handbook, e.g.
+   M. Abramowitz and I. Stegun, *Handbook of Mathematical Functions*, 26.2).
 """
 
 from __future__ import annotations
