@@ -188,12 +188,13 @@ def load_flight_file(
         raw = path.read_bytes()
     except OSError as exc:
         raise InputFileError(f"cannot read the file: {exc.strerror}", file=str(path)) from None
-    sheet_path = Path(loading_path) if loading_path else _sibling_sheet(path)
+    sheet_path = Path(loading_path) if loading_path else sibling_sheet(path)
     sheet = read_loading_sheet(sheet_path) if sheet_path is not None else None
     return load_flight_bytes(raw, str(path), profile, loading=sheet, min_hold_s=min_hold_s)
 
 
-def _sibling_sheet(path: Path) -> Path | None:
+def sibling_sheet(path: Path) -> Path | None:
+    """The loading sheet beside a log (``flight3.csv`` -> ``flight3.loading.toml``), if any."""
     candidate = path.with_name(path.name.rsplit(".", 1)[0] + LOADING_SHEET_SUFFIX)
     return candidate if candidate.is_file() else None
 
@@ -346,10 +347,9 @@ def _calibrate_tau(result: StabilityResult, points: pd.DataFrame) -> tau.TauCali
         math.isfinite(i_first) and math.isfinite(i_latest)
     ) or i_first == i_latest:
         return None
-    a, b = f"a[{first}]", f"a[{latest}]"
-    params, cov = fit.linear.params, fit.linear.cov
-    shift = float(params[b] - params[a])
-    variance = float(cov.loc[a, a] + cov.loc[b, b] - 2.0 * cov.loc[a, b])
+    intercepts, cov = fit.intercepts(), fit.intercept_cov()
+    shift = float(intercepts[latest] - intercepts[first])
+    variance = float(cov.loc[first, first] + cov.loc[latest, latest] - 2.0 * cov.loc[first, latest])
     return tau.calibrate_tau(shift, math.sqrt(max(variance, 0.0)), float(i_latest - i_first),
                              fit.linear.df_resid)
 

@@ -96,6 +96,8 @@ def _build_parser() -> argparse.ArgumentParser:
     p.add_argument("logs", nargs="*", metavar="LOG", help="logs or point tables (CSV)")
     p.add_argument("--aircraft", metavar="PROFILE.toml", help="aircraft profile")
     p.add_argument("--db", metavar="DB", help="make the report from this flight history")
+    p.add_argument("--aircraft-name", metavar="NAME",
+                   help="with --db: which aircraft (needed when the history holds several)")
     p.add_argument("-o", "--output", required=True, metavar="REPORT.pdf", help="PDF to write")
     _add_detection_options(p)
 
@@ -116,7 +118,7 @@ def _build_parser() -> argparse.ArgumentParser:
         "List the flights in the history.",
         "trimlog flights --db history.sqlite",
     )
-    _add_db(p)
+    _add_db(p, choose_aircraft=True)
     p.add_argument("--json", metavar="OUT.json", help="write the list as JSON")
 
     p = command(
@@ -125,7 +127,7 @@ def _build_parser() -> argparse.ArgumentParser:
         "Neutral point after each successive flight, and the next CG step.",
         "trimlog trend --db history.sqlite --json trend.json",
     )
-    _add_db(p)
+    _add_db(p, choose_aircraft=True)
     p.add_argument("--json", metavar="OUT.json", help="write the trend as JSON")
 
     p = command(
@@ -134,7 +136,7 @@ def _build_parser() -> argparse.ArgumentParser:
         "Suggest how far aft the next flight may go, with the reasoning.",
         "trimlog plan --db history.sqlite --min-margin 5 --max-step 2",
     )
-    _add_db(p)
+    _add_db(p, choose_aircraft=True)
     p.add_argument("--min-margin", type=float, metavar="PCT_MAC",
                    help="minimum static margin policy [%%MAC] (default: the profile's)")
     p.add_argument("--max-step", type=float, metavar="PCT_MAC",
@@ -235,12 +237,18 @@ def _add_detection_options(p: argparse.ArgumentParser) -> None:
     )
 
 
-def _add_db(p: argparse.ArgumentParser) -> None:
+def _add_db(p: argparse.ArgumentParser, *, choose_aircraft: bool = False) -> None:
     p.add_argument(
         "--db",
         metavar="DB",
         help="history database (default: $TRIMLOG_DB, else the user data directory)",
     )
+    if choose_aircraft:
+        p.add_argument(
+            "--aircraft-name",
+            metavar="NAME",
+            help="which aircraft of the history (needed when it holds several)",
+        )
 
 
 def _progress(message: str) -> None:
@@ -315,14 +323,15 @@ def _run_report(args: argparse.Namespace) -> int:
     from trimlog import analysis, report
 
     if args.db:
-        result = _history_analysis(args.db)
+        result, trend = _history_analysis(args.db, args.aircraft_name)
     else:
         if not args.logs or not args.aircraft:
             raise TrimlogError("report: give LOG files with --aircraft, or --db DB")
         profile, flights = _load_inputs(args)
         result = analysis.analyze(flights, profile, exclusions=_exclusions(args.exclude))
+        trend = None
     _progress("drawing the report")
-    path = report.write_report(result, args.output)
+    path = report.write_report(result, args.output, trend=trend)
     print(f"report written to {path}")
     return EXIT_OK if result.identifiable else EXIT_REFUSED
 
@@ -333,11 +342,11 @@ def _open_store(db: str | None):
     return store.open_store(db)
 
 
-def _history_analysis(db: str):
+def _history_analysis(db: str, aircraft: str | None):
     from trimlog import history
 
     with _open_store(db) as st:
-        return history.analyze_history(st)
+        return history.analyze_history(st, aircraft), history.trend(st, aircraft)
 
 
 def _run_import(args: argparse.Namespace) -> int:
@@ -368,7 +377,7 @@ def _run_flights(args: argparse.Namespace) -> int:
     from trimlog import history, summary
 
     with _open_store(args.db) as st:
-        listing = history.flight_listing(st)
+        listing = history.flight_listing(st, args.aircraft_name)
     if args.json:
         _write_json(args.json, listing)
     print(summary.render_flights(listing))
@@ -379,7 +388,7 @@ def _run_trend(args: argparse.Namespace) -> int:
     from trimlog import history, summary
 
     with _open_store(args.db) as st:
-        trend = history.trend(st)
+        trend = history.trend(st, args.aircraft_name)
     if args.json:
         _write_json(args.json, trend.to_dict())
     print(summary.render_trend(trend, color=_use_color()))
@@ -390,7 +399,8 @@ def _run_plan(args: argparse.Namespace) -> int:
     from trimlog import history, summary
 
     with _open_store(args.db) as st:
-        trend = history.trend(st, min_margin_pct_mac=args.min_margin, max_step_pct_mac=args.max_step)
+        trend = history.trend(st, args.aircraft_name, min_margin_pct_mac=args.min_margin,
+                              max_step_pct_mac=args.max_step)
     if args.json:
         _write_json(args.json, trend.to_dict()["next_step"])
     print(summary.render_plan(trend, color=_use_color()))

@@ -90,6 +90,7 @@ __all__ = [
     "pooled_fit",
     "predict_elevator",
     "static_margins",
+    "neutral_point_from_fit",
     "two_stage_neutral_point",
 ]
 
@@ -353,7 +354,7 @@ def _not_identifiable(kind: str, method: str, reason: str, spread: float, n: int
                         spread, n, n_flights)
 
 
-def _neutral_point(
+def neutral_point_from_fit(
     fit: LinearFit, b_name: str, c_name: str, *, kind: str, method: str, spread: float,
     n: int, n_flights: int, lemac_in: float | None, mac_in: float | None,
 ) -> NeutralPoint:
@@ -436,7 +437,7 @@ def _core(frame: pd.DataFrame, response: str, group_col: str, kind: str,
     full = trim_design(frame, group_col, groups, cg_term=True)
     if is_full_rank(full) and n - full.shape[1] >= 1:
         fit = fit_linear(frame[response], full)
-        return _Core(fit, True, _neutral_point(
+        return _Core(fit, True, neutral_point_from_fit(
             fit, "cl", "h_cl", kind=kind, method="pooled", spread=spread, n=n,
             n_flights=n_flights, lemac_in=lemac_in, mac_in=mac_in))
     reduced = trim_design(frame, group_col, groups, cg_term=False)
@@ -645,7 +646,7 @@ def two_stage_neutral_point(gradients: tuple[FlightGradient, ...], *,
             len(usable)), None, None, None, names, weighting)
     y = pd.Series([g.delev_dcl_deg for g in usable], dtype=float)
     fit = fit_linear(y, design, weights)
-    np_ = _neutral_point(fit, "const", "h", kind="stick_fixed", method="two_stage",
+    np_ = neutral_point_from_fit(fit, "const", "h", kind="stick_fixed", method="two_stage",
                          spread=spread, n=n_points, n_flights=len(usable),
                          lemac_in=lemac_in, mac_in=mac_in)
     power = _power(fit, "h")
