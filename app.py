@@ -1,0 +1,32 @@
+"""trimlog dashboard: a thin router to the pages in trimlog/app_pages.
+
+Start it with ``trimlog dashboard`` (localhost only, explicit upload limit).
+"""
+
+import streamlit as st
+
+from trimlog.app_pages import aircraft, flights, history_page, points, results, session
+
+PAGES = {
+    "Results": results.render,
+    "Aircraft": aircraft.render,
+    "Flights": flights.render,
+    "Points": points.render,
+    "History": history_page.render,
+}
+CAPTIONS = [
+    "neutral points, margins, shim",
+    "profile of the airplane",
+    "upload logs and loading sheets",
+    "check the stabilized points",
+    "saved flights, trend, next CG",
+]
+
+st.set_page_config(page_title="trimlog", page_icon=":material/flight:", layout="wide")
+session.init()
+st.session_state.setdefault("page", "Results")
+with st.sidebar:
+    st.markdown("### trimlog")
+    st.caption("Stabilized-trim flight-test analysis. Estimates from your data, never an approval.")
+    st.radio("Page", list(PAGES), captions=CAPTIONS, key="page")
+PAGES[st.session_state.page]()

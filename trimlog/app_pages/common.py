@@ -1,0 +1,56 @@
+"""Pieces every page shows: cautions, errors, numbers with their intervals."""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Sequence
+
+import streamlit as st
+
+from trimlog import cautions
+from trimlog.errors import TrimlogError
+
+
+def show_error(exc: TrimlogError, what: str = "") -> None:
+    """A user's mistake, in the package's own words (never a traceback)."""
+    st.error(f"{what}{': ' if what else ''}{exc}", icon=":material/error:")
+
+
+def caution_box(extra: Sequence[str] = (), *, key: str = "") -> None:
+    """The estimate statement and the general flight-test cautions, always visible."""
+    with st.container(border=True, key=f"cautions{key}"):
+        st.markdown(f"**Flight-test cautions.** {cautions.ESTIMATE_STATEMENT}")
+        st.markdown("\n".join(f"- {c}" for c in (*cautions.GENERAL, *extra)))
+
+
+def caution_list(texts: Iterable[str]) -> None:
+    """Cautions that belong to one result, next to it."""
+    st.caption("\n".join(f"- {c}" for c in texts))
+
+
+def num(value: float | None, fmt: str = ".1f", unit: str = "") -> str:
+    """A number with its unit, or a dash when there is none."""
+    if value is None:
+        return "-"
+    return f"{value:{fmt}}{(' ' + unit) if unit else ''}"
+
+
+def interval(ci: Sequence[float] | None, fmt: str = ".1f", unit: str = "") -> str:
+    """A 95 % interval as text."""
+    if ci is None:
+        return "-"
+    return f"{ci[0]:{fmt}} to {ci[1]:{fmt}}{(' ' + unit) if unit else ''}"
+
+
+def with_interval(value: float | None, ci: Sequence[float] | None, fmt: str = ".1f",
+                  unit: str = "") -> str:
+    """A value followed by its 95 % interval in brackets."""
+    if value is None:
+        return "-"
+    if ci is None:
+        return num(value, fmt, unit)
+    return f"{value:{fmt}} [{ci[0]:{fmt}}, {ci[1]:{fmt}}]{(' ' + unit) if unit else ''}"
+
+
+def go_to(page: str) -> None:
+    """Switch the router to another page (used as a button callback)."""
+    st.session_state.page = page
