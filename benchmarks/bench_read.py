@@ -4,15 +4,16 @@ Not a test (no timed assertions anywhere): run it and read the numbers::
 
     .venv/bin/python benchmarks/bench_read.py [--repeat 7]
 
-It writes a synthetic one-hour log at 50 Hz (180,000 rows, 15 columns) into a
-temporary folder, then times, in the same run, the median of several
-``pandas.read_csv`` of that file and of trimlog's ``read_log`` followed by
-``find_stabilized_points``, and prints both and their ratio.
+It writes a synthetic one-hour log at 50 Hz (about 180,000 rows, 15 columns)
+into a temporary folder, then times, interleaved in the same run, several
+``pandas.read_csv`` of that file and trimlog's ``read_log`` followed by
+``find_stabilized_points``, and prints the medians and their ratio.
 """
 
 from __future__ import annotations
 
 import argparse
+import os
 import statistics
 import sys
 import tempfile
@@ -54,15 +55,11 @@ def write_hour_log(folder: Path) -> tuple[Path, int]:
     return path, holds
 
 
-def median_time(function, repeat: int) -> tuple[float, object]:
-    """Return the median wall time of ``repeat`` calls [s], and the last result."""
-    times = []
-    result = None
-    for _ in range(repeat):
-        start = time.perf_counter()
-        result = function()
-        times.append(time.perf_counter() - start)
-    return statistics.median(times), result
+def timed(function) -> tuple[float, object]:
+    """Return the wall time of one call [s] and its result."""
+    start = time.perf_counter()
+    result = function()
+    return time.perf_counter() - start, result
 
 
 def main() -> None:
@@ -70,23 +67,31 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--repeat", type=int, default=7)
     args = parser.parse_args()
+    runs: dict[str, list[float]] = {"pandas": [], "read": [], "points": [], "total": []}
     with tempfile.TemporaryDirectory() as tmp:
         path, holds = write_hour_log(Path(tmp))
         size_mb = path.stat().st_size / 1e6
-        pandas_s, frame = median_time(lambda: pd.read_csv(path), args.repeat)
-        read_s, log = median_time(lambda: read_log(path), args.repeat)
-        points_s, points = median_time(lambda: find_stabilized_points(log.data), args.repeat)
-        both_s, _ = median_time(
-            lambda: find_stabilized_points(read_log(path).data), args.repeat
-        )
+        # Interleaved, so that a busy shared machine slows both sides alike.
+        for _ in range(args.repeat):
+            seconds, frame = timed(lambda: pd.read_csv(path))
+            runs["pandas"].append(seconds)
+            seconds, log = timed(lambda: read_log(path))
+            runs["read"].append(seconds)
+            seconds, points = timed(lambda data=log.data: find_stabilized_points(data))
+            runs["points"].append(seconds)
+            seconds, _ = timed(lambda: find_stabilized_points(read_log(path).data))
+            runs["total"].append(seconds)
+    median = {k: statistics.median(v) for k, v in runs.items()}
     print(f"log: {frame.shape[0]} rows x {frame.shape[1]} columns, {size_mb:.1f} MB, "
           f"{holds} true holds; kind {log.kind!r}; {len(points)} points found")
-    print(f"pandas.read_csv                 {pandas_s * 1e3:8.1f} ms  (median of {args.repeat})")
-    print(f"trimlog read_log                {read_s * 1e3:8.1f} ms")
-    print(f"trimlog find_stabilized_points  {points_s * 1e3:8.1f} ms")
-    print(f"trimlog read + validate + segment {both_s * 1e3:6.1f} ms")
-    print(f"ratio (trimlog total / pandas read_csv) = {both_s / pandas_s:.2f}")
-    print(f"ratio (segmenting / reading)            = {points_s / read_s:.2f}")
+    print(f"load average (1 min) at the end: {os.getloadavg()[0]:.2f} on {os.cpu_count()} cores")
+    print(f"pandas.read_csv                   {median['pandas'] * 1e3:7.1f} ms "
+          f"(median of {args.repeat})")
+    print(f"trimlog read_log                  {median['read'] * 1e3:7.1f} ms")
+    print(f"trimlog find_stabilized_points    {median['points'] * 1e3:7.1f} ms")
+    print(f"trimlog read + validate + segment {median['total'] * 1e3:7.1f} ms")
+    print(f"ratio (trimlog total / pandas read_csv) = {median['total'] / median['pandas']:.2f}")
+    print(f"ratio (segmenting / trimlog read)       = {median['points'] / median['read']:.2f}")
 
 
 if __name__ == "__main__":

@@ -386,6 +386,7 @@ def _points_of_flight(
     tol = np.array(list(tolerances.values()))
     pieces = []
     for a, b in _merge_spans(_runs(steady), half, n_bins):
+        a, b = _trim_edges(values[a : b + 1], tol, a)
         for p0, p1, flag in _split_trend(values, a, b, tol, window, drifted=False):
             p0, p1 = _trim_edges(values[p0 : p1 + 1], tol, p0)
             if p1 - p0 + 1 >= window:
@@ -565,40 +566,45 @@ def _join(*flags: str) -> str:
 
 def _column_median(block: np.ndarray) -> np.ndarray:
     """Return the median of each column, ignoring NaN (NaN for an all-NaN column)."""
-    if not np.isnan(block).any():
-        return np.median(block, axis=0)
-    out = np.full(block.shape[1], np.nan)
-    for j in range(block.shape[1]):
-        column = block[:, j]
-        column = column[np.isfinite(column)]
-        if len(column):
-            out[j] = np.median(column)
-    return out
+    return _row_median(np.ascontiguousarray(block.T))
+
+
+def _row_median(rows: np.ndarray) -> np.ndarray:
+    """Return the median of each row, ignoring NaN (NaN for an all-NaN row)."""
+    if not np.isnan(rows).any():
+        return np.median(rows, axis=1)
+    ordered = np.sort(rows, axis=1)  # NaN sorts last
+    count = np.isfinite(rows).sum(axis=1)
+    low = np.take_along_axis(ordered, np.maximum((count - 1) // 2, 0)[:, None], axis=1)[:, 0]
+    high = np.take_along_axis(ordered, np.maximum(count // 2, 0)[:, None], axis=1)[:, 0]
+    return np.where(count > 0, 0.5 * (low + high), np.nan)
 
 
 def _robust_stats(
-    block: np.ndarray, spike_sigma: float
+    rows: np.ndarray, spike_sigma: float
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-    """Per column of one window: mean, std, spikes left out, missing count.
+    """Per quantity (row) of one window: mean, std, spikes left out, missing count.
 
-    Samples beyond ``spike_sigma`` robust standard deviations (1.4826 x MAD)
-    from the median are left out of mean and std.
+    Samples beyond ``spike_sigma`` robust standard deviations (1.4826 x MAD,
+    [1]_, [2]_) from the median are left out of mean and std.  Where the MAD
+    is zero (a quantised sensor), 1.2533 x the mean absolute deviation [3]_
+    is used instead, so that a lone spike is still seen.
     """
-    finite = np.isfinite(block)
-    median = _column_median(block)
-    deviation = np.abs(block - median)
-    sigma = _MAD_TO_SIGMA * _column_median(deviation)
-    # Quantised sensors often have a MAD of zero; the mean deviation still sees a spike.
-    mean_dev = np.nanmean(np.where(finite, deviation, np.nan), axis=0) if finite.any() else sigma
-    sigma = np.where(sigma > 0, sigma, 1.2533 * np.nan_to_num(mean_dev))
-    kept = finite & ((sigma == 0) | (deviation <= spike_sigma * sigma))
-    n_kept = kept.sum(axis=0)
-    total = np.where(kept, block, 0.0).sum(axis=0)
+    finite = np.isfinite(rows)
+    median = _row_median(rows)
+    deviation = np.abs(rows - median[:, None])
+    sigma = _MAD_TO_SIGMA * _row_median(deviation)
+    count = finite.sum(axis=1)
     with np.errstate(invalid="ignore", divide="ignore"):
-        mean = np.where(n_kept > 0, total / n_kept, np.nan)
-        square = np.where(kept, (block - mean) ** 2, 0.0).sum(axis=0)
+        mean_dev = np.where(finite, deviation, 0.0).sum(axis=1) / count
+        sigma = np.where(sigma > 0, sigma, 1.2533 * np.nan_to_num(mean_dev))
+        kept = finite & ((sigma[:, None] == 0) | (deviation <= spike_sigma * sigma[:, None]))
+        n_kept = kept.sum(axis=1)
+        mean = np.where(kept, rows, 0.0).sum(axis=1) / n_kept
+        square = np.where(kept, (rows - mean[:, None]) ** 2, 0.0).sum(axis=1)
         std = np.where(n_kept > 1, np.sqrt(square / (n_kept - 1)), np.nan)
-    return mean, std, finite.sum(axis=0) - n_kept, (~finite).sum(axis=0)
+    mean = np.where(n_kept > 0, mean, np.nan)
+    return mean, std, count - n_kept, (~finite).sum(axis=1)
 
 
 def _summaries(
@@ -610,7 +616,7 @@ def _summaries(
     time = samples["time_s"].to_numpy(dtype=float)
     names = _numeric_names(samples)
     arrays = {n: samples[n].to_numpy(dtype=float) for n in names}
-    matrix = samples[names].to_numpy(dtype=float)
+    by_row = np.ascontiguousarray(samples[names].to_numpy(dtype=float).T)
     lines = samples["source_line"].to_numpy() if "source_line" in samples else np.zeros(len(time))
     core = set(_tolerances(samples, settings))
     speed = _speed_name(samples)
@@ -621,7 +627,7 @@ def _summaries(
             continue
         record: dict[str, object] = {"flight": flight, "event": label, "included": included}
         flag_set = [f for f in flags.split(";") if f]
-        means, stds, spikes, missing = _robust_stats(matrix[i0:i1], settings.spike_sigma)
+        means, stds, spikes, missing = _robust_stats(by_row[:, i0:i1], settings.spike_sigma)
         for j, name in enumerate(names):
             record[name], record[f"{name}_std"] = float(means[j]), float(stds[j])
             if name in core and spikes[j]:

@@ -226,7 +226,7 @@ _SIGNATURES = (
 
 def _encoding(raw: bytes, label: str, notes: Notes) -> str:
     """Refuse what is plainly not a text table; choose the text encoding."""
-    if not raw.strip():
+    if not raw[:_SNIFF_BYTES].strip() and not raw.strip():
         raise InputFileError("the file is empty; expected a CSV log or point table", file=label)
     for signature, what in _SIGNATURES:
         if raw.startswith(signature):
@@ -385,8 +385,8 @@ def _decimal_mark(lines: list[str], delimiter: str) -> str:
 
 def _parse(
     raw: bytes, layout: _Layout, label: str, notes: Notes
-) -> tuple[pd.DataFrame, np.ndarray]:
-    """Read the data lines; return the raw frame and each row's 1-based file line."""
+) -> tuple[pd.DataFrame, np.ndarray, int]:
+    """Read the data lines; return the raw frame, each row's file line, the last line."""
     width = len(layout.headers)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", pd.errors.ParserWarning)
@@ -419,9 +419,10 @@ def _parse(
     if bad:
         notes.drop(f"line with more than the header's {width} fields", np.asarray(bad))
     lines = np.arange(layout.data_start + 1, layout.data_start + 1 + len(frame) + len(bad))
+    last_line = int(lines[-1]) if len(lines) else layout.data_start
     if bad:
         lines = lines[~_member(lines, np.asarray(bad, dtype=np.int64))]
-    return frame, lines[: len(frame)]
+    return frame, lines[: len(frame)], last_line
 
 
 def _member(sorted_lines: np.ndarray, wanted: np.ndarray) -> np.ndarray:
@@ -434,21 +435,22 @@ def _member(sorted_lines: np.ndarray, wanted: np.ndarray) -> np.ndarray:
     return mask
 
 
-def _partial_tail(raw: bytes, layout: _Layout, lines: np.ndarray) -> np.ndarray:
-    """File lines among the last three that have fewer fields than the header."""
-    terminator = b"\n" if b"\n" in raw else b"\r"
-    n_lines = raw.count(terminator) + (0 if raw.endswith(terminator) else 1)
+def _partial_tail(raw: bytes, layout: _Layout, last_line: int) -> np.ndarray:
+    """File lines among the last three that have fewer fields than the header.
+
+    ``last_line`` is the number of the file's last line: with blank lines
+    kept, pandas gives one row per line, so it is the last row's line.
+    """
     tail = _LINE_SPLIT.split(raw[-4096:].decode(layout.encoding, errors="replace"))
-    if raw.endswith(terminator):
+    if raw.endswith((b"\n", b"\r")):
         tail = tail[:-1]
     width = len(layout.headers)
     partial = []
     for back, line in enumerate(reversed(tail[-3:])):
         count = len(_fields(line, layout.delimiter))
         if 0 < count < width:
-            partial.append(n_lines - back)
-    partial = np.asarray(sorted(partial), dtype=np.int64)
-    return lines[_member(lines, partial)]
+            partial.append(last_line - back)
+    return np.asarray(sorted(partial), dtype=np.int64)
 
 
 # --------------------------------------------------------------------- public
@@ -520,11 +522,11 @@ def read_log(
             "columns ignored as the column map says: " + ", ".join(f"'{h}'" for h in ignored)
         )
 
-    frame, lines = _parse(raw, layout, label, notes)
+    frame, lines, last_line = _parse(raw, layout, label, notes)
     n_rows_read = len(frame) + sum(d.count for d in notes.dropped)
     data, missing, headers, infos = _convert(frame, found, layout, inverted, lines, label, notes)
 
-    keep = _drop_empty_rows(data, frame, raw, layout, lines, notes)
+    keep = _drop_empty_rows(data, frame, raw, layout, lines, last_line, notes)
     if not keep.any():
         raise InputFileError(
             "has a header but no data rows; expected at least one row of values",
@@ -620,7 +622,7 @@ def _convert(
 
 def _drop_empty_rows(
     data: dict[str, np.ndarray], frame: pd.DataFrame, raw: bytes, layout: _Layout,
-    lines: np.ndarray, notes: Notes,
+    lines: np.ndarray, last_line: int, notes: Notes,
 ) -> np.ndarray:
     """Mask of rows to keep: drop blank lines, rows without values, a partial tail."""
     keep = np.ones(len(lines), dtype=bool)
@@ -634,7 +636,7 @@ def _drop_empty_rows(
         notes.drop("row without any value in the columns used", lines[empty])
         keep &= ~empty
     keep &= ~blank
-    partial = _member(lines, _partial_tail(raw, layout, lines)) & keep
+    partial = _member(lines, _partial_tail(raw, layout, last_line)) & keep
     notes.drop("partial line at the end of the file (fewer fields than the header)", lines[partial])
     return keep & ~partial
 
