@@ -13,10 +13,16 @@ A header whose name is a known quantity but whose remainder is not a unit
 (``alt_gps``, ``elev_raw``) is *not* taken as that quantity: it is an unknown
 column, listed in a warning, so that a GPS altitude is never used as a
 pressure altitude by accident.
+
+The module also holds the column-level work of :mod:`trimlog.readers`:
+telling values from words in cells, mapping a file's columns (with the
+aircraft profile's column map), converting their values, and the checks on
+them (kind of input, time order and sampling, plausibility, dead sensors).
 """
 
 from __future__ import annotations
 
+import csv
 import difflib
 import re
 from collections.abc import Iterable, Mapping
@@ -338,6 +344,59 @@ def suggestions(wanted: list[str], headers: list[str], n: int = 3) -> list[str]:
 def synonyms_of(canonical: str) -> tuple[str, ...]:
     """Return the header words understood as ``canonical``."""
     return (canonical, *_SYNONYMS.get(canonical, ()))
+
+
+# ------------------------------------------------------- cells
+
+NA_TOKENS = ["---", "--", "-", "NaN", "nan", "NAN", "N/A", "n/a", "NA", "null", "NULL", "None",
+             "#N/A", "?", "*", "ERR", "err", "inf", "-inf"]
+
+NUMBER = re.compile(r"^[-+]?(\d+([.,]\d*)?|[.,]\d+)([eE][-+]?\d+)?$")
+CLOCK = re.compile(r"^\d{1,2}:\d{2}(:\d{2}([.,]\d+)?)?$")
+
+
+def split_fields(line: str, delimiter: str) -> list[str]:
+    """Split one line into cells as the csv module would (empty list for a blank line)."""
+    if not line.strip():
+        return []
+    try:
+        return next(csv.reader([line], delimiter=delimiter, skipinitialspace=True))
+    except (csv.Error, StopIteration):
+        return []
+
+
+def is_data_cell(cell: str) -> bool:
+    """Tell whether a cell reads as a value (number, clock, ISO stamp, missing marker)."""
+    cell = cell.strip()
+    return (
+        not cell
+        or cell in NA_TOKENS
+        or bool(NUMBER.match(cell) or CLOCK.match(cell) or ISO_STAMP.match(cell))
+    )
+
+
+def looks_like_header(fields: list[str]) -> bool:
+    """Tell whether at least half of a line's non-empty cells are words, not values."""
+    cells = [c for c in fields if c.strip()]
+    words = [c for c in cells if not is_data_cell(c)]
+    return bool(cells) and len(words) * 2 >= len(cells)
+
+
+def is_unit_row(fields: list[str]) -> bool:
+    """Tell whether a line under the header holds only words (units), no values."""
+    cells = [c.strip() for c in fields if c.strip()]
+    return bool(cells) and not any(is_data_cell(c) for c in cells)
+
+
+def unique_headers(headers: list[str]) -> list[str]:
+    """Name empty headers by position and number repeated ones, so each is unique."""
+    seen: dict[str, int] = {}
+    out = []
+    for i, header in enumerate(headers):
+        header = header or f"column {i + 1}"
+        seen[header] = seen.get(header, 0) + 1
+        out.append(header if seen[header] == 1 else f"{header} ({seen[header]})")
+    return out
 
 
 # ------------------------------------------------------- bookkeeping and values

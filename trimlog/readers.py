@@ -70,7 +70,8 @@ import numpy as np
 import pandas as pd
 
 from trimlog.columns import (
-    ISO_STAMP,
+    NA_TOKENS,
+    NUMBER,
     PLAUSIBLE_RANGES,
     QUANTITIES,
     TEXT_COLUMNS,
@@ -84,10 +85,14 @@ from trimlog.columns import (
     clock_seconds,
     conversion_text,
     decide_kind,
+    is_unit_row,
+    looks_like_header,
     map_columns,
     numeric_values,
     require_columns,
+    split_fields,
     text_values,
+    unique_headers,
 )
 from trimlog.errors import InputFileError, TrimlogError, UnitError
 from trimlog.units import parse_quantity
@@ -103,12 +108,7 @@ __all__ = [
 ]
 
 
-NA_TOKENS = ["---", "--", "-", "NaN", "nan", "NAN", "N/A", "n/a", "NA", "null", "NULL", "None",
-             "#N/A", "?", "*", "ERR", "err", "inf", "-inf"]
-
 _DELIMITERS = {"\t": "tab", ";": "semicolon", ",": "comma", "|": "pipe"}
-_NUMBER = re.compile(r"^[-+]?(\d+([.,]\d*)?|[.,]\d+)([eE][-+]?\d+)?$")
-_CLOCK = re.compile(r"^\d{1,2}:\d{2}(:\d{2}([.,]\d+)?)?$")
 _LINE_SPLIT = re.compile(r"\r\n|\r|\n")
 _SNIFF_BYTES = 65536
 
@@ -265,30 +265,6 @@ def _encoding(raw: bytes, label: str, notes: Notes) -> str:
 # --------------------------------------------------------------------- layout
 
 
-def _fields(line: str, delimiter: str) -> list[str]:
-    if not line.strip():
-        return []
-    try:
-        return next(csv.reader([line], delimiter=delimiter, skipinitialspace=True))
-    except (csv.Error, StopIteration):
-        return []
-
-
-def _is_data_cell(cell: str) -> bool:
-    cell = cell.strip()
-    return (
-        not cell
-        or cell in NA_TOKENS
-        or bool(_NUMBER.match(cell) or _CLOCK.match(cell) or ISO_STAMP.match(cell))
-    )
-
-
-def _looks_like_header(fields: list[str]) -> bool:
-    cells = [c for c in fields if c.strip()]
-    words = [c for c in cells if not _is_data_cell(c)]
-    return bool(cells) and len(words) * 2 >= len(cells)
-
-
 def _sniff(raw: bytes, encoding: str, label: str, notes: Notes) -> _Layout:
     """Find delimiter, header line, unit row and decimal mark from the first lines."""
     head = raw[:_SNIFF_BYTES].decode(encoding, errors="replace")
@@ -300,7 +276,7 @@ def _sniff(raw: bytes, encoding: str, label: str, notes: Notes) -> _Layout:
         lines[0] = lines[0].lstrip("\ufeff")
     best: tuple[tuple[float, int], str, int, int] | None = None
     for priority, delimiter in enumerate(reversed(list(_DELIMITERS))):
-        split = [_fields(line, delimiter) for line in lines]
+        split = [split_fields(line, delimiter) for line in lines]
         counts = [len(f) for f in split]
         nonblank = [i for i, c in enumerate(counts) if c]
         tail = [counts[i] for i in nonblank[-50:]]
@@ -311,7 +287,7 @@ def _sniff(raw: bytes, encoding: str, label: str, notes: Notes) -> _Layout:
         if width < 2:
             continue
         header = next(
-            (i for i in nonblank if counts[i] == width and _looks_like_header(split[i])), None
+            (i for i in nonblank if counts[i] == width and looks_like_header(split[i])), None
         )
         if header is None:
             continue
@@ -329,7 +305,7 @@ def _sniff(raw: bytes, encoding: str, label: str, notes: Notes) -> _Layout:
             line=1,
         )
     _, delimiter, header, width = best
-    headers = [h.strip() for h in _fields(lines[header], delimiter)]
+    headers = [h.strip() for h in split_fields(lines[header], delimiter)]
     if header > 0:
         notes.warnings.append(
             f"skipped {header} line(s) before the header (metadata preamble, lines 1-{header})"
@@ -337,8 +313,8 @@ def _sniff(raw: bytes, encoding: str, label: str, notes: Notes) -> _Layout:
     units = [""] * width
     data_start = header + 1
     if data_start < len(lines):
-        second = _fields(lines[data_start], delimiter)
-        if second and len(second) <= width and _is_unit_row(second):
+        second = split_fields(lines[data_start], delimiter)
+        if second and len(second) <= width and is_unit_row(second):
             units = [u.strip() for u in second] + [""] * (width - len(second))
             data_start += 1
     return _Layout(
@@ -347,24 +323,9 @@ def _sniff(raw: bytes, encoding: str, label: str, notes: Notes) -> _Layout:
         decimal=_decimal_mark(lines[data_start : data_start + 200], delimiter),
         header_line=header,
         data_start=data_start,
-        headers=tuple(_unique_headers(headers)),
+        headers=tuple(unique_headers(headers)),
         units=tuple(units),
     )
-
-
-def _is_unit_row(fields: list[str]) -> bool:
-    cells = [c.strip() for c in fields if c.strip()]
-    return bool(cells) and not any(_is_data_cell(c) for c in cells)
-
-
-def _unique_headers(headers: list[str]) -> list[str]:
-    seen: dict[str, int] = {}
-    out = []
-    for i, header in enumerate(headers):
-        header = header or f"column {i + 1}"
-        seen[header] = seen.get(header, 0) + 1
-        out.append(header if seen[header] == 1 else f"{header} ({seen[header]})")
-    return out
 
 
 def _decimal_mark(lines: list[str], delimiter: str) -> str:
@@ -372,9 +333,9 @@ def _decimal_mark(lines: list[str], delimiter: str) -> str:
         return "."
     comma = point = 0
     for line in lines:
-        for cell in _fields(line, delimiter):
+        for cell in split_fields(line, delimiter):
             cell = cell.strip()
-            if _NUMBER.match(cell):
+            if NUMBER.match(cell):
                 comma += "," in cell
                 point += "." in cell
     return "," if comma > point else "."
@@ -447,7 +408,7 @@ def _partial_tail(raw: bytes, layout: _Layout, last_line: int) -> np.ndarray:
     width = len(layout.headers)
     partial = []
     for back, line in enumerate(reversed(tail[-3:])):
-        count = len(_fields(line, layout.delimiter))
+        count = len(split_fields(line, layout.delimiter))
         if 0 < count < width:
             partial.append(last_line - back)
     return np.asarray(sorted(partial), dtype=np.int64)
