@@ -12,6 +12,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from synthetic_logs import Hold, Pullup, Turn, elevator_for, force_for, make_log, standard_flight
 
 from trimlog.errors import InputFileError, TrimlogError
@@ -349,3 +351,44 @@ def test_log_file_end_to_end(tmp_path):
     points = points_from_log(log)
     shifted = [(a + 9.5 * 3600, b + 9.5 * 3600, h) for a, b, h in truth]
     assert_values(points, shifted, match(points, shifted))
+
+
+def test_samples_out_of_time_order_are_refused():
+    samples, _ = standard_flight(seed=21)
+    with pytest.raises(InputFileError, match="time_s decreases"):
+        find_stabilized_points(samples.iloc[::-1])
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    values=st.lists(
+        st.tuples(
+            st.floats(0.0, 0.5), st.floats(40.0, 160.0) | st.just(np.nan),
+            st.floats(-20.0, 20.0) | st.just(np.nan), st.floats(0.5, 2.0),
+            st.sampled_from(["", "", "", "A", "0"]),
+        ),
+        min_size=0, max_size=300,
+    ),
+    hold=st.integers(0, 200),
+)
+def test_arbitrary_samples_give_a_points_table(values, hold):
+    """Random (synthetic) samples: a Points table or a TrimlogError, never anything else."""
+    if values:
+        steps, ias, elev, nz, event = map(list, zip(*values, strict=True))
+    else:
+        steps = ias = elev = nz = event = []
+    ias[:hold] = [100.0] * min(hold, len(ias))  # a steady stretch at the start
+    samples = pd.DataFrame({
+        "time_s": np.cumsum(steps) if steps else np.array([], dtype=float),
+        "ias_kt": np.asarray(ias, dtype=float), "pressure_alt_ft": 4500.0,
+        "elevator_deg": np.asarray(elev, dtype=float), "nz_g": np.asarray(nz, dtype=float),
+        "event": pd.Series(event, dtype=object).astype(str),
+        "source_line": np.arange(len(steps), dtype=np.int64) + 2,
+    })
+    try:
+        points = find_stabilized_points(samples)
+    except TrimlogError:
+        return
+    assert {"flight", "point", "flags", "included", "vs_fpm"} <= set(points.columns)
+    assert not np.isinf(points.select_dtypes("number").to_numpy(dtype=float)).any()
+    assert (points["t_end_s"] >= points["t_start_s"]).all()

@@ -356,10 +356,16 @@ def _tolerances(samples: pd.DataFrame, settings: PointSettings) -> dict[str, flo
 def _points_of_flight(
     samples: pd.DataFrame, flight: str, settings: PointSettings
 ) -> pd.DataFrame:
+    samples = samples[np.isfinite(samples["time_s"].to_numpy(dtype=float))]
     time = samples["time_s"].to_numpy(dtype=float)
     if len(time) < 3:
         return pd.DataFrame()
     steps = np.diff(time)
+    if (steps < 0).any():
+        raise InputFileError(
+            f"flight {flight}: time_s decreases after sample {int(np.argmax(steps < 0))}; "
+            "expected samples in time order (as read_log gives them)"
+        )
     positive = steps[steps > 0]
     if not len(positive):
         return pd.DataFrame()
