@@ -46,15 +46,32 @@ follow the fuel burnt, at the profile's fuel arm and density.  Thrust,
 pitch-rate damping in turns and the tab's own pitching moment are left out:
 the model is a clean oracle, not a simulation.
 
+*Hold-level error.*  No hold is flown exactly at trim: the pilot keeps a
+small untrimmed pitch attitude or pitch rate, the air moves slowly, the
+control circuit has friction.  Each logged hold gets its own offset of
+elevator (standard deviation :data:`HOLD_ELEVATOR_SD_DEG`) and stick force
+(:data:`HOLD_FORCE_SD_LBF`, independent of the elevator's because friction
+dominates it), drifting linearly across the hold by a further
+:data:`HOLD_DRIFT_SD` of that size end to end, and joined linearly through
+the speed changes and turns; :func:`hold_errors` gives each hold's offset.
+The sensor noise below averages out over a hold of hundreds of samples;
+this error does not, so it sets the point-to-point scatter about the trim
+line, about 0.1-0.3 deg and 0.3-1 lbf in practice (common practice, no
+source).  The typed card gets no such offset: its reading error (below) is
+of about the same size.
+
 *Measurement.*  Light turbulence as first-order autoregressive noise
 (smooth morning air: airspeed 0.3 kt, load factor 0.02 g, the pilot's
 elevator 0.12 deg and force 0.3 lbf), white sensor noise, the logger's
 resolution, about one single-sample spike per minute in airspeed, elevator
-and force, and short dropouts (empty cells) in every channel.  The point table is rounded as a
-pilot types it (1 kt, 10 ft, 1 degC, 0.1 deg, 0.5 lbf, 1 lb, 0.1 in).
+and force, and short dropouts (empty cells) in every channel.  The point
+table is read with 0.15 deg and 0.4 lbf of error and rounded as a pilot
+types it (1 kt, 10 ft, 1 degC, 0.1 deg, 0.5 lbf, 1 lb, 0.1 in).
 
-Reproducibility: each flight draws from ``numpy.random.default_rng([seed,
-flight])`` and every value is written through a fixed format.
+Reproducibility: each flight draws its measurement noise from
+``numpy.random.default_rng([seed, flight])`` and its hold-level error from
+``numpy.random.default_rng([seed, flight, 1])``; every value is written
+through a fixed format.
 
 References
 ----------
@@ -82,10 +99,18 @@ import numpy as np
 import pandas as pd
 
 from trimlog import airspeed, atmosphere
+from trimlog.errors import TrimlogError
 from trimlog.profile import AircraftProfile, parse_profile
 
 #: The seed of the files in ``sample_logs/``.
 DEFAULT_SEED = 20260
+#: Standard deviation of the per-hold elevator offset of a logged point [deg].
+HOLD_ELEVATOR_SD_DEG = 0.2
+#: Standard deviation of the per-hold stick-force offset of a logged point [lbf].
+HOLD_FORCE_SD_LBF = 0.4
+#: Standard deviation of the end-to-end drift within a hold, as a fraction
+#: of the offset's standard deviation [-].
+HOLD_DRIFT_SD = 0.3
 
 PROFILE_FILE = "tinkerfinch_tf2.toml"
 
@@ -561,6 +586,69 @@ def _ar1(rng: np.random.Generator, n: int, sigma: float, tc_s: float, dt: float)
     return np.array(out)
 
 
+def _hold_error_series(flight: DemoFlight, seed: int) -> dict[str, np.ndarray]:
+    """Per-sample hold-level error of a logged flight: elevator [deg] and force [lbf].
+
+    Each hold gets an offset drifting linearly across it; the speed changes and
+    turns join neighbouring holds linearly (from zero before the first hold, to
+    zero at the end of the log), so the error is continuous and a hold stays as
+    steady as the air and the pilot make it.
+    """
+    dt = _sample_interval(flight)
+    s = _programme(flight, dt, DEMO_TRUTH)
+    rng = np.random.default_rng([seed, flight.number, 1])
+    out = {"t": s["t"], "seg": s["seg"]}
+    knots_t: list[float] = []
+    knots: dict[str, list[float]] = {"elevator": [], "force": []}
+    for k, seg in enumerate(flight.segments):
+        if seg.kind != "hold":
+            continue
+        t = s["t"][s["seg"] == k]
+        knots_t += [float(t[0]), float(t[-1])]
+        for name, sd in (("elevator", HOLD_ELEVATOR_SD_DEG), ("force", HOLD_FORCE_SD_LBF)):
+            offset, drift = sd * rng.standard_normal(), HOLD_DRIFT_SD * sd * rng.standard_normal()
+            knots[name] += [offset - 0.5 * drift, offset + 0.5 * drift]
+    ends = [0.0, float(s["t"][-1])]
+    for name, values in knots.items():
+        out[name] = np.interp(s["t"], [ends[0] - dt, *knots_t, ends[1] + dt],
+                              [0.0, *values, 0.0])
+    return out
+
+
+def hold_errors(flight: DemoFlight, seed: int = DEFAULT_SEED) -> pd.DataFrame:
+    """Return the hold-level error of each stabilized point of a logged demo flight.
+
+    Parameters
+    ----------
+    flight : DemoFlight
+        One of the time-series flights of ``DEMO_TRUTH.flights``.
+    seed : int
+        Seed of the files (default: the one of ``sample_logs/``).
+
+    Returns
+    -------
+    pandas.DataFrame
+        One row per hold, in flight order: ``point`` (1-based),
+        ``elevator_deg`` [deg, trailing-edge down positive] and
+        ``stick_force_lbf`` [lbf, pull positive]: the mean offset over the
+        hold that the file carries on top of :func:`truth_points`.
+
+    Raises
+    ------
+    TrimlogError
+        For a point-table flight, whose scatter is its typed reading error.
+    """
+    if flight.kind != "time_series":
+        raise TrimlogError(f"demo flight {flight.number} is a point table: its hold-level "
+                           "scatter is the typed reading error, not a logged offset")
+    e = _hold_error_series(flight, seed)
+    holds = [k for k, seg in enumerate(flight.segments) if seg.kind == "hold"]
+    rows = [{"point": number, "elevator_deg": float(e["elevator"][e["seg"] == k].mean()),
+             "stick_force_lbf": float(e["force"][e["seg"] == k].mean())}
+            for number, k in enumerate(holds, start=1)]
+    return pd.DataFrame(rows)
+
+
 def _spikes(rng: np.random.Generator, values: np.ndarray, per_s: float, dt: float,
             low: float, high: float) -> None:
     """Add single-sample spikes of random sign and size ``low..high`` (in place)."""
@@ -618,11 +706,12 @@ def _point_table_csv(flight: DemoFlight, rng: np.random.Generator) -> str:
     return _table(header, columns, preamble)
 
 
-def _time_series_csv(flight: DemoFlight, rng: np.random.Generator) -> str:
-    """Write the demo logger's file: turbulence, noise, resolution, spikes, dropouts."""
+def _time_series_csv(flight: DemoFlight, rng: np.random.Generator, seed: int) -> str:
+    """Write the demo logger's file: hold error, turbulence, noise, spikes, dropouts."""
     p = DEMO_PROFILE
     dt = _sample_interval(flight)
     s = _smooth_state(flight, dt, DEMO_TRUTH)
+    held = _hold_error_series(flight, seed)
     n = s["t"].size
     white = rng.standard_normal
     cas = s["cas"] + _ar1(rng, n, 0.3, 1.5, dt)
@@ -632,8 +721,10 @@ def _time_series_csv(flight: DemoFlight, rng: np.random.Generator) -> str:
         "PALT (ft)": s["alt"] + _ar1(rng, n, 6.0, 5.0, dt) + 2.0 * white(n),
         "OAT (C)": s["oat"] + 0.1 * white(n),
         # The logger records the elevator trailing-edge up positive.
-        "ELEV_POS": -(s["elevator"] + _ar1(rng, n, 0.12, 0.8, dt) + 0.03 * white(n)),
-        "FSTK": (s["force"] + _ar1(rng, n, 0.3, 0.8, dt) + 0.1 * white(n)) * LBF_TO_N,
+        "ELEV_POS": -(s["elevator"] + held["elevator"] + _ar1(rng, n, 0.12, 0.8, dt)
+                      + 0.03 * white(n)),
+        "FSTK": (s["force"] + held["force"] + _ar1(rng, n, 0.3, 0.8, dt)
+                 + 0.1 * white(n)) * LBF_TO_N,
         "NZ (g)": s["nz"] + _ar1(rng, n, 0.02, 0.3, dt) + 0.005 * white(n),
         "VSI (fpm)": s["vs"] + _ar1(rng, n, 60.0, 1.5, dt),
         "FUEL_QTY (gal)": s["fuel"] + 0.05 * white(n),
@@ -752,6 +843,16 @@ stick force in newtons under `FSTK`, and the elevator trailing-edge up positive
 under `ELEV_POS`; the files carry turbulence, sensor noise, single-sample spikes
 and short dropouts (empty cells).
 
+No point is flown exactly at trim: each logged hold carries its own offset of
+elevator (standard deviation {HOLD_ELEVATOR_SD_DEG:g} deg) and stick force
+({HOLD_FORCE_SD_LBF:g} lbf), steady or drifting slowly through the hold, as a small
+untrimmed pitch attitude, slowly moving air and control friction give.  The sensor
+noise averages out over a hold; this does not, so the points scatter about the trim
+lines by that much (`trimlog.demo.hold_errors(flight)` gives each hold's offset).
+The typed card carries a reading error of about the same size (0.15 deg, 0.4 lbf,
+then rounded, and its speeds typed to the knot), so every flight scatters alike
+and the neutral points come with intervals of about a percent of MAC.
+
 ## Truth
 
 | quantity | value |
@@ -796,7 +897,7 @@ def write_demo(directory: Path, *, seed: int = DEFAULT_SEED) -> list[Path]:
         if flight.kind == "point_table":
             texts[flight.log_file] = _point_table_csv(flight, rng)
         else:
-            texts[flight.log_file] = _time_series_csv(flight, rng)
+            texts[flight.log_file] = _time_series_csv(flight, rng, seed)
             texts[flight.loading_file] = _loading_sheet_toml(flight)
     texts["README.md"] = _readme(seed)
     written = []
