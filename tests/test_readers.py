@@ -371,6 +371,14 @@ def test_not_a_number_cells_are_counted():
     assert np.isnan(log.data["elevator_deg"].iloc[0])
 
 
+def test_overflowing_number_is_counted_not_kept_as_infinity():
+    raw = b"ias_kt,palt_ft,elevator_deg,stick_force_lbf\n100,4500,-3,1e400\n"
+    log = read_log(raw, name="t.csv")
+    assert np.isnan(log.data["stick_force_lbf"].iloc[0])
+    assert any("missing value in 'stick_force_lbf'" in d.reason and d.lines == (2,)
+               for d in log.dropped)
+
+
 def test_line_with_extra_fields_is_dropped_and_counted():
     log = read("extra_fields.csv")
     assert len(log.data) == 39

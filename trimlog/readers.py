@@ -257,7 +257,9 @@ def _encoding(raw: bytes, label: str, notes: Notes) -> str:
             "instead of the download?)",
             file=label,
         )
-    if first in "{[" and text.rstrip().endswith(("}", "]")) or text.startswith(("{\"", "[{")):
+    if first and first in "{[" and text.rstrip().endswith(("}", "]")) or text.startswith(
+        ("{\"", "[{")
+    ):
         raise InputFileError("this looks like a JSON file, not a CSV file", file=label)
     return encoding
 
@@ -490,7 +492,8 @@ def read_log(
     keep = _drop_empty_rows(data, frame, raw, layout, lines, last_line, notes)
     if not keep.any():
         raise InputFileError(
-            "has a header but no data rows; expected at least one row of values",
+            "has a header but no data rows with values in the columns used; expected at "
+            "least one row of values",
             file=label,
             line=layout.data_start + 1,
         )
@@ -509,8 +512,8 @@ def read_log(
         check_time(data["time_s"], data.get("flight"), lines, label, headers["time_s"], notes)
     for canonical, mask in missing.items():
         notes.drop(
-            f"missing value in '{headers[canonical]}' ({canonical}): empty cell, NaN, '---' "
-            "or similar",
+            f"missing value in '{headers[canonical]}' ({canonical}): empty cell, NaN, '---', "
+            "inf, overflow or similar",
             lines[mask],
         )
     check_plausible(data, decided, lines, headers, label, notes)
