@@ -84,41 +84,43 @@ def _log_card(name: str, log: session.FileBytes, sheets: dict, p) -> None:
     is_demo = name not in ss.user_logs
     chosen = session.sheet_choice(name)
     with st.container(border=True):
-        head, tail = st.columns([4, 1])
+        head, tail = st.columns([5, 1])
         head.markdown(f"**{name}**" + ("  (demo)" if is_demo else ""))
         if not is_demo:
             tail.button("Remove", key=f"rm_{name}", on_click=_remove, args=(name,))
+        sheet_col, label_col, notes_col = st.columns([2, 2, 3])
         options = [NO_SHEET, *sheets]
-        st.selectbox("Loading sheet", options, index=options.index(chosen) if chosen else 0,
-                     key=f"sheet_{name}", on_change=_set_sheet, args=(name,))
+        sheet_col.selectbox("Loading sheet", options,
+                            index=options.index(chosen) if chosen else 0,
+                            key=f"sheet_{name}", on_change=_set_sheet, args=(name,))
         try:
             found = compute.flight_data(log, sheets.get(chosen) if chosen else None,
                                         ss.profile_text, ss.profile_source, ss.min_hold_s)
         except TrimlogError as exc:
             common.show_error(exc)
             return
-        first = found[0]
-        kind = "time-series log" if first.log.kind == "time_series" else "point table"
-        n_points = sum(len(f.points) for f in found)
-        st.markdown(
-            f"{kind}, {len(first.log.data)} rows; flight(s) "
-            + ", ".join(f"`{f.flight}`" for f in found)
-            + f"; **{n_points} stabilized points** found"
-        )
-        st.caption(first.log.kind_reason)
-        notes = [*first.log.warnings, *(f"{d.count} {d.reason}" for d in first.log.dropped
-                                        if d.count)]
-        if notes:
-            st.caption("Reading notes:\n" + "\n".join(f"- {n}" for n in notes))
-        if n_points == 0:
-            st.warning("No stabilized point found in this log: check it, or shorten the "
-                       "minimum hold.")
         sheet = found[0].loading
-        for store, label in (("labels", "Label"), ("notes", "Notes")):
+        for col, store, label in ((label_col, "labels", "Label"), (notes_col, "notes", "Notes")):
             default = ss[store].get(name)
             if default is None and sheet is not None:
                 default = sheet.label if store == "labels" else sheet.notes
             ss[store].setdefault(name, default or "")
-            st.text_input(f"{label} (kept with the flight in the history)",
-                          value=ss[store][name], key=f"{store}_{name}",
-                          on_change=_set_text, args=(store, name))
+            col.text_input(label, value=ss[store][name], key=f"{store}_{name}",
+                           on_change=_set_text, args=(store, name),
+                           help="Kept with the flight when you save it to the history")
+        first = found[0]
+        kind = "time-series log" if first.log.kind == "time_series" else "point table"
+        n_points = sum(len(f.points) for f in found)
+        head.markdown(
+            f"{kind}, {len(first.log.data)} rows; flight "
+            + ", ".join(f"`{f.flight}`" for f in found)
+            + f": **{n_points} stabilized points**"
+        )
+        if n_points == 0:
+            st.warning("No stabilized point found in this log: check it, or shorten the "
+                       "minimum hold.")
+        notes = [*first.log.warnings, *(f"{d.count} {d.reason}" for d in first.log.dropped
+                                        if d.count)]
+        with st.expander(f"How it was read ({len(notes)} notes)"):
+            st.caption(first.log.kind_reason)
+            st.markdown("\n".join(f"- {n}" for n in notes) or "Nothing to note.")

@@ -37,17 +37,19 @@ def _save() -> None:
     ss.history_messages = messages
 
 
-def _set_included(flight_id: int, key: str, points: list[int]) -> None:
-    ss = st.session_state
-    edits = ss[key].get("edited_rows", {})
+def _store_choices(flight_id: int, points: list[int], before: list[bool],
+                   after: list[bool]) -> bool:
+    """Save the ticks that changed; True when something was written."""
+    changes = [(p, u) for p, b, u in zip(points, before, after, strict=True) if b != u]
+    if not changes:
+        return False
     try:
         with compute.open_history() as store:
-            for row, change in edits.items():
-                if "included" in change:
-                    store.set_point_included(flight_id, points[int(row)],
-                                             bool(change["included"]))
+            for point, used in changes:
+                store.set_point_included(flight_id, point, used)
     except TrimlogError as exc:
-        ss.history_messages = [("error", str(exc))]
+        st.session_state.history_messages = [("error", str(exc))]
+    return True
 
 
 def render() -> None:
@@ -102,11 +104,12 @@ def _listing(listing: list[dict]) -> None:
         pts = compute.stored_points(fid)
         shown = [c for c in ("point", "t_start_s", "t_end_s", "ias_kt", "elevator_deg",
                              "stick_force_lbf", "flags") if c in pts.columns]
-        table = pts[["included", *shown]]
-        key = f"history_editor_{fid}"
-        st.data_editor(table, key=key, hide_index=True, disabled=shown, width="stretch",
-                       on_change=_set_included,
-                       args=(fid, key, [int(x) for x in pts["point"]]))
+        before = [bool(x) for x in pts["included"]]
+        edited = st.data_editor(pts[["included", *shown]], key=f"history_editor_{fid}",
+                                hide_index=True, disabled=shown, width="stretch")
+        if _store_choices(fid, [int(x) for x in pts["point"]], before,
+                          [bool(x) for x in edited["included"]]):
+            st.rerun()
 
 
 def _trend(p) -> None:

@@ -20,6 +20,11 @@ SHOWN = {
     "vs_fpm": "V/S [fpm]",
     "flags": "Flags",
 }
+FORMATS = {
+    "t_start_s": "%.1f", "t_end_s": "%.1f", "duration_s": "%.1f", "ias_kt": "%.1f",
+    "pressure_alt_ft": "%.0f", "elevator_deg": "%.2f", "stick_force_lbf": "%.1f",
+    "nz_g": "%.2f", "vs_fpm": "%.0f",
+}
 FLAG_WORDS = {
     "spike": "single-sample spikes left out of the means",
     "drift": "cut out of a slowly drifting stretch",
@@ -37,17 +42,15 @@ FLAG_WORDS = {
 }
 
 
-def _apply_edits(flight: str, key: str, points: list[int]) -> None:
-    """Turn the checkbox edits of one flight's table into its exclusions."""
+def _keep_choices(flight: str, used: list[bool], numbers: list[int]) -> bool:
+    """Store the ticks of one flight's table as its exclusions; True when they changed."""
     ss = st.session_state
-    edits = ss[key].get("edited_rows", {})
-    keep = {p: (flight, p) not in ss.exclusions for p in points}
-    for row, change in edits.items():
-        if "included" in change:
-            keep[points[int(row)]] = bool(change["included"])
-    ss.exclusions = {e for e in ss.exclusions if e[0] != flight} | {
-        (flight, p) for p, k in keep.items() if not k
+    now = {e for e in ss.exclusions if e[0] != flight} | {
+        (flight, p) for p, u in zip(numbers, used, strict=True) if not u
     }
+    changed = now != ss.exclusions
+    ss.exclusions = now
+    return changed
 
 
 def render() -> None:
@@ -73,8 +76,9 @@ def render() -> None:
         st.info("No readable log yet: add logs on the Flights page.")
         return
     labels = [f"{flight}  ({name})" for flight, name, _ in choices]
-    picked = st.selectbox("Flight", range(len(choices)), format_func=labels.__getitem__,
-                          key="points_flight")
+    first_log = next((i for i, c in enumerate(choices) if c[2].log.kind == "time_series"), 0)
+    picked = st.selectbox("Flight", range(len(choices)), index=first_log,
+                          format_func=labels.__getitem__, key="points_flight")
     flight, name, data = choices[picked]
     log, sheet = pairs[name]
     if data.log.kind == "time_series":
@@ -95,18 +99,21 @@ def render() -> None:
     detected = [bool(v) for v in data.points["included"]]
     table.insert(0, "included", [d and (flight, p) not in ss.exclusions
                                  for d, p in zip(detected, numbers, strict=True)])
-    key = f"editor_{flight}"
-    st.data_editor(
+    edited = st.data_editor(
         table.rename(columns=SHOWN),
-        key=key,
+        key=f"editor_{flight}",
         hide_index=True,
         disabled=list(SHOWN.values()),
-        column_config={"included": st.column_config.CheckboxColumn(
-            "Use", help="Untick to leave the point out of the fits")},
-        on_change=_apply_edits,
-        args=(flight, key, numbers),
+        column_config={
+            "included": st.column_config.CheckboxColumn(
+                "Use", help="Untick to leave the point out of the fits"),
+            **{SHOWN[c]: st.column_config.NumberColumn(format=f) for c, f in FORMATS.items()},
+        },
         width="stretch",
     )
+    detected_used = [d and u for d, u in zip(detected, edited["included"], strict=True)]
+    if _keep_choices(flight, [bool(u) for u in detected_used], numbers):
+        st.rerun()  # redraw the log with the new exclusions hatched
     used = int(table["included"].sum())
     st.caption(f"{used} of {len(numbers)} points used.")
     auto = [p for d, p in zip(detected, numbers, strict=True) if not d]
