@@ -59,7 +59,7 @@ LABEL_SIZE = 10
 TICK_SIZE = 9
 LEGEND_SIZE = 8
 #: Points on each drawn fit line.
-LINE_POINTS = 60
+LINE_POINTS = 20
 
 TREND_KEYS = ("n_flights", "label", "stick_fixed_pct_mac", "ci95_pct_mac",
               "stick_free_pct_mac", "stick_free_ci95_pct_mac", "cg_pct_mac")
