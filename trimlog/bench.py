@@ -28,6 +28,7 @@ import pandas as pd
 
 from trimlog import airspeed
 from trimlog.demo import DEMO_PROFILE, DEMO_TRUTH, LBF_TO_N, PROFILE_TOML
+from trimlog.errors import TrimlogError
 
 #: Segments of one cycle of the programme: (kind, duration [s], IAS - trim [kt],
 #: vertical speed [ft/min], bank [deg]).  Nine holds of 20-30 s (two off-trim,
@@ -336,33 +337,47 @@ class _Run:
         return result
 
 
-def _stages(run: _Run, path: Path) -> dict[str, float]:
-    """Median time of each stage of the chain on one log [s]."""
+def _stages(run: _Run, paths: list[Path]) -> list[dict[str, float]]:
+    """Median time of each stage of the chain on each log [s].
+
+    Each repeat runs every stage on every log in turn, so that a change of
+    the machine's load during the run reaches all of them alike.
+    """
     from trimlog import analysis, stability
     from trimlog.points import points_from_log
     from trimlog.readers import read_loading_sheet, read_log
     from trimlog.reduction import reduce_points
 
-    p, repeat = run.profile, run.sizes.repeats
-    raw = path.read_bytes()
-    t = {}
-    t["pandas read_csv"], _ = median_time(lambda: pd.read_csv(path), repeat)
-    t["read + validate"], log = median_time(
-        lambda: read_log(raw, name=path.name, column_map=p.column_map,
-                         inverted=p.inverted_columns), repeat)
-    t["detect points"], points = median_time(lambda: points_from_log(log, flight=path.stem),
-                                             repeat)
-    sheet = read_loading_sheet(analysis.sibling_sheet(path))
-    t["reduce"], reduced = median_time(lambda: reduce_points(points, p, {path.stem: sheet}),
-                                       repeat)
-    t["fit (stability)"], _ = median_time(
-        lambda: stability.analyze_stability(reduced.points, p), repeat)
-    flights = analysis.load_flight_file(path, p)
-    whole, result = median_time(lambda: analysis.analyze(flights, p), repeat)
-    t["incidence, tail, assembly"] = max(whole - t["reduce"] - t["fit (stability)"], 0.0)
-    t["JSON result"], _ = median_time(result.to_dict, repeat)
-    t["end to end"], _ = median_time(lambda: run.end_to_end([path]), repeat)
-    return t
+    p = run.profile
+
+    def once(path: Path) -> dict[str, float]:
+        t: dict[str, float] = {}
+
+        def timed(stage: str, function: Callable[[], Any]) -> Any:
+            start = time.perf_counter()
+            result = function()
+            t[stage] = time.perf_counter() - start
+            return result
+
+        raw = path.read_bytes()
+        timed("pandas read_csv", lambda: pd.read_csv(path))
+        log = timed("read + validate", lambda: read_log(
+            raw, name=path.name, column_map=p.column_map, inverted=p.inverted_columns))
+        points = timed("detect points", lambda: points_from_log(log, flight=path.stem))
+        sheet = read_loading_sheet(analysis.sibling_sheet(path))
+        reduced = timed("reduce", lambda: reduce_points(points, p, {path.stem: sheet}))
+        timed("fit (stability)", lambda: stability.analyze_stability(reduced.points, p))
+        flights = analysis.load_flight_file(path, p)
+        result = timed("analyze()", lambda: analysis.analyze(flights, p))
+        t["incidence, tail, assembly"] = max(
+            t.pop("analyze()") - t["reduce"] - t["fit (stability)"], 0.0)
+        timed("JSON result", result.to_dict)
+        timed("end to end", lambda: run.end_to_end([path]))
+        return t
+
+    runs = [[once(path) for path in paths] for _ in range(max(run.sizes.repeats, 1))]
+    return [{stage: statistics.median(r[k][stage] for r in runs) for stage in runs[0][k]}
+            for k in range(len(paths))]
 
 
 def bench_chain(run: _Run) -> None:
@@ -374,7 +389,7 @@ def bench_chain(run: _Run) -> None:
     run.out(f"\n== 1. end to end: {s.log_minutes:g}-minute 50 Hz log ({size_mb:.1f} MB, "
             f"{int(s.log_minutes * 3000)} rows x {len(LOG_COLUMNS)} columns) and a "
             f"{s.short_minutes:g}-minute one; median of {s.repeats}")
-    a, b = _stages(run, short), _stages(run, long)
+    a, b = _stages(run, [short, long])
     run.out(f"  {'stage':28s} {s.short_minutes:>9g} min {s.log_minutes:>9g} min")
     for stage in a:
         run.out(f"  {stage:28s} {_ms(a[stage])} {_ms(b[stage])}")
@@ -532,10 +547,11 @@ def bench_startup(run: _Run) -> None:
 def bench_growth(run: _Run) -> None:
     """3. How the end-to-end time grows with the length of the log."""
     s = run.sizes
-    times = []
-    for minutes in s.growth_minutes:
-        path = run.log(f"growth{minutes:g}", minutes, seed=31)
-        times.append(median_time(lambda p=path: run.end_to_end([p]), s.repeats)[0])
+    paths = [run.log(f"growth{minutes:g}", minutes, seed=31) for minutes in s.growth_minutes]
+    # Round robin over the sizes, so that a change of load reaches all of them alike.
+    rounds = [[median_time(lambda p=path: run.end_to_end([p]), 1)[0] for path in paths]
+              for _ in range(max(s.repeats, 1))]
+    times = [statistics.median(r[k] for r in rounds) for k in range(len(paths))]
     slope = float(np.polyfit(np.log(s.growth_minutes), np.log(times), 1)[0])
     tail = math.log(times[-1] / times[-2]) / math.log(s.growth_minutes[-1] / s.growth_minutes[-2])
     run.out(f"\n== 3. growth: end to end against log length, median of {s.repeats}")
@@ -714,7 +730,7 @@ def run(
     names = sections or tuple(SECTIONS)
     unknown = [n for n in names if n not in SECTIONS]
     if unknown:
-        raise ValueError(f"unknown benchmark sections {unknown}; known: {list(SECTIONS)}")
+        raise TrimlogError(f"unknown benchmark sections {unknown}; known: {list(SECTIONS)}")
     load = os.getloadavg()[0] if hasattr(os, "getloadavg") else float("nan")
     out(f"trimlog bench ({'quick' if sizes == QUICK else 'full' if sizes == FULL else 'custom'})"
         f" {datetime.datetime.now():%Y-%m-%d %H:%M}: Python {platform.python_version()}, "
