@@ -592,11 +592,16 @@ def _drop_empty_rows(
     keep = np.ones(len(lines), dtype=bool)
     if not len(lines):
         return keep
-    blank = frame.isna().all(axis=1).to_numpy()
+    blank = np.ones(len(lines), dtype=bool)
+    for column in frame.columns:
+        blank &= frame[column].isna().to_numpy()
     notes.drop("blank line", lines[blank])
     numeric = [v for k, v in data.items() if k not in TEXT_COLUMNS]
     if numeric:
-        empty = ~blank & ~np.any(np.isfinite(np.vstack(numeric)), axis=0)
+        valued = np.zeros(len(lines), dtype=bool)
+        for values in numeric:
+            valued |= np.isfinite(values)
+        empty = ~blank & ~valued
         notes.drop("row without any value in the columns used", lines[empty])
         keep &= ~empty
     keep &= ~blank
