@@ -749,9 +749,6 @@ def _os_reason(exc: OSError) -> str:
 
 def _atomic_write(path: Path, write: Callable[[IO[bytes]], None]) -> None:
     """Write through a temporary file in the same folder, renamed into place when complete."""
-    if path.is_dir():
-        raise TrimlogError(f"cannot write the report to {path}: it is a folder; give a file "
-                           "name such as report.pdf")
     tmp = path.with_name(f".{path.name}.{os.getpid()}.{secrets.token_hex(4)}.tmp")
     try:
         with open(tmp, "xb") as fh:
@@ -774,6 +771,16 @@ def _remove(tmp: Path) -> None:
         tmp.unlink(missing_ok=True)
     except OSError:
         pass  # the original error is the one to report
+
+
+def _check_target(path: Path) -> None:
+    """Refuse a target that cannot be written before spending time on drawing."""
+    if path.is_dir():
+        raise TrimlogError(f"cannot write the report to {path}: it is a folder; give a file "
+                           "name such as report.pdf")
+    if not path.parent.is_dir():
+        raise TrimlogError(f"cannot write the report to {path}: the folder {path.parent} does "
+                           "not exist")
 
 
 def write_report(analysis: Analysis, path: str | os.PathLike[str], *,
@@ -803,6 +810,7 @@ def write_report(analysis: Analysis, path: str | os.PathLike[str], *,
         no partial file is left behind.
     """
     path = Path(path)
+    _check_target(path)
     records = trend.records() if hasattr(trend, "records") else trend
     now = dt.datetime.now(dt.UTC)
     generated = now.strftime("%Y-%m-%d %H:%M UTC")
