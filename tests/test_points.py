@@ -353,6 +353,17 @@ def test_log_file_end_to_end(tmp_path):
     assert_values(points, shifted, match(points, shifted))
 
 
+def test_a_long_logger_pause_is_cut_not_binned():
+    one, truth1 = standard_flight(seed=22)
+    two, truth2 = standard_flight(seed=23)
+    later = 30 * 86400.0  # the same file a month later, same flight label
+    samples = pd.concat([one, two.assign(time_s=two["time_s"] + later)], ignore_index=True)
+    points = find_stabilized_points(samples)
+    shifted = [(a + later, b + later, h) for a, b, h in truth2]
+    match(points, truth1 + shifted)
+    assert points["point"].tolist() == list(range(1, 13))
+
+
 def test_samples_out_of_time_order_are_refused():
     samples, _ = standard_flight(seed=21)
     with pytest.raises(InputFileError, match="time_s decreases"):

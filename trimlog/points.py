@@ -219,8 +219,9 @@ def find_stabilized_points(
         return point_table_to_points(samples, flight=flight)
     _check_columns(samples)
     frames = [
-        _points_of_flight(part, label, settings)
+        _points_of_flight(piece, label, settings)
         for label, part in _by_flight(samples, flight)
+        for piece in _split_at_long_gaps(part, settings)
     ]
     return _assemble(frames, samples)
 
@@ -303,6 +304,21 @@ def _by_flight(samples: pd.DataFrame, default: str) -> list[tuple[str, pd.DataFr
         return [(str(default), samples)]
     labels = samples["flight"].astype(str).replace("", str(default))
     return [(str(k), part) for k, part in samples.groupby(labels.to_numpy(), sort=False)]
+
+
+def _split_at_long_gaps(samples: pd.DataFrame, settings: PointSettings) -> list[pd.DataFrame]:
+    """Cut a flight where the log stops for a long time, so each piece is binned alone.
+
+    No point can span such a gap, and binning across it (a logger left off
+    for an hour, or two days in one file) would only cost memory.
+    """
+    time = samples["time_s"].to_numpy(dtype=float)
+    limit = max(60.0, 10.0 * settings.min_duration_s)
+    cuts = np.flatnonzero(np.diff(time) > limit) + 1
+    if not len(cuts):
+        return [samples]
+    edges = [0, *cuts.tolist(), len(samples)]
+    return [samples.iloc[a:b] for a, b in zip(edges[:-1], edges[1:], strict=True)]
 
 
 def _assemble(frames: list[pd.DataFrame], samples: pd.DataFrame) -> pd.DataFrame:
