@@ -7,6 +7,7 @@ files (sample_logs/, invented data of known truth); the page must show exactly t
 
 from __future__ import annotations
 
+import re
 import threading
 from pathlib import Path
 
@@ -56,10 +57,19 @@ def _metrics(at: AppTest) -> dict[str, str]:
     return {m.label: m.value for m in at.metric}
 
 
+def _plain(markdown: str) -> str:
+    """The text a reader sees: the page escapes markdown marks in messages and names."""
+    return re.sub(r"\\(.)", r"\1", markdown)
+
+
 def _texts(at: AppTest) -> str:
     parts = [e.value for kind in ("markdown", "caption", "warning", "info", "error", "success")
              for e in getattr(at, kind)]
-    return "\n".join(str(p) for p in parts)
+    return _plain("\n".join(str(p) for p in parts))
+
+
+def _errors(at: AppTest) -> list[str]:
+    return [_plain(e.value) for e in at.error]
 
 
 def _upload(at: AppTest, files: list[tuple[str, bytes]]) -> AppTest:
@@ -130,10 +140,10 @@ def test_a_bad_file_shows_its_own_error_and_the_page_survives():
         read_log(bad, name="garbled.csv")
     at = _go(_app(), "Flights")
     _upload(at, [("garbled.csv", bad)])
-    errors = [e.value for e in at.error]
+    errors = _errors(at)
     assert any(str(expected.value) in e for e in errors), errors
     _go(at, "Results")
-    assert any(str(expected.value) in e.value for e in at.error)
+    assert any(str(expected.value) in e for e in _errors(at))
 
 
 def _button(at: AppTest, label: str):
@@ -149,7 +159,7 @@ def test_a_bad_profile_is_refused_inline_and_the_old_one_kept():
     _button(at, "Apply the edited text").click()
     at.run()
     assert not at.exception
-    errors = [e.value for e in at.error]
+    errors = _errors(at)
     assert any(e.startswith("Profile not changed") for e in errors), errors
     message = str(expected.value).split(": ", 1)[-1]  # the part after the source name
     assert any(message in e for e in errors), (message, errors)
@@ -172,6 +182,23 @@ def test_excluding_a_point_changes_the_result(demo_analysis):
     shown = _metrics(at)["Stick-fixed neutral point"]
     assert shown == f"{after:.1f} %MAC"
     assert "59 points used, 1 left out" in _texts(at)
+
+
+def test_a_file_name_with_markdown_is_shown_literally():
+    name = "[click](http://example.invalid) $x$.csv"
+    at = _upload(_go(_app(), "Flights"), [(name, (SAMPLES / "flight1_points.csv").read_bytes())])
+    cards = [m.value for m in at.markdown if "click" in m.value]
+    assert cards and all("\\[click\\]" in c and "\\$x\\$" in c for c in cards), cards
+
+
+def test_the_pdf_report_is_offered_for_download():
+    at = _app()
+    assert not [b for b in at.get("download_button") if b.proto.label == "Report (PDF)"]
+    at.toggle(key="want_pdf").set_value(True)
+    at.run()
+    assert not at.exception and not at.error
+    labels = [b.proto.label for b in at.get("download_button")]
+    assert {"Results (JSON)", "Points (CSV)", "Report (PDF)"} <= set(labels)
 
 
 def test_uploaded_flights_replace_the_demo_and_pair_with_their_sheets(demo_analysis):

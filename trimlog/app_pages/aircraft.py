@@ -57,7 +57,7 @@ def render() -> None:
         "The invented demo aircraft is loaded to start with; upload yours or edit the text."
     )
     if ss.get("profile_error"):
-        st.error(f"Profile not changed: {ss.profile_error}", icon=":material/error:")
+        common.show_error(ss.profile_error, "Profile not changed")
     p = compute.profile(ss.profile_text, ss.profile_source)
     cols = st.columns([2, 1, 1, 1])
     cols[0].metric("Aircraft", p.name)
@@ -65,11 +65,12 @@ def render() -> None:
     cols[2].metric("CG limits [%MAC]", f"{p.cg_forward_pct_mac:.1f} to {p.cg_aft_pct_mac:.1f}")
     cols[3].metric("Minimum static margin", common.num(p.min_static_margin_pct_mac, ".1f",
                                                        "%MAC"))
-    st.caption(f"Profile in use: {ss.profile_source}")
+    st.caption(f"Profile in use: {common.esc(ss.profile_source)}")
     for w in p.warnings:
-        st.warning(w)
+        common.warn(w)
     if p.defaults_used:
-        st.info("Assumed because the profile does not say: " + "; ".join(p.defaults_used))
+        st.info(common.esc("Assumed because the profile does not say: "
+                           + "; ".join(p.defaults_used)))
 
     st.file_uploader("Upload a profile (TOML)", type=["toml"], key="profile_upload")
     st.button("Use the uploaded profile", on_click=_apply_upload,

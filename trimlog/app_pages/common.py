@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 from collections.abc import Iterable, Sequence
 
 import streamlit as st
@@ -9,10 +10,22 @@ import streamlit as st
 from trimlog import cautions
 from trimlog.errors import TrimlogError
 
+_MARKUP = re.compile(r"([\\`*_\[\]<>$~|#])")
 
-def show_error(exc: TrimlogError, what: str = "") -> None:
+
+def esc(text: object) -> str:
+    """Text shown literally: file names and messages may hold markdown or LaTeX marks."""
+    return _MARKUP.sub(r"\\\1", str(text))
+
+
+def show_error(exc: TrimlogError | str, what: str = "") -> None:
     """A user's mistake, in the package's own words (never a traceback)."""
-    st.error(f"{what}{': ' if what else ''}{exc}", icon=":material/error:")
+    st.error(esc(f"{what}{': ' if what else ''}{exc}"), icon=":material/error:")
+
+
+def warn(text: str) -> None:
+    """A warning of the package, shown literally."""
+    st.warning(esc(text))
 
 
 def caution_box(extra: Sequence[str] = (), *, key: str = "") -> None:

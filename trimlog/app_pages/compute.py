@@ -95,7 +95,7 @@ def run_analysis(inputs: Inputs) -> Analysis:
 
 def _png(ax) -> bytes:
     buf = io.BytesIO()
-    ax.figure.savefig(buf, format="png", dpi=110, bbox_inches="tight")
+    ax.figure.savefig(buf, format="png", dpi=110)
     return buf.getvalue()
 
 
@@ -246,3 +246,23 @@ def trend_figure(aircraft: str, margin: float | None, step: float | None) -> byt
     if optional("plots") is None:
         return None
     return _trend_png(aircraft, margin, step, _db_token())
+
+
+@st.cache_data(max_entries=4, show_spinner="Drawing the PDF report of the history...")
+def _history_pdf(aircraft: str, margin: float | None, step: float | None, token: tuple) -> bytes:
+    from trimlog import history, report
+
+    with open_history() as store:
+        result = history.analyze_history(store, aircraft)
+        steps = history.trend(store, aircraft, min_margin_pct_mac=margin,
+                              max_step_pct_mac=step).records()
+    with tempfile.TemporaryDirectory(prefix="trimlog-report-") as tmp:
+        return Path(report.write_report(result, Path(tmp) / "report.pdf",
+                                        trend=steps)).read_bytes()
+
+
+def history_report_pdf(aircraft: str, margin: float | None, step: float | None) -> bytes | None:
+    """The PDF report of every stored flight with the trend, None while report is missing."""
+    if optional("report") is None:
+        return None
+    return _history_pdf(aircraft, margin, step, _db_token())

@@ -69,7 +69,7 @@ def render() -> None:
         _log_card(name, log, sheets, p)
     for name in [n for n in ss.user_sheets if n not in {session.sheet_choice(x) for x in logs}]:
         with st.container(border=True):
-            st.markdown(f"**{name}** (loading sheet, not paired with a log yet)")
+            st.markdown(f"**{common.esc(name)}** (loading sheet, not paired with a log yet)")
             try:
                 compute.loading_sheet(ss.user_sheets[name])
             except TrimlogError as exc:
@@ -85,7 +85,7 @@ def _log_card(name: str, log: session.FileBytes, sheets: dict, p) -> None:
     chosen = session.sheet_choice(name)
     with st.container(border=True):
         head, tail = st.columns([5, 1])
-        head.markdown(f"**{name}**" + ("  (demo)" if is_demo else ""))
+        head.markdown(f"**{common.esc(name)}**" + ("  (demo)" if is_demo else ""))
         if not is_demo:
             tail.button("Remove", key=f"rm_{name}", on_click=_remove, args=(name,))
         sheet_col, label_col, notes_col = st.columns([2, 2, 3])
@@ -113,7 +113,7 @@ def _log_card(name: str, log: session.FileBytes, sheets: dict, p) -> None:
         n_points = sum(len(f.points) for f in found)
         head.markdown(
             f"{kind}, {len(first.log.data)} rows; flight "
-            + ", ".join(f"`{f.flight}`" for f in found)
+            + ", ".join(common.esc(f.flight) for f in found)
             + f": **{n_points} stabilized points**"
         )
         if n_points == 0:
@@ -122,5 +122,5 @@ def _log_card(name: str, log: session.FileBytes, sheets: dict, p) -> None:
         notes = [*first.log.warnings, *(f"{d.count} {d.reason}" for d in first.log.dropped
                                         if d.count)]
         with st.expander(f"How it was read ({len(notes)} notes)"):
-            st.caption(first.log.kind_reason)
-            st.markdown("\n".join(f"- {n}" for n in notes) or "Nothing to note.")
+            st.caption(common.esc(first.log.kind_reason))
+            st.markdown("\n".join(f"- {common.esc(n)}" for n in notes) or "Nothing to note.")

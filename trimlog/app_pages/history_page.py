@@ -72,12 +72,12 @@ def render() -> None:
     st.button(f"Save the {n_logs} flight(s) in use to the history of {p.name}",
               type="primary", on_click=_save, disabled=not n_logs)
     for kind, text in ss.pop("history_messages", []):
-        {"ok": st.success, "info": st.info, "error": st.error}[kind](text)
+        {"ok": st.success, "info": st.info, "error": st.error}[kind](common.esc(text))
 
     try:
         listing = compute.flight_listing(p.name)
     except TrimlogError as exc:
-        st.info(f"Nothing saved for this aircraft yet ({exc}).")
+        st.info(common.esc(f"Nothing saved for this aircraft yet ({exc})."))
         common.caution_box(cautions.CG_EXPANSION, key="_history")
         return
     common.caution_box(key="_history")
@@ -145,7 +145,7 @@ def _trend(p) -> None:
         hide_index=True, width="stretch",
     )
     for w in trend["warnings"]:
-        st.warning(w)
+        common.warn(w)
     nxt = trend["next_step"]
     st.subheader("Next flight: how far aft")
     with st.container(border=True, key="next_step"):
@@ -157,7 +157,18 @@ def _trend(p) -> None:
                            f"{nxt['max_cg_pct_mac']:.1f} %MAC")
             cols[1].metric("As a station", num(nxt["max_cg_station_in"], ".1f", "in"))
             cols[2].metric("Limited by", nxt["limited_by"])
-        st.markdown(nxt["reason"])
+        st.markdown(common.esc(nxt["reason"]))
         common.caution_list(nxt["cautions"])
-    st.download_button("Trend (JSON)", json.dumps(trend, indent=2, allow_nan=False),
-                       file_name="trimlog-trend.json", mime="application/json")
+    left, right = st.columns(2)
+    left.download_button("Trend (JSON)", json.dumps(trend, indent=2, allow_nan=False),
+                         file_name="trimlog-trend.json", mime="application/json")
+    if compute.optional("report") is None:
+        right.info("The PDF report appears once trimlog.report is installed.")
+    elif right.toggle("Prepare the PDF report of the whole history", key="want_history_pdf"):
+        try:
+            pdf = compute.history_report_pdf(p.name, margin, step)
+        except TrimlogError as exc:
+            common.show_error(exc, "No report")
+            return
+        right.download_button("History report (PDF)", pdf, file_name="trimlog-history.pdf",
+                              mime="application/pdf")

@@ -76,7 +76,7 @@ def _banner(a: Analysis) -> None:
     s = a.primary.stability
     demo = any(f.source not in st.session_state.user_logs for f in a.flights)
     st.markdown(
-        f"**{a.profile.name}**: {len(a.flights)} flight(s), {s.n_included} points used"
+        f"**{common.esc(a.profile.name)}**: {len(a.flights)} flight(s), {s.n_included} points used"
         + (f", {s.n_excluded} left out" if s.n_excluded else "")
         + f"; configuration '{a.primary.config}'."
     )
@@ -92,7 +92,7 @@ def _np_metric(col, title: str, np_, help_text: str) -> None:
                     f"{num(np_.station_in, '.2f', 'in')}")
     else:
         col.metric(title, "not yet", help=help_text)
-        col.caption(np_.reason)
+        col.caption(common.esc(np_.reason))
 
 
 def _neutral_points(a: Analysis) -> None:
@@ -127,7 +127,8 @@ def _shim(a: Analysis) -> None:
     rec = a.primary.incidence
     with st.container(border=True, key="shim"):
         if rec is None:
-            st.markdown("**No shim recommendation yet.** " + (a.primary.incidence_reason or ""))
+            st.markdown("**No shim recommendation yet.** "
+                        + common.esc(a.primary.incidence_reason or ""))
         else:
             if rec.shim_recommended:
                 st.markdown(f"**Shim: {rec.shim_thickness_in:.3f} in "
@@ -149,9 +150,13 @@ def _shim(a: Analysis) -> None:
             cols[3].metric("Elevator effectiveness tau", f"{rec.tau:.2f}")
             cols[3].caption(f"{rec.tau_source}; 95 %: {interval(rec.tau_ci95, '.2f')}")
             st.markdown(rec.words)
+            report = compute.optional("report")
+            if report is not None and rec.shim_recommended:
+                st.markdown("Shim with its uncertainty: " + report.shim_text(
+                    rec.to_json(), a.profile.stabilizer_attach_spacing_in) + ".")
             st.caption(rec.tau_explanation + ". " + rec.change_method + ".")
             for w in rec.warnings:
-                st.warning(w)
+                common.warn(w)
         common.caution_list(cautions.INCIDENCE)
 
 
@@ -200,7 +205,7 @@ def _authority(a: Analysis) -> None:
         st.caption("Not computed: no profile.")
         return
     if not auth.cases:
-        st.warning(f"Not computed: {auth.reason}")
+        common.warn(f"Not computed: {auth.reason}")
     for case in auth.cases:
         text = (f"**{case.case} (CLmax {case.clmax:.2f}) at {case.cg_pct_mac:.1f} %MAC:** "
                 f"{case.verdict}. Elevator to trim {case.elevator_deg:+.1f} deg against the up "
@@ -225,7 +230,7 @@ def _warnings(a: Analysis) -> None:
     other = [w for w in a.warnings if w not in reading]
     st.subheader(f"Warnings ({len(other)})")
     for w in other:
-        st.warning(w)
+        common.warn(w)
     if not other:
         st.caption("None from the analysis.")
     if reading:
@@ -249,13 +254,13 @@ def _next_cg(a: Analysis) -> None:
     nxt = a.primary.stability.next_cg
     st.subheader("Where to fly next to narrow the neutral point")
     if nxt.cg_pct_mac is None:
-        st.markdown(nxt.reason)
+        st.markdown(common.esc(nxt.reason))
     else:
         st.markdown(
             f"A flight at **{nxt.cg_pct_mac:.1f} %MAC ({num(nxt.station_in, '.1f', 'in')})** "
             "would shrink the neutral point's standard error from "
             f"{num(nxt.current_se_pct_mac, '.2f')} to {num(nxt.predicted_se_pct_mac, '.2f')} "
-            f"%MAC ({nxt.criterion}). {nxt.reason}"
+            f"%MAC ({nxt.criterion}). {common.esc(nxt.reason)}"
         )
     common.caution_list(cautions.CG_EXPANSION)
 
