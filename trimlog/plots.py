@@ -148,8 +148,9 @@ def _band_handle() -> Patch:
     return Patch(facecolor=GREY, alpha=0.25, label="fit, 95 % confidence band")
 
 
-def _flight_label(flight: str, cg: float | None) -> str:
-    return flight if cg is None else f"{flight} (CG {cg:.1f} %MAC)"
+def _flight_label(flight: str, cg: float | None, setting: str | None = None) -> str:
+    parts = ([] if cg is None else [f"CG {cg:.1f} %MAC"]) + ([setting] if setting else [])
+    return f"{flight} ({', '.join(parts)})" if parts else flight
 
 
 def _cg_of(analysis: Analysis) -> dict[str, float]:
@@ -202,12 +203,15 @@ def trim_curves(analysis: Analysis, ax: Axes | None = None) -> Axes:
     pts = _primary_points(analysis)
     fit = analysis.primary.stability.stick_fixed
     styles, cgs = _styles(analysis), _cg_of(analysis)
+    several = pts["stab_setting"].nunique() > 1
     any_excluded = False
     for flight, frame in pts.groupby("flight", sort=False):
         style = styles[str(flight)]
         cg = cgs.get(str(flight))
-        any_excluded |= _scatter(ax, frame, "cl", "elevator_deg", style,
-                                 _flight_label(str(flight), cg))
+        # the trim lines of another stabilizer setting are offset: say which setting
+        settings = ", ".join(map(str, frame["stab_setting"].unique())) if several else None
+        label = _flight_label(str(flight), cg, settings)
+        any_excluded |= _scatter(ax, frame, "cl", "elevator_deg", style, label)
         used = frame.loc[frame["included"].astype(bool)]
         if fit.linear is None or len(used) < 2:
             continue

@@ -645,7 +645,7 @@ class _PdfLayout:
         self._heading(_Heading(block.title, 1))
         page_w, page_h = PAGE_IN
         top_in = 1.45
-        height_in = 7.0 if block.tall else 5.2
+        height_in = 7.0 if block.tall else 6.0
         rect = (1.05 / page_w, 1.0 - (top_in + height_in) / page_h,
                 (page_w - 1.05 - 0.55) / page_w, height_in / page_h)
         block.draw(self.fig, rect)
