@@ -538,13 +538,13 @@ def neutral_point_trend(trend_steps: Sequence[Mapping[str, Any]], ax: Axes | Non
                PALETTE[0], -0.1),
               ("stick_free_pct_mac", "stick_free_ci95_pct_mac", "stick-free neutral point",
                "s", PALETTE[1], 0.1))
-    unknown: dict[float, list[str]] = {}
+    unknown: list[list[str]] = [[] for _ in trend_steps]
     for key, ci_key, label, marker, color, dx in series:
         xs, ys, lo, hi = [], [], [], []
-        for xi, rec in zip(x, trend_steps, strict=True):
+        for i, (xi, rec) in enumerate(zip(x, trend_steps, strict=True)):
             value, ci = rec[key], rec[ci_key]
             if value is None or not math.isfinite(value):
-                unknown.setdefault(xi, []).append(label.split()[0])
+                unknown[i].append(label.split()[0].removeprefix("stick-"))
                 continue
             xs.append(xi + dx)
             ys.append(value)
@@ -558,17 +558,17 @@ def neutral_point_trend(trend_steps: Sequence[Mapping[str, Any]], ax: Axes | Non
     if cgs:
         ax.plot([c[0] for c in cgs], [c[1] for c in cgs], marker="v", color=PALETTE[2],
                 linestyle="none", markersize=7, label="CG of the flight added")
-    for xi, kinds in unknown.items():
-        ax.text(xi, 0.97, "\n".join(kinds) + ":\nnot\nidentifiable",
-                transform=ax.get_xaxis_transform(), ha="center", va="top",
-                fontsize=LEGEND_SIZE - 1, color="#555555")
     if not len(trend_steps):
         _note(ax, "no flights in the history")
-    ax.set_xticks(x, [f"{rec['n_flights']}: {rec['label']}" for rec in trend_steps],
-                  rotation=30, ha="right")
+    # A step without an estimate says so under its flight, clear of the data.
+    ticks = [f"{rec['n_flights']}: {rec['label']}"
+             + (f"\nnot identifiable:\n{', '.join(kinds)}" if kinds else "")
+             for rec, kinds in zip(trend_steps, unknown, strict=True)]
+    few = len(trend_steps) <= 6
+    ax.set_xticks(x, ticks, rotation=0 if few else 30, ha="center" if few else "right")
     ax.set_xlim(0.5, len(trend_steps) + 0.5)
     if ax.get_legend_handles_labels()[0]:
         ax.legend(fontsize=LEGEND_SIZE, loc="best")
-    _finish(ax, "flights analysed: count and the flight added [-]", "CG and neutral point [%MAC]",
+    _finish(ax, "flights analysed [count]: the flight added", "CG and neutral point [%MAC]",
             "Neutral point after each flight")
     return ax

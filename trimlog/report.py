@@ -649,7 +649,7 @@ class _PdfLayout:
         rect = (1.05 / page_w, 1.0 - (top_in + height_in) / page_h,
                 (page_w - 1.05 - 0.55) / page_w, height_in / page_h)
         block.draw(self.fig, rect)
-        self.y = (top_in + height_in + 0.6) * PT_PER_IN
+        self.y = (top_in + height_in + 0.95) * PT_PER_IN  # clear of the tick labels
         self._para(_Para(block.caption))
         self.fig = None
 
