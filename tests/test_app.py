@@ -221,6 +221,8 @@ def _save(at: AppTest) -> None:
 
 def test_saved_flights_make_a_trend_and_a_next_step(tmp_path):
     at = _go(_app(), "History")
+    at.session_state["exclusions"] = {("flight2", 1)}  # as the Points page leaves it
+    at.run()
     _save(at)
     assert not at.error, [e.value for e in at.error]
     assert len(at.success) == 5
@@ -228,6 +230,8 @@ def test_saved_flights_make_a_trend_and_a_next_step(tmp_path):
         from trimlog import history
 
         trend = history.trend(st_).to_dict()
+        (flight2,) = [f for f in trend["flights"] if f["name"] == "flight2"]
+        assert flight2["n_included"] == flight2["n_points"] - 1
     steps = _table(at, "After flight")
     assert len(steps) == len(trend["trend"]) == 5
     nxt = trend["next_step"]
@@ -239,6 +243,20 @@ def test_saved_flights_make_a_trend_and_a_next_step(tmp_path):
         assert caution in _texts(at)
     _save(at)  # saving again stores nothing twice
     assert len(at.info) >= 5 and not at.success
+
+
+def test_a_point_left_out_of_a_saved_flight_is_kept_in_the_history(tmp_path):
+    at = _go(_app(), "History")
+    _save(at)
+    fid = at.selectbox(key="history_flight").value
+    at.session_state[f"history_editor_{fid}"] = {
+        "edited_rows": {1: {"included": False}}, "added_rows": [], "deleted_rows": []}
+    at.run()
+    assert not at.exception
+    with store.open_store(tmp_path / "history.sqlite") as st_:
+        points = st_.flight_points(fid)
+    assert list(points.loc[~points["included"].astype(bool), "point"]) == [2]
+    assert _table(at, "Used").loc[0, "Used"] == len(points) - 1
 
 
 def test_two_sessions_saving_at_once_lose_nothing(tmp_path):

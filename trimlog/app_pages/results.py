@@ -91,7 +91,7 @@ def _np_metric(col, title: str, np_, help_text: str) -> None:
         col.caption(f"95 %: {interval(np_.ci95_pct_mac)} %MAC; station "
                     f"{num(np_.station_in, '.2f', 'in')}")
     else:
-        col.metric(title, "not yet", help=help_text)
+        col.metric(title, "not identifiable yet", help=help_text)
         col.caption(common.esc(np_.reason))
 
 
@@ -134,8 +134,7 @@ def _shim(a: Analysis) -> None:
                 st.markdown(f"**Shim: {rec.shim_thickness_in:.3f} in "
                             f"({rec.shim_thickness_mm:.2f} mm) under the {rec.shim_location}.**")
             else:
-                st.markdown("**No shim needed: the elevator already sits near neutral in "
-                            "cruise.**")
+                st.markdown("**No shim recommended from these data** (the reason is below).")
             cols = st.columns(4)
             cols[0].metric("Elevator at cruise", f"{rec.elevator_at_cruise_deg:+.2f} deg",
                            help="trailing edge down positive")
@@ -143,10 +142,11 @@ def _shim(a: Analysis) -> None:
             cols[1].metric("Incidence change", f"{rec.change_deg:+.2f} deg",
                            help="leading edge up positive")
             cols[1].caption(f"95 %: {interval(rec.change_ci95_deg, '+.2f')} deg")
-            cols[2].metric("Nearest shim stock", f"{rec.shim_stock_thickness_in:.3f} in",
-                           help=f"{rec.shim_stock} stock")
-            cols[2].caption(" + ".join(f"{t:.3f}" for t in rec.shim_stock_sheets)
-                            + f" in = {rec.shim_stock_thickness_mm:.2f} mm")
+            if rec.shim_recommended:
+                cols[2].metric("Nearest shim stock", f"{rec.shim_stock_thickness_in:.3f} in",
+                               help=f"{rec.shim_stock} stock")
+                cols[2].caption(" + ".join(f"{t:.3f}" for t in rec.shim_stock_sheets)
+                                + f" in = {rec.shim_stock_thickness_mm:.2f} mm")
             cols[3].metric("Elevator effectiveness tau", f"{rec.tau:.2f}")
             cols[3].caption(f"{rec.tau_source}; 95 %: {interval(rec.tau_ci95, '.2f')}")
             st.markdown(rec.words)
