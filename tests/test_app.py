@@ -163,7 +163,21 @@ def test_a_bad_profile_is_refused_inline_and_the_old_one_kept():
     assert any(e.startswith("Profile not changed") for e in errors), errors
     message = str(expected.value).split(": ", 1)[-1]  # the part after the source name
     assert any(message in e for e in errors), (message, errors)
-    assert "Tinkerfinch" in _metrics(at)["Aircraft"]
+    assert any("Tinkerfinch" in h.value for h in at.subheader)
+
+
+def test_an_uploaded_profile_is_used():
+    text = (SAMPLES / "tinkerfinch_tf2.toml").read_text().replace(
+        "Tinkerfinch TF-2 DEMO-1", "Quillwing Q-1 (another invented aircraft)")
+    at = _go(_app(), "Aircraft")
+    upload = ("quillwing.toml", text.encode(), "text/plain")
+    at.file_uploader(key="profile_upload").set_value(upload)
+    at.run()
+    _button(at, "Use the uploaded profile").click()
+    at.run()
+    assert not at.exception and not at.error
+    assert any("Quillwing" in h.value for h in at.subheader)
+    assert at.session_state["profile_source"] == "quillwing.toml"
 
 
 def test_excluding_a_point_changes_the_result(demo_analysis):

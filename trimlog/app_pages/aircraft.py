@@ -59,13 +59,16 @@ def render() -> None:
     if ss.get("profile_error"):
         common.show_error(ss.profile_error, "Profile not changed")
     p = compute.profile(ss.profile_text, ss.profile_source)
-    cols = st.columns([2, 1, 1, 1])
-    cols[0].metric("Aircraft", p.name)
-    cols[1].metric("MAC", common.num(p.mac_in, ".1f", "in"))
-    cols[2].metric("CG limits [%MAC]", f"{p.cg_forward_pct_mac:.1f} to {p.cg_aft_pct_mac:.1f}")
+    st.subheader(common.esc(p.name))
+    st.caption(f"Profile in use: {common.esc(ss.profile_source)}")
+    cols = st.columns(4)
+    cols[0].metric("Wing area", common.num(p.wing_area_ft2, ".1f", "ft²"))
+    cols[1].metric("MAC", common.num(p.mac_in, ".1f", "in"),
+                   help=f"leading edge at {p.lemac_in:.1f} in aft of the datum")
+    cols[2].metric("CG limits [%MAC]", f"{p.cg_forward_pct_mac:.1f} to {p.cg_aft_pct_mac:.1f}",
+                   help=f"{p.cg_forward_in:.1f} to {p.cg_aft_in:.1f} in aft of the datum")
     cols[3].metric("Minimum static margin", common.num(p.min_static_margin_pct_mac, ".1f",
                                                        "%MAC"))
-    st.caption(f"Profile in use: {common.esc(ss.profile_source)}")
     for w in p.warnings:
         common.warn(w)
     if p.defaults_used:
