@@ -156,6 +156,7 @@ def test_points_table_lists_every_point(rendered):
     for p in d["points"][:3] + d["points"][-3:]:
         assert f"{p['flight']} {p['point']} " in text
         assert f"{p['cl']:.3f}" in text
+    assert not re.search(r"-0\.0+\b", text)  # a value that rounds to zero has no sign
 
 
 def test_not_identifiable_report_gives_the_verdict_and_no_number(refused, one_flight):

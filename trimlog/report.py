@@ -102,7 +102,10 @@ class _Break:
 def _f(value: float | None, spec: str = ".1f", unit: str = "") -> str:
     if value is None:
         return DASH
-    return f"{value:{spec}}" + (f" {unit}" if unit else "")
+    text = f"{value:{spec}}"
+    if float(text) == 0.0:  # no "-0.0" for a value that rounds to zero
+        text = f"{0.0:{spec}}"
+    return text + (f" {unit}" if unit else "")
 
 
 def _ci(pair: Sequence[float] | None, spec: str = ".1f") -> str:
@@ -697,7 +700,7 @@ def _render_html(blocks: Sequence[Any], title: str, footer: str) -> str:
            "th,td{border-bottom:1px solid #ccc;padding:.15em .6em;text-align:left;"
            "vertical-align:top}tr:nth-child(even){background:#f2f2f2}"
            ".box{border:2px solid #000;background:#f2f2f2;padding:.6em;font-weight:bold}"
-           ".small{font-size:85%;color:#333}img{max-width:100%}</style></head><body>"]
+           ".strong{font-weight:bold}.small{font-size:85%;color:#333}img{max-width:100%}</style></head><body>"]
     bullets: list[str] = []
 
     def flush() -> None:
@@ -714,7 +717,7 @@ def _render_html(blocks: Sequence[Any], title: str, footer: str) -> str:
             level = block.level + 1
             out.append(f"<h{level}>{html.escape(block.text)}</h{level}>")
         elif isinstance(block, _Para):
-            cls = f' class="{block.kind}"' if block.kind in ("box", "small") else ""
+            cls = f' class="{block.kind}"' if block.kind in ("box", "small", "strong") else ""
             out.append(f"<p{cls}>{html.escape(block.text)}</p>")
         elif isinstance(block, _Table):
             head = "".join(f"<th>{html.escape(h)}</th>" for h in block.headers)
