@@ -178,6 +178,7 @@ def test_an_uploaded_profile_is_used():
     assert not at.exception and not at.error
     assert any("Quillwing" in h.value for h in at.subheader)
     assert at.session_state["profile_source"] == "quillwing.toml"
+    assert at.session_state["use_demo"] is False
 
 
 def test_excluding_a_point_changes_the_result(demo_analysis):

@@ -34,6 +34,9 @@ def _apply_upload() -> None:
         )
         return
     _try_use(text, up.name)
+    if not st.session_state.profile_error:
+        # The demo flights belong to the demo aircraft, not to an uploaded one.
+        st.session_state.use_demo = False
 
 
 def _apply_edit() -> None:
