@@ -54,7 +54,8 @@ def loading_sheet(sheet: FileBytes) -> LoadingSheet:
     return read_loading_sheet(sheet.raw, name=sheet.name)
 
 
-@st.cache_resource(max_entries=64, show_spinner="Reading the log and finding its points...",
+# A one-hour 50 Hz log holds some 15 MB once read: keep a working set, not every version.
+@st.cache_resource(max_entries=24, show_spinner="Reading the log and finding its points...",
                    hash_funcs=_HASH)
 def flight_data(
     log: FileBytes,
@@ -79,7 +80,7 @@ def flights_of(inputs: Inputs) -> list[FlightData]:
     return out
 
 
-@st.cache_resource(max_entries=32, show_spinner="Fitting the trim lines...", hash_funcs=_HASH)
+@st.cache_resource(max_entries=16, show_spinner="Fitting the trim lines...", hash_funcs=_HASH)
 def run_analysis(inputs: Inputs) -> Analysis:
     """The analysis of the inputs.
 

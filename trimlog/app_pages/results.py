@@ -243,7 +243,11 @@ def _figures(inputs: session.Inputs) -> None:
     st.subheader("Figures")
     cols = st.columns(2)
     for i, (kind, caption) in enumerate(FIGURES):
-        png = compute.figure(kind, inputs)
+        try:
+            png = compute.figure(kind, inputs)
+        except TrimlogError as exc:
+            cols[i % 2].info(common.esc(f"{caption}: not drawn ({exc})"))
+            continue
         if png is None:
             cols[i % 2].info(f"{caption}: appears once trimlog.plots is installed.")
         else:
