@@ -19,6 +19,7 @@ References
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 
@@ -49,6 +50,7 @@ def finite_pair(lo: float | None, hi: float | None) -> tuple[float, float] | Non
     return (min(lo, hi), max(lo, hi))
 
 
+@functools.lru_cache(maxsize=1024)
 def t_quantile(df: float) -> float:
     """Two-sided Student-t quantile for :data:`CONFIDENCE` with ``df`` degrees of freedom."""
     return float(stats.t.ppf(0.5 + CONFIDENCE / 2.0, df))

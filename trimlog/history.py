@@ -276,7 +276,51 @@ class Trend:
 
 def flight_listing(store: Store, aircraft: str | None = None) -> list[dict[str, Any]]:
     """The stored flights with their mean CG and point counts."""
-    return list(trend(store, aircraft).flights)
+    stored = _load(store, aircraft)
+    reduced, _, config = _reduce(stored)
+    return list(_listing(stored, _cg_by_flight(reduced, config)))
+
+
+def _reduce(stored: _Stored) -> tuple[pd.DataFrame | None, list[str], str]:
+    """Reduced points of the history, its warnings and the primary configuration."""
+    if not len(stored.points):
+        return None, [], "clean"
+    result = reduce_points(stored.points, stored.profile, stored.sheets)
+    warnings = list(result.warnings)
+    used = result.points.loc[result.points["included"].astype(bool)]
+    counts = used.groupby("config").size()
+    config = "clean"
+    if len(counts):
+        ranked = sorted(counts.items(), key=lambda kv: (-kv[1], kv[0] != "clean"))
+        config = str(ranked[0][0])
+        if len(counts) > 1:
+            warnings.append(f"the trend uses configuration '{config}' only")
+    return result.points, warnings, config
+
+
+def _cg_by_flight(reduced: pd.DataFrame | None, config: str) -> dict[str, float]:
+    if reduced is None:
+        return {}
+    used = reduced.loc[(reduced["config"] == config) & reduced["included"].astype(bool)]
+    return used.groupby("flight")["cg_pct_mac"].mean().to_dict()
+
+
+def _listing(stored: _Stored, cg_by_flight: dict[str, float]) -> tuple[dict[str, Any], ...]:
+    return tuple(
+        {
+            "id": r.id,
+            "label": r.label or stored.names[r.id],
+            "name": stored.names[r.id],
+            "filename": r.filename,
+            "sha256": r.sha256,
+            "date": None if r.date is None else r.date.isoformat(),
+            "cg_pct_mac": _finite_or_none(cg_by_flight.get(stored.names[r.id])),
+            "n_points": r.n_points,
+            "n_included": r.n_included,
+            "stab_setting": r.incidence_label,
+        }
+        for r in stored.records
+    )
 
 
 def trend(
@@ -293,56 +337,24 @@ def trend(
     """
     stored = _load(store, aircraft)
     profile = stored.profile
-    warnings: list[str] = []
-    reduced = None
-    if len(stored.points):
-        result = reduce_points(stored.points, profile, stored.sheets)
-        reduced = result.points
-        warnings.extend(result.warnings)
-    order = [stored.names[r.id] for r in stored.records]
-    cg_by_flight: dict[str, float] = {}
-    config = "clean"
+    reduced, warnings, config = _reduce(stored)
+    cg_by_flight = _cg_by_flight(reduced, config)
     steps: tuple[TrendStep, ...] = ()
     if reduced is not None:
-        used = reduced.loc[reduced["included"].astype(bool)]
-        counts = used.groupby("config").size()
-        if len(counts):
-            ranked = sorted(counts.items(), key=lambda kv: (-kv[1], kv[0] != "clean"))
-            config = str(ranked[0][0])
-            if len(counts) > 1:
-                warnings.append(f"the trend uses configuration '{config}' only")
-        part = reduced.loc[reduced["config"] == config]
-        cg_by_flight = part.loc[part["included"].astype(bool)].groupby("flight")[
-            "cg_pct_mac"].mean().to_dict()
-        steps = neutral_point_sequence(part, order, profile)
-    flights = tuple(
-        {
-            "id": r.id,
-            "label": r.label or stored.names[r.id],
-            "name": stored.names[r.id],
-            "filename": r.filename,
-            "sha256": r.sha256,
-            "date": None if r.date is None else r.date.isoformat(),
-            "cg_pct_mac": _finite_or_none(cg_by_flight.get(stored.names[r.id])),
-            "n_points": r.n_points,
-            "n_included": r.n_included,
-            "stab_setting": r.incidence_label,
-        }
-        for r in stored.records
-    )
+        order = [stored.names[r.id] for r in stored.records]
+        steps = neutral_point_sequence(reduced.loc[reduced["config"] == config], order, profile)
     latest = steps[-1].stick_fixed if steps else None
     if latest is None:
         next_step = NextStep(None, None, min_margin_pct_mac or profile.min_static_margin_pct_mac,
                              max_step_pct_mac or profile.cg_step_max_pct_mac, None, "none",
                              "no flight with usable points yet")
     else:
-        flown = [c for c in cg_by_flight.values() if c is not None]
         next_step = plan_next_step(
-            latest, flown, profile, min_margin_pct_mac=min_margin_pct_mac,
+            latest, list(cg_by_flight.values()), profile, min_margin_pct_mac=min_margin_pct_mac,
             step_max_pct_mac=max_step_pct_mac,
             aft_gradient_clearly_stable=_aft_flight_clearly_stable(reduced, config, cg_by_flight),
         )
-    return Trend(stored.aircraft.name, flights, steps, next_step, config,
+    return Trend(stored.aircraft.name, _listing(stored, cg_by_flight), steps, next_step, config,
                  tuple(dict.fromkeys(warnings)))
 
 

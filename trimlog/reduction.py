@@ -154,10 +154,10 @@ def _weight_and_cg(
     for column in ("weight_lb", "cg_in"):
         if column not in out:
             out[column] = np.nan
-    for flight, rows in out.groupby("flight", sort=False).groups.items():
-        missing = out.loc[rows, ["weight_lb", "cg_in"]].isna().any(axis=1)
-        if not missing.any():
-            continue
+    missing_rows = out[["weight_lb", "cg_in"]].isna().any(axis=1)
+    flights = out["flight"].astype(str)
+    for flight in dict.fromkeys(flights[missing_rows]):
+        missing = missing_rows & (flights == flight)
         sheet = loadings.get(str(flight))
         if sheet is None:
             raise InputFileError(
@@ -206,62 +206,67 @@ def _weight_and_cg(
 
 def _check_cg_plausible(out: pd.DataFrame, profile: AircraftProfile, warnings: list[str]) -> None:
     fwd, aft = profile.cg_forward_pct_mac, profile.cg_aft_pct_mac
-    for flight, cgs in out.groupby("flight", sort=False)["cg_pct_mac"]:
-        lo, hi = float(cgs.min()), float(cgs.max())
-        if lo < fwd - CG_IMPLAUSIBLE_BEYOND_LIMITS_PCT_MAC or hi > aft + (
-            CG_IMPLAUSIBLE_BEYOND_LIMITS_PCT_MAC
-        ):
-            raise InputFileError(
-                f"CG {lo:.1f}..{hi:.1f} %MAC is far outside the profile's limits "
-                f"({fwd:.1f}..{aft:.1f} %MAC): check the loading, the datum, lemac and mac",
-                file=str(flight),
-                column="cg_in",
-            )
-        if lo < fwd - 1e-9 or hi > aft + 1e-9:
-            warnings.append(
-                f"flight {flight}: CG {lo:.1f}..{hi:.1f} %MAC lies outside the profile's "
-                f"limits ({fwd:.1f}..{aft:.1f} %MAC)"
-            )
+    extremes = out.groupby("flight", sort=False)["cg_pct_mac"].agg(["min", "max"])
+    far = (extremes["min"] < fwd - CG_IMPLAUSIBLE_BEYOND_LIMITS_PCT_MAC) | (
+        extremes["max"] > aft + CG_IMPLAUSIBLE_BEYOND_LIMITS_PCT_MAC)
+    if far.any():
+        flight = extremes.index[far.to_numpy()][0]
+        lo, hi = extremes.loc[flight, "min"], extremes.loc[flight, "max"]
+        raise InputFileError(
+            f"CG {lo:.1f}..{hi:.1f} %MAC is far outside the profile's limits "
+            f"({fwd:.1f}..{aft:.1f} %MAC): check the loading, the datum, lemac and mac",
+            file=str(flight),
+            column="cg_in",
+        )
+    outside = (extremes["min"] < fwd - 1e-9) | (extremes["max"] > aft + 1e-9)
+    for flight, row in extremes.loc[outside].iterrows():
+        warnings.append(
+            f"flight {flight}: CG {row['min']:.1f}..{row['max']:.1f} %MAC lies outside the "
+            f"profile's limits ({fwd:.1f}..{aft:.1f} %MAC)"
+        )
 
 
 def _incidence_and_configuration(
     out: pd.DataFrame, loadings: Mapping[str, FlightLoadingLike], warnings: list[str]
 ) -> None:
+    flights = out["flight"].astype(str)
     if "stab_incidence_deg" not in out:
         out["stab_incidence_deg"] = np.nan
-    labels = pd.Series(DEFAULT_SETTING_LABEL, index=out.index, dtype=object)
-    for flight, rows in out.groupby("flight", sort=False).groups.items():
-        sheet = loadings.get(str(flight))
-        logged = out.loc[rows, "stab_incidence_deg"].dropna()
-        if not logged.empty:
-            if logged.max() - logged.min() > 0.01:
-                warnings.append(
-                    f"flight {flight}: stab_incidence_deg varies within the flight "
-                    f"({logged.min():g}..{logged.max():g} deg); each point keeps its own value"
-                )
-            values = out.loc[rows, "stab_incidence_deg"]
-            labels.loc[rows] = [
-                f"{v:+.2f} deg" if np.isfinite(v) else DEFAULT_SETTING_LABEL for v in values
-            ]
-        elif sheet is not None and (sheet.stab_setting or sheet.stab_incidence_deg is not None):
-            if sheet.stab_incidence_deg is not None:
-                out.loc[rows, "stab_incidence_deg"] = sheet.stab_incidence_deg
-            labels.loc[rows] = sheet.stab_setting or f"{sheet.stab_incidence_deg:+.2f} deg"
-        if sheet is not None and sheet.flap_deg is not None:
-            if "flap_deg" not in out:
-                out["flap_deg"] = np.nan
-            out.loc[rows, "flap_deg"] = out.loc[rows, "flap_deg"].fillna(sheet.flap_deg)
-    if "flap_deg" not in out:
-        out["flap_deg"] = np.nan
-    unknown = out["flap_deg"].isna()
-    if unknown.any():
-        flights = ", ".join(str(f) for f in dict.fromkeys(out.loc[unknown, "flight"]))
+    logged = out["stab_incidence_deg"].astype(float)
+    by_flight = logged.groupby(flights)
+    spread = by_flight.max() - by_flight.min()
+    for flight in spread.index[spread.to_numpy() > 0.01]:
+        values = logged[flights == flight]
         warnings.append(
-            f"flap setting not logged nor in a loading sheet for flight(s) {flights}: "
+            f"flight {flight}: stab_incidence_deg varies within the flight "
+            f"({values.min():g}..{values.max():g} deg); each point keeps its own value"
+        )
+    has_logged = logged.notna().groupby(flights).transform("any")
+    labels = logged.map(lambda v: f"{v:+.2f} deg", na_action="ignore").astype(object)
+
+    def sheet_value(attribute: str) -> pd.Series:
+        values = {f: getattr(sheet, attribute) for f, sheet in loadings.items()}
+        return flights.map(lambda f: values.get(f))
+
+    sheet_deg = pd.to_numeric(sheet_value("stab_incidence_deg"), errors="coerce")
+    sheet_label = sheet_value("stab_setting")
+    sheet_label = sheet_label.where(
+        sheet_label.notna(), sheet_deg.map(lambda v: f"{v:+.2f} deg", na_action="ignore"))
+    use_sheet = ~has_logged & sheet_label.notna()
+    out["stab_incidence_deg"] = logged.where(~use_sheet, sheet_deg)
+    labels = labels.where(~use_sheet, sheet_label)
+    out["stab_setting"] = labels.where(labels.notna(), DEFAULT_SETTING_LABEL).astype(str)
+
+    flap = out["flap_deg"].astype(float) if "flap_deg" in out else pd.Series(
+        np.nan, index=out.index)
+    flap = flap.where(flap.notna(), pd.to_numeric(sheet_value("flap_deg"), errors="coerce"))
+    out["flap_deg"] = flap
+    unknown = flap.isna()
+    if unknown.any():
+        names = ", ".join(dict.fromkeys(flights[unknown]))
+        warnings.append(
+            f"flap setting not logged nor in a loading sheet for flight(s) {names}: "
             "taken as clean (flaps up)"
         )
-    configs = out["flap_deg"].fillna(0.0).round(0).map(
-        lambda v: "clean" if v == 0 else f"flaps {v:g} deg"
-    )
-    out["stab_setting"] = labels.astype(str)
-    out["config"] = configs.astype(str)
+    rounded = flap.fillna(0.0).round(0)
+    out["config"] = rounded.map(lambda v: "clean" if v == 0 else f"flaps {v:g} deg").astype(str)

@@ -90,6 +90,7 @@ __all__ = [
     "pooled_fit",
     "predict_elevator",
     "static_margins",
+    "neutral_point_from_coefficients",
     "neutral_point_from_fit",
     "two_stage_neutral_point",
 ]
@@ -358,16 +359,33 @@ def neutral_point_from_fit(
     fit: LinearFit, b_name: str, c_name: str, *, kind: str, method: str, spread: float,
     n: int, n_flights: int, lemac_in: float | None, mac_in: float | None,
 ) -> NeutralPoint:
-    """Neutral point hn = -b/c with Fieller's interval, after the identifiability checks."""
+    """Neutral point hn = -b/c of a fitted model; see :func:`neutral_point_from_coefficients`."""
+    cov = fit.cov
+    return neutral_point_from_coefficients(
+        float(fit.params[b_name]), float(fit.params[c_name]),
+        float(cov.loc[b_name, b_name]), float(cov.loc[c_name, c_name]),
+        float(cov.loc[b_name, c_name]), fit.df_resid, kind=kind, method=method,
+        spread=spread, n=n, n_flights=n_flights, lemac_in=lemac_in, mac_in=mac_in,
+    )
+
+
+def neutral_point_from_coefficients(
+    b: float, c: float, vbb: float, vcc: float, vbc: float, df_resid: int, *, kind: str,
+    method: str, spread: float, n: int, n_flights: int, lemac_in: float | None,
+    mac_in: float | None,
+) -> NeutralPoint:
+    """Neutral point hn = -b/c with Fieller's interval, after the identifiability checks.
+
+    ``b`` and ``c`` are the coefficients of CL and h*CL (or of the constant and
+    h in the two-stage line), ``vbb``, ``vcc``, ``vbc`` their covariances and
+    ``df_resid`` the residual degrees of freedom of the fit.
+    """
     def no(reason: str) -> NeutralPoint:
         return _not_identifiable(kind, method, reason, spread, n, n_flights)
 
-    if fit.df_resid < 1:
+    if df_resid < 1:
         return no("no residual degrees of freedom: more points are needed for an interval")
-    b, c = float(fit.params[b_name]), float(fit.params[c_name])
-    vbb, vcc = float(fit.cov.loc[b_name, b_name]), float(fit.cov.loc[c_name, c_name])
-    vbc = float(fit.cov.loc[b_name, c_name])
-    t = t_quantile(fit.df_resid)
+    t = t_quantile(df_resid)
     ratio: RatioInterval = ratio_interval(-b, c, vbb, vcc, -vbc, t)
     # c > 0 stick-fixed (Cm_de < 0); c < 0 stick-free (more pull when slower forward of hn').
     expected = 1.0 if kind == "stick_fixed" else -1.0

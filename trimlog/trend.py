@@ -34,9 +34,8 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from trimlog.fits import LinearFit
 from trimlog.profile import AircraftProfile
-from trimlog.stability import MIN_CL_SPREAD, neutral_point_from_fit
+from trimlog.stability import MIN_CL_SPREAD, neutral_point_from_coefficients
 from trimlog.stability_results import NeutralPoint
 
 #: Relative size of the smallest eigenvalue of the demeaned 2x2 cross-product
@@ -94,62 +93,94 @@ class NextStep:
     reason: str
 
 
-class _GroupSums:
-    """Running sums per group of y, CL and h*CL and their cross products."""
+class _WithinSums:
+    """Group-demeaned cross products of (CL, h*CL, y), kept as a running total.
+
+    A group's demeaned cross-product matrix is ``M - m m'/n`` from its raw
+    sums ``M`` of ``z z'`` with ``z = (1, CL, h*CL, y)``.  Groups that can grow
+    later (stabilizer settings, shared by several flights) keep their raw sums;
+    groups that are complete when added (flights) go straight into the total.
+    """
 
     def __init__(self) -> None:
-        self.sums: dict[str, np.ndarray] = {}
+        self.open: dict[str, np.ndarray] = {}
+        self.closed = np.zeros((4, 4))
+        self.n = 0
+        self.n_groups = 0
 
-    def add(self, groups: np.ndarray, y: np.ndarray, x: np.ndarray) -> None:
+    @staticmethod
+    def _raw(y: np.ndarray, x: np.ndarray) -> np.ndarray:
+        z = np.column_stack([np.ones(len(y)), x, y])
+        return z.T @ z
+
+    @staticmethod
+    def _demeaned(m: np.ndarray) -> np.ndarray:
+        return m - np.outer(m[0], m[0]) / m[0, 0]
+
+    def add_open(self, groups: np.ndarray, y: np.ndarray, x: np.ndarray) -> None:
         for g in dict.fromkeys(groups):
             mask = groups == g
-            z = np.column_stack([np.ones(mask.sum()), x[mask], y[mask]])
-            self.sums[g] = self.sums.get(g, 0.0) + z.T @ z
+            if g not in self.open:
+                self.open[g] = np.zeros((4, 4))
+                self.n_groups += 1
+            self.open[g] += self._raw(y[mask], x[mask])
+        self.n += len(y)
 
-    def within(self) -> tuple[np.ndarray, np.ndarray, float, int]:
-        """Demeaned X'X (2x2), X'y (2), y'y and the number of observations."""
-        total = np.zeros((4, 4))
-        n = 0
-        for m in self.sums.values():
-            count = m[0, 0]
-            n += int(round(count))
-            total += m - np.outer(m[0], m[0]) / count
-        return total[1:3, 1:3], total[1:3, 3], float(total[3, 3]), n
+    def add_closed(self, y: np.ndarray, x: np.ndarray) -> None:
+        self.closed += self._demeaned(self._raw(y, x))
+        self.n += len(y)
+        self.n_groups += 1
+
+    def within(self) -> np.ndarray:
+        total = self.closed.copy()
+        for m in self.open.values():
+            total += self._demeaned(m)
+        return total
+
+
+class _Ranges:
+    """Running extremes of h and CL."""
+
+    def __init__(self) -> None:
+        self.h = [np.inf, -np.inf]
+        self.cl = [np.inf, -np.inf]
+
+    def add(self, h: np.ndarray, cl: np.ndarray) -> None:
+        self.h = [min(self.h[0], h.min()), max(self.h[1], h.max())]
+        self.cl = [min(self.cl[0], cl.min()), max(self.cl[1], cl.max())]
+
+    @property
+    def cg_spread_pct_mac(self) -> float:
+        return max(100.0 * float(self.h[1] - self.h[0]), 0.0) if np.isfinite(self.h[0]) else 0.0
+
+    @property
+    def cl_spread(self) -> float:
+        return max(float(self.cl[1] - self.cl[0]), 0.0) if np.isfinite(self.cl[0]) else 0.0
 
 
 def _pooled_from_sums(
-    sums: _GroupSums, *, kind: str, spread: float, n_flights: int, cl_spread: float,
+    sums: _WithinSums, *, kind: str, spread: float, n_flights: int, cl_spread: float,
     profile: AircraftProfile,
 ) -> NeutralPoint:
-    xx, xy, yy, n = sums.within()
-    n_groups = len(sums.sums)
-    df = n - n_groups - 2
+    total = sums.within()
+    xx, xy, yy = total[1:3, 1:3], total[1:3, 3], float(total[3, 3])
+    n = sums.n
+    df = n - sums.n_groups - 2
     ok = cl_spread >= MIN_CL_SPREAD and df >= 1
     eig = np.linalg.eigvalsh(xx) if ok else np.zeros(2)
     if ok and eig[0] > _COLLINEAR * max(eig[1], 1e-300):
-        params = np.linalg.solve(xx, xy)
-        rss = max(yy - float(params @ xy), 0.0)
-        s2 = rss / df
-        cov = s2 * np.linalg.inv(xx)
-        names = ["cl", "h_cl"]
-        fit = LinearFit(
-            params=pd.Series(params, index=names),
-            cov=pd.DataFrame(cov, index=names, columns=names),
-            df_resid=df,
-            residual_std=float(np.sqrt(s2)),
-            r_squared=None,
-            n=n,
-            result=None,
-        )
-        return neutral_point_from_fit(
-            fit, "cl", "h_cl", kind=kind, method="pooled", spread=spread, n=n,
-            n_flights=n_flights,
+        (b, c) = np.linalg.solve(xx, xy)
+        rss = max(yy - float(b * xy[0] + c * xy[1]), 0.0)
+        cov = rss / df * np.linalg.inv(xx)
+        return neutral_point_from_coefficients(
+            float(b), float(c), float(cov[0, 0]), float(cov[1, 1]), float(cov[0, 1]), df,
+            kind=kind, method="pooled", spread=spread, n=n, n_flights=n_flights,
             lemac_in=profile.lemac_in, mac_in=profile.mac_in,
         )
     if cl_spread < MIN_CL_SPREAD:
         reason = f"CL spans only {cl_spread:.3f} over all points: no trim gradient"
     elif df < 1:
-        reason = f"{n} points for {n_groups + 2} coefficients: more points are needed"
+        reason = f"{n} points for {sums.n_groups + 2} coefficients: more points are needed"
     else:
         reason = ("all points were flown at one CG, or CG and CL vary together: a neutral "
                   "point needs flights at several CGs, each over a range of speeds")
@@ -178,48 +209,41 @@ def neutral_point_sequence(
         One per flight in ``flight_order``.
     """
     used = points.loc[points["included"].astype(bool)]
-    fixed, free = _GroupSums(), _GroupSums()
-    by_flight = {str(k): v for k, v in used.groupby("flight", sort=False)}
-    h_lo = h_hi = cl_lo = cl_hi = None
-    force_h: list[float] = []
-    force_cl: list[float] = []
+    flight = used["flight"].astype(str).to_numpy()
+    setting = used["stab_setting"].astype(str).to_numpy()
+    cl = used["cl"].to_numpy(dtype=float)
+    h = used["h"].to_numpy(dtype=float)
+    elevator = used["elevator_deg"].to_numpy(dtype=float)
+    fsq = used["fs_over_q_ft2"].to_numpy(dtype=float)
+    x = np.column_stack([cl, h * cl])
+    rows_of = pd.Series(np.arange(len(flight))).groupby(flight, sort=False).indices
+
+    fixed, free = _WithinSums(), _WithinSums()
+    fixed_range, free_range = _Ranges(), _Ranges()
     steps = []
-    flights_with_points = 0
-    flights_with_force = 0
-    for k, flight in enumerate(flight_order, start=1):
-        part = by_flight.get(str(flight))
+    flights_with_points = flights_with_force = 0
+    for k, name in enumerate(flight_order, start=1):
+        rows = rows_of.get(str(name))
         cg = None
-        if part is not None and len(part):
+        if rows is not None and len(rows):
             flights_with_points += 1
-            cl = part["cl"].to_numpy(dtype=float)
-            h = part["h"].to_numpy(dtype=float)
-            cg = 100.0 * float(h.mean())
-            x = np.column_stack([cl, h * cl])
-            fixed.add(part["stab_setting"].astype(str).to_numpy(),
-                      part["elevator_deg"].to_numpy(dtype=float), x)
-            h_lo = min(h.min(), h_lo) if h_lo is not None else h.min()
-            h_hi = max(h.max(), h_hi) if h_hi is not None else h.max()
-            cl_lo = min(cl.min(), cl_lo) if cl_lo is not None else cl.min()
-            cl_hi = max(cl.max(), cl_hi) if cl_hi is not None else cl.max()
-            fsq = part["fs_over_q_ft2"].to_numpy(dtype=float)
-            has = np.isfinite(fsq)
-            if has.any():
+            cg = 100.0 * float(h[rows].mean())
+            fixed.add_open(setting[rows], elevator[rows], x[rows])
+            fixed_range.add(h[rows], cl[rows])
+            forced = rows[np.isfinite(fsq[rows])]
+            if len(forced):
                 flights_with_force += 1
-                free.add(np.full(has.sum(), str(flight)), fsq[has], x[has])
-                force_h.extend(h[has])
-                force_cl.extend(cl[has])
-        spread = 0.0 if h_lo is None else 100.0 * float(h_hi - h_lo)
-        cl_spread = 0.0 if cl_lo is None else float(cl_hi - cl_lo)
-        fixed_np = _pooled_from_sums(fixed, kind="stick_fixed", spread=spread,
-                                     n_flights=flights_with_points, cl_spread=cl_spread,
-                                     profile=profile)
+                free.add_closed(fsq[forced], x[forced])
+                free_range.add(h[forced], cl[forced])
+        fixed_np = _pooled_from_sums(
+            fixed, kind="stick_fixed", spread=fixed_range.cg_spread_pct_mac,
+            n_flights=flights_with_points, cl_spread=fixed_range.cl_spread, profile=profile)
         free_np = None
-        if force_h:
-            free_spread = 100.0 * float(max(force_h) - min(force_h))
+        if flights_with_force:
             free_np = _pooled_from_sums(
-                free, kind="stick_free", spread=free_spread, n_flights=flights_with_force,
-                cl_spread=float(max(force_cl) - min(force_cl)), profile=profile)
-        steps.append(TrendStep(k, str(flight), cg, fixed_np, free_np))
+                free, kind="stick_free", spread=free_range.cg_spread_pct_mac,
+                n_flights=flights_with_force, cl_spread=free_range.cl_spread, profile=profile)
+        steps.append(TrendStep(k, str(name), cg, fixed_np, free_np))
     return tuple(steps)
 
 
