@@ -411,6 +411,7 @@ def point_tables(draw) -> bytes:
 
 @FUZZ_CHAIN
 @given(point_tables())
+@example((TABLE_HEADER + "1,40.0,0.0,0.0,0.0,0.0,1000.0,0.0\n").encode())  # CG far out of limits
 def test_whole_chain_on_random_point_tables(raw):
     try:
         flights = analysis.load_flight_bytes(raw, NAME, PROFILE)
