@@ -161,6 +161,7 @@ def load_flight_bytes(
     settings = PointSettings() if min_hold_s is None else PointSettings(min_duration_s=min_hold_s)
     stem = Path(name).name.split(".")[0] or name
     points = points_from_log(log, flight=stem, settings=settings)
+    points["source"] = name
     digest = hashlib.sha256(raw).hexdigest()
     flights = []
     for flight, part in points.groupby("flight", sort=False):
@@ -207,6 +208,7 @@ def analyze(
     profile: AircraftProfile,
     *,
     exclusions: Iterable[tuple[str, int]] = (),
+    inclusions: Iterable[tuple[str, int]] = (),
 ) -> Analysis:
     """Analyse a set of flights of one aircraft together.
 
@@ -219,6 +221,9 @@ def analyze(
     exclusions : iterable of (flight, point)
         Points to leave out of the fits; they stay in the tables with
         ``included`` False.
+    inclusions : iterable of (flight, point)
+        Points to fit although trimlog left them out (a hold it flagged, or
+        an elevator at a stop); they keep their flags.
 
     Returns
     -------
@@ -242,9 +247,12 @@ def analyze(
         )
     points = pd.concat(frames, ignore_index=True)
     points["flight"] = points["flight"].astype(str)
-    _apply_exclusions(points, exclusions)
     loadings = {f.flight: f.loading for f in flights if f.loading is not None}
     reduced = reduce_points(points, profile, loadings)
+    table = reduced.points
+    stop_warnings = _exclude_points_at_a_stop(table, profile)
+    _set_included(table, exclusions, False)
+    _set_included(table, inclusions, True)
 
     warnings: list[str] = list(profile.warnings)
     seen_logs: set[int] = set()
@@ -263,9 +271,9 @@ def analyze(
         if f.log.kind == "time_series" and not len(f.points):
             warnings.append(f"{f.source}: no stabilized point found in this log")
     warnings.extend(reduced.warnings)
+    warnings.extend(stop_warnings)
 
     results = []
-    table = reduced.points
     for config, part in table.groupby("config", sort=False):
         results.append(_analyze_configuration(str(config), part, profile))
     results.sort(key=lambda r: (-r.stability.n_included, r.config != "clean"))
@@ -308,16 +316,33 @@ def _check_unique(flights: Sequence[FlightData]) -> None:
         seen[f.flight] = f.source
 
 
-def _apply_exclusions(points: pd.DataFrame, exclusions: Iterable[tuple[str, int]]) -> None:
-    for flight, point in exclusions:
+def _set_included(points: pd.DataFrame, choices: Iterable[tuple[str, int]], value: bool) -> None:
+    for flight, point in choices:
         mask = (points["flight"] == str(flight)) & (points["point"] == int(point))
         if not mask.any():
             known = ", ".join(sorted(points["flight"].unique()))
+            verb = "include" if value else "exclude"
             raise InputFileError(
-                f"cannot exclude point {point} of flight '{flight}': no such point "
+                f"cannot {verb} point {point} of flight '{flight}': no such point "
                 f"(flights: {known})"
             )
-        points.loc[mask, "included"] = False
+        points.loc[mask, "included"] = value
+
+
+def _exclude_points_at_a_stop(points: pd.DataFrame, profile: AircraftProfile) -> list[str]:
+    """Leave points with the elevator at a stop out of the fits: they are not free trims."""
+    flags = stability.elevator_stop_flags(
+        points, profile.elevator_up_stop_deg, profile.elevator_down_stop_deg)
+    for flag in flags:
+        points.loc[flag.row, "included"] = False
+        points.loc[flag.row, "flags"] = ";".join(
+            f for f in (str(points.loc[flag.row, "flags"] or ""), "at_stop") if f)
+    return [
+        f"flight '{f.flight}' point {f.point}: elevator {f.elevator_deg:+.1f} deg is at the "
+        f"{f.stop} stop, so the trim there is not free: left out of the fits (include it "
+        "again if the stop was not reached)"
+        for f in flags
+    ]
 
 
 def _analyze_configuration(

@@ -354,7 +354,9 @@ def _run_import(args: argparse.Namespace) -> int:
 
     if (args.label or args.notes) and len(args.logs) > 1:
         raise TrimlogError("import: --label and --notes apply to one file at a time")
-    profile_text = Path(args.aircraft).read_text(encoding="utf-8-sig")
+    from trimlog.profile import load_profile
+
+    profile_text = load_profile(args.aircraft).text
     loading_overrides = _parse_pairs(args.loading, "--loading", "LOG=SHEET", "=")
     with _open_store(args.db) as st:
         for number, log in enumerate(args.logs, start=1):
@@ -439,7 +441,12 @@ def _run_backup(args: argparse.Namespace) -> int:
 def _run_demo(args: argparse.Namespace) -> int:
     from trimlog import demo
 
-    written = demo.write_demo(Path(args.directory))
+    try:
+        written = demo.write_demo(Path(args.directory))
+    except OSError as exc:
+        raise TrimlogError(
+            f"{args.directory}: cannot write the demo files: {exc.strerror or exc}"
+        ) from None
     for path in written:
         print(path)
     return EXIT_OK

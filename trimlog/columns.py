@@ -731,6 +731,17 @@ def check_plausible(
         if name not in data:
             continue
         values = data[name]
+        if kind == "point_table" and name in ("ias_kt", "cas_kt"):
+            stopped = np.flatnonzero(values <= 0.0)
+            if len(stopped):
+                i = int(stopped[0])
+                raise InputFileError(
+                    f"{name} = {values[i]:g} kt: a stabilized trim point needs forward speed "
+                    f"(expected more than 0 kt; {len(stopped)} such row(s))",
+                    file=label,
+                    line=int(lines[i]),
+                    column=headers[name],
+                )
         bad = np.flatnonzero((values < low) | (values > high))
         if not len(bad):
             continue

@@ -175,11 +175,7 @@ def configuration_dict(result: ConfigurationResult, analysis: Analysis) -> dict[
                 else {k: v for k, v in dataclasses.asdict(s.stick_fixed.curvature).items()
                       if k != "restricted"}
             ),
-            "stop_flags": [
-                {"flight": f.flight, "point": f.point, "elevator_deg": f.elevator_deg,
-                 "stop": f.stop}
-                for f in s.stop_flags
-            ],
+            "stop_flags": _stop_flags(analysis.points, result.config),
             "n_excluded": s.n_excluded,
         },
         "next_cg_for_precision": dataclasses.asdict(s.next_cg),
@@ -193,6 +189,17 @@ def configuration_dict(result: ConfigurationResult, analysis: Analysis) -> dict[
             else dataclasses.asdict(result.tau_calibration)
         ),
     }
+
+
+def _stop_flags(points: pd.DataFrame, config: str) -> list[dict[str, Any]]:
+    """Points left out because the elevator sat at a stop (flag ``at_stop``)."""
+    mine = points.loc[(points["config"] == config)
+                      & points["flags"].astype(str).str.contains("at_stop", regex=False)]
+    return [
+        {"flight": r.flight, "point": int(r.point), "elevator_deg": float(r.elevator_deg),
+         "stop": "up" if r.elevator_deg < 0 else "down", "included": bool(r.included)}
+        for r in mine.itertuples()
+    ]
 
 
 def neutral_point_dict(np_: NeutralPoint, fit: PooledFit | None = None) -> dict[str, Any]:

@@ -63,6 +63,7 @@ Quality flags
 ``marker_unsteady``  marked by the pilot but not steady (excluded)
 ``table``            a row of a point table: no window statistics
 ``incomplete``       a point-table row missing airspeed, altitude or elevator (excluded)
+``too_slow``         a hold below ``min_airspeed_kt``: on the ground or taxiing (excluded)
 
 References
 ----------
@@ -125,6 +126,9 @@ class PointSettings:
         Altitude scatter about a straight line that raises ``alt_unsteady`` [ft].
     turbulence_ias_kt : float
         Airspeed standard deviation that raises ``turbulent`` [kt].
+    min_airspeed_kt : float
+        Holds slower than this are not flying trim points (taxi, run-up,
+        ground): flagged ``too_slow`` and excluded [kt].
     merge_gap_s : float
         Longest unsteady burst between two pieces of equal values that are
         joined into one point [s].
@@ -148,6 +152,7 @@ class PointSettings:
     event_search_s: float = 30.0
     alt_scatter_ft: float = 30.0
     turbulence_ias_kt: float = 2.0
+    min_airspeed_kt: float = 30.0
     merge_gap_s: float = 5.0
 
     def __post_init__(self) -> None:
@@ -678,6 +683,9 @@ def _summaries(
             flag_set.append("no_nz")
         if "stick_force_lbf" not in arrays:
             flag_set.append("no_force")
+        if not float(record[speed]) >= settings.min_airspeed_kt:
+            flag_set.append("too_slow")
+            record["included"] = False
         record["flags"] = ";".join(dict.fromkeys(flag_set))
         out.append(record)
     return pd.DataFrame(out)

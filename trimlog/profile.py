@@ -59,6 +59,7 @@ are strings with units (``"118 ft^2"``, ``"51 in"``, ``"25 deg"``).
 
 from __future__ import annotations
 
+import math
 import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -66,7 +67,7 @@ from pathlib import Path
 from typing import Any
 
 from trimlog.errors import ProfileError, TrimlogError
-from trimlog.units import parse_quantity, parse_unit, unit_factor
+from trimlog.units import is_compatible, parse_quantity, parse_unit, unit_factor
 
 DEFAULT_CRUISE_PRESSURE_ALT_FT = 5000.0
 DEFAULT_CRUISE_WEIGHT_FRACTION = 0.9
@@ -180,8 +181,8 @@ class _Reader:
         raw = self._raw(key, required)
         if raw is None:
             return None
-        if isinstance(raw, bool) or not isinstance(raw, int | float):
-            raise self.fail(key, f"expected a plain number, found {raw!r}")
+        if isinstance(raw, bool) or not isinstance(raw, int | float) or not math.isfinite(raw):
+            raise self.fail(key, f"expected a plain finite number, found {raw!r}")
         return float(raw)
 
     def text(self, key: str, *, required: bool = False) -> str | None:
@@ -397,16 +398,19 @@ def _position_error_table(r: _Reader) -> tuple[tuple[float, ...] | None, tuple[f
     unit_text = table.get("unit", "kt")
     try:
         unit = parse_unit(str(unit_text))
-        scale, offset = unit_factor(unit, "kt")
     except TrimlogError:
-        raise r.fail(f"{key}.unit", f"expected a speed unit, found {unit_text!r}") from None
+        unit = None
+    if unit is None or not is_compatible(unit, "kt"):
+        raise r.fail(f"{key}.unit", f"expected a speed unit such as 'kt', found {unit_text!r}")
+    scale, offset = unit_factor(unit, "kt")
     columns = []
     for name in ("ias", "cas"):
         values = table[name]
         if not isinstance(values, list) or not all(
-            isinstance(v, int | float) and not isinstance(v, bool) for v in values
+            isinstance(v, int | float) and not isinstance(v, bool) and math.isfinite(v)
+            for v in values
         ):
-            raise r.fail(f"{key}.{name}", f"expected a list of numbers, found {values!r}")
+            raise r.fail(f"{key}.{name}", f"expected a list of finite numbers, found {values!r}")
         columns.append(tuple(scale * float(v) + offset for v in values))
     ias, cas = columns
     if len(ias) != len(cas) or len(ias) < 2:

@@ -87,6 +87,14 @@ def reduce_points(
     warnings: list[str] = []
 
     out["cas_kt"] = _calibrated_airspeed(out, profile, warnings)
+    stopped = ~(out["cas_kt"] > 0.0)
+    if stopped.any():
+        where = _where(out, stopped)
+        raise InputFileError(
+            f"{where['prefix']}calibrated airspeed {out.loc[stopped, 'cas_kt'].iloc[0]:g} kt: a "
+            "trim point needs forward speed (expected more than 0 kt)",
+            file=where["file"], line=where["line"], column="cas_kt",
+        )
     out["eas_kt"] = airspeed.cas_to_eas(out["cas_kt"], out["pressure_alt_ft"])
     if "oat_c" in out and out["oat_c"].notna().all():
         oat = out["oat_c"]
@@ -118,6 +126,17 @@ def reduce_points(
 
     _incidence_and_configuration(out, loadings, warnings)
     return ReducedPoints(points=out, warnings=tuple(warnings))
+
+
+def _where(out: pd.DataFrame, mask: pd.Series | np.ndarray) -> dict[str, object]:
+    """File and line of the first row under ``mask`` (for error messages)."""
+    row = out.loc[np.asarray(mask, dtype=bool)].iloc[0]
+    file = str(row["source"]) if "source" in out and pd.notna(row["source"]) else None
+    line = None
+    if "source_line_start" in out and pd.notna(row["source_line_start"]):
+        line = int(row["source_line_start"])
+    flight = f"flight '{row['flight']}' point {row['point']}: " if "point" in out else ""
+    return {"file": file or f"flight '{row['flight']}'", "line": line, "prefix": flight}
 
 
 def _calibrated_airspeed(
@@ -160,11 +179,12 @@ def _weight_and_cg(
         missing = missing_rows & (flights == flight)
         sheet = loadings.get(str(flight))
         if sheet is None:
+            where = _where(out, missing)
             raise InputFileError(
-                "weight and CG are needed for every point: expected columns weight_lb and "
-                "cg_in (or cg_pct_mac) in the log, or a loading sheet for this flight",
-                file=str(flight),
-                column="weight_lb",
+                f"{where['prefix']}weight and CG are needed for every point: expected columns "
+                "weight_lb and cg_in (or cg_pct_mac) in the log, or a loading sheet for this "
+                "flight",
+                file=where["file"], line=where["line"], column="weight_lb",
             )
         idx = missing[missing].index
         takeoff_cg_in = (
@@ -183,7 +203,7 @@ def _weight_and_cg(
         if profile.fuel_arm_in is None:
             raise InputFileError(
                 "fuel burn needs the fuel arm: add [fuel] arm to the aircraft profile",
-                file=str(flight),
+                file=_where(out, missing)["file"],
                 column="fuel_gal",
             )
         zero_fuel = loading.zero_fuel_loading(
@@ -212,11 +232,11 @@ def _check_cg_plausible(out: pd.DataFrame, profile: AircraftProfile, warnings: l
     if far.any():
         flight = extremes.index[far.to_numpy()][0]
         lo, hi = extremes.loc[flight, "min"], extremes.loc[flight, "max"]
+        where = _where(out, out["flight"] == flight)
         raise InputFileError(
-            f"CG {lo:.1f}..{hi:.1f} %MAC is far outside the profile's limits "
+            f"flight '{flight}': CG {lo:.1f}..{hi:.1f} %MAC is far outside the profile's limits "
             f"({fwd:.1f}..{aft:.1f} %MAC): check the loading, the datum, lemac and mac",
-            file=str(flight),
-            column="cg_in",
+            file=where["file"], line=where["line"], column="cg_in",
         )
     outside = (extremes["min"] < fwd - 1e-9) | (extremes["max"] > aft + 1e-9)
     for flight, row in extremes.loc[outside].iterrows():

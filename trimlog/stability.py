@@ -104,6 +104,11 @@ MIN_CL_SPREAD = 0.05
 #: less, the extrapolation to zero gradient multiplies the scatter of the
 #: gradients by (distance to hn)/(CG spread) and the estimate is mostly noise.
 MIN_CG_SPREAD_PCT_MAC = 3.0
+#: Fewest flights that must each cover a range of speeds (CL spread of at
+#: least MIN_CL_SPREAD) for a pooled neutral point: the stabilized-trim method
+#: measures a trim gradient at each CG; single points at different CGs and
+#: speeds cannot tell the CG effect from the speed effect.
+MIN_FLIGHTS_WITH_SPEED_RANGE = 2
 #: Widest 95 % interval of a neutral point still reported as a number [%MAC].
 MAX_NP_CI_WIDTH_PCT_MAC = 20.0
 #: Significance level at which a CL^2 term counts as curvature of the trim curve.
@@ -429,6 +434,19 @@ def _power(fit: LinearFit, c_name: str) -> tuple[float | None, tuple[float, floa
     return finite(-_RAD / c), finite_pair(-_RAD / ci[0], -_RAD / ci[1])
 
 
+def too_few_speed_ranges(swept: int) -> str:
+    """Why a neutral point needs trim curves, not single points, at several CGs."""
+    return (f"only {swept} flight(s) cover a range of speeds (CL spread of at least "
+            f"{MIN_CL_SPREAD}): a neutral point needs a trim curve at each of at least "
+            f"{MIN_FLIGHTS_WITH_SPEED_RANGE} CGs; with one speed per CG, CG and CL vary together")
+
+
+def flights_with_speed_range(frame: pd.DataFrame) -> int:
+    """How many flights span a CL range of at least :data:`MIN_CL_SPREAD`."""
+    by_flight = frame.groupby("flight")["cl"]
+    return int(((by_flight.max() - by_flight.min()) >= MIN_CL_SPREAD).sum())
+
+
 @dataclass(frozen=True)
 class _Core:
     linear: LinearFit | None
@@ -452,6 +470,9 @@ def _core(frame: pd.DataFrame, response: str, group_col: str, kind: str,
     if cl_spread < MIN_CL_SPREAD:
         return no(f"CL spans only {cl_spread:.3f} over all points (all at nearly one speed): "
                   "no trim gradient can be fitted")
+    swept = flights_with_speed_range(frame)
+    if swept < MIN_FLIGHTS_WITH_SPEED_RANGE and spread >= MIN_CG_SPREAD_PCT_MAC:
+        return no(too_few_speed_ranges(swept))
     full = trim_design(frame, group_col, groups, cg_term=True)
     if is_full_rank(full) and n - full.shape[1] >= 1:
         fit = fit_linear(frame[response], full)

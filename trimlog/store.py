@@ -705,11 +705,18 @@ class Store:
             if not outer:
                 self._conn.execute("BEGIN")
             yield self._conn
-        except sqlite3.Error as exc:
-            raise StoreError(f"{self.path}: failed to {what} ({exc})") from exc
-        finally:
+        except BaseException as exc:
             if not outer and self._conn.in_transaction:
-                self._conn.execute("COMMIT")
+                self._conn.rollback()
+            if isinstance(exc, sqlite3.Error):
+                raise StoreError(f"{self.path}: failed to {what} ({exc})") from exc
+            raise
+        else:
+            if not outer and self._conn.in_transaction:
+                try:
+                    self._conn.execute("COMMIT")
+                except sqlite3.Error as exc:
+                    raise StoreError(f"{self.path}: failed to {what} ({exc})") from exc
 
     # -- aircraft ---------------------------------------------------------------
 

@@ -35,7 +35,13 @@ import numpy as np
 import pandas as pd
 
 from trimlog.profile import AircraftProfile
-from trimlog.stability import MIN_CL_SPREAD, neutral_point_from_coefficients
+from trimlog.stability import (
+    MIN_CG_SPREAD_PCT_MAC,
+    MIN_CL_SPREAD,
+    MIN_FLIGHTS_WITH_SPEED_RANGE,
+    neutral_point_from_coefficients,
+    too_few_speed_ranges,
+)
 from trimlog.stability_results import NeutralPoint
 
 #: Relative size of the smallest eigenvalue of the demeaned 2x2 cross-product
@@ -144,10 +150,12 @@ class _Ranges:
     def __init__(self) -> None:
         self.h = [np.inf, -np.inf]
         self.cl = [np.inf, -np.inf]
+        self.swept_flights = 0
 
     def add(self, h: np.ndarray, cl: np.ndarray) -> None:
         self.h = [min(self.h[0], h.min()), max(self.h[1], h.max())]
         self.cl = [min(self.cl[0], cl.min()), max(self.cl[1], cl.max())]
+        self.swept_flights += int(np.ptp(cl) >= MIN_CL_SPREAD)
 
     @property
     def cg_spread_pct_mac(self) -> float:
@@ -159,9 +167,14 @@ class _Ranges:
 
 
 def _pooled_from_sums(
-    sums: _WithinSums, *, kind: str, spread: float, n_flights: int, cl_spread: float,
-    profile: AircraftProfile,
+    sums: _WithinSums, ranges: _Ranges, *, kind: str, n_flights: int, profile: AircraftProfile,
 ) -> NeutralPoint:
+    spread, cl_spread = ranges.cg_spread_pct_mac, ranges.cl_spread
+    if (ranges.swept_flights < MIN_FLIGHTS_WITH_SPEED_RANGE
+            and spread >= MIN_CG_SPREAD_PCT_MAC and cl_spread >= MIN_CL_SPREAD):
+        reason = too_few_speed_ranges(ranges.swept_flights)
+        return NeutralPoint(kind, "pooled", False, None, None, None, None, None, None, reason,
+                            spread, sums.n, n_flights)
     total = sums.within()
     xx, xy, yy = total[1:3, 1:3], total[1:3, 3], float(total[3, 3])
     n = sums.n
@@ -235,14 +248,12 @@ def neutral_point_sequence(
                 flights_with_force += 1
                 free.add_closed(fsq[forced], x[forced])
                 free_range.add(h[forced], cl[forced])
-        fixed_np = _pooled_from_sums(
-            fixed, kind="stick_fixed", spread=fixed_range.cg_spread_pct_mac,
-            n_flights=flights_with_points, cl_spread=fixed_range.cl_spread, profile=profile)
+        fixed_np = _pooled_from_sums(fixed, fixed_range, kind="stick_fixed",
+                                     n_flights=flights_with_points, profile=profile)
         free_np = None
         if flights_with_force:
-            free_np = _pooled_from_sums(
-                free, kind="stick_free", spread=free_range.cg_spread_pct_mac,
-                n_flights=flights_with_force, cl_spread=free_range.cl_spread, profile=profile)
+            free_np = _pooled_from_sums(free, free_range, kind="stick_free",
+                                        n_flights=flights_with_force, profile=profile)
         steps.append(TrendStep(k, str(name), cg, fixed_np, free_np))
     return tuple(steps)
 

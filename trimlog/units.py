@@ -8,6 +8,7 @@ the package.
 
 from __future__ import annotations
 
+import math
 import re
 
 import pint
@@ -165,6 +166,8 @@ def parse_quantity(text: str | float | int, to_unit: str, *, key: str) -> float:
     if isinstance(text, bool):
         raise UnitError(f"{key}: expected a quantity in {to_unit}, found {text!r}")
     if isinstance(text, int | float):
+        if not math.isfinite(text):
+            raise UnitError(f"{key}: expected a finite number, found {text!r}")
         if target_dim:
             raise UnitError(
                 f"{key}: expected a value with a unit of {_describe(target_dim)} "
@@ -181,6 +184,8 @@ def parse_quantity(text: str | float | int, to_unit: str, *, key: str) -> float:
         number = float(number_text)
     except ValueError as exc:
         raise UnitError(f"{key}: '{number_text}' is not a number (in {text!r})") from exc
+    if not math.isfinite(number):
+        raise UnitError(f"{key}: expected a finite number, found '{number_text}' (in {text!r})")
     if not unit_text:
         if target_dim:
             raise UnitError(
@@ -198,7 +203,10 @@ def parse_quantity(text: str | float | int, to_unit: str, *, key: str) -> float:
             f"{key}: '{text}' is {_describe(quantity.dimensionality)}; "
             f"expected {_describe(target_dim)} (e.g. {to_unit})"
         )
-    return float(quantity.to(target).magnitude)
+    value = float(quantity.to(target).magnitude)
+    if not math.isfinite(value):
+        raise UnitError(f"{key}: {text!r} is too large to convert to {to_unit}")
+    return value
 
 
 _DIMENSION_WORDS = {
