@@ -13,6 +13,7 @@ import pytest
 from trimlog import analysis
 from trimlog.demo import DEMO_TRUTH
 from trimlog.errors import InputFileError
+from trimlog.readers import read_loading_sheet
 
 SAMPLES = Path(__file__).resolve().parent.parent / "sample_logs"
 PROFILE = analysis.load_profile(SAMPLES / "tinkerfinch_tf2.toml")
@@ -124,3 +125,23 @@ def test_no_points_at_all_is_a_clear_error():
     flights = analysis.load_flight_bytes(raw, "wobbly.csv", PROFILE)
     with pytest.raises(InputFileError, match="no stabilized points"):
         analysis.analyze(flights, PROFILE)
+
+
+def test_constant_fuel_flow_from_the_loading_sheet_burns_fuel_through_the_flight(tmp_path):
+    log = (SAMPLES / "flight2.csv").read_bytes()
+    # drop the logged fuel quantity column so the sheet's constant flow is used
+    lines = log.decode().splitlines()
+    header_at = next(i for i, line in enumerate(lines) if line.startswith("Time"))
+    cut = [",".join(line.split(",")[:-1]) if i >= header_at else line
+           for i, line in enumerate(lines)]
+    sheet_text = (SAMPLES / "flight2.loading.toml").read_text() + '\n[fuel]\nflow = "8 gal/h"\n'
+    sheet = read_loading_sheet(sheet_text.encode(), name="flight2.loading.toml")
+    flight = analysis.load_flight_bytes("\n".join(cut).encode(), "flight2.csv", PROFILE,
+                                        loading=sheet)[0]
+    fuel = flight.points["fuel_gal"]
+    middle = 0.5 * (flight.points["t_start_s"] + flight.points["t_end_s"])
+    start = flight.log.data["time_s"].min()
+    # takeoff fuel minus 8 gal/h for the time since the first sample (hand-computed)
+    assert fuel.tolist() == pytest.approx(
+        (sheet.takeoff_fuel_gal - 8.0 * (middle - start) / 3600.0).tolist())
+    assert fuel.is_monotonic_decreasing

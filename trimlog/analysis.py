@@ -162,6 +162,8 @@ def load_flight_bytes(
     stem = Path(name).name.split(".")[0] or name
     points = points_from_log(log, flight=stem, settings=settings)
     points["source"] = name
+    if loading is not None and loading.fuel_flow_gph is not None:
+        _fuel_from_constant_flow(points, log, loading)
     digest = hashlib.sha256(raw).hexdigest()
     flights = []
     for flight, part in points.groupby("flight", sort=False):
@@ -170,6 +172,28 @@ def load_flight_bytes(
     if not flights:
         flights.append(FlightData(stem, name, digest, log, points, loading))
     return flights
+
+
+def _fuel_from_constant_flow(points: pd.DataFrame, log: LogRead, sheet: LoadingSheet) -> None:
+    """Fuel at each point from the sheet's constant burn rate, when the log has no fuel quantity.
+
+    The burn runs from the log's first time stamp (taken as takeoff) to the
+    middle of each point's window.
+    """
+    if "fuel_gal" in points and points["fuel_gal"].notna().any():
+        return
+    if log.kind != "time_series" or "time_s" not in log.data:
+        return
+    start = float(log.data["time_s"].min())
+    middle = 0.5 * (points["t_start_s"] + points["t_end_s"])
+    fuel = sheet.takeoff_fuel_gal - sheet.fuel_flow_gph * (middle - start) / 3600.0
+    if (fuel < 0).any():
+        raise InputFileError(
+            f"the loading sheet's fuel flow {sheet.fuel_flow_gph:g} gal/h burns more than the "
+            f"{sheet.takeoff_fuel_gal:g} gal on board before the last point",
+            file=sheet.source,
+        )
+    points["fuel_gal"] = fuel
 
 
 def load_flight_file(
