@@ -24,76 +24,22 @@ import html
 import io
 import os
 import secrets
-import textwrap
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass
 from pathlib import Path
 from typing import IO, TYPE_CHECKING, Any
 
-from matplotlib import rc_context
 from matplotlib.axes import Axes
-from matplotlib.backends.backend_pdf import PdfPages
 from matplotlib.figure import Figure
-from matplotlib.lines import Line2D
-from matplotlib.patches import Rectangle
 
 from trimlog import cautions, plots
 from trimlog.errors import TrimlogError
 from trimlog.incidence import shim_thickness_in
+from trimlog.report_layout import Break, Heading, Para, Plot, Table, render_pdf, save_pdf
 
 if TYPE_CHECKING:
     from trimlog.analysis import Analysis
 
-PAGE_IN = (8.5, 11.0)  # US letter, portrait
-MARGIN_IN = (0.75, 0.75, 0.7, 0.85)  # left, right, top, bottom
-PT_PER_IN = 72.0
-BODY_PT = 9.5
-SMALL_PT = 8.0
-#: Average advance of DejaVu Sans, in em (for wrapping; measured on prose).
-SANS_EM = 0.53
-SANS_BOLD_EM = 0.60
-#: Advance of DejaVu Sans Mono, in em (exact).
-MONO_EM = 0.602
-TABLE_PT = (7.5, 7.0, 6.5, 6.0)
-#: Narrowest a table column is wrapped to before the type is made smaller [characters].
-MIN_WRAP_CHARS = 18
 DASH = "-"
-
-
-# --------------------------------------------------------------------------- blocks
-
-
-@dataclass(frozen=True)
-class _Heading:
-    text: str
-    level: int = 1
-
-
-@dataclass(frozen=True)
-class _Para:
-    text: str
-    kind: str = "body"  # body | small | strong | box | bullet
-
-
-@dataclass(frozen=True)
-class _Table:
-    headers: tuple[str, ...]
-    rows: tuple[tuple[str, ...], ...]
-    #: Columns that may wrap to fit the page (default: the last one).
-    wrap: tuple[int, ...] = (-1,)
-
-
-@dataclass(frozen=True)
-class _Plot:
-    title: str
-    draw: Callable[[Figure, tuple[float, float, float, float]], Any]
-    caption: str
-    tall: bool = False
-
-
-@dataclass(frozen=True)
-class _Break:
-    pass
 
 
 # --------------------------------------------------------------------------- formatting
@@ -162,26 +108,26 @@ def _title_blocks(a: Analysis, d: dict[str, Any], generated: str) -> list[Any]:
     statement = cautions.ESTIMATE_STATEMENT
     others = [c for c in d["cautions"] if c != statement]
     blocks: list[Any] = [
-        _Heading("Flight-test report: longitudinal static stability", 0),
-        _Para(f"Aircraft: {d['aircraft']['name']}"),
-        _Para(f"Aircraft profile: {d['aircraft']['profile']}"),
-        _Para(f"Flights: {len(d['flights'])}, stabilized points: {len(pts)} "
+        Heading("Flight-test report: longitudinal static stability", 0),
+        Para(f"Aircraft: {d['aircraft']['name']}"),
+        Para(f"Aircraft profile: {d['aircraft']['profile']}"),
+        Para(f"Flights: {len(d['flights'])}, stabilized points: {len(pts)} "
               f"({used} used in the fits, {len(pts) - used} excluded); headline "
               f"configuration '{d['configuration']}'"),
-        _Para(f"Generated {generated} by trimlog {d['software']['version']}"),
-        _Heading("Headline results", 2),
-        _Para(f"Stick-fixed neutral point: {neutral_point_text(fixed)}", "strong"),
-        _Para("Stick-free neutral point: "
+        Para(f"Generated {generated} by trimlog {d['software']['version']}"),
+        Heading("Headline results", 2),
+        Para(f"Stick-fixed neutral point: {neutral_point_text(fixed)}", "strong"),
+        Para("Stick-free neutral point: "
               + neutral_point_text(d["neutral_point"]["stick_free"]), "strong"),
-        _Para("Stabilizer shim: " + _shim_headline(a, d), "strong"),
-        _Para(statement if statement in d["cautions"] else d["cautions"][0], "box"),
-        _Heading("Cautions", 2),
+        Para("Stabilizer shim: " + _shim_headline(a, d), "strong"),
+        Para(statement if statement in d["cautions"] else d["cautions"][0], "box"),
+        Heading("Cautions", 2),
     ]
-    blocks += [_Para(c, "bullet") for c in others]
+    blocks += [Para(c, "bullet") for c in others]
     if a.profile.defaults_used:
-        blocks.append(_Para("Profile values assumed (not given): "
+        blocks.append(Para("Profile values assumed (not given): "
                             + ", ".join(d["aircraft"]["assumed"]), "small"))
-    blocks.append(_Break())
+    blocks.append(Break())
     return blocks
 
 
@@ -211,17 +157,17 @@ def _neutral_blocks(d: dict[str, Any]) -> list[Any]:
                          _f(np_["station_in"], ".2f", "in")))
         else:
             rows.append((name, "not identifiable", DASH, DASH))
-    blocks: list[Any] = [_Heading("Neutral points", 2),
-                         _Table(("estimate", "neutral point", "95 % interval (Fieller)",
+    blocks: list[Any] = [Heading("Neutral points", 2),
+                         Table(("estimate", "neutral point", "95 % interval (Fieller)",
                                  "station aft of datum"), tuple(rows))]
     for key, name in (("stick_fixed", "Stick-fixed"), ("stick_fixed_two_stage", "Two-stage"),
                       ("stick_free", "Stick-free")):
         np_ = nps[key]
         if np_ is not None and not np_["identifiable"]:
             kind = "box" if key == "stick_fixed" else "body"
-            blocks.append(_Para(f"{name} neutral point not identifiable: {np_['reason']}", kind))
+            blocks.append(Para(f"{name} neutral point not identifiable: {np_['reason']}", kind))
     if d["elevator_power_per_rad"] is not None:
-        blocks.append(_Para(
+        blocks.append(Para(
             "Elevator power Cm_de: "
             f"{_with_ci(d['elevator_power_per_rad'], d['elevator_power_ci95_per_rad'], '.2f')}"
             " per rad (95 % interval)."))
@@ -237,8 +183,8 @@ def _margin_blocks(d: dict[str, Any]) -> list[Any]:
                      _with_ci(m["stick_fixed_pct_mac"], m["stick_fixed_ci95_pct_mac"]),
                      _with_ci(m["stick_free_pct_mac"], m["stick_free_ci95_pct_mac"]), meets))
     return [
-        _Heading("Static margins (%MAC, 95 % interval)", 2),
-        _Table(("at", "CG %MAC", "stick-fixed", "stick-free",
+        Heading("Static margins (%MAC, 95 % interval)", 2),
+        Table(("at", "CG %MAC", "stick-fixed", "stick-free",
                 f"lower bound >= {minimum:g} %MAC"), tuple(rows)),
     ]
 
@@ -256,42 +202,42 @@ def _gradient_blocks(d: dict[str, Any]) -> list[Any]:
          g["stick_force_verdict"])
         for g in d["gradients"])
     return [
-        _Heading("Elevator trim gradient per flight (95 % interval)", 2),
-        _Table(("flight", "CG %MAC", "points", "dde/dCL deg", "elevator verdict"), elevator),
-        _Heading("Stick force per flight (95 % interval)", 2),
-        _Table(("flight", "CG %MAC", "d(Fs/q)/dCL ft^2", "trim EAS kt", "dFs/dV lbf/kt",
+        Heading("Elevator trim gradient per flight (95 % interval)", 2),
+        Table(("flight", "CG %MAC", "points", "dde/dCL deg", "elevator verdict"), elevator),
+        Heading("Stick force per flight (95 % interval)", 2),
+        Table(("flight", "CG %MAC", "d(Fs/q)/dCL ft^2", "trim EAS kt", "dFs/dV lbf/kt",
                 "stick-force verdict"), force),
     ]
 
 
 def _authority_blocks(d: dict[str, Any]) -> list[Any]:
     auth = d["elevator_authority"]
-    blocks: list[Any] = [_Heading("Elevator authority at the forward CG limit", 2)]
+    blocks: list[Any] = [Heading("Elevator authority at the forward CG limit", 2)]
     if auth is None:
-        return blocks + [_Para("not assessed (no aircraft profile)")]
+        return blocks + [Para("not assessed (no aircraft profile)")]
     rows = [(c["case"], f"{c['clmax']:g}", _f(c["cg_pct_mac"]),
              _with_ci(c["elevator_deg"], c["pi95_deg"], "+.1f"), _f(c["up_stop_deg"], "+.1f"),
              _f(c["margin_conservative_deg"], ".1f"), c["verdict"]) for c in auth["cases"]]
     if rows:
-        blocks.append(_Table(("case", "CLmax", "CG %MAC", "elevator deg [95 % PI]",
+        blocks.append(Table(("case", "CLmax", "CG %MAC", "elevator deg [95 % PI]",
                               "up stop deg", "up left deg (cons.)", "verdict"), tuple(rows)))
     if auth["most_forward_cg_conservative_pct_mac"] is not None:
-        blocks.append(_Para(
+        blocks.append(Para(
             f"Most forward CG that keeps {auth['reserve_deg']:g} deg of up elevator in reserve "
             f"at CLmax (clean): {auth['most_forward_cg_conservative_pct_mac']:.1f} %MAC "
             f"({_f(auth['most_forward_cg_station_in'], '.2f', 'in')}), from the conservative "
             "end of the prediction interval."))
     if auth["reason"]:
-        blocks.append(_Para(_sentence(auth["reason"])))
-    blocks += [_Para(f"{c['case']}: {n}", "small") for c in auth["cases"] for n in c["notes"]]
+        blocks.append(Para(_sentence(auth["reason"])))
+    blocks += [Para(f"{c['case']}: {n}", "small") for c in auth["cases"] for n in c["notes"]]
     return blocks
 
 
 def _incidence_blocks(a: Analysis, d: dict[str, Any]) -> list[Any]:
     inc = d["incidence"]
-    blocks: list[Any] = [_Heading("Stabilizer incidence and shim", 2)]
+    blocks: list[Any] = [Heading("Stabilizer incidence and shim", 2)]
     if inc is None:
-        return blocks + [_Para("No recommendation: "
+        return blocks + [Para("No recommendation: "
                                + _sentence(d["incidence_reason"] or "no trim model"))]
     if inc["shim_recommended"]:
         head = (f"Recommended shim: {_shim_headline(a, d)}; 95 % interval of the change "
@@ -299,9 +245,9 @@ def _incidence_blocks(a: Analysis, d: dict[str, Any]) -> list[Any]:
     else:
         head = f"Shim: {_shim_headline(a, d)}."
     return blocks + [
-        _Para(head, "box"),
-        _Para(inc["words"]),
-        _Para(f"Elevator effectiveness tau: {inc['tau']:.2f} {_ci(inc['tau_ci95'], '.2f')} "
+        Para(head, "box"),
+        Para(inc["words"]),
+        Para(f"Elevator effectiveness tau: {inc['tau']:.2f} {_ci(inc['tau_ci95'], '.2f')} "
               f"({inc['tau_source']}): {inc['tau_explanation']}. Interval method: "
               f"{inc['change_method']}.", "small"),
     ]
@@ -317,26 +263,26 @@ def _next_cg_blocks(d: dict[str, Any]) -> list[Any]:
     if nxt["current_se_pct_mac"] is not None and nxt["predicted_se_pct_mac"] is not None:
         text += (f": standard error {nxt['current_se_pct_mac']:.2f} now, about "
                  f"{nxt['predicted_se_pct_mac']:.2f} %MAC after")
-    return [_Heading("Next flight", 2),
-            _Para(text + ", within the aircraft's approved limits.")]
+    return [Heading("Next flight", 2),
+            Para(text + ", within the aircraft's approved limits.")]
 
 
 def _summary_blocks(a: Analysis, d: dict[str, Any]) -> list[Any]:
     return [
-        _Heading(f"Summary: configuration '{d['configuration']}'", 1),
+        Heading(f"Summary: configuration '{d['configuration']}'", 1),
         *_neutral_blocks(d), *_margin_blocks(d), *_gradient_blocks(d),
         *_authority_blocks(d), *_incidence_blocks(a, d), *_next_cg_blocks(d),
         *_other_config_blocks(d),
-        _Break(),
+        Break(),
     ]
 
 
 def _other_config_blocks(d: dict[str, Any]) -> list[Any]:
     if not d["other_configurations"]:
         return []
-    blocks: list[Any] = [_Heading("Other configurations (analysed separately)", 2)]
+    blocks: list[Any] = [Heading("Other configurations (analysed separately)", 2)]
     for other in d["other_configurations"]:
-        blocks.append(_Para(f"'{other['configuration']}': stick-fixed neutral point "
+        blocks.append(Para(f"'{other['configuration']}': stick-fixed neutral point "
                             + neutral_point_text(other["neutral_point"]["stick_fixed"])))
     return blocks
 
@@ -361,10 +307,10 @@ def _loading_blocks(a: Analysis, d: dict[str, Any]) -> list[Any]:
             f"{sum(p['included'] for p in mine)}/{len(mine)}",
         ))
     return [
-        _Heading("Loading and flights", 1),
-        _Table(("flight", "file", "kind", "date", "T/O lb", "T/O CG", "points lb",
+        Heading("Loading and flights", 1),
+        Table(("flight", "file", "kind", "date", "T/O lb", "T/O CG", "points lb",
                 "points CG %MAC", "stabilizer", "used/pts"), tuple(rows)),
-        _Para("T/O: takeoff loading from the loading sheet; points: range over the "
+        Para("T/O: takeoff loading from the loading sheet; points: range over the "
               "stabilized points (fuel burn included).", "small"),
     ]
 
@@ -383,13 +329,13 @@ def _points_blocks(d: dict[str, Any]) -> list[Any]:
             p.get("flags") or "",
         ))
     return [
-        _Heading("Stabilized points", 1),
-        _Para("Units: time s, IAS and EAS kt, pressure altitude ft, elevator deg (trailing edge "
+        Heading("Stabilized points", 1),
+        Para("Units: time s, IAS and EAS kt, pressure altitude ft, elevator deg (trailing edge "
               "down +), stick force lbf (pull +), load factor g, weight lb, CG %MAC, Fs/q ft^2. "
               "Excluded points (used = NO) are kept in the table, not fitted.", "small"),
-        _Table(("flight", "pt", "window s", "IAS", "EAS", "alt ft", "elev", "Fs", "nz",
+        Table(("flight", "pt", "window s", "IAS", "EAS", "alt ft", "elev", "Fs", "nz",
                 "W lb", "CG", "CL", "Fs/q", "used", "flags"), tuple(rows)),
-        _Break(),
+        Break(),
     ]
 
 
@@ -398,32 +344,32 @@ def _figure_blocks(a: Analysis, trend: Sequence[Mapping[str, Any]] | None) -> li
         return lambda fig, rect: fn(a, ax=fig.add_axes(rect))
 
     blocks: list[Any] = [
-        _Plot("Trim curves", one(plots.trim_curves),
+        Plot("Trim curves", one(plots.trim_curves),
               "Elevator to trim against lift coefficient for each flight. Filled markers are "
               "the points fitted, hollow grey ones are excluded. Lines: the pooled stick-fixed "
               "model at each flight's CG and stabilizer setting, with its 95 % confidence "
               "band. The lines flatten as the CG moves aft; a flat line means the "
               "stick-fixed neutral point."),
-        _Plot("Gradient against CG", one(plots.gradient_vs_cg),
+        Plot("Gradient against CG", one(plots.gradient_vs_cg),
               "Each flight's elevator gradient dde/dCL with its 95 % interval, against the "
               "flight's CG. The two-stage weighted line is extrapolated to zero gradient, "
               "where the CG is at the stick-fixed neutral point; the markers on the zero line "
               "are the pooled and the two-stage estimates with their Fieller 95 % intervals. "
               "Dotted lines: the CG limits of the profile. Anything aft of the CGs flown is "
               "an extrapolation."),
-        _Plot("Stick force per dynamic pressure", one(plots.stick_force_per_q),
+        Plot("Stick force per dynamic pressure", one(plots.stick_force_per_q),
               "Stick force divided by dynamic pressure against lift coefficient (pull "
               "positive). A rising line is stick-free stable; its slope shrinks to zero at "
               "the stick-free neutral point. Lines: the pooled stick-free model (an intercept "
               "per flight) at each flight's CG, with its 95 % band."),
-        _Plot("Stick force against speed", one(plots.stick_force_vs_speed),
+        Plot("Stick force against speed", one(plots.stick_force_vs_speed),
               "Stick force against equivalent airspeed. The open marker on the zero line is "
               "each flight's fitted trim speed; the short line through it has the fitted "
               "gradient there. A stable aircraft needs a pull to fly slower than trim and a "
               "push to fly faster: the curves slope down through the trim speed."),
     ]
     if trend:
-        blocks.append(_Plot(
+        blocks.append(Plot(
             "Neutral point after each flight",
             lambda fig, rect: plots.neutral_point_trend(trend, ax=fig.add_axes(rect)),
             "The neutral-point estimates and their 95 % intervals after each successive "
@@ -438,7 +384,7 @@ def _history_blocks(a: Analysis) -> list[Any]:
         if f.samples is None:
             continue
         mine = a.points.loc[a.points["flight"] == f.flight]
-        blocks.append(_Plot(
+        blocks.append(Plot(
             f"Time history: {f.flight}",
             lambda fig, rect, f=f, mine=mine: plots.log_overview(
                 f, _stacked_axes(fig, rect), points=mine),
@@ -465,19 +411,19 @@ def _warning_blocks(d: dict[str, Any]) -> list[Any]:
     sources = tuple(f"{f['source']}: " for f in d["flights"])
     reading = [w for w in d["warnings"] if w.startswith(sources)]
     found = [w for w in d["warnings"] if not w.startswith(sources)]
-    blocks: list[Any] = [_Heading("Warnings", 1)]
-    blocks += [_Para(w, "bullet") for w in found] or [_Para("No warnings from the analysis.")]
+    blocks: list[Any] = [Heading("Warnings", 1)]
+    blocks += [Para(w, "bullet") for w in found] or [Para("No warnings from the analysis.")]
     if reading:
-        blocks.append(_Heading("Notes from reading the files", 2))
-        blocks += [_Para(w, "bullet") for w in reading]
+        blocks.append(Heading("Notes from reading the files", 2))
+        blocks += [Para(w, "bullet") for w in reading]
     tail = d["tail_geometry"]
     if tail is not None:
-        blocks.append(_Heading("Tail-geometry check (paper estimate, not a flight result)", 2))
-        blocks += [_Para(t, "bullet") for t in tail["findings"]]
+        blocks.append(Heading("Tail-geometry check (paper estimate, not a flight result)", 2))
+        blocks += [Para(t, "bullet") for t in tail["findings"]]
         if tail["not_computed"]:
-            blocks.append(_Para("Not computed: " + "; ".join(tail["not_computed"]), "small"))
-        blocks.append(_Para("Assumptions: " + "; ".join(tail["assumptions"]), "small"))
-    blocks.append(_Para(cautions.ESTIMATE_STATEMENT, "box"))
+            blocks.append(Para("Not computed: " + "; ".join(tail["not_computed"]), "small"))
+        blocks.append(Para("Assumptions: " + "; ".join(tail["assumptions"]), "small"))
+    blocks.append(Para(cautions.ESTIMATE_STATEMENT, "box"))
     return blocks
 
 
@@ -489,204 +435,6 @@ def report_blocks(a: Analysis, trend: Sequence[Mapping[str, Any]] | None, genera
             *_points_blocks(d), *_figure_blocks(a, trend), *_warning_blocks(d),
             *_history_blocks(a)]
 
-
-# --------------------------------------------------------------------------- PDF layout
-
-
-def _wrap(text: str, chars: int) -> list[str]:
-    return textwrap.wrap(text, max(chars, 1), break_on_hyphens=False,
-                         break_long_words=True) or [""]
-
-
-class _PdfLayout:
-    """Flows blocks down letter pages, one Figure per page, a new page when one is full."""
-
-    def __init__(self) -> None:
-        self.pages: list[Figure] = []
-        self.fig: Figure | None = None
-        self.y = 0.0
-        self.left = MARGIN_IN[0] * PT_PER_IN
-        self.width = (PAGE_IN[0] - MARGIN_IN[0] - MARGIN_IN[1]) * PT_PER_IN
-        self.top = MARGIN_IN[2] * PT_PER_IN
-        self.bottom = (PAGE_IN[1] - MARGIN_IN[3]) * PT_PER_IN
-
-    # ---- primitives (points measured from the page's top-left corner)
-    def _new_page(self) -> None:
-        self.fig = Figure(figsize=PAGE_IN)
-        self.pages.append(self.fig)
-        self.y = self.top
-
-    def _room(self, height: float) -> None:
-        if self.fig is None or self.y + height > self.bottom:
-            self._new_page()
-
-    def _fx(self, x: float) -> float:
-        return x / (PAGE_IN[0] * PT_PER_IN)
-
-    def _fy(self, y: float) -> float:
-        return 1.0 - y / (PAGE_IN[1] * PT_PER_IN)
-
-    def _text(self, x: float, y: float, text: str, size: float, **kw: Any) -> None:
-        self.fig.text(self._fx(x), self._fy(y), text, fontsize=size, va="top", ha="left", **kw)
-
-    def _rect(self, x: float, y: float, w: float, h: float, **kw: Any) -> None:
-        self.fig.patches.append(Rectangle((self._fx(x), self._fy(y + h)),
-                                          w / (PAGE_IN[0] * PT_PER_IN),
-                                          h / (PAGE_IN[1] * PT_PER_IN),
-                                          transform=self.fig.transFigure, **kw))
-
-    # ---- blocks
-    def add(self, block: Any) -> None:
-        if isinstance(block, _Heading):
-            self._heading(block)
-        elif isinstance(block, _Para):
-            self._para(block)
-        elif isinstance(block, _Table):
-            self._table(block)
-        elif isinstance(block, _Plot):
-            self._plot(block)
-        else:
-            self.fig = None
-
-    def _heading(self, block: _Heading) -> None:
-        size = {0: 17.0, 1: 14.0}.get(block.level, 11.0)
-        lines = _wrap(block.text, int(self.width / (SANS_EM * 1.1 * size)))
-        height = len(lines) * size * 1.3
-        self._room(height + 4 * BODY_PT * 1.35)  # keep a heading with what follows
-        if self.y > self.top:
-            self.y += 0.8 * size
-        for line in lines:
-            self._text(self.left, self.y, line, size, fontweight="bold")
-            self.y += size * 1.3
-        self.y += 3.0
-
-    def _para(self, block: _Para) -> None:
-        size = SMALL_PT if block.kind == "small" else BODY_PT
-        lead = 1.35 * size
-        indent = 14.0 if block.kind == "bullet" else (8.0 if block.kind == "box" else 0.0)
-        width = self.width - 2 * indent if block.kind == "box" else self.width - indent
-        em = SANS_BOLD_EM if block.kind in ("box", "strong") else SANS_EM
-        lines = _wrap(block.text, int(width / (em * size)))
-        if block.kind == "box":
-            height = len(lines) * lead + 2 * indent
-            self._room(height + 6)
-            self._rect(self.left, self.y, self.width, height, facecolor="#f2f2f2",
-                       edgecolor="black", linewidth=1.0)
-            y = self.y + indent
-            for line in lines:
-                self._text(self.left + indent, y, line, size, fontweight="bold")
-                y += lead
-            self.y += height + 8
-            return
-        for i, line in enumerate(lines):
-            self._room(lead)
-            if i == 0 and block.kind == "bullet":
-                self._text(self.left + 3, self.y, "\u2022", size)
-            self._text(self.left + indent, self.y, line, size,
-                       color="#333333" if block.kind == "small" else "black",
-                       fontweight="bold" if block.kind == "strong" else "normal")
-            self.y += lead
-        self.y += 0.45 * size
-
-    def _table(self, block: _Table) -> None:
-        ncol = len(block.headers)
-        natural = [max([len(block.headers[i])] + [len(r[i]) for r in block.rows])
-                   for i in range(ncol)]
-        gap = 2
-        wrappable = sorted({i % ncol for i in block.wrap})
-        # The largest type at which wrapping the text columns keeps them readable; at the
-        # smallest type any column wraps.
-        for size in TABLE_PT:
-            chars = int(self.width / (MONO_EM * size))
-            columns = wrappable if size != TABLE_PT[-1] else list(range(ncol))
-            widths = list(natural)
-            while sum(widths) + gap * (ncol - 1) > chars:
-                widest = max(columns, key=lambda i: widths[i])
-                if widths[widest] <= MIN_WRAP_CHARS and size != TABLE_PT[-1]:
-                    break
-                widths[widest] -= 1
-            if sum(widths) + gap * (ncol - 1) <= chars:
-                break
-        lead = 1.3 * size
-
-        def cell_lines(cells: Sequence[str]) -> list[str]:
-            wrapped = [_wrap(c, w) if len(c) > w else [c] for c, w in zip(cells, widths,
-                                                                         strict=True)]
-            depth = max(len(w) for w in wrapped)
-            return [(" " * gap).join((w[k] if k < len(w) else "").ljust(widths[i])
-                                     for i, w in enumerate(wrapped)).rstrip()
-                    for k in range(depth)]
-
-        header = cell_lines(block.headers)
-        row_width = (sum(widths) + gap * (ncol - 1)) * MONO_EM * size
-
-        def draw_header() -> None:
-            for line in header:
-                self._text(self.left, self.y, line, size, family="monospace",
-                           fontweight="bold")
-                self.y += lead
-            self.fig.add_artist(_rule(self, self.y - 0.15 * lead, row_width))
-            self.y += 0.25 * lead
-
-        self._room((len(header) + 2) * lead)
-        draw_header()
-        for n, row in enumerate(block.rows):
-            lines = cell_lines(row)
-            if self.y + len(lines) * lead > self.bottom:
-                self._new_page()
-                draw_header()
-            if n % 2:
-                self._rect(self.left - 2, self.y - 0.15 * lead, row_width + 4,
-                           len(lines) * lead, facecolor="#eeeeee", edgecolor="none")
-            for line in lines:
-                self._text(self.left, self.y, line, size, family="monospace")
-                self.y += lead
-        self.y += 0.8 * BODY_PT
-
-    def _plot(self, block: _Plot) -> None:
-        self._new_page()
-        self._heading(_Heading(block.title, 1))
-        page_w, page_h = PAGE_IN
-        top_in = 1.45
-        height_in = 7.0 if block.tall else 6.0
-        rect = (1.05 / page_w, 1.0 - (top_in + height_in) / page_h,
-                (page_w - 1.05 - 0.55) / page_w, height_in / page_h)
-        block.draw(self.fig, rect)
-        self.y = (top_in + height_in + 0.95) * PT_PER_IN  # clear of the tick labels
-        self._para(_Para(block.caption))
-        self.fig = None
-
-    def footers(self, left: str) -> None:
-        total = len(self.pages)
-        for i, fig in enumerate(self.pages, start=1):
-            y = self._fy(self.bottom + 0.35 * PT_PER_IN)
-            fig.text(self._fx(self.left), y, left, fontsize=7, color="#555555", va="top")
-            fig.text(self._fx(self.left + self.width), y, f"page {i} of {total}", fontsize=7,
-                     color="#555555", va="top", ha="right")
-            fig.text(0.5, y - 0.014, "Estimates from your own flight data, not an approval.",
-                     fontsize=7, color="#555555", va="top", ha="center")
-
-
-def _rule(layout: _PdfLayout, y: float, width: float) -> Line2D:
-    x0 = layout._fx(layout.left)
-    return Line2D([x0, x0 + width / (PAGE_IN[0] * PT_PER_IN)], [layout._fy(y)] * 2,
-                  transform=layout.fig.transFigure, color="black", linewidth=0.6)
-
-
-def _render_pdf(blocks: Sequence[Any], footer: str) -> list[Figure]:
-    layout = _PdfLayout()
-    for block in blocks:
-        layout.add(block)
-    layout.footers(footer)
-    return layout.pages
-
-
-def _save_pdf(pages: Sequence[Figure], fh: IO[bytes], title: str) -> None:
-    # TrueType (42) rather than Type 3 fonts: the text stays searchable and extractable.
-    with rc_context({"pdf.fonttype": 42}), PdfPages(
-            fh, metadata={"Title": title, "Creator": "trimlog"}) as pdf:
-        for page in pages:
-            pdf.savefig(page)
 
 
 # --------------------------------------------------------------------------- HTML
@@ -709,22 +457,22 @@ def _render_html(blocks: Sequence[Any], title: str, footer: str) -> str:
             bullets.clear()
 
     for block in blocks:
-        if isinstance(block, _Para) and block.kind == "bullet":
+        if isinstance(block, Para) and block.kind == "bullet":
             bullets.append(html.escape(block.text))
             continue
         flush()
-        if isinstance(block, _Heading):
+        if isinstance(block, Heading):
             level = block.level + 1
             out.append(f"<h{level}>{html.escape(block.text)}</h{level}>")
-        elif isinstance(block, _Para):
+        elif isinstance(block, Para):
             cls = f' class="{block.kind}"' if block.kind in ("box", "small", "strong") else ""
             out.append(f"<p{cls}>{html.escape(block.text)}</p>")
-        elif isinstance(block, _Table):
+        elif isinstance(block, Table):
             head = "".join(f"<th>{html.escape(h)}</th>" for h in block.headers)
             rows = "".join("<tr>" + "".join(f"<td>{html.escape(c)}</td>" for c in row)
                            + "</tr>" for row in block.rows)
             out.append(f"<table><thead><tr>{head}</tr></thead><tbody>{rows}</tbody></table>")
-        elif isinstance(block, _Plot):
+        elif isinstance(block, Plot):
             fig = Figure(figsize=(8.0, 9.0 if block.tall else 5.6))
             block.draw(fig, (0.11, 0.09, 0.85, 0.82))
             buf = io.BytesIO()
@@ -825,6 +573,6 @@ def write_report(analysis: Analysis, path: str | os.PathLike[str], *,
         data = _render_html(blocks, title, footer).encode("utf-8")
         _atomic_write(path, lambda fh: fh.write(data))
     else:
-        pages = _render_pdf(blocks, footer)
-        _atomic_write(path, lambda fh: _save_pdf(pages, fh, title))
+        pages = render_pdf(blocks, footer)
+        _atomic_write(path, lambda fh: save_pdf(pages, fh, title))
     return path
