@@ -398,7 +398,7 @@ def test_column_map_and_inverted_elevator(comma):
     log = read(
         "logger_names.csv",
         column_map={"AS_IND": "ias_mph", "ALT_BARO": "pressure_alt_ft", "temp_out": "oat_c",
-                    "RPM": "-", "NOT_THERE": "flap_deg"},
+                    "ELEV_POS": "elevator_deg", "RPM": "-", "NOT_THERE": "flap_deg"},
         inverted=("elevator_deg",),
     )
     np.testing.assert_allclose(log.data["ias_kt"], comma.data["ias_kt"], atol=0.01)
@@ -408,6 +408,48 @@ def test_column_map_and_inverted_elevator(comma):
     text = " ".join(log.warnings)
     assert "sign inverted" in text
     assert "'RPM'" in text and "ignored as the column map says" in text
+
+
+# The logger's airspeed and altitude channels, which logger_names.csv does not name by itself.
+BASE_MAP = {"AS_IND": "ias_mph", "ALT_BARO": "pressure_alt_ft"}
+
+
+def test_inversion_skips_a_column_under_its_canonical_name(comma):
+    # A typed point table headed 'elevator_deg' is trailing-edge down positive by
+    # contract, whatever the logger of the same aircraft records.
+    log = read("comma.csv", inverted=("elevator_deg",))
+    np.testing.assert_array_equal(log.data["elevator_deg"], comma.data["elevator_deg"])
+    assert not {c.canonical: c for c in log.columns}["elevator_deg"].inverted
+    note = [w for w in log.warnings if "NOT sign inverted" in w]
+    assert len(note) == 1 and "'elevator_deg'" in note[0] and "[logger] columns" in note[0]
+
+
+def test_inversion_skips_a_synonym_that_is_not_in_the_column_map(comma):
+    # 'ELEV_POS' is understood by itself as a synonym of the elevator.
+    plain = read("logger_names.csv", column_map=BASE_MAP)
+    log = read("logger_names.csv", column_map=BASE_MAP,
+               inverted=("elevator_deg", "stick_force_lbf"))
+    for name in ("elevator_deg", "stick_force_lbf"):
+        np.testing.assert_array_equal(log.data[name], plain.data[name])
+    assert not any(c.inverted for c in log.columns)
+    text = " ".join(log.warnings)
+    assert "'ELEV_POS' (elevator_deg) NOT sign inverted" in text
+    assert "'FORCE_N' (stick_force_lbf) NOT sign inverted" in text
+    assert "sign inverted, as the aircraft profile declares" not in text
+
+
+def test_inversion_applies_to_a_mapped_column_only(comma):
+    log = read("logger_names.csv",
+               column_map={**BASE_MAP, "ELEV_POS": "elevator_deg"},
+               inverted=("elevator_deg", "stick_force_lbf"))
+    plain = read("logger_names.csv", column_map=BASE_MAP)
+    np.testing.assert_array_equal(log.data["elevator_deg"], -plain.data["elevator_deg"])
+    np.testing.assert_array_equal(log.data["stick_force_lbf"], plain.data["stick_force_lbf"])
+    by = {c.canonical: c for c in log.columns}
+    assert by["elevator_deg"].inverted and not by["stick_force_lbf"].inverted
+    text = " ".join(log.warnings)
+    assert "'ELEV_POS' (elevator_deg) sign inverted, as the aircraft profile declares" in text
+    assert "'FORCE_N' (stick_force_lbf) NOT sign inverted" in text
 
 
 def test_unknown_columns_are_listed_not_silently_dropped():

@@ -26,7 +26,7 @@ import csv
 import difflib
 import re
 from collections.abc import Iterable, Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Literal, NamedTuple
 
 import numpy as np
@@ -157,6 +157,10 @@ class HeaderMeaning:
         Conversion ``canonical = scale * value + offset``.
     unit_assumed : bool
         True when no unit was written and the canonical unit was assumed.
+    from_map : bool
+        True when the header was sent to its quantity by the aircraft
+        profile's column map (the logger's own channel name), False when it
+        was understood by itself (a canonical name or a synonym).
     """
 
     canonical: str
@@ -164,6 +168,7 @@ class HeaderMeaning:
     scale: float
     offset: float
     unit_assumed: bool
+    from_map: bool = False
 
 
 def normalise(header: str) -> str:
@@ -492,6 +497,7 @@ def map_columns(
                     file=label,
                     column=header,
                 )
+            meaning = replace(meaning, from_map=True)
         else:
             meaning = understand_header(header, unit, file=label)
         if meaning is None:

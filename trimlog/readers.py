@@ -40,6 +40,10 @@ Decisions
   sensor glitches: they are blanked (set missing), counted in ``dropped`` and
   named in a loud warning; more than that is an error, since it usually means
   a wrong unit or a wrong column.  Values are never clipped.
+* The profile's ``inverted`` list flips the sign only of columns mapped
+  through its column map (the logger's own channel names); a column headed
+  by a canonical name or a synonym (a hand-typed table) is taken to follow
+  the package's sign convention and is not flipped (warned).
 * A column whose header is not understood is kept out of the samples table
   and listed in a warning.  A column map entry whose target is ``""`` or
   ``"-"`` tells the reader to ignore that column (also listed).
@@ -442,8 +446,11 @@ def read_log(
         From the aircraft profile's ``[logger] columns``.
     inverted : iterable of str, optional
         Canonical names whose sign the logger records opposite to the
-        package convention (e.g. ``"elevator_deg"`` when up is positive);
-        these columns are multiplied by -1.
+        package convention (e.g. ``"elevator_deg"`` when up is positive).
+        Only a column that reached that name through ``column_map`` (the
+        logger's own channel name) is multiplied by -1; a column headed by
+        the canonical name or a synonym follows the package convention by
+        contract and is left as it is, with a warning saying so.
     kind : {"point_table", "time_series"}, optional
         Force the kind of input instead of detecting it.
 
@@ -570,11 +577,21 @@ def _convert(
                 values = values * meaning.scale + meaning.offset
             if meaning.unit_assumed:
                 notes.warnings.append(f"'{header}' has no unit; assumed {meaning.unit_text}")
-        flip = canonical in inverted
+        # The profile's inversion describes the logger's own channels: a column
+        # under a standard name follows the package's sign convention by contract.
+        flip = canonical in inverted and meaning.from_map
         if flip:
             values = -values
             notes.warnings.append(
                 f"'{header}' ({canonical}) sign inverted, as the aircraft profile declares"
+            )
+        elif canonical in inverted:
+            notes.warnings.append(
+                f"'{header}' ({canonical}) NOT sign inverted although the aircraft profile "
+                "declares it inverted: the inversion applies only to logger columns named in "
+                "the profile's [logger] columns map, and this header is a standard name, "
+                "taken to follow the package's sign convention (map the header in "
+                "[logger] columns if this is the logger's channel)"
             )
         data[canonical] = values
         infos.append(ColumnInfo(header, canonical, unit, conversion, flip))
