@@ -7,6 +7,7 @@ and their values are known exactly.
 
 from __future__ import annotations
 
+import re
 from pathlib import Path
 
 import numpy as np
@@ -16,8 +17,10 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from synthetic_logs import Hold, Pullup, Turn, elevator_for, force_for, make_log, standard_flight
 
+import trimlog.points
 from trimlog.errors import InputFileError, TrimlogError
 from trimlog.points import (
+    FLAG_TEXT,
     PointSettings,
     find_stabilized_points,
     point_table_to_points,
@@ -120,6 +123,37 @@ def test_points_contract_columns_and_types():
     assert (points["n_samples"] > 400).all()
     # the spread of a hold is the synthetic turbulence, well under the tolerance
     assert (points["ias_kt_std"] < 1.5).all()
+
+
+def test_flag_text_is_the_table_of_the_module_notes():
+    notes = trimlog.points.__doc__.split("Quality flags")[1].split("References")[0]
+    table = dict(
+        (code, text.strip())
+        for code, text in re.findall(r"^``(\w+)``\s+(.+)$", notes, flags=re.MULTILINE)
+    )
+    assert table == FLAG_TEXT
+    assert all(text and "\n" not in text for text in FLAG_TEXT.values())
+
+
+def test_every_flag_raised_is_explained():
+    samples, truth = standard_flight(seed=12)
+    samples.loc[samples.index[::97], "ias_kt"] += 25.0  # spikes
+    samples["event"] = ""
+    for k, (start, _, _) in enumerate(truth[1:], start=2):  # the first hold left unmarked
+        samples.loc[samples["time_s"].between(start + 3, start + 3.05), "event"] = f"TP{k}"
+    samples.loc[samples["time_s"].between(100, 100.05), "event"] = "in turn"
+    first = find_stabilized_points(samples)
+    second = find_stabilized_points(samples.drop(columns=["nz_g", "stick_force_lbf", "event"]))
+    table = point_table_to_points(read_log(
+        b"ias_kt,palt_ft,elevator_deg\n100,4500,-3\n90,4500,\n", name="t.csv").data)
+    raised = {
+        code
+        for flags in pd.concat([first, second, table])["flags"]
+        for code in flags.split(";") if code
+    }
+    assert {"spike", "unmarked", "marker_unsteady", "no_nz", "no_force", "table",
+            "incomplete"} <= raised
+    assert raised <= set(FLAG_TEXT)
 
 
 def test_turns_are_excluded_only_when_nz_is_logged():

@@ -50,20 +50,26 @@ deleted: the user can include either kind on review.
 
 Quality flags
 -------------
+:data:`FLAG_TEXT` maps each code to the same one-line explanation, for the
+views (a test checks that it and this table agree):
+
 ``spike``            samples left out of the means as spikes
 ``drift``            cut out of a slowly drifting stretch
-``gap``              a gap in the time stamps longer than ``max_gap_s``
+``gap``              a gap in the time stamps longer than max_gap_s
 ``dropout``          more than 10 % of a core signal's samples missing
-``alt_unsteady``     altitude scatter about a steady climb/descent > ``alt_scatter_ft``
-``turbulent``        airspeed standard deviation > ``turbulence_ias_kt``
-``nz_off``           mean load factor more than half ``nz_tol_g`` from 1 g
+``alt_unsteady``     altitude scatter about a steady climb/descent > alt_scatter_ft
+``turbulent``        airspeed standard deviation > turbulence_ias_kt
+``nz_off``           mean load factor more than half nz_tol_g from 1 g
 ``no_nz``            load factor not logged: a steady turn cannot be told apart
 ``no_force``         stick force not logged
 ``unmarked``         markers are used but none marks this point (excluded)
 ``marker_unsteady``  marked by the pilot but not steady (excluded)
 ``table``            a row of a point table: no window statistics
 ``incomplete``       a point-table row missing airspeed, altitude or elevator (excluded)
-``too_slow``         a hold below ``min_airspeed_kt``: on the ground or taxiing (excluded)
+``too_slow``         a hold below min_airspeed_kt: on the ground or taxiing (excluded)
+``at_stop``          elevator at a stop: not a free trim (excluded)
+
+The analysis (:mod:`trimlog.analysis`) adds ``at_stop``; this module never does.
 
 References
 ----------
@@ -88,7 +94,29 @@ from trimlog.columns import QUANTITIES, TEXT_COLUMNS
 from trimlog.errors import InputFileError, TrimlogError
 from trimlog.readers import LogRead
 
-__all__ = ["PointSettings", "find_stabilized_points", "point_table_to_points", "points_from_log"]
+__all__ = [
+    "FLAG_TEXT", "PointSettings", "find_stabilized_points", "point_table_to_points",
+    "points_from_log",
+]
+
+#: Flag code -> one-line plain explanation, for every view of the Points table.
+FLAG_TEXT: dict[str, str] = {
+    "spike": "samples left out of the means as spikes",
+    "drift": "cut out of a slowly drifting stretch",
+    "gap": "a gap in the time stamps longer than max_gap_s",
+    "dropout": "more than 10 % of a core signal's samples missing",
+    "alt_unsteady": "altitude scatter about a steady climb/descent > alt_scatter_ft",
+    "turbulent": "airspeed standard deviation > turbulence_ias_kt",
+    "nz_off": "mean load factor more than half nz_tol_g from 1 g",
+    "no_nz": "load factor not logged: a steady turn cannot be told apart",
+    "no_force": "stick force not logged",
+    "unmarked": "markers are used but none marks this point (excluded)",
+    "marker_unsteady": "marked by the pilot but not steady (excluded)",
+    "table": "a row of a point table: no window statistics",
+    "incomplete": "a point-table row missing airspeed, altitude or elevator (excluded)",
+    "too_slow": "a hold below min_airspeed_kt: on the ground or taxiing (excluded)",
+    "at_stop": "elevator at a stop: not a free trim (excluded)",
+}
 
 _NO_MARK = frozenset({"", "0", "0.0", "false", "off", "no", "none", "nan"})
 _MAD_TO_SIGMA = 1.4826  # MAD of a normal sample times this estimates its sigma
