@@ -8,12 +8,14 @@ on its axes, not the statistics themselves (tests/test_stability.py does).
 from __future__ import annotations
 
 from pathlib import Path
+from types import SimpleNamespace
 
 import matplotlib
 
 matplotlib.use("Agg")
 
 import numpy as np
+import pandas as pd
 import pytest
 from matplotlib.collections import PolyCollection
 from matplotlib.container import ErrorbarContainer
@@ -147,6 +149,24 @@ def test_stick_force_vs_speed_marks_trim_speed(full):
         assert (pytest.approx(g.trim_eas_kt), 0.0) in marks
 
 
+def _spans(ax) -> tuple[list[tuple[float, float]], list[tuple[float, float]]]:
+    """(start, end) of the shaded and of the hatched windows of one log axis [s]."""
+    shaded, hatched = [], []
+    for coll in ax.collections:
+        for path in coll.get_paths():
+            x = path.vertices[:, 0]
+            (hatched if coll.get_hatch() else shaded).append((float(x.min()), float(x.max())))
+    return sorted(shaded), sorted(hatched)
+
+
+def _expected_spans(points) -> tuple[list[tuple[float, float]], list[tuple[float, float]]]:
+    def of(rows):
+        return sorted((float(a), float(b)) for a, b in zip(rows["t_start_s"], rows["t_end_s"],
+                                                             strict=True))
+    used = points["included"].astype(bool)
+    return of(points.loc[used]), of(points.loc[~used])
+
+
 def test_log_overview_shades_windows(full):
     f3 = next(f for f in full.flights if f.flight == "flight3")
     mine = full.points.loc[full.points["flight"] == "flight3"].copy()
@@ -155,13 +175,60 @@ def test_log_overview_shades_windows(full):
     assert len(axes) == 4
     assert all("[" in ax.get_ylabel() for ax in axes)
     assert axes[-1].get_xlabel() == "time [s]"
+    shaded, hatched = _expected_spans(mine)
+    assert len(hatched) == 1
     for ax in axes:
-        assert len(ax.lines) == 1 and len(ax.lines[0].get_xdata()) == len(f3.samples)
-        spans = [p for p in ax.patches]
-        assert len(spans) == len(mine)
-        assert sum(1 for p in spans if p.get_hatch()) == 1
+        assert len(ax.lines) == 1 and len(ax.lines[0].get_xdata()) <= plots.LOG_VERTICES
+        got_shaded, got_hatched = _spans(ax)
+        assert np.allclose(got_shaded, shaded) and np.allclose(got_hatched, hatched)
     numbers = {t.get_text() for t in axes[0].texts}
     assert numbers == {str(p) for p in mine["point"]}
+
+
+def test_min_max_envelope_keeps_spikes_and_gaps():
+    # synthetic signal: a slow sine with one single-sample spike and a stretch of NaN
+    t = np.arange(100_000) * 0.02
+    y = np.sin(t / 30.0)
+    y[31_234] = 9.0
+    y[50_000:52_000] = np.nan
+    tt, yy = plots.min_max_envelope(t, y, max_points=1000)
+    assert len(tt) <= 1000
+    assert np.nanmax(yy) == 9.0 and np.nanmin(yy) == pytest.approx(np.nanmin(y), abs=1e-6)
+    assert np.all(np.diff(tt) > 0)
+    index = np.rint(tt / 0.02).astype(int)
+    finite = np.isfinite(yy)
+    assert np.array_equal(yy[finite], y[index[finite]])  # only samples of the log, none made up
+    assert np.isnan(yy[(tt > 1000.0) & (tt < 1040.0)]).any()  # the line still breaks there
+    short_t, short_y = plots.min_max_envelope(t[:500], y[:500], max_points=1000)
+    assert np.array_equal(short_t, t[:500]) and np.array_equal(short_y, y[:500])
+
+
+def test_a_one_hour_log_draws_a_bounded_number_of_vertices():
+    # synthetic one-hour 50 Hz log (a stand-in for FlightData: log_overview reads its
+    # samples, points, flight and source) with windows known by construction
+    rng = np.random.default_rng(5)
+    t = np.arange(180_000) * 0.02
+    samples = pd.DataFrame({
+        "time_s": t, "ias_kt": 100.0 + rng.normal(0.0, 0.5, t.size),
+        "elevator_deg": rng.normal(-2.0, 0.2, t.size),
+        "stick_force_lbf": rng.normal(0.0, 0.3, t.size), "nz_g": rng.normal(1.0, 0.02, t.size),
+    })
+    samples.loc[123_457, "nz_g"] = 2.5  # one spike, to be seen
+    starts = np.arange(60.0, 3500.0, 57.0)
+    points = pd.DataFrame({"point": np.arange(1, starts.size + 1), "t_start_s": starts,
+                           "t_end_s": starts + 20.0, "included": np.arange(starts.size) % 4 != 0})
+    flight = SimpleNamespace(flight="long", source="long.csv", samples=samples, points=points)
+    axes = plots.log_overview(flight)
+    shaded, hatched = _expected_spans(points)
+    for ax, column in zip(axes, ("ias_kt", "elevator_deg", "stick_force_lbf", "nz_g"),
+                          strict=True):
+        (line,) = ax.lines
+        assert len(line.get_xdata()) <= plots.LOG_VERTICES
+        drawn = np.asarray(line.get_ydata())
+        assert drawn.max() == samples[column].max() and drawn.min() == samples[column].min()
+        got_shaded, got_hatched = _spans(ax)
+        assert np.allclose(got_shaded, shaded) and np.allclose(got_hatched, hatched)
+    assert len(axes[0].texts) == len(points)
 
 
 def test_log_overview_refuses_a_point_table(full):

@@ -60,6 +60,9 @@ TICK_SIZE = 9
 LEGEND_SIZE = 8
 #: Points on each drawn fit line.
 LINE_POINTS = 20
+#: Most vertices drawn per trace of a log: well above the pixel columns of any figure
+#: here, so the min/max envelope looks like the full trace.
+LOG_VERTICES = 4000
 
 TREND_KEYS = ("n_flights", "label", "stick_fixed_pct_mac", "ci95_pct_mac",
               "stick_free_pct_mac", "stick_free_ci95_pct_mac", "cg_pct_mac")
@@ -427,9 +430,73 @@ def stick_force_vs_speed(analysis: Analysis, ax: Axes | None = None) -> Axes:
     return ax
 
 
+def min_max_envelope(t: np.ndarray, y: np.ndarray, max_points: int = LOG_VERTICES
+                     ) -> tuple[np.ndarray, np.ndarray]:
+    """A long trace thinned for drawing: the lowest and highest sample of each bin.
+
+    Consecutive samples are grouped into ``max_points // 2`` bins; each bin
+    keeps its minimum and maximum in time order, so a one-sample spike still
+    shows.  A bin with no finite value keeps one NaN, so the drawn line
+    still breaks where the log has no data.  Only samples of the log are
+    returned; nothing is interpolated.
+
+    Parameters
+    ----------
+    t : ndarray
+        Time of each sample, increasing [s].
+    y : ndarray
+        The signal (any unit; NaN where missing).
+    max_points : int
+        Most samples returned; traces this short or shorter are returned as
+        they are.
+
+    Returns
+    -------
+    tuple of ndarray
+        ``(t, y)`` of the samples kept.
+    """
+    n = len(y)
+    bins = max(max_points // 2, 1)
+    if n <= max_points:
+        return t, y
+    size = math.ceil(n / bins)
+    bins = math.ceil(n / size)
+    padded = np.full(bins * size, np.nan)
+    padded[:n] = y
+    padded = padded.reshape(bins, size)
+    finite = np.isfinite(padded)
+    low = np.argmin(np.where(finite, padded, np.inf), axis=1)
+    high = np.argmax(np.where(finite, padded, -np.inf), axis=1)
+    start = np.arange(bins) * size
+    index = np.column_stack([start + np.minimum(low, high),
+                             start + np.maximum(low, high)]).ravel()
+    empty = ~finite.any(axis=1)
+    # An empty bin keeps one NaN sample (its first), not two.
+    keep = ~np.repeat(empty, 2) | (np.arange(2 * bins) % 2 == 0)
+    index = index[keep]
+    values = np.asarray(y, dtype=float)[index]
+    values[np.repeat(empty, 2)[keep]] = np.nan
+    return np.asarray(t)[index], values
+
+
+def _windows(points: pd.DataFrame) -> tuple[list[tuple[float, float]], list[tuple[float, float]]]:
+    """``(start, width)`` of the included and of the excluded points' windows [s]."""
+    used: list[tuple[float, float]] = []
+    left_out: list[tuple[float, float]] = []
+    for row in points.itertuples():
+        if math.isfinite(row.t_start_s) and math.isfinite(row.t_end_s):
+            span = (float(row.t_start_s), float(row.t_end_s - row.t_start_s))
+            (used if bool(row.included) else left_out).append(span)
+    return used, left_out
+
+
 def log_overview(flight_data: FlightData, axes: Sequence[Axes] | None = None, *,
                  points: pd.DataFrame | None = None) -> tuple[Axes, ...]:
     """Airspeed, elevator, stick force and load factor against time, point windows shaded.
+
+    Long logs are drawn through :func:`min_max_envelope` (at most
+    :data:`LOG_VERTICES` vertices per trace, spikes kept); the shaded windows
+    are the points' own.
 
     Parameters
     ----------
@@ -469,20 +536,20 @@ def log_overview(flight_data: FlightData, axes: Sequence[Axes] | None = None, *,
                 ("nz_g", "load factor $n_z$ [g]"))
     pts = flight_data.points if points is None else points
     t = samples["time_s"]
+    used, left_out = _windows(pts)
     for ax, (column, label) in zip(axes, channels, strict=True):
         if column in samples and samples[column].notna().any():
-            ax.plot(t, samples[column], color=PALETTE[0], linewidth=0.6)
+            ax.plot(*min_max_envelope(t.to_numpy(float), samples[column].to_numpy(float)),
+                    color=PALETTE[0], linewidth=0.6)
         else:
             _note(ax, f"{label.split(' [')[0]} not logged")
-        for row in pts.itertuples():
-            if not (math.isfinite(row.t_start_s) and math.isfinite(row.t_end_s)):
-                continue
-            if bool(row.included):
-                ax.axvspan(row.t_start_s, row.t_end_s, color=PALETTE[2], alpha=0.18,
-                           linewidth=0)
-            else:
-                ax.axvspan(row.t_start_s, row.t_end_s, facecolor="none", edgecolor=GREY,
-                           hatch="///", linewidth=0.5)
+        # One collection per kind, not one patch per point: a long log has many points.
+        if len(used):
+            ax.broken_barh(used, (0.0, 1.0), transform=ax.get_xaxis_transform(),
+                           color=PALETTE[2], alpha=0.18, linewidth=0)
+        if len(left_out):
+            ax.broken_barh(left_out, (0.0, 1.0), transform=ax.get_xaxis_transform(),
+                           facecolor="none", edgecolor=GREY, hatch="///", linewidth=0.5)
         ax.set_ylabel(label, fontsize=TICK_SIZE)
         ax.tick_params(labelsize=TICK_SIZE)
         ax.grid(True, color="#d9d9d9", linewidth=0.6)
