@@ -35,17 +35,12 @@ SQLite documentation: "Write-Ahead Logging", "Atomic Commit In SQLite",
 
 from __future__ import annotations
 
-import base64
 import datetime as dt
-import enum
-import hashlib
 import json
-import math
 import os
 import sqlite3
 from collections.abc import Iterator, Mapping, Sequence
 from contextlib import contextmanager
-from dataclasses import asdict, dataclass
 from pathlib import Path
 from typing import Any, Final, Literal
 
@@ -55,16 +50,40 @@ import platformdirs
 
 import trimlog
 from trimlog.errors import StoreError
+from trimlog.store_codec import (
+    EXPORT_FORMAT,  # noqa: F401 (moved to store_codec; still importable from here)
+    EXPORT_FORMAT_VERSION,  # noqa: F401
+    EXPORT_JSON,  # noqa: F401
+    KEEP,
+    AircraftRecord,
+    AnalysisRecord,
+    FlightRecord,
+    ImportOutcome,
+    Keep,
+    ProfileVersion,
+    RestoreSummary,
+    analysis_record,
+    check_export_folder,
+    check_log,
+    decode_points,
+    decode_raw,
+    dumps_json,
+    encode_details,
+    encode_points,
+    export_document,
+    export_tables,
+    flight_record,
+    opt_text,
+    read_export,
+    sha256_hex,
+    write_export,
+)
 
 ENV_VAR: Final = "TRIMLOG_DB"
 BUSY_TIMEOUT_S: Final = 30.0
 # "TRML": marks the file as trimlog's, so a foreign SQLite file is never taken for ours.
 APPLICATION_ID: Final = 0x54524D4C
 _SQLITE_MAGIC: Final = b"SQLite format 3\x00"
-
-EXPORT_JSON: Final = "trimlog-history.json"
-EXPORT_FORMAT: Final = "trimlog-history-export"
-EXPORT_FORMAT_VERSION: Final = 1
 
 # Forward migrations: step k (1-based) takes a database from schema version k-1
 # to k.  Steps are only ever appended; a released step is never edited.
@@ -124,95 +143,7 @@ _MIGRATIONS: Final[tuple[tuple[str, ...], ...]] = (
     ),
 )
 SCHEMA_VERSION: Final = len(_MIGRATIONS)
-_RESERVED_POINT_COLUMNS: Final = frozenset({"flight_id"})
-_FIXED_POINT_COLUMNS: Final = ("point", "included")  # stored as columns, not in values_json
 
-
-class _Keep(enum.Enum):
-    KEEP = 0
-
-
-KEEP: Final = _Keep.KEEP
-"""Default of :meth:`Store.update_flight` arguments: leave the field as it is."""
-
-
-@dataclass(frozen=True)
-class AircraftRecord:
-    """One aircraft and its current profile version."""
-
-    id: int
-    name: str
-    created_at: str
-    profile_version: int
-    profile_text: str
-    profile_sha256: str
-    profile_imported_at: str
-
-
-@dataclass(frozen=True)
-class ProfileVersion:
-    """One stored version of an aircraft's profile text."""
-
-    aircraft_id: int
-    version: int
-    text: str
-    sha256: str
-    imported_at: str
-
-
-@dataclass(frozen=True)
-class FlightRecord:
-    """One stored flight (without its raw bytes and points)."""
-
-    id: int
-    aircraft_id: int
-    flight_order: int
-    sha256: str
-    filename: str
-    size_bytes: int
-    date: dt.date | None
-    label: str | None
-    notes: str | None
-    loading: dict[str, Any] | None
-    incidence_label: str | None
-    incidence_deg: float | None
-    config: str | None
-    profile_version: int
-    n_points: int
-    n_included: int
-    imported_at: str
-
-
-@dataclass(frozen=True)
-class ImportOutcome:
-    """What :meth:`Store.import_flight` did: a new flight, or the one already stored."""
-
-    flight_id: int
-    created: bool
-    message: str
-
-
-@dataclass(frozen=True)
-class AnalysisRecord:
-    """One saved analysis result."""
-
-    id: int
-    aircraft_id: int
-    created_at: str
-    software_version: str
-    profile_version: int
-    flight_ids: tuple[int, ...]
-    result: dict[str, Any]
-
-
-@dataclass(frozen=True)
-class RestoreSummary:
-    """Counts of what :meth:`Store.import_export` brought in."""
-
-    n_aircraft: int
-    n_flights: int
-    n_points: int
-    n_analyses: int
 
 
 def default_path() -> Path:
@@ -390,207 +321,6 @@ def _now() -> str:
     return dt.datetime.now(dt.UTC).isoformat(timespec="seconds")
 
 
-def _sha256(data: bytes | str) -> str:
-    return hashlib.sha256(data.encode() if isinstance(data, str) else data).hexdigest()
-
-
-def _plain(obj: Any, where: str) -> Any:
-    """Return ``obj`` as plain JSON types, or raise naming the offending key."""
-    if obj is None or isinstance(obj, bool | str):
-        return obj
-    if isinstance(obj, np.generic):
-        return _plain(obj.item(), where)
-    if isinstance(obj, int):
-        return obj
-    if isinstance(obj, float):
-        if not math.isfinite(obj):
-            raise StoreError(f"{where}: {obj} cannot be stored; give None for a missing number")
-        return obj
-    if isinstance(obj, np.ndarray):
-        return _plain(obj.tolist(), where)
-    if isinstance(obj, Mapping):
-        out = {}
-        for key, value in obj.items():
-            if not isinstance(key, str):
-                raise StoreError(f"{where}: key {key!r} is not text; JSON keys must be text")
-            out[key] = _plain(value, f"{where}.{key}")
-        return out
-    if isinstance(obj, list | tuple):
-        return [_plain(v, f"{where}[{i}]") for i, v in enumerate(obj)]
-    raise StoreError(f"{where}: a {type(obj).__name__} cannot be stored as JSON")
-
-
-def _dumps(obj: Any, where: str) -> str:
-    # ASCII escapes keep any text, even lone surrogates from undecodable file names.
-    return json.dumps(_plain(obj, where), allow_nan=False)
-
-
-def _opt_text(value: Any, key: str) -> str | None:
-    if value is None:
-        return None
-    if not isinstance(value, str):
-        raise StoreError(f"{key}: expected text or None, found {type(value).__name__} {value!r}")
-    try:
-        value.encode("utf-8")
-    except UnicodeEncodeError:
-        raise StoreError(f"{key}: {value!r} is not valid Unicode text") from None
-    return value
-
-
-def _opt_deg(value: Any, key: str) -> float | None:
-    if value is None:
-        return None
-    try:
-        deg = float(value)
-    except (TypeError, ValueError):
-        raise StoreError(f"{key}: expected a number of degrees or None, found {value!r}") from None
-    if not math.isfinite(deg):
-        raise StoreError(f"{key}: expected a finite number of degrees, found {value!r}")
-    return deg
-
-
-def _opt_date(value: Any, key: str) -> str | None:
-    if value is None:
-        return None
-    if isinstance(value, dt.datetime):
-        raise StoreError(f"{key}: expected a date, found a date and time {value!r}")
-    if isinstance(value, dt.date):
-        return value.isoformat()
-    if isinstance(value, str):
-        try:
-            return dt.date.fromisoformat(value.strip()).isoformat()
-        except ValueError:
-            pass
-    raise StoreError(f"{key}: expected a date (YYYY-MM-DD), found {value!r}")
-
-
-def _point_columns(points: pd.DataFrame, where: str) -> tuple[list[list[str]], list[tuple]]:
-    """Check a Points DataFrame and turn it into its column schema and rows.
-
-    Returns ``([[name, dtype], ...], [(point, included, values_json), ...])``;
-    ``values_json`` holds the other columns in schema order, missing as null.
-    """
-    if not isinstance(points, pd.DataFrame):
-        raise StoreError(f"{where}: expected a points DataFrame, found {type(points).__name__}")
-    names = list(points.columns)
-    bad = [c for c in names if not isinstance(c, str)]
-    if bad or len(set(names)) != len(names):
-        raise StoreError(f"{where}: point columns must be unique text names, found {names!r}")
-    if reserved := _RESERVED_POINT_COLUMNS & set(names):
-        raise StoreError(f"{where}: column name(s) {sorted(reserved)} are reserved by the store")
-    if "point" not in names:
-        raise StoreError(f"{where}: the points have no 'point' column (1-based point number)")
-    point = points["point"]
-    if not pd.api.types.is_integer_dtype(point) or point.isna().any():
-        raise StoreError(f"{where}: column 'point' must be whole numbers, found {point.dtype}")
-    if (point < 1).any() or point.duplicated().any():
-        raise StoreError(f"{where}: 'point' must be unique numbers from 1, found {point.tolist()}")
-    included_dtype = "bool"
-    if "included" in names:
-        inc = points["included"]
-        if not pd.api.types.is_bool_dtype(inc) or inc.isna().any():
-            raise StoreError(f"{where}: column 'included' must be True/False, found {inc.dtype}")
-        included = [bool(v) for v in inc]
-        included_dtype = str(inc.dtype)
-    else:
-        included = [True] * len(points)
-        names.append("included")
-    fixed = {"point": str(point.dtype), "included": included_dtype}
-    schema = [
-        [c, fixed[c] if c in fixed else _dtype_name(points[c], f"{where}, column '{c}'")]
-        for c in names
-    ]
-    columns = [
-        [None if pd.isna(v) else v for v in points[c].tolist()] for c in names if c not in fixed
-    ]
-    rows = [
-        (int(p), int(inc), _dumps([col[i] for col in columns], f"{where}, point {p}"))
-        for i, (p, inc) in enumerate(zip(point.tolist(), included, strict=True))
-    ]
-    return schema, rows
-
-
-def _dtype_name(col: pd.Series, where: str) -> str:
-    """Name of a storable column dtype (numbers, True/False, text); refuse anything else."""
-    if pd.api.types.is_float_dtype(col):
-        if np.isinf(col.to_numpy(dtype=float, na_value=np.nan)).any():
-            raise StoreError(f"{where}: holds an infinite value; give NaN for a missing number")
-    elif isinstance(col.dtype, pd.StringDtype) or col.dtype == object:
-        if odd := [v for v in col.dropna() if not isinstance(v, str)]:
-            raise StoreError(f"{where}: text column holds a {type(odd[0]).__name__} {odd[0]!r}")
-    elif not (pd.api.types.is_bool_dtype(col) or pd.api.types.is_integer_dtype(col)):
-        raise StoreError(f"{where}: dtype {col.dtype} cannot be stored (numbers, True/False, text)")
-    return str(col.dtype)
-
-
-def _common_dtype(dtypes: set[str], missing: bool) -> str | None:
-    """Dtype for a column gathered from several flights (None: let pandas choose)."""
-    if len(dtypes) == 1:
-        (only,) = dtypes
-        if not missing or pd.api.types.pandas_dtype(only).kind == "O":
-            return only
-    kinds = {pd.api.types.pandas_dtype(d).kind for d in dtypes}
-    if kinds <= {"i", "u", "f"}:
-        return "float64"
-    if kinds == {"b"}:
-        return "boolean"
-    return None
-
-
-def _points_frame(
-    schemas: Mapping[int, list[list[str]]], rows: list[tuple], with_flight_id: bool
-) -> pd.DataFrame:
-    """Build a Points DataFrame from stored rows ``(flight_id, point, included, values_json)``."""
-    union: dict[str, set[str]] = {}
-    for schema in schemas.values():
-        for name, dtype in schema:
-            union.setdefault(name, set()).add(dtype)
-    names = [n for n in union if n not in _FIXED_POINT_COLUMNS]
-    # For each flight, where each column of the union sits in its stored values (None: absent).
-    slots = {}
-    for fid, schema in schemas.items():
-        own = {n: i for i, n in enumerate(n for n, _ in schema if n not in _FIXED_POINT_COLUMNS)}
-        slots[fid] = [own.get(n) for n in names]
-    identity = list(range(len(names)))
-    values = json.loads("[" + ",".join(r[3] for r in rows) + "]")
-    padded = [
-        v if slots[r[0]] == identity else [None if i is None else v[i] for i in slots[r[0]]]
-        for r, v in zip(rows, values, strict=True)
-    ]
-    columns = dict(zip(names, zip(*padded, strict=True) if padded else [()] * len(names),
-                       strict=True))
-    columns["point"] = [r[1] for r in rows]
-    columns["included"] = [bool(r[2]) for r in rows]
-    own_names = [{n for n, _ in s} for s in schemas.values()]
-    data = {"flight_id": pd.Series([r[0] for r in rows], dtype="int64")} if with_flight_id else {}
-    for name, dtypes in union.items():
-        missing = any(name not in o for o in own_names)
-        data[name] = pd.Series(columns[name], dtype=_common_dtype(dtypes, missing))
-    return pd.DataFrame(data, index=pd.RangeIndex(len(rows)))
-
-
-_FORMULA_STARTS: Final = ("=", "+", "-", "@", "\t", "\r")
-
-
-def _neutralise(frame: pd.DataFrame) -> pd.DataFrame:
-    """Prefix text cells a spreadsheet would run as a formula with an apostrophe.
-
-    Numeric columns are left alone, so ``-1.5`` stays a number.
-
-    References
-    ----------
-    OWASP, "CSV Injection" (leading ``=``, ``+``, ``-``, ``@``, tab, carriage return).
-    """
-    out = frame.copy()
-    for name in out.columns:
-        col = out[name]
-        if isinstance(col.dtype, pd.StringDtype) or col.dtype == object:
-            out[name] = col.map(
-                lambda v: "'" + v if isinstance(v, str) and v[:1] in _FORMULA_STARTS else v
-            ).astype(object)
-    return out
-
-
 _AIRCRAFT_SELECT: Final = """
     SELECT a.id, a.name, a.created_at, p.version, p.profile_text, p.sha256, p.imported_at
     FROM aircraft a JOIN aircraft_profiles p ON p.aircraft_id = a.id
@@ -617,35 +347,6 @@ _INSERT_FLIGHT: Final = (
 _INSERT_POINT: Final = (
     "INSERT INTO points (flight_id, point, included, values_json) VALUES (?, ?, ?, ?)"
 )
-
-# Fields update_flight may change, each with its column and its check.
-_EDITABLE: Final = {
-    "label": ("label", _opt_text),
-    "notes": ("notes", _opt_text),
-    "date": ("flight_date", _opt_date),
-    "loading": ("loading_json", lambda v, k: None if v is None else _dumps(v, k)),
-    "incidence_label": ("incidence_label", _opt_text),
-    "incidence_deg": ("incidence_deg", _opt_deg),
-    "config": ("config", _opt_text),
-}
-
-
-def _flight(row: Sequence[Any]) -> FlightRecord:
-    return FlightRecord(
-        id=row[0], aircraft_id=row[1], flight_order=row[2], sha256=row[3], filename=row[4],
-        size_bytes=row[5], date=dt.date.fromisoformat(row[6]) if row[6] else None,
-        label=row[7], notes=row[8], loading=json.loads(row[9]) if row[9] is not None else None,
-        incidence_label=row[10], incidence_deg=row[11], config=row[12],
-        profile_version=row[13], n_points=row[14], n_included=row[15], imported_at=row[16],
-    )
-
-
-def _analysis(row: Sequence[Any]) -> AnalysisRecord:
-    return AnalysisRecord(
-        id=row[0], aircraft_id=row[1], created_at=row[2], software_version=row[3],
-        profile_version=row[4], flight_ids=tuple(json.loads(row[5])), result=json.loads(row[6]),
-    )
-
 
 class Store:
     """The open flight-history database; get one from :func:`open_store`.
@@ -736,11 +437,11 @@ class Store:
         -------
         AircraftRecord
         """
-        if not _opt_text(name, "aircraft name") or not name.strip():
+        if not opt_text(name, "aircraft name") or not name.strip():
             raise StoreError(f"aircraft name: expected non-empty text, found {name!r}")
-        if _opt_text(profile_text, f"profile of '{name}'") is None:
+        if opt_text(profile_text, f"profile of '{name}'") is None:
             raise StoreError(f"profile of '{name}': expected TOML text, found None")
-        digest = _sha256(profile_text)
+        digest = sha256_hex(profile_text)
         with self._write(f"store the profile of '{name}'") as c:
             row = c.execute("SELECT id FROM aircraft WHERE name = ?", (name,)).fetchone()
             now = _now()
@@ -850,20 +551,14 @@ class Store:
         StoreError
             Unknown aircraft, empty bytes, points or details that cannot be stored.
         """
-        if not isinstance(raw, bytes | bytearray | memoryview):
-            raise StoreError(f"{filename}: expected the log as bytes, found {type(raw).__name__}")
-        raw = bytes(raw)
-        if _opt_text(filename, "file name") is None:
-            raise StoreError("file name: expected text, found None")
-        if not raw:
-            raise StoreError(f"{filename}: the log is empty (0 bytes); nothing to store")
-        schema, rows = _point_columns(points, f"{filename}, points")
+        raw = check_log(raw, filename)
+        schema, rows = encode_points(points, f"{filename}, points")
         details = {
             "label": label, "notes": notes, "date": date, "loading": loading,
             "incidence_label": incidence_label, "incidence_deg": incidence_deg, "config": config,
         }
-        values = {col: ok(details[k], f"{filename}, {k}") for k, (col, ok) in _EDITABLE.items()}
-        digest = _sha256(raw)
+        values = encode_details(details, filename)
+        digest = sha256_hex(raw)
         aircraft = self.get_aircraft(aircraft_id)
         with self._write(f"import {filename}") as c:
             old = c.execute(
@@ -917,7 +612,7 @@ class Store:
             row = row.fetchone()
         if row is None:
             raise StoreError(f"{self.path}: no flight with id {flight_id!r}")
-        return _flight(row)
+        return flight_record(row)
 
     def flights(self, aircraft_id: int) -> list[FlightRecord]:
         """Return the flights of an aircraft in flight order (one query)."""
@@ -927,7 +622,7 @@ class Store:
                 "GROUP BY f.id ORDER BY f.flight_order, f.id",
                 (aircraft_id,),
             ).fetchall()
-        return [_flight(r) for r in rows]
+        return [flight_record(r) for r in rows]
 
     def flight_points(self, flight_id: int) -> pd.DataFrame:
         """Return a flight's points as imported, with the current ``included`` choices.
@@ -946,7 +641,7 @@ class Store:
                 "SELECT flight_id, point, included, values_json FROM points WHERE flight_id = ? "
                 "ORDER BY point", (flight_id,),
             ).fetchall()
-        return _points_frame({flight_id: json.loads(row[0])}, rows, with_flight_id=False)
+        return decode_points({flight_id: json.loads(row[0])}, rows, with_flight_id=False)
 
     def all_points(self, aircraft_id: int) -> pd.DataFrame:
         """Return the points of every flight of an aircraft, in flight order.
@@ -966,7 +661,7 @@ class Store:
                 "FROM points p JOIN flights f ON f.id = p.flight_id WHERE f.aircraft_id = ? "
                 "ORDER BY f.flight_order, f.id, p.point", (aircraft_id,),
             ).fetchall()
-        return _points_frame(schemas, rows, with_flight_id=True)
+        return decode_points(schemas, rows, with_flight_id=True)
 
     def set_point_included(self, flight_id: int, point: int, included: bool) -> None:
         """Record the user's choice to include or exclude one point (kept, never deleted)."""
@@ -992,14 +687,14 @@ class Store:
         self,
         flight_id: int,
         *,
-        label: str | None | Literal[_Keep.KEEP] = KEEP,
-        notes: str | None | Literal[_Keep.KEEP] = KEEP,
-        date: dt.date | str | None | Literal[_Keep.KEEP] = KEEP,
-        loading: Mapping[str, Any] | None | Literal[_Keep.KEEP] = KEEP,
-        incidence_label: str | None | Literal[_Keep.KEEP] = KEEP,
-        incidence_deg: float | None | Literal[_Keep.KEEP] = KEEP,
-        config: str | None | Literal[_Keep.KEEP] = KEEP,
-        flight_order: int | Literal[_Keep.KEEP] = KEEP,
+        label: str | None | Literal[Keep.KEEP] = KEEP,
+        notes: str | None | Literal[Keep.KEEP] = KEEP,
+        date: dt.date | str | None | Literal[Keep.KEEP] = KEEP,
+        loading: Mapping[str, Any] | None | Literal[Keep.KEEP] = KEEP,
+        incidence_label: str | None | Literal[Keep.KEEP] = KEEP,
+        incidence_deg: float | None | Literal[Keep.KEEP] = KEEP,
+        config: str | None | Literal[Keep.KEEP] = KEEP,
+        flight_order: int | Literal[Keep.KEEP] = KEEP,
     ) -> FlightRecord:
         """Change what is known of a flight; arguments not given are left as they are.
 
@@ -1017,17 +712,13 @@ class Store:
             "incidence_label": incidence_label, "incidence_deg": incidence_deg, "config": config,
         }
         where = f"flight {flight_id}"
-        changes = {
-            col: check(given[key], f"{where}, {key}")
-            for key, (col, check) in _EDITABLE.items()
-            if given[key] is not KEEP
-        }
+        changes = encode_details(given, where)
         if flight_order is not KEEP:
             if not isinstance(flight_order, int | np.integer) or isinstance(flight_order, bool):
                 raise StoreError(f"{where}, flight_order: not a whole number: {flight_order!r}")
             changes["flight_order"] = int(flight_order)
         if changes:
-            # Column names come from _EDITABLE, never from the caller.
+            # Column names come from FLIGHT_FIELDS, never from the caller.
             assignments = ", ".join(f"{col} = :{col}" for col in changes)
             with self._write(f"update {where}") as c:
                 n = c.execute(
@@ -1063,7 +754,7 @@ class Store:
         ids = [int(i) for i in flight_ids]
         if not isinstance(result, Mapping):
             raise StoreError(f"analysis result: expected a mapping, found {type(result).__name__}")
-        text = _dumps(result, "analysis result")
+        text = dumps_json(result, "analysis result")
         version = self.get_aircraft(aircraft_id).profile_version
         with self._write(f"save an analysis of aircraft {aircraft_id}") as c:
             known = {r[0] for r in c.execute("SELECT id FROM flights WHERE aircraft_id = ?",
@@ -1086,7 +777,7 @@ class Store:
                 "flight_ids_json, result_json FROM analyses WHERE aircraft_id = ? "
                 "ORDER BY id DESC LIMIT 1", (aircraft_id,),
             ).fetchone()
-        return _analysis(row) if row else None
+        return analysis_record(row) if row else None
 
     # -- export, restore, backup ------------------------------------------------
 
@@ -1112,101 +803,33 @@ class Store:
             The files written.
         """
         out = Path(directory)
-        names = (EXPORT_JSON, "aircraft.csv", "flights.csv", "points.csv", "analyses.csv")
-        if clash := [n for n in names if (out / n).exists()]:
-            raise StoreError(f"{out}: already holds {', '.join(clash)}; export to an empty folder")
+        check_export_folder(out)
         with self._read("read the history for export") as c:
             doc = self._export_document(c)
             aircraft = self.aircraft_list()
             flights = [f for a in aircraft for f in self.flights(a.id)]
             points = [self.all_points(a.id) for a in aircraft]
-        names_by_id = {a.id: a.name for a in aircraft}
-        for a, frame in zip(aircraft, points, strict=True):
-            frame.insert(0, "aircraft", a.name)
-        tables = {
-            "aircraft.csv": pd.DataFrame(
-                [asdict(a) for a in aircraft], columns=list(AircraftRecord.__dataclass_fields__)
-            ).drop(columns="profile_text"),
-            "flights.csv": pd.DataFrame(
-                [{"aircraft": names_by_id[f.aircraft_id], **asdict(f),
-                  "loading": None if f.loading is None else json.dumps(f.loading)}
-                 for f in flights],
-                columns=["aircraft", *FlightRecord.__dataclass_fields__],
-            ),
-            "points.csv": (
-                pd.concat(points, ignore_index=True) if points
-                else pd.DataFrame(columns=["aircraft", "flight_id"])
-            ),
-            "analyses.csv": pd.DataFrame(
-                [{**a, "flight_ids": json.dumps(a["flight_ids"]), "result": json.dumps(a["result"])}
-                 for a in doc["analyses"]],
-                columns=["id", "aircraft_id", "created_at", "software_version", "profile_version",
-                         "flight_ids", "result"],
-            ),
-        }
-        try:
-            out.mkdir(parents=True, exist_ok=True)
-            written = [out / EXPORT_JSON]
-            written[0].write_text(json.dumps(doc, indent=1), encoding="utf-8")
-            for name, frame in tables.items():
-                _neutralise(frame).to_csv(
-                    out / name, index=False, encoding="utf-8", errors="backslashreplace")
-                written.append(out / name)
-        except OSError as exc:
-            raise StoreError(f"{out}: cannot write the export ({exc.strerror or exc})") from exc
-        return written
+        return write_export(out, doc, export_tables(aircraft, flights, points, doc["analyses"]))
 
     def _export_document(self, c: sqlite3.Connection) -> dict[str, Any]:
         """Everything in the database as one JSON-ready dict."""
-        profiles: dict[int, list[dict[str, Any]]] = {}
-        for aid, version, text, digest, when in c.execute(
-            "SELECT aircraft_id, version, profile_text, sha256, imported_at FROM aircraft_profiles "
-            "ORDER BY aircraft_id, version"
-        ):
-            profiles.setdefault(aid, []).append(
-                {"version": version, "text": text, "sha256": digest, "imported_at": when}
-            )
-        points: dict[int, list[list[Any]]] = {}
-        for fid, point, included, values in c.execute(
-            "SELECT flight_id, point, included, values_json FROM points ORDER BY flight_id, point"
-        ):
-            points.setdefault(fid, []).append([point, bool(included), json.loads(values)])
-        flights = []
-        for row in c.execute(
-            f"SELECT {', '.join('f.' + k for k in _FLIGHT_COLUMNS)}, r.raw "
-            "FROM flights f JOIN raw_logs r ON r.flight_id = f.id ORDER BY f.id"
-        ):
-            item = dict(zip(_FLIGHT_COLUMNS, row[:-1], strict=True))
-            item["points_columns"] = json.loads(item["points_columns"])
-            if item["loading_json"] is not None:
-                item["loading_json"] = json.loads(item["loading_json"])
-            item["points"] = points.get(item["id"], [])
-            item["raw_base64"] = base64.b64encode(row[-1]).decode("ascii")
-            flights.append(item)
-        return {
-            "format": EXPORT_FORMAT,
-            "format_version": EXPORT_FORMAT_VERSION,
-            "schema_version": SCHEMA_VERSION,
-            "software_version": trimlog.__version__,
-            "exported_at": _now(),
-            "aircraft": [
-                {"id": aid, "name": name, "created_at": when, "profiles": profiles.get(aid, [])}
-                for aid, name, when in c.execute(
-                    "SELECT id, name, created_at FROM aircraft ORDER BY id")
-            ],
-            "flights": flights,
-            "analyses": [
-                {
-                    "id": a.id, "aircraft_id": a.aircraft_id, "created_at": a.created_at,
-                    "software_version": a.software_version, "profile_version": a.profile_version,
-                    "flight_ids": list(a.flight_ids), "result": a.result,
-                }
-                for a in map(_analysis, c.execute(
-                    "SELECT id, aircraft_id, created_at, software_version, profile_version, "
-                    "flight_ids_json, result_json FROM analyses ORDER BY id"
-                ))
-            ],
-        }
+        return export_document(
+            aircraft=c.execute("SELECT id, name, created_at FROM aircraft ORDER BY id"),
+            profiles=c.execute(
+                "SELECT aircraft_id, version, profile_text, sha256, imported_at "
+                "FROM aircraft_profiles ORDER BY aircraft_id, version"),
+            flights=c.execute(
+                f"SELECT {', '.join('f.' + k for k in _FLIGHT_COLUMNS)}, r.raw "
+                "FROM flights f JOIN raw_logs r ON r.flight_id = f.id ORDER BY f.id"),
+            points=c.execute(
+                "SELECT flight_id, point, included, values_json FROM points "
+                "ORDER BY flight_id, point"),
+            analyses=map(analysis_record, c.execute(
+                "SELECT id, aircraft_id, created_at, software_version, profile_version, "
+                "flight_ids_json, result_json FROM analyses ORDER BY id")),
+            flight_columns=_FLIGHT_COLUMNS, schema_version=SCHEMA_VERSION,
+            software_version=trimlog.__version__, exported_at=_now(),
+        )
 
     def import_export(self, directory: str | Path) -> RestoreSummary:
         """Bring an :meth:`export` into this database, which must be empty.
@@ -1224,20 +847,7 @@ class Store:
         -------
         RestoreSummary
         """
-        src = Path(directory) / EXPORT_JSON
-        try:
-            doc = json.loads(src.read_text(encoding="utf-8"))
-        except OSError as exc:
-            raise StoreError(f"{src}: cannot read the export ({exc.strerror or exc})") from exc
-        except ValueError as exc:
-            raise StoreError(f"{src}: not valid JSON ({exc})") from exc
-        if not isinstance(doc, dict) or doc.get("format") != EXPORT_FORMAT:
-            raise StoreError(f"{src}: not a trimlog history export (no format {EXPORT_FORMAT!r})")
-        if doc.get("format_version") != EXPORT_FORMAT_VERSION:
-            raise StoreError(
-                f"{src}: export format version {doc.get('format_version')!r}; this trimlog reads "
-                f"version {EXPORT_FORMAT_VERSION}"
-            )
+        src, doc = read_export(directory)
         n_points = 0
         with self._write(f"restore {src}") as c:
             if c.execute("SELECT COUNT(*) FROM aircraft").fetchone()[0]:
@@ -1254,12 +864,7 @@ class Store:
                          for p in a["profiles"]],
                     )
                 for f in doc["flights"]:
-                    raw = base64.b64decode(f["raw_base64"], validate=True)
-                    if _sha256(raw) != f["sha256"] or len(raw) != f["size_bytes"]:
-                        raise StoreError(
-                            f"{src}: flight {f['id']}: the log bytes do not match their SHA-256 "
-                            "and size; the export is damaged, nothing was restored"
-                        )
+                    raw = decode_raw(f, src)
                     loading = f["loading_json"]
                     c.execute(_INSERT_FLIGHT, {
                         **{k: f[k] for k in _FLIGHT_COLUMNS},
