@@ -9,6 +9,8 @@ recomputed from what is kept.
 
 The rest of the package talks to :class:`Store` only; nothing else writes
 SQL, so a shared server database could later sit behind the same methods.
+The record types, the checks of given values, the points' JSON and the
+export file formats are in :mod:`trimlog.store_codec` (no SQL there).
 
 Guarantees
 ----------
@@ -143,7 +145,6 @@ _MIGRATIONS: Final[tuple[tuple[str, ...], ...]] = (
     ),
 )
 SCHEMA_VERSION: Final = len(_MIGRATIONS)
-
 
 
 def default_path() -> Path:
