@@ -16,6 +16,7 @@ from streamlit.testing.v1 import AppTest
 
 from trimlog import analysis, cautions, store
 from trimlog.errors import TrimlogError
+from trimlog.points import FLAG_TEXT
 from trimlog.profile import parse_profile
 from trimlog.readers import read_log
 
@@ -197,6 +198,52 @@ def test_excluding_a_point_changes_the_result(demo_analysis):
     shown = _metrics(at)["Stick-fixed neutral point"]
     assert shown == f"{after:.1f} %MAC"
     assert "59 points used, 1 left out" in _texts(at)
+
+
+def test_a_point_trimlog_left_out_can_be_ticked_back_in(demo_analysis):
+    # the demo aircraft with its up stop moved to 13 deg: a typed point at -12.7 deg
+    # elevator is then at the stop, and the analysis leaves it out itself (flag at_stop)
+    profile_text = (SAMPLES / "tinkerfinch_tf2.toml").read_text().replace(
+        'elevator_up_stop = "25 deg"', 'elevator_up_stop = "13 deg"')
+    assert "13 deg" in profile_text
+    profile = parse_profile(profile_text, source="stop.toml")
+    _, flights, _ = demo_analysis
+    own = analysis.analyze(flights, profile)
+    stopped = own.points.loc[own.points["flags"].str.contains("at_stop")]
+    assert len(stopped)
+    flight, point = str(stopped["flight"].iloc[0]), int(stopped["point"].iloc[0])
+    back = analysis.analyze(flights, profile, inclusions=[(flight, point)])
+    assert back.primary.stability.n_included == own.primary.stability.n_included + 1
+
+    at = _app()
+    at.session_state["profile_text"] = profile_text
+    at.session_state["profile_source"] = "stop.toml"
+    _go(at, "Points")
+    at.selectbox(key="points_flight").set_value(
+        next(i for i, label in enumerate(at.selectbox(key="points_flight").options)
+             if label.startswith(flight + " ")))
+    at.run()
+    text = _texts(at)
+    assert f"trimlog left out point(s) {point} itself" in text
+    assert "cannot be ticked" not in text and "no effect" not in text
+    assert f"**at_stop**: {FLAG_TEXT['at_stop']}" in "\n".join(c.value for c in at.caption)
+    row = [int(p) for p in own.points.loc[own.points["flight"] == flight, "point"]].index(point)
+    at.session_state[f"editor_{flight}"] = {
+        "edited_rows": {row: {"included": True}}, "added_rows": [], "deleted_rows": []}
+    at.run()
+    assert not at.exception, at.exception
+    assert at.session_state["inclusions"] == {(flight, point)}
+    assert at.session_state["exclusions"] == set()
+    _go(at, "Results")
+    fixed = back.primary.stability.stick_fixed.neutral_point
+    assert _metrics(at)["Stick-fixed neutral point"] == f"{fixed.pct_mac:.1f} %MAC"
+    assert f"{back.primary.stability.n_included} points used" in _texts(at)
+    # unticking it again goes back to trimlog's own choice, not to an exclusion
+    _go(at, "Points")
+    at.session_state[f"editor_{flight}"] = {
+        "edited_rows": {row: {"included": False}}, "added_rows": [], "deleted_rows": []}
+    at.run()
+    assert at.session_state["inclusions"] == set() and at.session_state["exclusions"] == set()
 
 
 def test_a_file_name_with_markdown_is_shown_literally():

@@ -84,14 +84,14 @@ def flights_of(inputs: Inputs) -> list[FlightData]:
 def run_analysis(inputs: Inputs) -> Analysis:
     """The analysis of the inputs.
 
-    Exclusions of points that no longer exist (their log was removed, or the
+    Choices of points that no longer exist (their log was removed, or the
     minimum hold changed) are not passed on.
     """
     flights = flights_of(inputs)
     present = {(f.flight, int(p)) for f in flights for p in f.points.get("point", [])}
-    exclusions = [e for e in inputs.exclusions if e in present]
     return analysis.analyze(flights, profile(inputs.profile_text, inputs.profile_source),
-                            exclusions=exclusions)
+                            exclusions=[e for e in inputs.exclusions if e in present],
+                            inclusions=[i for i in inputs.inclusions if i in present])
 
 
 def _png(ax) -> bytes:
@@ -113,7 +113,7 @@ def figure(kind: str, inputs: Inputs) -> bytes | None:
 def log_figure(
     log: FileBytes, sheet: FileBytes | None, inputs: Inputs, flight: str
 ) -> bytes | None:
-    """PNG of one flight's log with its point windows (exclusions hatched).
+    """PNG of one flight's log with its point windows (points left out hatched).
 
     None while trimlog.plots is missing.
     """

@@ -14,7 +14,7 @@ from trimlog.errors import TrimlogError
 
 
 def _save() -> None:
-    """Import every readable flight in use, then apply this session's exclusions to them."""
+    """Import every readable flight in use, then apply this session's point choices to them."""
     ss = st.session_state
     inputs = session.inputs()
     messages: list[tuple[str, str]] = []
@@ -29,9 +29,10 @@ def _save() -> None:
                     messages.append(("error", str(exc)))
                     continue
                 messages.append(("ok" if outcome.created else "info", outcome.message))
-                for flight, point in inputs.exclusions:
-                    if flight == log.stem:
-                        store.set_point_included(outcome.flight_id, point, False)
+                for choices, used in ((inputs.exclusions, False), (inputs.inclusions, True)):
+                    for flight, point in choices:
+                        if flight == log.stem:
+                            store.set_point_included(outcome.flight_id, point, used)
     except TrimlogError as exc:
         messages.append(("error", str(exc)))
     ss.history_messages = messages

@@ -6,6 +6,7 @@ import streamlit as st
 
 from trimlog.app_pages import common, compute, session
 from trimlog.errors import TrimlogError
+from trimlog.points import FLAG_TEXT
 
 SHOWN = {
     "point": "Point",
@@ -25,31 +26,42 @@ FORMATS = {
     "pressure_alt_ft": "%.0f", "elevator_deg": "%.2f", "stick_force_lbf": "%.1f",
     "nz_g": "%.2f", "vs_fpm": "%.0f",
 }
-FLAG_WORDS = {
-    "spike": "single-sample spikes left out of the means",
-    "drift": "cut out of a slowly drifting stretch",
-    "gap": "a gap in the time stamps",
-    "dropout": "many samples of a core signal missing",
-    "alt_unsteady": "altitude not steady",
-    "turbulent": "airspeed scatter high",
-    "nz_off": "load factor away from 1 g",
-    "no_nz": "load factor not logged (a steady turn would not show)",
-    "no_force": "stick force not logged",
-    "unmarked": "not marked by the pilot (left out by trimlog)",
-    "marker_unsteady": "marked by the pilot but not steady (left out by trimlog)",
-    "table": "typed row, no window statistics",
-    "incomplete": "typed row missing airspeed, altitude or elevator (left out by trimlog)",
-}
 
 
-def _keep_choices(flight: str, used: list[bool], numbers: list[int]) -> bool:
-    """Store the ticks of one flight's table as its exclusions; True when they changed."""
+def _text(cell: object) -> str:
+    """A flags cell as text (an empty cell may be read back as NaN)."""
+    return cell if isinstance(cell, str) else ""
+
+
+def _trimlog_choice(inputs: session.Inputs, flight: str, points) -> tuple[list[bool], list[str]]:
+    """Whether trimlog itself fits each point, and each point's flags.
+
+    The analysis adds the ``at_stop`` flag (elevator at a stop), so its table
+    is read when it can be computed; otherwise the points as found.
+    """
+    flags = [_text(f) for f in points["flags"]]
+    try:
+        table = compute.run_analysis(inputs).points
+    except TrimlogError:
+        pass
+    else:
+        mine = table.loc[table["flight"] == flight].set_index("point")["flags"]
+        flags = [_text(mine.get(int(p), f)) for p, f in zip(points["point"], flags, strict=True)]
+    fitted = [bool(d) and "at_stop" not in f.split(";")
+              for d, f in zip(points["included"], flags, strict=True)]
+    return fitted, flags
+
+
+def _keep_choices(flight: str, numbers: list[int], fitted: list[bool], ticked: list[bool]) -> bool:
+    """Keep the ticks that differ from trimlog's own choice; True when they changed."""
     ss = st.session_state
-    now = {e for e in ss.exclusions if e[0] != flight} | {
-        (flight, p) for p, u in zip(numbers, used, strict=True) if not u
-    }
-    changed = now != ss.exclusions
-    ss.exclusions = now
+    out = {e for e in ss.exclusions if e[0] != flight}
+    into = {i for i in ss.inclusions if i[0] != flight}
+    for p, own, used in zip(numbers, fitted, ticked, strict=True):
+        if used != own:
+            (into if used else out).add((flight, p))
+    changed = (out, into) != (ss.exclusions, ss.inclusions)
+    ss.exclusions, ss.inclusions = out, into
     return changed
 
 
@@ -59,8 +71,9 @@ def render() -> None:
     st.header("Points")
     st.caption(
         "Each stabilized point trimlog found, on the log it came from (shaded windows). "
-        "Untick a point to leave it out of the fits (a turn, a gust, a bad hold); it stays "
-        "listed, and the choice is kept for this session and saved with the flight."
+        "Untick a point to leave it out of the fits (a turn, a gust, a bad hold), or tick one "
+        "trimlog left out to fit it; every point stays listed, and the choice is kept for "
+        "this session and saved with the flight."
     )
     inputs = session.inputs()
     pairs = {log.name: (log, sheet) for log, sheet in inputs.logs}
@@ -77,8 +90,10 @@ def render() -> None:
         return
     labels = [f"{flight}  ({name})" for flight, name, _ in choices]
     first_log = next((i for i, c in enumerate(choices) if c[2].log.kind == "time_series"), 0)
-    picked = st.selectbox("Flight", range(len(choices)), index=first_log,
-                          format_func=labels.__getitem__, key="points_flight")
+    if ss.get("points_flight") not in range(len(choices)):
+        ss.points_flight = first_log  # the first visit, or a log was removed since
+    picked = st.selectbox("Flight", range(len(choices)), format_func=labels.__getitem__,
+                          key="points_flight")
     flight, name, data = choices[picked]
     log, sheet = pairs[name]
     if data.log.kind == "time_series":
@@ -96,9 +111,11 @@ def render() -> None:
         return
     table = data.points[[c for c in SHOWN if c in data.points.columns]].copy()
     numbers = [int(p) for p in table["point"]]
-    detected = [bool(v) for v in data.points["included"]]
-    table.insert(0, "included", [d and (flight, p) not in ss.exclusions
-                                 for d, p in zip(detected, numbers, strict=True)])
+    fitted, flags = _trimlog_choice(inputs, flight, data.points)
+    table["flags"] = flags
+    table.insert(0, "included", [
+        (own or (flight, p) in ss.inclusions) and (flight, p) not in ss.exclusions
+        for own, p in zip(fitted, numbers, strict=True)])
     edited = st.data_editor(
         table.rename(columns=SHOWN),
         key=f"editor_{flight}",
@@ -106,21 +123,23 @@ def render() -> None:
         disabled=list(SHOWN.values()),
         column_config={
             "included": st.column_config.CheckboxColumn(
-                "Use", help="Untick to leave the point out of the fits"),
+                "Use", help="Ticked points are fitted; untick to leave one out, tick to "
+                "fit one trimlog left out"),
             **{SHOWN[c]: st.column_config.NumberColumn(format=f) for c, f in FORMATS.items()},
         },
         width="stretch",
     )
-    detected_used = [d and u for d, u in zip(detected, edited["included"], strict=True)]
-    if _keep_choices(flight, [bool(u) for u in detected_used], numbers):
-        st.rerun()  # redraw the log with the new exclusions hatched
+    if _keep_choices(flight, numbers, fitted, [bool(u) for u in edited["included"]]):
+        st.rerun()  # redraw the log with the new choices shaded
     used = int(table["included"].sum())
     st.caption(f"{used} of {len(numbers)} points used.")
-    auto = [p for d, p in zip(detected, numbers, strict=True) if not d]
+    auto = [p for own, p in zip(fitted, numbers, strict=True) if not own]
     if auto:
-        st.caption("Points " + ", ".join(map(str, auto)) + " were left out by trimlog itself "
-                   "(see their flags); ticking them has no effect yet.")
-    present = sorted({f for cell in table["flags"].fillna("") for f in str(cell).split(";") if f})
+        st.caption("trimlog left out point(s) " + ", ".join(map(str, auto)) + " itself (see "
+                   "their flags). Tick one to fit it if you judge the hold good; it keeps its "
+                   "flags.")
+    present = sorted({f for cell in flags for f in cell.split(";") if f})
     if present:
-        st.caption("Flags: " + "; ".join(f"**{f}**: {FLAG_WORDS.get(f, f)}" for f in present))
+        st.caption("Flags: " + "; ".join(f"**{f}**: {common.esc(FLAG_TEXT.get(f, f))}"
+                                         for f in present))
     st.button("See the results", type="primary", on_click=common.go_to, args=("Results",))

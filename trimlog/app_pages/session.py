@@ -48,13 +48,14 @@ class Inputs:
     logs: tuple[tuple[FileBytes, FileBytes | None], ...]
     min_hold_s: float | None
     exclusions: tuple[tuple[str, int], ...]
+    inclusions: tuple[tuple[str, int], ...] = ()
 
     @property
     def key(self) -> str:
         """Digest of every input."""
         h = hashlib.sha256()
         for part in (self.profile_text, self.profile_source, repr(self.min_hold_s),
-                     repr(self.exclusions)):
+                     repr(self.exclusions), repr(self.inclusions)):
             h.update(part.encode("utf-8") + b"\0")
         for log, sheet in self.logs:
             h.update(f"{log.name}\0{log.digest}\0".encode())
@@ -77,7 +78,7 @@ def _demo_files() -> tuple[dict[str, FileBytes], dict[str, FileBytes]]:
     return logs, sheets
 
 
-_WIDGET_KEYS = ("use_demo", "min_hold_s")
+_WIDGET_KEYS = ("use_demo", "min_hold_s", "points_flight")
 
 
 def init() -> None:
@@ -86,7 +87,8 @@ def init() -> None:
     if "profile_text" in ss:
         # Keep the values of widgets that are drawn on one page only.
         for key in _WIDGET_KEYS:
-            ss[key] = ss[key]
+            if key in ss:
+                ss[key] = ss[key]
         return
     ss.profile_text = demo.PROFILE_TOML
     ss.profile_source = DEMO_SOURCE
@@ -97,7 +99,10 @@ def init() -> None:
     ss.sheet_for = {}
     ss.labels = {}
     ss.notes = {}
+    # The user's choices where they differ from trimlog's own: points to leave out, and
+    # points trimlog left out (a flag, an elevator at a stop) to fit all the same.
     ss.exclusions = set()
+    ss.inclusions = set()
     ss.min_hold_s = None
     ss.uploader_round = 0
 
@@ -169,4 +174,5 @@ def inputs(readable: list[str] | None = None) -> Inputs:
         logs=tuple(pairs),
         min_hold_s=ss.min_hold_s,
         exclusions=tuple(sorted(ss.exclusions)),
+        inclusions=tuple(sorted(ss.inclusions)),
     )
