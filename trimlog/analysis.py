@@ -162,6 +162,7 @@ def load_flight_bytes(
     stem = Path(name).name.split(".")[0] or name
     points = points_from_log(log, flight=stem, settings=settings)
     points["source"] = name
+    _exclude_points_at_a_stop(points, profile)
     if loading is not None and loading.fuel_flow_gph is not None:
         _fuel_from_constant_flow(points, log, loading)
     digest = hashlib.sha256(raw).hexdigest()
@@ -274,7 +275,6 @@ def analyze(
     loadings = {f.flight: f.loading for f in flights if f.loading is not None}
     reduced = reduce_points(points, profile, loadings)
     table = reduced.points
-    stop_warnings = _exclude_points_at_a_stop(table, profile)
     _set_included(table, exclusions, False)
     _set_included(table, inclusions, True)
 
@@ -295,7 +295,7 @@ def analyze(
         if f.log.kind == "time_series" and not len(f.points):
             warnings.append(f"{f.source}: no stabilized point found in this log")
     warnings.extend(reduced.warnings)
-    warnings.extend(stop_warnings)
+    warnings.extend(_stop_warnings(table))
 
     results = []
     for config, part in table.groupby("config", sort=False):
@@ -353,19 +353,28 @@ def _set_included(points: pd.DataFrame, choices: Iterable[tuple[str, int]], valu
         points.loc[mask, "included"] = value
 
 
-def _exclude_points_at_a_stop(points: pd.DataFrame, profile: AircraftProfile) -> list[str]:
-    """Leave points with the elevator at a stop out of the fits: they are not free trims."""
+def _exclude_points_at_a_stop(points: pd.DataFrame, profile: AircraftProfile) -> None:
+    """Flag points with the elevator at a stop and leave them out: they are not free trims.
+
+    Done once, when the points are found, so that a user's later choice to
+    include such a point again (stored in the history) is kept.
+    """
     flags = stability.elevator_stop_flags(
         points, profile.elevator_up_stop_deg, profile.elevator_down_stop_deg)
     for flag in flags:
         points.loc[flag.row, "included"] = False
         points.loc[flag.row, "flags"] = ";".join(
             f for f in (str(points.loc[flag.row, "flags"] or ""), "at_stop") if f)
+
+
+def _stop_warnings(points: pd.DataFrame) -> list[str]:
+    at_stop = points.loc[points["flags"].astype(str).str.contains("at_stop", regex=False)]
     return [
-        f"flight '{f.flight}' point {f.point}: elevator {f.elevator_deg:+.1f} deg is at the "
-        f"{f.stop} stop, so the trim there is not free: left out of the fits (include it "
-        "again if the stop was not reached)"
-        for f in flags
+        f"flight '{r.flight}' point {r.point}: elevator {r.elevator_deg:+.1f} deg is at a stop, "
+        "so the trim there is not free: "
+        + ("included because you chose so" if r.included else
+           "left out of the fits (include it again if the stop was not reached)")
+        for r in at_stop.itertuples()
     ]
 
 
