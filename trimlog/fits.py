@@ -21,6 +21,7 @@ from __future__ import annotations
 
 import functools
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -159,9 +160,14 @@ class LinearFit:
         Coefficient of determination; None when the response does not vary.
     n : int
         Number of observations.
-    result : object
-        The statsmodels results object, for diagnostics (not part of the
-        stable API).
+    exog : numpy.ndarray
+        The design matrix fitted, one row per observation.
+    endog : numpy.ndarray
+        The response fitted.
+    weights : numpy.ndarray or None
+        The weights of a weighted fit.
+    resid : numpy.ndarray
+        Residuals ``endog - exog @ params``, in the response's unit.
     """
 
     params: pd.Series
@@ -170,7 +176,21 @@ class LinearFit:
     residual_std: float
     r_squared: float | None
     n: int
-    result: object
+    exog: np.ndarray
+    endog: np.ndarray
+    weights: np.ndarray | None
+    resid: np.ndarray
+
+    @functools.cached_property
+    def result(self) -> object:
+        """The statsmodels results object of the same fit, for diagnostics (not stable API).
+
+        Built on first use only: the fit itself is computed without
+        statsmodels' model machinery, by the same pseudo-inverse.
+        """
+        if self.weights is None:
+            return sm.OLS(self.endog, self.exog).fit()
+        return sm.WLS(self.endog, self.exog, weights=self.weights).fit()
 
     def coef_ci(self, name: str) -> tuple[float, float] | None:
         """95 % confidence interval of one coefficient, None when it cannot be had."""
@@ -211,9 +231,9 @@ class LinearFit:
         return value, math.sqrt(max(var, 0.0)), self.residual_std
 
 
-def is_full_rank(design: pd.DataFrame) -> bool:
+def is_full_rank(design: pd.DataFrame | np.ndarray) -> bool:
     """Whether the columns of a design are linearly independent (after scaling each column)."""
-    x = design.to_numpy(dtype=float)
+    x = np.asarray(design, dtype=float)
     if x.shape[0] < x.shape[1]:
         return False
     scale = np.sqrt((x * x).sum(axis=0))
@@ -245,26 +265,54 @@ def fit_linear(
     .. [1] Montgomery, Peck and Vining (2012), ch. 3 and sec. 5.5 (weighted
        least squares).
     """
-    yv = y.to_numpy(dtype=float)
-    xv = design.to_numpy(dtype=float)
-    if weights is None:
-        res = sm.OLS(yv, xv).fit()
+    return fit_matrix(y.to_numpy(dtype=float), design.to_numpy(dtype=float), design.columns,
+                      weights)
+
+
+def fit_matrix(yv: np.ndarray, xv: np.ndarray, names: Sequence[str],
+               weights: np.ndarray | None = None) -> LinearFit:
+    """Least-squares fit of the array ``yv`` on the matrix ``xv`` with columns ``names``.
+
+    The array form of :func:`fit_linear` (same result), for the many small fits
+    that would otherwise spend their time building tables.
+    """
+    w = None if weights is None else np.asarray(weights, dtype=float)
+    if w is None:
+        wy, wx = yv, xv
     else:
-        res = sm.WLS(yv, xv, weights=weights).fit()
-    params = pd.Series(np.asarray(res.params, dtype=float), index=design.columns)
-    cov = pd.DataFrame(np.asarray(res.cov_params(), dtype=float),
-                       index=design.columns, columns=design.columns)
-    resid = np.asarray(res.resid, dtype=float)
-    w = np.ones_like(yv) if weights is None else np.asarray(weights, dtype=float)
-    df_resid = int(round(res.df_resid))
-    ss_res = float(np.sum(w * resid**2))
-    residual_std = math.sqrt(ss_res / df_resid) if df_resid > 0 else 0.0
-    ybar = float(np.sum(w * yv) / np.sum(w))
-    ss_tot = float(np.sum(w * (yv - ybar) ** 2))
-    r2 = 1.0 - ss_res / ss_tot if ss_tot > 1e-12 * max(1.0, float(np.sum(w * yv**2))) else None
+        root_w = np.sqrt(w)
+        wy, wx = yv * root_w, root_w[:, None] * xv
+    # The operations of statsmodels' OLS/WLS fit(method="pinv"), without its per-call model
+    # set-up (most of the cost of the many small fits): the same numbers to the last bit.
+    pinv, singular = _pinv_extended(wx)
+    beta = np.dot(pinv, wy)
+    # statsmodels' rank: np.linalg.matrix_rank of diag(singular), whose singular values are these
+    rank = int(np.count_nonzero(singular > singular.max(initial=0.0) * len(singular)
+                                * np.finfo(float).eps))
+    df_resid = len(yv) - rank
+    resid = yv - np.dot(xv, beta)
+    wresid = wy - np.dot(wx, beta)
+    names = pd.Index(names)
+    params = pd.Series(beta, index=names)
     if df_resid < 1:
-        cov = cov * 0.0
-    return LinearFit(params, cov, df_resid, residual_std, finite(r2), len(yv), res)
+        cov = pd.DataFrame(0.0, index=names, columns=names)
+    else:
+        scale = np.dot(wresid, wresid) / df_resid
+        cov = pd.DataFrame(np.dot(pinv, np.transpose(pinv)) * scale, index=names, columns=names)
+    ww = np.ones_like(yv) if w is None else w
+    ss_res = float(np.sum(ww * resid**2))
+    residual_std = math.sqrt(ss_res / df_resid) if df_resid > 0 else 0.0
+    ybar = float(np.sum(ww * yv) / np.sum(ww))
+    ss_tot = float(np.sum(ww * (yv - ybar) ** 2))
+    r2 = 1.0 - ss_res / ss_tot if ss_tot > 1e-12 * max(1.0, float(np.sum(ww * yv**2))) else None
+    return LinearFit(params, cov, df_resid, residual_std, finite(r2), len(yv), xv, yv, w, resid)
+
+
+def _pinv_extended(x: np.ndarray, rcond: float = 1e-15) -> tuple[np.ndarray, np.ndarray]:
+    """Pseudo-inverse by SVD and the singular values, as statsmodels computes them."""
+    u, s, vt = np.linalg.svd(x, False)
+    inv = np.where(s > rcond * np.max(s), 1.0 / np.where(s > 0.0, s, 1.0), 0.0)
+    return np.dot(np.transpose(vt), np.multiply(inv[:, np.newaxis], np.transpose(u))), s
 
 
 @dataclass(frozen=True)
@@ -313,37 +361,42 @@ def studentized_outliers(fit: LinearFit, alpha: float = OUTLIER_ALPHA) -> list[S
     """
     if fit.df_resid < 2 or fit.residual_std <= 1e-12:
         return []
-    x = np.asarray(fit.result.model.exog, dtype=float)
-    e = np.asarray(fit.result.resid, dtype=float)
+    x, e = fit.exog, fit.resid
     # leverages h_ii = diag(X (X'X)^-1 X'); s_(i)^2 is the residual variance without point i
     lev = np.einsum("ij,jk,ik->i", x, np.linalg.pinv(x.T @ x), x)
     one_minus = np.clip(1.0 - lev, 1e-12, None)
     s2_i = (fit.df_resid * fit.residual_std**2 - e**2 / one_minus) / (fit.df_resid - 1)
     with np.errstate(divide="ignore", invalid="ignore"):
         r = e / np.sqrt(np.clip(s2_i, 0.0, None) * one_minus)
-    flagged = []
-    for i, ri in enumerate(r):
-        if not math.isfinite(ri):
-            continue
-        p = min(1.0, fit.n * 2.0 * float(stats.t.sf(abs(ri), fit.df_resid - 1)))
-        if p < alpha:
-            flagged.append(StudentizedOutlier(i, float(ri), p))
-    return flagged
+    ok = np.isfinite(r)
+    p = np.ones_like(r)
+    p[ok] = np.minimum(1.0, fit.n * 2.0 * stats.t.sf(np.abs(r[ok]), fit.df_resid - 1))
+    return [StudentizedOutlier(int(i), float(r[i]), float(p[i]))
+            for i in np.flatnonzero(ok & (p < alpha))]
 
 
-def robust_params(y: pd.Series, design: pd.DataFrame) -> pd.Series | None:
-    """Huber M-estimate of the coefficients (statsmodels RLM, HuberT), None if it fails.
+def robust_params(fit: LinearFit) -> pd.Series | None:
+    """Huber M-estimate of the coefficients of a fit's model (statsmodels RLM, HuberT).
+
+    Parameters
+    ----------
+    fit : LinearFit
+        An ordinary least-squares fit; its response and design are refitted.
+
+    Returns
+    -------
+    pandas.Series or None
+        Coefficients by name; None if the iteration fails.
 
     References
     ----------
     .. [1] P. J. Huber, *Robust Statistics*, Wiley, 1981, ch. 7.
     """
     try:
-        res = sm.RLM(y.to_numpy(dtype=float), design.to_numpy(dtype=float),
-                     M=sm.robust.norms.HuberT()).fit()
+        res = sm.RLM(fit.endog, fit.exog, M=sm.robust.norms.HuberT()).fit()
     except (ValueError, np.linalg.LinAlgError, ZeroDivisionError):
         return None
-    params = pd.Series(np.asarray(res.params, dtype=float), index=design.columns)
+    params = pd.Series(np.asarray(res.params, dtype=float), index=fit.params.index)
     if not np.all(np.isfinite(params.to_numpy())):
         return None
     return params
@@ -369,10 +422,35 @@ def trim_design(frame: pd.DataFrame, group_col: str, groups: list[str], *, cg_te
     pandas.DataFrame
         On the index of ``frame``.
     """
-    cols = {f"a[{g}]": (frame[group_col] == g).astype(float) for g in groups}
-    cols["cl"] = frame["cl"].astype(float)
-    if cg_term:
-        cols["h_cl"] = frame["h"].astype(float) * frame["cl"].astype(float)
+    h = frame["h"].to_numpy(dtype=float) if cg_term else None
+    x, names = trim_matrix(frame[group_col], groups, frame["cl"].to_numpy(dtype=float), h,
+                           cl2=cl2)
+    return pd.DataFrame(x, index=frame.index, columns=names)
+
+
+def trim_matrix(labels: pd.Series | np.ndarray, groups: Sequence[str], cl: np.ndarray,
+                h: np.ndarray | None = None, *, cl2: bool = False
+                ) -> tuple[np.ndarray, list[str]]:
+    """The matrix of :func:`trim_design` and its column names, from arrays.
+
+    ``labels`` gives each point's group; ``h`` adds the ``h_cl`` column when given.
+    """
+    # One-hot intercepts by indexing: a label not in ``groups`` (or missing, code -1, which
+    # picks the appended -1) gets no intercept column set.
+    codes, uniques = pd.factorize(np.asarray(labels, dtype=object))
+    position = {g: i for i, g in enumerate(groups)}
+    codes = np.array([position.get(u, -1) for u in uniques] + [-1], dtype=np.intp)[codes]
+    extra = [cl]
+    names = [f"a[{g}]" for g in groups] + ["cl"]
+    if h is not None:
+        extra.append(h * cl)
+        names.append("h_cl")
     if cl2:
-        cols["cl2"] = frame["cl"].astype(float) ** 2
-    return pd.DataFrame(cols, index=frame.index)
+        extra.append(cl**2)
+        names.append("cl2")
+    # Column-major like a DataFrame's values: the SVD's last bits depend on the layout.
+    x = np.zeros((len(cl), len(groups) + len(extra)), order="F")
+    rows = np.flatnonzero(codes >= 0)
+    x[rows, codes[rows]] = 1.0
+    x[:, len(groups):] = np.column_stack(extra)
+    return x, names

@@ -55,11 +55,13 @@ from trimlog.fits import (
     finite,
     finite_pair,
     fit_linear,
+    fit_matrix,
     is_full_rank,
     ratio_interval,
     studentized_outliers,
     t_quantile,
     trim_design,
+    trim_matrix,
 )
 from trimlog.profile import AircraftProfile
 from trimlog.stability_authority import (
@@ -208,25 +210,24 @@ _FORCE_WORDS = {
 }
 
 
-def _line(frame: pd.DataFrame, response: str) -> tuple[LinearFit | None, str]:
-    """Fit response = a[setting] + slope*cl on one flight, or say why not."""
-    n = len(frame)
+def _line(cl: np.ndarray, y: np.ndarray, settings: np.ndarray) -> tuple[LinearFit | None, str]:
+    """Fit y = a[setting] + slope*cl on one flight's points, or say why not."""
+    n = len(cl)
     if n < MIN_POINTS_PER_FLIGHT:
         return None, (f"only {n} point(s): at least {MIN_POINTS_PER_FLIGHT} are needed for a "
                       "gradient with an interval")
-    spread = float(frame["cl"].max() - frame["cl"].min())
+    spread = float(cl.max() - cl.min())
     if spread < MIN_CL_SPREAD:
         return None, (f"CL spans only {spread:.3f} (all points at nearly one speed; at least "
                       f"{MIN_CL_SPREAD} is needed): no gradient")
-    settings = list(dict.fromkeys(frame["stab_setting"]))
-    design = trim_design(frame, "stab_setting", settings, cg_term=False)
-    if not is_full_rank(design) or n - design.shape[1] < 1:
+    x, names = trim_matrix(settings, list(dict.fromkeys(settings)), cl)
+    if not is_full_rank(x) or n - x.shape[1] < 1:
         return None, "the stabilizer settings and CL values of this flight cannot be separated"
-    return fit_linear(frame[response], design), ""
+    return fit_matrix(y, x, names), ""
 
 
 def _stick_force_gradient(
-    fit: LinearFit, frame: pd.DataFrame
+    fit: LinearFit, cl: np.ndarray, q: np.ndarray | None, eas: np.ndarray | None
 ) -> tuple[float | None, float | None, tuple[float, float] | None, str, list[str]]:
     """Trim speed and dFs/dV there from Fs/q = A + B*CL of one flight.
 
@@ -235,7 +236,7 @@ def _stick_force_gradient(
     trim speed ``Fs = 0``: ``CL_t = -A/B``, ``q_t = (nW/S)/CL_t``,
     ``V_t = sqrt(q_t/K)``, and ``dFs/dV = 2 A q_t / V_t
     = sign(A) * 2 sqrt(K (nW/S) (-A B))``.  ``nW/S`` is the mean of ``q*CL``
-    over the flight's points.
+    over the flight's points (``q`` [psf], ``eas`` [kt] None when not in the points).
     """
     warnings: list[str] = []
     if len(fit.params) != 2:
@@ -243,9 +244,9 @@ def _stick_force_gradient(
                                   "so no single trim speed"), warnings
     a = float(fit.params.iloc[0])
     b = float(fit.params["cl"])
-    if "q_psf" not in frame.columns or frame["q_psf"].isna().all():
+    if q is None or np.isnan(q).all():
         return None, None, None, "not available: no dynamic pressure in the points", warnings
-    w = float(np.nanmean(frame["q_psf"].to_numpy(dtype=float) * frame["cl"].to_numpy()))
+    w = float(np.nanmean(q * cl))
     if a == 0.0 or b == 0.0 or a * b >= 0.0 or not w > 0.0:
         return None, None, None, (
             "not available: the fitted stick force does not cross zero at a positive CL (no "
@@ -264,8 +265,8 @@ def _stick_force_gradient(
         se = math.sqrt(max(float(jac @ cov @ jac), 0.0))
         t = t_quantile(fit.df_resid)
         ci = finite_pair(grad - t * se, grad + t * se)
-    if "eas_kt" in frame.columns and frame["eas_kt"].notna().any():
-        lo, hi = float(frame["eas_kt"].min()), float(frame["eas_kt"].max())
+    if eas is not None and not np.isnan(eas).all():
+        lo, hi = float(np.nanmin(eas)), float(np.nanmax(eas))
         if not 0.9 * lo <= v_t <= 1.1 * hi:
             warnings.append(f"trim speed {v_t:.0f} kt EAS lies outside the speeds flown "
                             f"({lo:.0f}-{hi:.0f} kt): dFs/dV there is an extrapolation")
@@ -304,12 +305,38 @@ def flight_gradients(points: pd.DataFrame) -> tuple[FlightGradient, ...]:
     ----------
     .. [1] Nelson (1998), sec. 2.5 and 2.7; USAF TPS (1990), ch. 5.
     """
-    frame = included_points(points)
+    return _flight_gradients(included_points(points))
+
+
+def _column(frame: pd.DataFrame, name: str) -> np.ndarray | None:
+    """A numeric column as floats (missing values NaN), None when the table has none."""
+    if name not in frame.columns:
+        return None
+    return frame[name].to_numpy(dtype=float, na_value=np.nan)
+
+
+def _flight_gradients(frame: pd.DataFrame) -> tuple[FlightGradient, ...]:
+    """:func:`flight_gradients` of already validated included points."""
+    # Plain arrays split once by flight: per-flight tables and fits on named tables cost far
+    # more than the arithmetic of these 2-3 column fits.
+    codes, flights = pd.factorize(frame["flight"], sort=False)
+    order = np.argsort(codes, kind="stable")
+    starts = np.searchsorted(codes[order], np.arange(len(flights) + 1))
+    cl_all, h_all = frame["cl"].to_numpy(dtype=float), frame["h"].to_numpy(dtype=float)
+    elev_all = frame["elevator_deg"].to_numpy(dtype=float)
+    settings_all = frame["stab_setting"].to_numpy(dtype=object)
+    fsq_all = None
+    if "fs_over_q_ft2" in frame.columns:
+        fsq_all = pd.to_numeric(frame["fs_over_q_ft2"], errors="coerce").to_numpy(
+            dtype=float, na_value=np.nan)
+    q_all, eas_all = _column(frame, "q_psf"), _column(frame, "eas_kt")
     out = []
-    for flight, group in frame.groupby("flight", sort=False):
-        h = float(group["h"].mean())
+    for k, flight in enumerate(flights):
+        rows = order[starts[k]:starts[k + 1]]
+        cl, settings = cl_all[rows], settings_all[rows]
+        h = float(h_all[rows].mean())
         warnings: list[str] = []
-        fit, why = _line(group, "elevator_deg")
+        fit, why = _line(cl, elev_all[rows], settings)
         if fit is None:
             slope = ci = se = d0 = r2 = rstd = None
             verdict = why
@@ -320,27 +347,25 @@ def flight_gradients(points: pd.DataFrame) -> tuple[FlightGradient, ...]:
             d0 = finite(fit.params.iloc[0]) if len(fit.params) == 2 else None
             r2, rstd = fit.r_squared, finite(fit.residual_std)
             verdict = _verdict_from_ci(ci, slope, _ELEV_WORDS)
-        force = group
-        if "fs_over_q_ft2" in group.columns:
-            force = group.loc[np.isfinite(pd.to_numeric(group["fs_over_q_ft2"], errors="coerce"))]
-        else:
-            force = group.iloc[0:0]
+        force = rows[np.isfinite(fsq_all[rows])] if fsq_all is not None else rows[:0]
         fslope = fci = fr2 = frstd = vt = dfdv = dfdv_ci = None
         if len(force) == 0:
             fverdict = "not available: no stick force logged"
         else:
-            ffit, fwhy = _line(force, "fs_over_q_ft2")
+            ffit, fwhy = _line(cl_all[force], fsq_all[force], settings_all[force])
             if ffit is None:
                 fverdict = "stick force: " + fwhy
             else:
                 fslope, fci = finite(ffit.params["cl"]), ffit.coef_ci("cl")
                 fr2, frstd = ffit.r_squared, finite(ffit.residual_std)
-                vt, dfdv, dfdv_ci, fverdict, more = _stick_force_gradient(ffit, force)
+                vt, dfdv, dfdv_ci, fverdict, more = _stick_force_gradient(
+                    ffit, cl_all[force], None if q_all is None else q_all[force],
+                    None if eas_all is None else eas_all[force])
                 warnings.extend(more)
         out.append(FlightGradient(
-            flight=str(flight), cg_pct_mac=100.0 * h, h=h, n_points=len(group),
-            stab_settings=tuple(dict.fromkeys(group["stab_setting"])),
-            cl_range=(float(group["cl"].min()), float(group["cl"].max())),
+            flight=str(flight), cg_pct_mac=100.0 * h, h=h, n_points=len(rows),
+            stab_settings=tuple(dict.fromkeys(settings)),
+            cl_range=(float(cl.min()), float(cl.max())),
             delev_dcl_deg=slope, delev_dcl_ci95_deg=ci, delev_dcl_se_deg=se, delev0_deg=d0,
             elev_r_squared=r2, elev_residual_std_deg=rstd, elevator_verdict=verdict,
             n_force_points=len(force), dfsq_dcl_ft2=fslope, dfsq_dcl_ci95_ft2=fci,
@@ -529,7 +554,12 @@ def pooled_fit(points: pd.DataFrame, kind: str = "stick_fixed", *,
     if kind not in ("stick_fixed", "stick_free"):
         raise TrimlogError(
             f"stability: kind expected 'stick_fixed' or 'stick_free', found {kind!r}")
-    frame = included_points(points)
+    return _pooled_fit(included_points(points), kind, lemac_in, mac_in)
+
+
+def _pooled_fit(frame: pd.DataFrame, kind: str, lemac_in: float | None,
+                mac_in: float | None) -> PooledFit | None:
+    """:func:`pooled_fit` of already validated included points."""
     if kind == "stick_free":
         if "fs_over_q_ft2" not in frame.columns:
             return None
@@ -560,7 +590,7 @@ def pooled_fit(points: pd.DataFrame, kind: str = "stick_fixed", *,
         None, None)
     outliers = tuple(
         Outlier(kind, str(frame["flight"].iloc[o.position]), int(frame["point"].iloc[o.position]),
-                frame.index[o.position], float(np.asarray(core.linear.result.resid)[o.position]),
+                frame.index[o.position], float(core.linear.resid[o.position]),
                 o.studentized_residual, o.bonferroni_p)
         for o in studentized_outliers(core.linear)
     )
@@ -569,8 +599,7 @@ def pooled_fit(points: pd.DataFrame, kind: str = "stick_fixed", *,
                 for o in outliers]
     robust = None
     if core.has_cg_term:
-        robust = robust_check(frame, response, group_col, core.linear,
-                              core.neutral_point.pct_mac)
+        robust = robust_check(core.linear, core.neutral_point.pct_mac)
     if robust is not None and robust.shift_pct_mac is not None and core.neutral_point.se_pct_mac:
         if abs(robust.shift_pct_mac) > 2.0 * core.neutral_point.se_pct_mac:
             warnings.append(f"{kind.replace('_', '-')}: the robust fit moves the neutral point by "
@@ -590,15 +619,21 @@ def pooled_fit(points: pd.DataFrame, kind: str = "stick_fixed", *,
 
 def _curvature(frame: pd.DataFrame, response: str, group_col: str, core: _Core, kind: str,
                lemac_in: float | None, mac_in: float | None) -> Curvature:
-    def quad_p(sub: pd.DataFrame) -> tuple[float | None, float | None]:
-        groups = list(dict.fromkeys(sub[group_col]))
-        design = trim_design(sub, group_col, groups, cg_term=core.has_cg_term, cl2=True)
-        if not is_full_rank(design) or len(sub) - design.shape[1] < 2:
+    def arrays(sub: pd.DataFrame
+               ) -> tuple[np.ndarray, np.ndarray, np.ndarray | None, np.ndarray]:
+        h = sub["h"].to_numpy(dtype=float) if core.has_cg_term else None
+        return (sub[group_col].to_numpy(dtype=object), sub["cl"].to_numpy(dtype=float), h,
+                sub[response].to_numpy(dtype=float))
+
+    def quad_p(labels: np.ndarray, cl: np.ndarray, h: np.ndarray | None, y: np.ndarray
+               ) -> tuple[float | None, float | None]:
+        x, names = trim_matrix(labels, list(dict.fromkeys(labels)), cl, h, cl2=True)
+        if not is_full_rank(x) or len(cl) - x.shape[1] < 2:
             return None, None
-        fit = fit_linear(sub[response], design)
+        fit = fit_matrix(y, x, names)
         return finite(fit.params["cl2"]), fit.p_value("cl2")
 
-    coef, p = quad_p(frame)
+    coef, p = quad_p(*arrays(frame))
     if p is None:
         return Curvature(False, None, None, False, None, None,
                          "too few points or CL values to test for curvature")
@@ -606,12 +641,15 @@ def _curvature(frame: pd.DataFrame, response: str, group_col: str, core: _Core, 
         return Curvature(True, coef, p, False, None, None,
                          f"no significant curvature (CL^2 term p = {p:.2g})")
     ordered = frame.sort_values("cl")
+    # The search drops the highest-CL points one at a time: slices of one set of arrays.
+    columns = arrays(ordered)
     for k in range(1, len(frame) // 3 + 1):
-        sub = ordered.iloc[: len(frame) - k]
-        _, p_sub = quad_p(sub)
+        m = len(frame) - k
+        _, p_sub = quad_p(*(None if c is None else c[:m] for c in columns))
         if p_sub is None:
             break
         if p_sub >= CURVATURE_P:
+            sub = ordered.iloc[:m]
             cl_max = float(sub["cl"].max())
             restricted = _core(sub, response, group_col, kind, lemac_in, mac_in).neutral_point
             return Curvature(True, coef, p, True, cl_max, restricted,
@@ -734,10 +772,10 @@ def analyze_stability(points: pd.DataFrame, profile: AircraftProfile | None = No
     if n_excluded:
         warnings.append(f"{n_excluded} point(s) marked not included were left out of every fit "
                         "(they stay in the table)")
-    gradients = flight_gradients(points)
-    fixed = pooled_fit(points, "stick_fixed", lemac_in=lemac, mac_in=mac)
+    gradients = _flight_gradients(frame)
+    fixed = _pooled_fit(frame, "stick_fixed", lemac, mac)
     two = two_stage_neutral_point(gradients, lemac_in=lemac, mac_in=mac)
-    free = pooled_fit(points, "stick_free", lemac_in=lemac, mac_in=mac)
+    free = _pooled_fit(frame, "stick_free", lemac, mac)
     n_without_force = len(frame) - (0 if free is None else free.n_points)
     if not fixed.neutral_point.identifiable:
         warnings.append("stick-fixed neutral point not identifiable: "

@@ -16,7 +16,7 @@ from __future__ import annotations
 import pandas as pd
 from scipy import stats
 
-from trimlog.fits import LinearFit, finite, fit_linear, is_full_rank, robust_params, trim_design
+from trimlog.fits import LinearFit, finite, fit_matrix, is_full_rank, robust_params, trim_matrix
 from trimlog.stability_results import InterceptCheck, RobustCheck
 
 #: Significance level of the common-intercept test.
@@ -48,19 +48,20 @@ def intercept_check(frame: pd.DataFrame, linear: LinearFit, has_cg_term: bool) -
     if not (shared >= 2).any():
         return InterceptCheck(False, None, None, False, None, None,
                               "no stabilizer setting was flown on two or more flights")
-    key = frame["flight"] + "\x1f" + frame["stab_setting"]
-    cells = pd.DataFrame({"cell": key, "cl": frame["cl"], "h": frame["h"]}, index=frame.index)
-    design = trim_design(cells, "cell", list(dict.fromkeys(key)), cg_term=has_cg_term)
+    key = (frame["flight"] + "\x1f" + frame["stab_setting"]).to_numpy(dtype=object)
+    cells = list(dict.fromkeys(key))
+    h = frame["h"].to_numpy(dtype=float) if has_cg_term else None
+    x, names = trim_matrix(key, cells, frame["cl"].to_numpy(dtype=float), h)
     fit_r = linear
-    if not is_full_rank(design) or len(frame) - design.shape[1] < 1:
+    if not is_full_rank(x) or len(frame) - x.shape[1] < 1:
         return InterceptCheck(False, None, None, False, None, None,
                               "too few points to test one intercept per flight")
-    fit_f = fit_linear(frame["elevator_deg"], design)
+    fit_f = fit_matrix(frame["elevator_deg"].to_numpy(dtype=float), x, names)
     df_num = fit_r.df_resid - fit_f.df_resid
     rss_r, rss_f = fit_r.residual_std**2 * fit_r.df_resid, fit_f.residual_std**2 * fit_f.df_resid
     # Each flight's own intercept against the median of its setting's flights: robust to
     # the pooled fit tilting towards an offset flight at an extreme CG.
-    cell_a = pd.Series({c: float(fit_f.params[f"a[{c}]"]) for c in dict.fromkeys(key)})
+    cell_a = pd.Series(fit_f.params.to_numpy()[:len(cells)], index=cells)
     cell_setting = pd.Series({c: c.split("\x1f", 1)[1] for c in cell_a.index})
     cell_flight = pd.Series({c: c.split("\x1f", 1)[0] for c in cell_a.index})
     shared_cells = cell_setting.map(cell_setting.value_counts()) >= 2
@@ -88,18 +89,14 @@ def _intercept_note(significant: bool, worst: str, offset: float, p: float | Non
             "two-stage one does not depend on it)")
 
 
-def robust_check(frame: pd.DataFrame, response: str, group_col: str, linear: LinearFit,
-                 np_pct_mac: float | None) -> RobustCheck:
+def robust_check(linear: LinearFit, np_pct_mac: float | None) -> RobustCheck:
     """Huber M-estimate of the pooled neutral point beside the least-squares one.
 
     Parameters
     ----------
-    frame : pandas.DataFrame
-        The included points of the pooled fit.
-    response, group_col : str
-        Response column and intercept grouping column of the pooled model.
     linear : LinearFit
-        The least-squares fit (with the ``h_cl`` term).
+        The least-squares fit of the pooled model (with the ``h_cl`` term);
+        its points and design are refitted.
     np_pct_mac : float or None
         Its neutral point [%MAC] when identifiable.
 
@@ -113,9 +110,7 @@ def robust_check(frame: pd.DataFrame, response: str, group_col: str, linear: Lin
     """
     if linear.residual_std <= 1e-12:
         return RobustCheck(None, None, "exact fit: no robust check needed")
-    params = robust_params(frame[response], trim_design(frame, group_col,
-                                                    list(dict.fromkeys(frame[group_col])),
-                                                    cg_term=True)[list(linear.params.index)])
+    params = robust_params(linear)
     if params is None or params["h_cl"] == 0.0:
         return RobustCheck(None, None, "the robust (Huber) fit did not converge")
     est = finite(-100.0 * params["cl"] / params["h_cl"])
