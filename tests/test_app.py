@@ -200,14 +200,15 @@ def test_excluding_a_point_changes_the_result(demo_analysis):
     assert "59 points used, 1 left out" in _texts(at)
 
 
-def test_a_point_trimlog_left_out_can_be_ticked_back_in(demo_analysis):
+def test_a_point_trimlog_left_out_can_be_ticked_back_in(tmp_path):
     # the demo aircraft with its up stop moved to 13 deg: a typed point at -12.7 deg
     # elevator is then at the stop, and the analysis leaves it out itself (flag at_stop)
     profile_text = (SAMPLES / "tinkerfinch_tf2.toml").read_text().replace(
         'elevator_up_stop = "25 deg"', 'elevator_up_stop = "13 deg"')
     assert "13 deg" in profile_text
     profile = parse_profile(profile_text, source="stop.toml")
-    _, flights, _ = demo_analysis
+    flights = [f for log in sorted(SAMPLES.glob("flight*.csv"))
+               for f in analysis.load_flight_file(log, profile)]
     own = analysis.analyze(flights, profile)
     stopped = own.points.loc[own.points["flags"].str.contains("at_stop")]
     assert len(stopped)
@@ -238,6 +239,15 @@ def test_a_point_trimlog_left_out_can_be_ticked_back_in(demo_analysis):
     fixed = back.primary.stability.stick_fixed.neutral_point
     assert _metrics(at)["Stick-fixed neutral point"] == f"{fixed.pct_mac:.1f} %MAC"
     assert f"{back.primary.stability.n_included} points used" in _texts(at)
+    # saved with the flight, the choice is kept in the history and used there
+    _save(_go(at, "History"))
+    with store.open_store(tmp_path / "history.sqlite") as st_:
+        from trimlog import history
+
+        again = history.analyze_history(st_)
+    mine = again.points.loc[(again.points["flight"] == flight) & (again.points["point"] == point)]
+    assert bool(mine["included"].iloc[0]) and "at_stop" in mine["flags"].iloc[0]
+    assert again.primary.stability.n_included == back.primary.stability.n_included
     # unticking it again goes back to trimlog's own choice, not to an exclusion
     _go(at, "Points")
     at.session_state[f"editor_{flight}"] = {

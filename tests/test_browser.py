@@ -2,8 +2,9 @@
 
 Starts ``streamlit run app.py`` on a free loopback port, uploads the demo logs and
 loading sheets through the page's file input, waits for the neutral point and the
-shim recommendation, checks that the flight-test cautions are on screen, and keeps a
-screenshot in test-artifacts/.  The expected neutral point comes from calling the
+shim recommendation, checks that the estimate statement is on screen without scrolling
+at 1366x768 and the flight-test cautions are on the page, and keeps a screenshot in
+test-artifacts/.  The expected neutral point comes from calling the
 package on the same files (invented demo data).
 """
 
@@ -104,10 +105,12 @@ def test_upload_logs_and_see_the_neutral_point_the_shim_and_the_cautions(server)
         browser = pw.chromium.launch(executable_path=str(CHROMIUM), headless=True,
                                      args=CHROMIUM_ARGS)
         try:
-            page = browser.new_page(viewport={"width": 1400, "height": 2400})
+            # A common laptop screen: the estimate statement must be seen without scrolling.
+            page = browser.new_page(viewport={"width": 1366, "height": 768})
             page.goto(server)
             sidebar = page.get_by_test_id("stSidebar")
             sidebar.get_by_text("Flights", exact=True).click()
+            started = time.perf_counter()
             page.locator("input[type=file]").first.set_input_files(files)
             # The uploaded copies replace the demo flights.
             card = page.get_by_role("strong").filter(has_text="flight5.csv")
@@ -117,16 +120,21 @@ def test_upload_logs_and_see_the_neutral_point_the_shim_and_the_cautions(server)
 
             metric = page.get_by_test_id("stMetric").filter(has_text="Stick-fixed neutral point")
             expect(metric.first).to_contain_text(expected, timeout=WAIT_MS)
+            # measured, not asserted (speed lives in the benchmarks)
+            print(f"browser: upload of the demo logs to the neutral point on screen "
+                  f"{time.perf_counter() - started:.1f} s")
+            note = page.locator(".st-key-estimate")
+            expect(note).to_contain_text(cautions.ESTIMATE_STATEMENT)
+            ARTIFACTS.mkdir(exist_ok=True)
+            page.screenshot(path=str(ARTIFACTS / "dashboard-results-1366x768.png"))
+            expect(note).to_be_in_viewport()
             shim = page.locator(".st-key-shim")
             expect(shim).to_contain_text("Shim:", timeout=WAIT_MS)
             expect(shim).to_contain_text("Incidence change")
             cautions_box = page.locator(".st-key-cautions")
             expect(cautions_box).to_be_visible()
-            expect(cautions_box).to_contain_text(cautions.ESTIMATE_STATEMENT)
             for text in cautions.GENERAL:
                 expect(cautions_box).to_contain_text(text)
             expect(page.get_by_text("Showing the invented demo aircraft")).to_have_count(0)
-            ARTIFACTS.mkdir(exist_ok=True)
-            page.screenshot(path=str(ARTIFACTS / "dashboard-results.png"), full_page=True)
         finally:
             browser.close()

@@ -28,10 +28,22 @@ def warn(text: str) -> None:
     st.warning(esc(text))
 
 
-def caution_box(extra: Sequence[str] = (), *, key: str = "") -> None:
-    """The estimate statement and the general flight-test cautions, always visible."""
+def estimate_note() -> None:
+    """The estimate statement on its own, for the top of a results view."""
+    with st.container(key="estimate"):
+        st.warning(f"**Estimates, not an approval.** {cautions.ESTIMATE_STATEMENT}",
+                   icon=":material/warning:")
+
+
+def caution_box(extra: Sequence[str] = (), *, key: str = "", statement: bool = True) -> None:
+    """The general flight-test cautions, always visible.
+
+    The estimate statement leads the box unless the view shows it already
+    (``statement=False`` after :func:`estimate_note`).
+    """
     with st.container(border=True, key=f"cautions{key}"):
-        st.markdown(f"**Flight-test cautions.** {cautions.ESTIMATE_STATEMENT}")
+        st.markdown("**Flight-test cautions.**"
+                    + (f" {cautions.ESTIMATE_STATEMENT}" if statement else ""))
         st.markdown("\n".join(f"- {c}" for c in (*cautions.GENERAL, *extra)))
 
 

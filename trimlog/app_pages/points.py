@@ -33,25 +33,6 @@ def _text(cell: object) -> str:
     return cell if isinstance(cell, str) else ""
 
 
-def _trimlog_choice(inputs: session.Inputs, flight: str, points) -> tuple[list[bool], list[str]]:
-    """Whether trimlog itself fits each point, and each point's flags.
-
-    The analysis adds the ``at_stop`` flag (elevator at a stop), so its table
-    is read when it can be computed; otherwise the points as found.
-    """
-    flags = [_text(f) for f in points["flags"]]
-    try:
-        table = compute.run_analysis(inputs).points
-    except TrimlogError:
-        pass
-    else:
-        mine = table.loc[table["flight"] == flight].set_index("point")["flags"]
-        flags = [_text(mine.get(int(p), f)) for p, f in zip(points["point"], flags, strict=True)]
-    fitted = [bool(d) and "at_stop" not in f.split(";")
-              for d, f in zip(points["included"], flags, strict=True)]
-    return fitted, flags
-
-
 def _keep_choices(flight: str, numbers: list[int], fitted: list[bool], ticked: list[bool]) -> bool:
     """Keep the ticks that differ from trimlog's own choice; True when they changed."""
     ss = st.session_state
@@ -111,7 +92,10 @@ def render() -> None:
         return
     table = data.points[[c for c in SHOWN if c in data.points.columns]].copy()
     numbers = [int(p) for p in table["point"]]
-    fitted, flags = _trimlog_choice(inputs, flight, data.points)
+    # trimlog's own choice, from the points as found: detection flags and a stop both
+    # leave a point out there, so a tick differing from it is the user's choice.
+    fitted = [bool(v) for v in data.points["included"]]
+    flags = [_text(f) for f in data.points["flags"]]
     table["flags"] = flags
     table.insert(0, "included", [
         (own or (flight, p) in ss.inclusions) and (flight, p) not in ss.exclusions

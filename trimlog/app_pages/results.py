@@ -35,11 +35,12 @@ def _readable(inputs: session.Inputs) -> tuple[list[str], list[tuple[str, Trimlo
 def render() -> None:
     """Draw the page."""
     st.header("Results")
+    common.estimate_note()
     everything = session.inputs()
     if not everything.logs:
         st.info("No flights yet. Add logs on the Flights page (or switch the demo flights on).")
         st.button("Go to Flights", on_click=common.go_to, args=("Flights",))
-        common.caution_box()
+        common.caution_box(statement=False)
         return
     try:
         compute.profile(everything.profile_text, everything.profile_source)
@@ -51,18 +52,18 @@ def render() -> None:
         common.show_error(exc, f"{name} is left out of the analysis")
     inputs = session.inputs(readable=ok)
     if not inputs.logs:
-        common.caution_box()
+        common.caution_box(statement=False)
         return
     try:
         a = compute.run_analysis(inputs)
     except TrimlogError as exc:
         common.show_error(exc, "No analysis")
-        common.caution_box()
+        common.caution_box(statement=False)
         return
     _banner(a)
     _neutral_points(a)
     _shim(a)
-    common.caution_box()
+    common.caution_box(statement=False)
     _margins(a)
     _stick_forces(a)
     _authority(a)
