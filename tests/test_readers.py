@@ -379,6 +379,28 @@ def test_overflowing_number_is_counted_not_kept_as_infinity():
                for d in log.dropped)
 
 
+@pytest.mark.parametrize("spaced", [False, True])
+@pytest.mark.parametrize("decimal_comma", [False, True])
+def test_missing_markers_with_and_without_spaces_after_the_delimiter(spaced, decimal_comma):
+    # The reader parses cheaply when no cell starts with a space and no used
+    # text-typed column holds a marker; the answer must not depend on it.
+    sep, point = (";", ",") if decimal_comma else (",", ".")
+    rows = [["0", "100.5", "4500", "-3.25", "2400"], ["1", "---", "4501", "inf", "N/A"],
+            ["2", "101.5", "1e400", "-3.5", "?"], ["3", "102", "4503", "NaN", "2410"],
+            ["", "", "", "", "---"]]
+    gap = " " if spaced else ""
+    raw = ("time_s;ias_kt;palt_ft;elevator_deg;rpm\n".replace(";", sep) + "\n".join(
+        (sep + gap).join(c.replace(".", point) for c in r) for r in rows) + "\n").encode()
+    log = read_log(raw, name="t.csv")
+    np.testing.assert_array_equal(log.data["ias_kt"], [100.5, np.nan, 101.5, 102.0])
+    np.testing.assert_array_equal(log.data["elevator_deg"], [-3.25, np.nan, -3.5, np.nan])
+    np.testing.assert_array_equal(log.data["pressure_alt_ft"], [4500, 4501, np.nan, 4503])
+    counted = {d.reason.split("'")[1]: d.lines for d in log.dropped if "missing" in d.reason}
+    assert counted == {"ias_kt": (3,), "palt_ft": (4,), "elevator_deg": (3, 5)}
+    assert any(d.reason == "blank line" and d.lines == (6,) for d in log.dropped)
+    assert not any("not a number" in d.reason for d in log.dropped)
+
+
 def test_line_with_extra_fields_is_dropped_and_counted():
     log = read("extra_fields.csv")
     assert len(log.data) == 39

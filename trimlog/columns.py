@@ -24,6 +24,7 @@ from __future__ import annotations
 
 import csv
 import difflib
+import functools
 import re
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, replace
@@ -178,6 +179,23 @@ def normalise(header: str) -> str:
 
 def _unit_for(canonical: str, unit_token: str, *, file: str, header: str) -> HeaderMeaning:
     """Check ``unit_token`` against the quantity and return the conversion."""
+    try:
+        return _unit_meaning(canonical, unit_token)
+    except _WrongUnit as exc:
+        raise InputFileError(str(exc), file=file, column=header) from exc.__cause__
+
+
+class _WrongUnit(Exception):
+    """A unit that does not fit its quantity (the message says why)."""
+
+
+@functools.lru_cache(maxsize=512)
+def _unit_meaning(canonical: str, unit_token: str) -> HeaderMeaning:
+    """The conversion of ``unit_token`` to the unit of ``canonical`` (cached: pint is slow).
+
+    Raises :class:`~trimlog.errors.UnitError` for an unknown unit and
+    :class:`_WrongUnit` for one of the wrong kind; errors are not cached.
+    """
     quantity = QUANTITIES[canonical]
     if quantity.unit is None:
         return HeaderMeaning(canonical, "", 1.0, 0.0, unit_assumed=False)
@@ -187,18 +205,14 @@ def _unit_for(canonical: str, unit_token: str, *, file: str, header: str) -> Hea
         canonical, quantity = "cg_pct_mac", QUANTITIES["cg_pct_mac"]
     target = parse_unit(quantity.unit)
     if not Q_(1.0, unit).is_compatible_with(target) or not _same_kind(unit, quantity.unit):
-        raise InputFileError(
+        raise _WrongUnit(
             f"the unit '{unit_token}' is not a unit of {quantity.description} "
-            f"(expected something like '{quantity.unit}')",
-            file=file,
-            column=header,
+            f"(expected something like '{quantity.unit}')"
         )
     try:
         scale, offset = unit_factor(unit, quantity.unit)
     except Exception as exc:  # pint raises several unrelated types here
-        raise InputFileError(
-            f"cannot convert '{unit_token}' to {quantity.unit}", file=file, column=header
-        ) from exc
+        raise _WrongUnit(f"cannot convert '{unit_token}' to {quantity.unit}") from exc
     written = unit_token.strip()
     understood = str(unit).replace("_", " ")
     text = written if written.lower() == understood.lower() else f"{written} = {understood}"

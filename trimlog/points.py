@@ -486,10 +486,24 @@ def _split_trend(
 
     A trend, unlike the range, is barely moved by turbulence, so a long
     turbulent hold stays one point while a slow drift is cut (flag ``drift``).
+    Pieces come out in time order.
     """
-    if b - a + 1 < window:
-        return []
-    part = values[a : b + 1]
+    out: list[tuple[int, int, str]] = []
+    todo = [(a, b, drifted)]  # a stack: the right half waits under the left one
+    while todo:
+        a, b, drifted = todo.pop()
+        if b - a + 1 < window:
+            continue
+        if _within_trend(values[a : b + 1], tol):
+            out.append((a, b, "drift" if drifted else ""))
+            continue
+        mid = (a + b) // 2
+        todo += [(mid + 1, b, True), (a, mid, True)]
+    return out
+
+
+def _within_trend(part: np.ndarray, tol: np.ndarray) -> bool:
+    """Tell whether the least-squares change of each column over ``part`` is within ``tol``."""
     x = np.arange(len(part), dtype=float)[:, None]
     ok = np.isfinite(part)
     n = ok.sum(axis=0)
@@ -497,12 +511,7 @@ def _split_trend(
     ym = np.where(ok, part, 0.0).sum(axis=0) / np.maximum(n, 1)
     dx = np.where(ok, x - xm, 0.0)
     slope = (dx * np.where(ok, part - ym, 0.0)).sum(axis=0) / np.maximum((dx**2).sum(axis=0), 1e-12)
-    if np.all(np.abs(slope) * len(part) <= tol):
-        return [(a, b, "drift" if drifted else "")]
-    mid = (a + b) // 2
-    return _split_trend(values, a, mid, tol, window, drifted=True) + _split_trend(
-        values, mid + 1, b, tol, window, drifted=True
-    )
+    return bool(np.all(np.abs(slope) * len(part) <= tol))
 
 
 def _rejoin(
@@ -517,20 +526,25 @@ def _rejoin(
 
     Two pieces are one point when the bins between them are at most
     ``max_gap``, stayed at 1 g, their medians agree within half a tolerance,
-    and the joined span still has no trend beyond the tolerance.
+    and the joined span still has no trend beyond the tolerance.  The tests
+    run in that order, cheapest first, each only when the ones before pass.
     """
     out: list[tuple[int, int, str]] = []
     for piece in pieces:
         if out:
             a0, a1, flag_a = out[-1]
             b0, b1, flag_b = piece
-            close = b0 - a1 - 1 <= max_gap and bool(one_g[a1 : b0 + 1].all())
-            same = np.all(
-                np.abs(_column_median(values[a0 : a1 + 1]) - _column_median(values[b0 : b1 + 1]))
-                <= 0.5 * tol
-            )
-            joined = _split_trend(values, a0, b1, tol, window, drifted=False)
-            if close and same and len(joined) == 1:
+            if (
+                b0 - a1 - 1 <= max_gap
+                and bool(one_g[a1 : b0 + 1].all())
+                and np.all(
+                    np.abs(
+                        _column_median(values[a0 : a1 + 1]) - _column_median(values[b0 : b1 + 1])
+                    )
+                    <= 0.5 * tol
+                )
+                and len(_split_trend(values, a0, b1, tol, window, drifted=False)) == 1
+            ):
                 out[-1] = (a0, b1, _join(flag_a, flag_b))
                 continue
         out.append(piece)
@@ -626,13 +640,20 @@ def _column_median(block: np.ndarray) -> np.ndarray:
 
 def _row_median(rows: np.ndarray) -> np.ndarray:
     """Return the median of each row, ignoring NaN (NaN for an all-NaN row)."""
-    if not np.isnan(rows).any():
+    gappy = np.isnan(rows).any(axis=1)
+    if not gappy.any():
         return np.median(rows, axis=1)
-    ordered = np.sort(rows, axis=1)  # NaN sorts last
-    count = np.isfinite(rows).sum(axis=1)
+    out = np.empty(len(rows))
+    if not gappy.all():
+        out[~gappy] = np.median(rows[~gappy], axis=1)
+    # Only the rows with gaps need the full sort (NaN sorts last); both ways give
+    # the mean of the middle two values, bit for bit.
+    ordered = np.sort(rows[gappy], axis=1)
+    count = np.isfinite(ordered).sum(axis=1)
     low = np.take_along_axis(ordered, np.maximum((count - 1) // 2, 0)[:, None], axis=1)[:, 0]
     high = np.take_along_axis(ordered, np.maximum(count // 2, 0)[:, None], axis=1)[:, 0]
-    return np.where(count > 0, 0.5 * (low + high), np.nan)
+    out[gappy] = np.where(count > 0, 0.5 * (low + high), np.nan)
+    return out
 
 
 def _robust_stats(

@@ -351,33 +351,39 @@ def _decimal_mark(lines: list[str], delimiter: str) -> str:
 
 
 def _parse(
-    raw: bytes, layout: _Layout, label: str, notes: Notes
+    raw: bytes, layout: _Layout, used: Iterable[int], label: str, notes: Notes
 ) -> tuple[pd.DataFrame, np.ndarray, int]:
-    """Read the data lines; return the raw frame, each row's file line, the last line."""
+    """Read the data lines; return the raw frame, each row's file line, the last line.
+
+    The frame is what pandas gives with ``skipinitialspace`` and the missing
+    markers of :data:`~trimlog.columns.NA_TOKENS` (infinities included), but
+    it is got the cheap way where that changes nothing: ``skipinitialspace``
+    only when some cell starts with a space, and the markers applied to the
+    parsed arrays afterwards.  Only when a marker sits in a text-typed column
+    that is used (where pandas would have typed the rest differently) is the
+    file parsed again with the markers given to pandas.
+    """
     width = len(layout.headers)
-    with warnings.catch_warnings(record=True) as caught:
-        warnings.simplefilter("always", pd.errors.ParserWarning)
-        try:
-            frame = pd.read_csv(
-                io.BytesIO(raw),
-                sep=layout.delimiter,
-                decimal=layout.decimal,
-                header=None,
-                names=list(range(width)),
-                skiprows=layout.data_start,
-                skip_blank_lines=False,
-                skipinitialspace=True,
-                encoding=layout.encoding,
-                encoding_errors="replace",
-                na_values=NA_TOKENS,
-                on_bad_lines="warn",
-            )
-        except pd.errors.EmptyDataError:
-            frame = pd.DataFrame(columns=list(range(width)))
-        except (pd.errors.ParserError, ValueError, OverflowError, csv.Error) as exc:
-            if isinstance(exc, TrimlogError):
-                raise
-            raise InputFileError(f"cannot be read as a table: {exc}", file=label) from exc
+    spaced = _cell_starts_with_space(raw, layout.delimiter)
+    frame, caught = _read_table(raw, layout, label, skipinitialspace=spaced, na_values=None)
+    markers = {
+        i: frame[i].isin(NA_TOKENS).to_numpy()
+        for i in frame.columns
+        if not pd.api.types.is_numeric_dtype(frame[i])
+    }
+    if any(markers[i].any() for i in used if i in markers):
+        frame, caught = _read_table(
+            raw, layout, label, skipinitialspace=spaced, na_values=NA_TOKENS
+        )
+    else:
+        for i, mask in markers.items():
+            if mask.any():
+                frame[i] = frame[i].mask(mask)
+        for i in frame.columns:
+            if frame[i].dtype.kind == "f":
+                values = frame[i].to_numpy()
+                if np.isinf(values).any():
+                    frame[i] = np.where(np.isinf(values), np.nan, values)
     bad = sorted(
         int(m.group(1))
         for w in caught
@@ -390,6 +396,50 @@ def _parse(
     if bad:
         lines = lines[~_member(lines, np.asarray(bad, dtype=np.int64))]
     return frame, lines[: len(frame)], last_line
+
+
+def _cell_starts_with_space(raw: bytes, delimiter: str) -> bool:
+    """Tell whether a space follows a delimiter or a line break anywhere in the file."""
+    codes = np.frombuffer(raw, dtype=np.uint8)
+    spaces = np.flatnonzero(codes == ord(" "))
+    if not len(spaces):
+        return False
+    if spaces[0] == 0:
+        return True
+    return bool(np.isin(codes[spaces - 1], [ord(delimiter), ord("\n"), ord("\r")]).any())
+
+
+def _read_table(
+    raw: bytes, layout: _Layout, label: str, *, skipinitialspace: bool,
+    na_values: list[str] | None,
+) -> tuple[pd.DataFrame, list[warnings.WarningMessage]]:
+    """One pandas parse of the data lines; the parser's warnings (lines skipped)."""
+    width = len(layout.headers)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", pd.errors.ParserWarning)
+        try:
+            frame = pd.read_csv(
+                io.BytesIO(raw),
+                sep=layout.delimiter,
+                decimal=layout.decimal,
+                header=None,
+                names=list(range(width)),
+                skiprows=layout.data_start,
+                skip_blank_lines=False,
+                skipinitialspace=skipinitialspace,
+                encoding=layout.encoding,
+                encoding_errors="replace",
+                na_values=na_values,
+                on_bad_lines="warn",
+                engine="c",
+            )
+        except pd.errors.EmptyDataError:
+            frame = pd.DataFrame(columns=list(range(width)))
+        except (pd.errors.ParserError, ValueError, OverflowError, csv.Error) as exc:
+            if isinstance(exc, TrimlogError):
+                raise
+            raise InputFileError(f"cannot be read as a table: {exc}", file=label) from exc
+    return frame, list(caught)
 
 
 def _member(sorted_lines: np.ndarray, wanted: np.ndarray) -> np.ndarray:
@@ -492,7 +542,7 @@ def read_log(
             "columns ignored as the column map says: " + ", ".join(f"'{h}'" for h in ignored)
         )
 
-    frame, lines, last_line = _parse(raw, layout, label, notes)
+    frame, lines, last_line = _parse(raw, layout, found, label, notes)
     n_rows_read = len(frame) + sum(d.count for d in notes.dropped)
     data, missing, headers, infos = _convert(frame, found, layout, inverted, lines, label, notes)
 
