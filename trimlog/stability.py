@@ -71,9 +71,8 @@ from trimlog.stability_authority import (
     predict_elevator,
     static_margins,
 )
-from trimlog.stability_checks import intercept_check, robust_check
+from trimlog.stability_checks import CURVATURE_P, curvature_check, intercept_check, robust_check
 from trimlog.stability_results import (
-    Curvature,
     FlightGradient,
     NeutralPoint,
     Outlier,
@@ -83,6 +82,7 @@ from trimlog.stability_results import (
 )
 
 __all__ = [
+    "CURVATURE_P",
     "analyze_stability",
     "elevator_authority",
     "elevator_stop_flags",
@@ -113,8 +113,6 @@ MIN_CG_SPREAD_PCT_MAC = 3.0
 MIN_FLIGHTS_WITH_SPEED_RANGE = 2
 #: Widest 95 % interval of a neutral point still reported as a number [%MAC].
 MAX_NP_CI_WIDTH_PCT_MAC = 20.0
-#: Significance level at which a CL^2 term counts as curvature of the trim curve.
-CURVATURE_P = 0.01
 #: Half the sea-level standard density times one knot squared [psf per kt^2]:
 #: q = K * EAS^2 (rho0 = 0.0023769 slug/ft^3, 1 kt = 1.687810 ft/s; 1/K = 295.37).
 HALF_RHO0_PSF_PER_KT2 = 0.5 * 0.00237689 * 1.6878099**2
@@ -605,7 +603,9 @@ def _pooled_fit(frame: pd.DataFrame, kind: str, lemac_in: float | None,
             warnings.append(f"{kind.replace('_', '-')}: the robust fit moves the neutral point by "
                             f"{robust.shift_pct_mac:+.1f} %MAC (more than two standard errors): "
                             "look at the outliers")
-    curvature = _curvature(frame, response, group_col, core, kind, lemac_in, mac_in)
+    curvature = curvature_check(
+        frame, response, group_col, core.has_cg_term,
+        lambda sub: _core(sub, response, group_col, kind, lemac_in, mac_in).neutral_point)
     if curvature.significant:
         warnings.append(f"{kind.replace('_', '-')}: {curvature.note}")
     intercepts = (intercept_check(frame, core.linear, core.has_cg_term)
@@ -615,50 +615,6 @@ def _pooled_fit(frame: pd.DataFrame, kind: str, lemac_in: float | None,
     return PooledFit(**base, elevator_power_per_rad=power[0], elevator_power_ci95_per_rad=power[1],
                      robust=robust, outliers=outliers, curvature=curvature,
                      intercept_check=intercepts, warnings=tuple(warnings))
-
-
-def _curvature(frame: pd.DataFrame, response: str, group_col: str, core: _Core, kind: str,
-               lemac_in: float | None, mac_in: float | None) -> Curvature:
-    def arrays(sub: pd.DataFrame
-               ) -> tuple[np.ndarray, np.ndarray, np.ndarray | None, np.ndarray]:
-        h = sub["h"].to_numpy(dtype=float) if core.has_cg_term else None
-        return (sub[group_col].to_numpy(dtype=object), sub["cl"].to_numpy(dtype=float), h,
-                sub[response].to_numpy(dtype=float))
-
-    def quad_p(labels: np.ndarray, cl: np.ndarray, h: np.ndarray | None, y: np.ndarray
-               ) -> tuple[float | None, float | None]:
-        x, names = trim_matrix(labels, list(dict.fromkeys(labels)), cl, h, cl2=True)
-        if not is_full_rank(x) or len(cl) - x.shape[1] < 2:
-            return None, None
-        fit = fit_matrix(y, x, names)
-        return finite(fit.params["cl2"]), fit.p_value("cl2")
-
-    coef, p = quad_p(*arrays(frame))
-    if p is None:
-        return Curvature(False, None, None, False, None, None,
-                         "too few points or CL values to test for curvature")
-    if p >= CURVATURE_P:
-        return Curvature(True, coef, p, False, None, None,
-                         f"no significant curvature (CL^2 term p = {p:.2g})")
-    ordered = frame.sort_values("cl")
-    # The search drops the highest-CL points one at a time: slices of one set of arrays.
-    columns = arrays(ordered)
-    for k in range(1, len(frame) // 3 + 1):
-        m = len(frame) - k
-        _, p_sub = quad_p(*(None if c is None else c[:m] for c in columns))
-        if p_sub is None:
-            break
-        if p_sub >= CURVATURE_P:
-            sub = ordered.iloc[:m]
-            cl_max = float(sub["cl"].max())
-            restricted = _core(sub, response, group_col, kind, lemac_in, mac_in).neutral_point
-            return Curvature(True, coef, p, True, cl_max, restricted,
-                             f"the trim curve bends (CL^2 term p = {p:.2g}); the points are "
-                             f"linear up to CL = {cl_max:.2f}: consider excluding points above it")
-    return Curvature(True, coef, p, True, None, None,
-                     f"the trim curve bends (CL^2 term p = {p:.2g}) and leaving out the "
-                     "highest-CL points does not remove it: look at the points before trusting "
-                     "a linear fit")
 
 
 def two_stage_neutral_point(gradients: tuple[FlightGradient, ...], *,

@@ -1,4 +1,4 @@
-"""Checks on the pooled trim model: a robust refit and common intercepts.
+"""Checks on the pooled trim model: a robust refit, common intercepts, curvature.
 
 Split from :mod:`trimlog.stability`, which calls them; see there for the model.
 
@@ -13,14 +13,19 @@ References
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
+import numpy as np
 import pandas as pd
 from scipy import stats
 
 from trimlog.fits import LinearFit, finite, fit_matrix, is_full_rank, robust_params, trim_matrix
-from trimlog.stability_results import InterceptCheck, RobustCheck
+from trimlog.stability_results import Curvature, InterceptCheck, NeutralPoint, RobustCheck
 
 #: Significance level of the common-intercept test.
 INTERCEPT_P = 0.01
+#: Significance level at which a CL^2 term counts as curvature of the trim curve.
+CURVATURE_P = 0.01
 
 
 def intercept_check(frame: pd.DataFrame, linear: LinearFit, has_cg_term: bool) -> InterceptCheck:
@@ -110,7 +115,8 @@ def robust_check(linear: LinearFit, np_pct_mac: float | None) -> RobustCheck:
     """
     if linear.residual_std <= 1e-12:
         return RobustCheck(None, None, "exact fit: no robust check needed")
-    params = robust_params(linear)
+    # the pooled design: an intercept per group, then cl and h_cl
+    params = robust_params(linear, len(linear.params) - 2)
     if params is None or params["h_cl"] == 0.0:
         return RobustCheck(None, None, "the robust (Huber) fit did not converge")
     est = finite(-100.0 * params["cl"] / params["h_cl"])
@@ -119,3 +125,75 @@ def robust_check(linear: LinearFit, np_pct_mac: float | None) -> RobustCheck:
         shift = est - np_pct_mac
     return RobustCheck(est, shift, "Huber M-estimate (statsmodels RLM, HuberT); a check, "
                                    "no interval")
+
+
+def curvature_check(frame: pd.DataFrame, response: str, group_col: str, has_cg_term: bool,
+                    restricted_np: Callable[[pd.DataFrame], NeutralPoint]) -> Curvature:
+    """Test the pooled trim model for a CL^2 term and find where the points stay linear.
+
+    Parameters
+    ----------
+    frame : pandas.DataFrame
+        The included points of the pooled fit.
+    response, group_col : str
+        Response column and intercept grouping column of the pooled model.
+    has_cg_term : bool
+        Whether the pooled model has the ``h_cl`` term.
+    restricted_np : callable
+        Neutral point of the pooled model fitted to a subset of the points.
+
+    Returns
+    -------
+    Curvature
+
+    Notes
+    -----
+    When the CL^2 term is significant (p < :data:`CURVATURE_P`) the
+    highest-CL points are left out one at a time (up to a third of them)
+    until it is not.
+
+    References
+    ----------
+    .. [1] Montgomery, Peck and Vining (2012), sec. 7.2 (polynomial terms
+       tested by their t statistic).
+    """
+    def arrays(sub: pd.DataFrame
+               ) -> tuple[np.ndarray, np.ndarray, np.ndarray | None, np.ndarray]:
+        h = sub["h"].to_numpy(dtype=float) if has_cg_term else None
+        return (sub[group_col].to_numpy(dtype=object), sub["cl"].to_numpy(dtype=float), h,
+                sub[response].to_numpy(dtype=float))
+
+    def quad_p(labels: np.ndarray, cl: np.ndarray, h: np.ndarray | None, y: np.ndarray
+               ) -> tuple[float | None, float | None]:
+        x, names = trim_matrix(labels, list(dict.fromkeys(labels)), cl, h, cl2=True)
+        if not is_full_rank(x) or len(cl) - x.shape[1] < 2:
+            return None, None
+        fit = fit_matrix(y, x, names)
+        return finite(fit.params["cl2"]), fit.p_value("cl2")
+
+    coef, p = quad_p(*arrays(frame))
+    if p is None:
+        return Curvature(False, None, None, False, None, None,
+                         "too few points or CL values to test for curvature")
+    if p >= CURVATURE_P:
+        return Curvature(True, coef, p, False, None, None,
+                         f"no significant curvature (CL^2 term p = {p:.2g})")
+    ordered = frame.sort_values("cl")
+    # The search drops the highest-CL points one at a time: slices of one set of arrays.
+    columns = arrays(ordered)
+    for k in range(1, len(frame) // 3 + 1):
+        m = len(frame) - k
+        _, p_sub = quad_p(*(None if c is None else c[:m] for c in columns))
+        if p_sub is None:
+            break
+        if p_sub >= CURVATURE_P:
+            sub = ordered.iloc[:m]
+            cl_max = float(sub["cl"].max())
+            restricted = restricted_np(sub)
+            return Curvature(True, coef, p, True, cl_max, restricted,
+                             f"the trim curve bends (CL^2 term p = {p:.2g}); the points are "
+                             f"linear up to CL = {cl_max:.2f}: consider excluding points above it")
+    return Curvature(True, coef, p, True, None, None,
+                     f"the trim curve bends (CL^2 term p = {p:.2g}) and leaving out the "
+                     "highest-CL points does not remove it: look at the points before trusting "
+                     "a linear fit")
