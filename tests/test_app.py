@@ -200,25 +200,25 @@ def test_excluding_a_point_changes_the_result(demo_analysis):
     assert "59 points used, 1 left out" in _texts(at)
 
 
-def test_a_point_trimlog_left_out_can_be_ticked_back_in(tmp_path):
-    # the demo aircraft with its up stop moved to 13 deg: a typed point at -12.7 deg
-    # elevator is then at the stop, and the analysis leaves it out itself (flag at_stop)
-    profile_text = (SAMPLES / "tinkerfinch_tf2.toml").read_text().replace(
-        'elevator_up_stop = "25 deg"', 'elevator_up_stop = "13 deg"')
-    assert "13 deg" in profile_text
-    profile = parse_profile(profile_text, source="stop.toml")
-    flights = [f for log in sorted(SAMPLES.glob("flight*.csv"))
-               for f in analysis.load_flight_file(log, profile)]
+def test_a_point_trimlog_left_out_can_be_ticked_back_in(demo_analysis, tmp_path):
+    # the demo's typed card with point TP5 moved to 24.8 deg up elevator (synthetic): 0.2 deg
+    # from the 25 deg up stop, so trimlog leaves it out itself (flag at_stop)
+    name, raw = _sample("flight1_points.csv")
+    card = raw.replace(b"TP5,60,5640,11,12.7,", b"TP5,60,5640,11,24.8,")
+    assert card != raw
+    profile, flights, _ = demo_analysis
+    flights = [f for f in flights if f.source != str(SAMPLES / name)]
+    flights += analysis.load_flight_bytes(card, name, profile)
     own = analysis.analyze(flights, profile)
     stopped = own.points.loc[own.points["flags"].str.contains("at_stop")]
-    assert len(stopped)
+    assert len(stopped) == 1
     flight, point = str(stopped["flight"].iloc[0]), int(stopped["point"].iloc[0])
     back = analysis.analyze(flights, profile, inclusions=[(flight, point)])
     assert back.primary.stability.n_included == own.primary.stability.n_included + 1
 
-    at = _app()
-    at.session_state["profile_text"] = profile_text
-    at.session_state["profile_source"] = "stop.toml"
+    at = _upload(_go(_app(), "Flights"), [(name, card)])  # replaces the demo's copy
+    at.session_state["use_demo"] = True
+    at.run()
     _go(at, "Points")
     at.selectbox(key="points_flight").set_value(
         next(i for i, label in enumerate(at.selectbox(key="points_flight").options)
@@ -239,7 +239,9 @@ def test_a_point_trimlog_left_out_can_be_ticked_back_in(tmp_path):
     fixed = back.primary.stability.stick_fixed.neutral_point
     assert _metrics(at)["Stick-fixed neutral point"] == f"{fixed.pct_mac:.1f} %MAC"
     assert f"{back.primary.stability.n_included} points used" in _texts(at)
-    # saved with the flight, the choice is kept in the history and used there
+    # saved with the flight (the card alone, to be quick), the choice is kept in the
+    # history and used there
+    at.session_state["use_demo"] = False
     _save(_go(at, "History"))
     with store.open_store(tmp_path / "history.sqlite") as st_:
         from trimlog import history
@@ -247,7 +249,7 @@ def test_a_point_trimlog_left_out_can_be_ticked_back_in(tmp_path):
         again = history.analyze_history(st_)
     mine = again.points.loc[(again.points["flight"] == flight) & (again.points["point"] == point)]
     assert bool(mine["included"].iloc[0]) and "at_stop" in mine["flags"].iloc[0]
-    assert again.primary.stability.n_included == back.primary.stability.n_included
+    at.session_state["use_demo"] = True
     # unticking it again goes back to trimlog's own choice, not to an exclusion
     _go(at, "Points")
     at.session_state[f"editor_{flight}"] = {
