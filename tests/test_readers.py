@@ -401,6 +401,20 @@ def test_missing_markers_with_and_without_spaces_after_the_delimiter(spaced, dec
     assert not any("not a number" in d.reason for d in log.dropped)
 
 
+@pytest.mark.parametrize("ending", ["\n", "\r\n", "\r"])
+def test_blank_lines_before_a_preamble_lose_no_data_row(ending):
+    # With old Mac line ends, skipping the lines before the data once cost the
+    # first data rows without a word; every row must come through, on its line.
+    body = ["time_s,ias_kt,palt_ft,elevator_deg"] + [
+        f"{0.2 * i:.1f},{100 + i % 3},4500,-3" for i in range(40)
+    ]
+    raw = ending.join(["", "", "", "logger 2.1", *body, ""]).encode()
+    log = read_log(raw, name="t.csv")
+    assert len(log.data) == 40 and log.n_rows_read == 40
+    assert log.data["time_s"].iloc[0] == 0.0 and log.data["source_line"].iloc[0] == 6
+    assert log.data["source_line"].iloc[-1] == 45
+
+
 def test_line_with_extra_fields_is_dropped_and_counted():
     log = read("extra_fields.csv")
     assert len(log.data) == 39
