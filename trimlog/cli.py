@@ -468,6 +468,7 @@ def _run_dashboard(args: argparse.Namespace) -> int:
         "--server.port", str(args.port),
         "--server.maxUploadSize", "200",
         "--browser.gatherUsageStats", "false",
+        "--client.toolbarMode", "viewer",
     ]
     print(f"trimlog dashboard on http://{args.address}:{args.port} (Ctrl-C to stop)")
     return subprocess.call(command)
