@@ -13,7 +13,7 @@ import pytest
 from trimlog import analysis
 from trimlog.demo import DEMO_TRUTH
 from trimlog.errors import InputFileError
-from trimlog.readers import read_loading_sheet
+from trimlog.loading_sheet import read_loading_sheet
 
 SAMPLES = Path(__file__).resolve().parent.parent / "sample_logs"
 PROFILE = analysis.load_profile(SAMPLES / "tinkerfinch_tf2.toml")

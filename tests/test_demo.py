@@ -16,9 +16,10 @@ from scipy import stats
 from trimlog import analysis, demo, loading
 from trimlog.demo import DEMO_TRUTH, hold_errors, truth_points, write_demo
 from trimlog.errors import TrimlogError
+from trimlog.loading_sheet import read_loading_sheet
 from trimlog.points import find_stabilized_points, points_from_log
 from trimlog.profile import load_profile, parse_profile
-from trimlog.readers import read_loading_sheet, read_log
+from trimlog.readers import read_log
 from trimlog.reduction import reduce_points
 
 SAMPLE_LOGS = Path(__file__).resolve().parent.parent / "sample_logs"

@@ -4,7 +4,7 @@ import numpy as np
 
 from trimlog.demo import DEMO_TRUTH
 from trimlog.demo_files import _cells, _dropouts, loading_sheet_toml
-from trimlog.readers import read_loading_sheet
+from trimlog.loading_sheet import read_loading_sheet
 
 
 def test_cells_round_to_the_resolution_and_leave_missing_empty():

@@ -27,8 +27,9 @@ from hypothesis import strategies as st
 from trimlog import analysis, summary
 from trimlog.columns import TEXT_COLUMNS
 from trimlog.errors import TrimlogError
+from trimlog.loading_sheet import LoadingSheet, read_loading_sheet
 from trimlog.profile import AircraftProfile, parse_profile
-from trimlog.readers import LoadingSheet, LogRead, read_loading_sheet, read_log
+from trimlog.readers import LogRead, read_log
 from trimlog.units import parse_quantity, parse_unit
 
 SAMPLES = Path(__file__).resolve().parent.parent / "sample_logs"

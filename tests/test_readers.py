@@ -18,7 +18,8 @@ from hypothesis import strategies as st
 
 from trimlog.columns import normalise, understand_header
 from trimlog.errors import InputFileError, TrimlogError
-from trimlog.readers import LogRead, read_loading_sheet, read_log
+from trimlog.loading_sheet import read_loading_sheet
+from trimlog.readers import LogRead, read_log
 
 LOGS = Path(__file__).parent / "data" / "logs"
 CANONICAL_7 = [

@@ -3,8 +3,8 @@ import pandas as pd
 import pytest
 
 from trimlog.errors import InputFileError
+from trimlog.loading_sheet import LoadingSheet
 from trimlog.profile import parse_profile
-from trimlog.readers import LoadingSheet
 from trimlog.reduction import reduce_points
 
 PROFILE_TEXT = """

@@ -26,8 +26,8 @@ import pytest
 from trimlog import analysis, history, store
 from trimlog.cli import main
 from trimlog.errors import TrimlogError
+from trimlog.loading_sheet import read_loading_sheet
 from trimlog.profile import parse_profile
-from trimlog.readers import read_loading_sheet
 
 ROOT = Path(__file__).resolve().parent.parent
 PACKAGE = ROOT / "trimlog"

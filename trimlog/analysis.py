@@ -22,10 +22,11 @@ import pandas as pd
 
 from trimlog import __version__, cautions, incidence, stability, tailgeometry, tau
 from trimlog.errors import InputFileError, NotIdentifiableError, TrimlogError
+from trimlog.loading_sheet import LoadingSheet, read_loading_sheet
 from trimlog.points import PointSettings, points_from_log
 from trimlog.profile import AircraftProfile
 from trimlog.profile import load_profile as load_profile
-from trimlog.readers import LoadingSheet, LogRead, read_loading_sheet, read_log
+from trimlog.readers import LogRead, read_log
 from trimlog.reduction import reduce_points
 from trimlog.stability_results import StabilityResult
 

@@ -65,7 +65,7 @@ class Loading:
     fuel_gal: float = 24.0
 
     def sheet(self, flight: str) -> str:
-        """The loading sheet (format of :func:`trimlog.readers.read_loading_sheet`)."""
+        """The loading sheet (format of :func:`trimlog.loading_sheet.read_loading_sheet`)."""
         return (
             f'flight = "{flight}"\nlabel = "synthetic benchmark flight {flight}"\n\n'
             f'[takeoff]\nweight = "{self.weight_lb:.1f} lb"\ncg = "{self.cg_in:.2f} in"\n'
@@ -344,8 +344,9 @@ def _stages(run: _Run, paths: list[Path]) -> list[dict[str, float]]:
     the machine's load during the run reaches all of them alike.
     """
     from trimlog import analysis, stability
+    from trimlog.loading_sheet import read_loading_sheet
     from trimlog.points import points_from_log
-    from trimlog.readers import read_loading_sheet, read_log
+    from trimlog.readers import read_log
     from trimlog.reduction import reduce_points
 
     p = run.profile

@@ -19,8 +19,8 @@ from trimlog import analysis as chain
 from trimlog import cautions
 from trimlog.errors import InputFileError, StoreError, TrimlogError
 from trimlog.export import clean
+from trimlog.loading_sheet import LoadingSheet, read_loading_sheet
 from trimlog.profile import AircraftProfile, parse_profile
-from trimlog.readers import LoadingSheet, read_loading_sheet
 from trimlog.reduction import reduce_points
 from trimlog.store import AircraftRecord, FlightRecord, ImportOutcome, Store
 from trimlog.trend import NextStep, TrendStep, neutral_point_sequence, plan_next_step

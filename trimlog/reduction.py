@@ -33,7 +33,7 @@ DEFAULT_SETTING_LABEL = "as rigged"
 
 
 class FlightLoadingLike(Protocol):
-    """What the reduction needs of a flight's loading sheet (see ``readers.LoadingSheet``)."""
+    """What the reduction needs of a flight's loading sheet (see ``loading_sheet.LoadingSheet``)."""
 
     takeoff_weight_lb: float
     takeoff_cg_in: float | None

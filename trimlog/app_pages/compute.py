@@ -26,8 +26,8 @@ from trimlog import analysis
 from trimlog.analysis import Analysis, FlightData
 from trimlog.app_pages.session import FileBytes, Inputs
 from trimlog.errors import TrimlogError
+from trimlog.loading_sheet import LoadingSheet, read_loading_sheet
 from trimlog.profile import AircraftProfile, parse_profile
-from trimlog.readers import LoadingSheet, read_loading_sheet
 
 _HASH = {FileBytes: lambda f: f.digest, Inputs: lambda i: i.key}
 
