@@ -146,7 +146,7 @@ def test_toml_is_read_with_tomllib_only():
         if any(isinstance(n, ast.Call) and _dotted(n.func) == "tomllib.loads"
                for n in ast.walk(tree)):
             parsers.add(path.name)
-    assert {"profile.py", "readers.py"} <= parsers
+    assert {"profile.py", "loading_sheet.py"} <= parsers
 
 
 PAYLOADS = [
