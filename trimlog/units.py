@@ -15,7 +15,18 @@ import pint
 
 from trimlog.errors import UnitError
 
-ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+
+def _registry() -> pint.UnitRegistry:
+    # pint parses its definitions file on every start (~0.3 s); its on-disk cache in the
+    # user cache folder cuts that to a few tens of ms. A cache that cannot be written or
+    # read (read-only home, a half-written file from a concurrent start) means no cache.
+    try:
+        return pint.UnitRegistry(autoconvert_offset_to_baseunit=True, cache_folder=":auto:")
+    except Exception:  # noqa: BLE001 - any cache failure falls back to parsing
+        return pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+
+
+ureg = _registry()
 Q_ = ureg.Quantity
 
 # Spellings that loggers and pilots use but pint does not know, mapped to pint's.
