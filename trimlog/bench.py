@@ -666,7 +666,10 @@ def bench_memory(run: _Run) -> None:
     """6. Peak resident memory of the analysis of the long log, in a fresh process."""
     log = run.log("long", run.sizes.log_minutes, seed=12)
     size_mb = log.stat().st_size / 1e6
-    rss = "resource.getrusage(resource.RUSAGE_SELF).ru_maxrss"
+    # ru_maxrss survives exec on Linux, so a child started from this (large) process would
+    # report our peak; the kernel's high-water mark of the new address space does not.
+    rss = ("next((int(l.split()[1]) for l in open('/proc/self/status') if l.startswith('VmHWM'))"
+           ", 0) or resource.getrusage(resource.RUSAGE_SELF).ru_maxrss")
     base, peak = _peak_rss(
         f"import resource\nfrom trimlog import analysis\nb = {rss}\n"
         f"p = analysis.load_profile({str(run.profile_path)!r})\n"
@@ -675,14 +678,14 @@ def bench_memory(run: _Run) -> None:
     pbase, ppeak = _peak_rss(
         f"import resource\nimport pandas, statsmodels.api\nb = {rss}\n"
         f"pandas.read_csv({str(log)!r})\nprint(b, {rss})\n")
-    bound = 5.0 * size_mb
-    run.out(f"\n== 6. memory: {size_mb:.1f} MB log, fresh process, ru_maxrss")
+    added, yard = peak - base, ppeak - pbase
+    run.out(f"\n== 6. memory: {size_mb:.1f} MB log, fresh process, peak resident (VmHWM)")
     run.out(f"  trimlog analysis: baseline after imports {base:6.0f} MB, peak {peak:6.0f} MB, "
-            f"added {peak - base:6.0f} MB = {(peak - base) / size_mb:.1f}x the file")
+            f"added {added:6.0f} MB = {added / size_mb:.1f}x the file")
     run.out(f"  pandas read_csv:  baseline after imports {pbase:6.0f} MB, peak {ppeak:6.0f} MB, "
-            f"added {ppeak - pbase:6.0f} MB = {(ppeak - pbase) / size_mb:.1f}x the file")
-    run.out(f"  bound: peak <= baseline + 5 x file size = {base + bound:.0f} MB "
-            f"{run.verdict('memory bound', peak - base <= bound)}")
+            f"added {yard:6.0f} MB = {yard / size_mb:.1f}x the file")
+    run.out(f"  bound: what the analysis adds <= 2 x what pandas' plain read adds "
+            f"({2.0 * yard:.0f} MB) {run.verdict('memory bound', added <= 2.0 * yard)}")
 
 
 SECTIONS: dict[str, Callable[[_Run], None]] = {
