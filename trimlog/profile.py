@@ -67,6 +67,7 @@ from pathlib import Path
 from typing import Any
 
 from trimlog.errors import ProfileError, TrimlogError
+from trimlog.loading import pct_mac_to_station, station_to_pct_mac
 from trimlog.units import is_compatible, parse_quantity, parse_unit, unit_factor
 
 DEFAULT_CRUISE_PRESSURE_ALT_FT = 5000.0
@@ -127,11 +128,11 @@ class AircraftProfile:
 
     def pct_mac(self, station_in: float) -> float:
         """CG station [in] as percent of the MAC from its leading edge."""
-        return 100.0 * (station_in - self.lemac_in) / self.mac_in
+        return station_to_pct_mac(station_in, self.lemac_in, self.mac_in)
 
     def station(self, pct_mac: float) -> float:
         """Station [in] of a point given in percent of the MAC."""
-        return self.lemac_in + pct_mac / 100.0 * self.mac_in
+        return pct_mac_to_station(pct_mac, self.lemac_in, self.mac_in)
 
     @property
     def cg_forward_pct_mac(self) -> float:
