@@ -25,11 +25,11 @@ from pathlib import Path
 from typing import Any
 
 import pandas as pd
-
 from trimlog.bench import LOG_COLUMNS, write_flight
-from trimlog.demo import DEMO_PROFILE
-from trimlog.points import points_from_log
-from trimlog.readers import read_log
+
+from trimlog.demo.model import DEMO_PROFILE
+from trimlog.input.logs import read_log
+from trimlog.pipeline.points import points_from_log
 
 
 def interleaved(tasks: dict[str, Callable[[], Any]], repeat: int) -> dict[str, float]:

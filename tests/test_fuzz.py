@@ -24,13 +24,15 @@ import pytest
 from hypothesis import HealthCheck, example, given, settings
 from hypothesis import strategies as st
 
-from trimlog import analysis, summary
-from trimlog.columns import TEXT_COLUMNS
 from trimlog.errors import TrimlogError
-from trimlog.loading_sheet import LoadingSheet, read_loading_sheet
-from trimlog.profile import AircraftProfile, parse_profile
-from trimlog.readers import LogRead, read_log
-from trimlog.units import parse_quantity, parse_unit
+from trimlog.input.headers import TEXT_COLUMNS
+from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
+from trimlog.input.logs import LogRead, read_log
+from trimlog.input.profile import AircraftProfile, parse_profile
+from trimlog.input.units import parse_quantity, parse_unit
+from trimlog.pipeline import chain as analysis
+from trimlog.views import terminal as summary
+from trimlog.views.json_export import analysis_to_dict
 
 SAMPLES = Path(__file__).resolve().parent.parent / "sample_logs"
 PROFILE_TEXT = (SAMPLES / "tinkerfinch_tf2.toml").read_text(encoding="utf-8")
@@ -420,7 +422,7 @@ def test_whole_chain_on_random_point_tables(raw):
     except Exception as exc:  # noqa: BLE001
         assert_own_error(exc, NAME)
         return
-    payload = result.to_dict()
+    payload = analysis_to_dict(result)
     json.dumps(payload, allow_nan=False)
     for key in ("stick_fixed", "stick_fixed_two_stage", "stick_free"):
         block = payload["neutral_point"][key]

@@ -33,10 +33,12 @@ import numpy as np
 import pytest
 from synthetic_flights import Q_PSF_PER_KT2, Truth
 
-from trimlog import analysis, history, store
 from trimlog.cli import EXIT_BAD_INPUT, EXIT_REFUSED, main
 from trimlog.errors import TrimlogError
-from trimlog.profile import parse_profile
+from trimlog.history import service as history
+from trimlog.history import store
+from trimlog.input.profile import parse_profile
+from trimlog.pipeline import chain as analysis
 
 ROOT = Path(__file__).resolve().parent.parent
 SAMPLES = ROOT / "sample_logs"

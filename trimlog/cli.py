@@ -57,7 +57,7 @@ def _build_parser() -> argparse.ArgumentParser:
         epilog=(
             "start here:\n"
             "  trimlog demo demo_data          write the invented demo aircraft and flights\n"
-            "  trimlog analyze demo_data/*.csv --aircraft demo_data/demo_aircraft.toml\n"
+            "  trimlog analyze demo_data/*.csv --aircraft demo_data/tinkerfinch_tf2.toml\n"
             "  trimlog dashboard               the web dashboard, demo preloaded"
         ),
     )
@@ -266,7 +266,7 @@ def _write_json(path: str, payload: object) -> None:
 
 
 def _load_inputs(args: argparse.Namespace):  # -> (profile, flights)
-    from trimlog import analysis
+    from trimlog.pipeline import chain as analysis
 
     profile = analysis.load_profile(args.aircraft)
     loading_overrides = _parse_pairs(args.loading, "--loading", "LOG=SHEET", "=")
@@ -307,20 +307,24 @@ def _exclusions(values: list[str]) -> set[tuple[str, int]]:
 
 
 def _run_analyze(args: argparse.Namespace) -> int:
-    from trimlog import analysis, summary
+    from trimlog.pipeline import chain as analysis
+    from trimlog.views import terminal as summary
 
     profile, flights = _load_inputs(args)
     _progress("fitting")
     result = analysis.analyze(flights, profile, exclusions=_exclusions(args.exclude))
     if args.json:
-        _write_json(args.json, result.to_dict())
+        from trimlog.views.json_export import analysis_to_dict
+
+        _write_json(args.json, analysis_to_dict(result))
     if not args.quiet:
         print(summary.render(result, color=_use_color()))
     return EXIT_OK if result.identifiable else EXIT_REFUSED
 
 
 def _run_report(args: argparse.Namespace) -> int:
-    from trimlog import analysis, report
+    from trimlog.pipeline import chain as analysis
+    from trimlog.views import report
 
     if args.db:
         result, trend = _history_analysis(args.db, args.aircraft_name)
@@ -337,24 +341,24 @@ def _run_report(args: argparse.Namespace) -> int:
 
 
 def _open_store(db: str | None):
-    from trimlog import store
+    from trimlog.history import store
 
     return store.open_store(db)
 
 
 def _history_analysis(db: str, aircraft: str | None):
-    from trimlog import history
+    from trimlog.history import service as history
 
     with _open_store(db) as st:
         return history.analyze_history(st, aircraft), history.trend(st, aircraft)
 
 
 def _run_import(args: argparse.Namespace) -> int:
-    from trimlog import history
+    from trimlog.history import service as history
 
     if (args.label or args.notes) and len(args.logs) > 1:
         raise TrimlogError("import: --label and --notes apply to one file at a time")
-    from trimlog.profile import load_profile
+    from trimlog.input.profile import load_profile
 
     profile_text = load_profile(args.aircraft).text
     loading_overrides = _parse_pairs(args.loading, "--loading", "LOG=SHEET", "=")
@@ -376,7 +380,8 @@ def _run_import(args: argparse.Namespace) -> int:
 
 
 def _run_flights(args: argparse.Namespace) -> int:
-    from trimlog import history, summary
+    from trimlog.history import service as history
+    from trimlog.views import terminal as summary
 
     with _open_store(args.db) as st:
         listing = history.flight_listing(st, args.aircraft_name)
@@ -387,7 +392,8 @@ def _run_flights(args: argparse.Namespace) -> int:
 
 
 def _run_trend(args: argparse.Namespace) -> int:
-    from trimlog import history, summary
+    from trimlog.history import service as history
+    from trimlog.views import terminal as summary
 
     with _open_store(args.db) as st:
         trend = history.trend(st, args.aircraft_name)
@@ -398,7 +404,8 @@ def _run_trend(args: argparse.Namespace) -> int:
 
 
 def _run_plan(args: argparse.Namespace) -> int:
-    from trimlog import history, summary
+    from trimlog.history import service as history
+    from trimlog.views import terminal as summary
 
     with _open_store(args.db) as st:
         trend = history.trend(st, args.aircraft_name, min_margin_pct_mac=args.min_margin,
@@ -439,7 +446,7 @@ def _run_backup(args: argparse.Namespace) -> int:
 
 
 def _run_demo(args: argparse.Namespace) -> int:
-    from trimlog import demo
+    from trimlog.demo import files as demo
 
     try:
         written = demo.write_demo(Path(args.directory))
@@ -455,12 +462,7 @@ def _run_demo(args: argparse.Namespace) -> int:
 def _run_dashboard(args: argparse.Namespace) -> int:
     import subprocess
 
-    app = Path(__file__).resolve().parent.parent / "app.py"
-    if not app.is_file():
-        raise TrimlogError(
-            f"the dashboard script {app} is missing: install trimlog from its source "
-            "folder with 'pip install -e .'"
-        )
+    app = Path(__file__).resolve().parent / "dashboard" / "app.py"
     command = [
         sys.executable, "-m", "streamlit", "run", str(app),
         "--server.headless", "true",
@@ -475,7 +477,14 @@ def _run_dashboard(args: argparse.Namespace) -> int:
 
 
 def _run_bench(args: argparse.Namespace) -> int:
-    from trimlog import bench
+    bench_dir = Path(__file__).resolve().parent.parent / "benchmarks"
+    if not (bench_dir / "bench.py").is_file():
+        raise TrimlogError(
+            f"the benchmark harness {bench_dir / 'bench.py'} is not installed: "
+            "run 'trimlog bench' from a source checkout (pip install -e .)"
+        )
+    sys.path.insert(0, str(bench_dir))
+    import bench  # the harness of the source checkout, outside the package
 
     return bench.run(quick=args.quick)
 

@@ -1,0 +1,204 @@
+import math
+
+import pandas as pd
+import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+
+from trimlog import cautions
+from trimlog.errors import TrimlogError
+from trimlog.incidence.shim import (
+    INCH_STOCK_IN,
+    cruise_lift_coefficient,
+    incidence_change,
+    recommend_incidence,
+    shim,
+    shim_thickness_in,
+)
+from trimlog.incidence.tau import choose_tau
+from trimlog.input.profile import parse_profile
+
+PROFILE = """
+[aircraft]
+name = "Test two-seater"
+wing_area = "120 ft^2"
+mac = "51 in"
+lemac = "60 in"
+[tail]
+tau = 0.5
+elevator_chord_ratio = 0.35
+stabilizer_attach_spacing = "14 in"
+elevator_up_stop = "25 deg"
+elevator_down_stop = "18 deg"
+current_incidence = "-1.0 deg"
+[limits]
+cg_forward = "69 in"
+cg_aft = "76 in"
+max_weight = "1750 lb"
+[cruise]
+cas = "100 kt"
+pressure_altitude = "0 ft"
+weight = "1500 lb"
+"""
+
+
+# ------------------------------------------------------------- incidence change
+
+def test_direction_trailing_edge_up_means_leading_edge_down():
+    # Elevator trailing edge up at cruise (with a pull force): the tail gives too little
+    # down-force; reduce the incidence, leading edge down (common practice, no source)
+    change = incidence_change(-2.0, (-2.4, -1.6), 0.5, (0.45, 0.55))
+    assert change.change_deg == pytest.approx(-1.0)
+    assert change.ci95_deg[0] < -1.0 < change.ci95_deg[1] < 0.0
+    cut = shim(change.change_deg, 14.0)
+    assert cut.location == "rear" and "raise the rear attach points" in cut.words
+    assert "leading edge down" in cut.words
+
+
+def test_direction_mirror_case():
+    # Elevator trailing edge down at cruise (push force): leading edge up, raise the front
+    # (common practice, no source)
+    change = incidence_change(2.0, (1.6, 2.4), 0.5, (0.45, 0.55))
+    assert change.change_deg == pytest.approx(1.0)
+    cut = shim(change.change_deg, 14.0)
+    assert cut.location == "front" and "raise the front attach points" in cut.words
+
+
+def test_incidence_change_interval_matches_delta_method_for_small_spreads():
+    # delta method: var = tau^2 var_de + de^2 var_tau (independent inputs)
+    de, se_de, tau, se_tau = -1.5, 0.1, 0.5, 0.01
+    z = 1.959963984540054
+    change = incidence_change(de, (de - z * se_de, de + z * se_de), tau,
+                              (tau - z * se_tau, tau + z * se_tau))
+    half = z * math.hypot(tau * se_de, de * se_tau)
+    assert change.ci95_deg == pytest.approx((tau * de - half, tau * de + half), abs=0.003)
+    again = incidence_change(de, (de - z * se_de, de + z * se_de), tau,
+                             (tau - z * se_tau, tau + z * se_tau))
+    assert again == change  # fixed seed: reproducible
+
+
+def test_incidence_change_rejects_bad_interval():
+    with pytest.raises(TrimlogError, match="elevator_ci95"):
+        incidence_change(-1.0, (-0.5, 0.5), 0.5, (0.45, 0.55))
+
+
+# --------------------------------------------------------------------------- shim
+
+def test_shim_geometry_hand_computed():
+    d_in = 300.0 / 25.4
+    # tan identity: 300 mm x tan(0.5 deg) = 2.61806 mm; x tan(1.0 deg) = 5.23653 mm
+    # (tan 0.5 deg = 0.0087269, tan 1 deg = 0.0174551, 5-figure trigonometric tables)
+    assert shim_thickness_in(0.5, d_in) * 25.4 == pytest.approx(2.61806, abs=1e-4)
+    assert shim_thickness_in(-1.0, d_in) * 25.4 == pytest.approx(5.23653, abs=1e-4)
+    # small-angle check: d x angle[rad] within 0.01 % at 1 deg (tan x = x + x^3/3)
+    assert shim_thickness_in(1.0, d_in) * 25.4 == pytest.approx(300 * math.radians(1.0),
+                                                                 rel=2e-4)
+    # exact at a large angle where small-angle fails: 14 in x tan(45 deg) = 14 in
+    assert shim_thickness_in(45.0, 14.0) == pytest.approx(14.0)
+    series = shim_thickness_in(pd.Series([0.5, -1.0], index=[3, 4]), d_in)
+    assert list(series.index) == [3, 4]
+
+
+def test_shim_rounding_and_residual_consistent():
+    tau, de = 0.5, -0.5
+    change = tau * de  # -0.25 deg
+    cut = shim(change, 14.0, elevator_cruise_deg=de, tau=tau, current_incidence_deg=-1.0)
+    assert cut.thickness_in == pytest.approx(14.0 * math.tan(math.radians(0.25)))  # 0.0611
+    # nearest stack: 0.020 + 0.040 = 0.060 in (0.063 is farther)
+    assert cut.stock_sheets == (0.020, 0.040) and cut.stock_thickness_in == pytest.approx(0.060)
+    rounded_change = -math.degrees(math.atan(0.060 / 14.0))
+    assert cut.stock_change_deg == pytest.approx(rounded_change)
+    assert cut.residual_elevator_deg == pytest.approx(de - rounded_change / tau)
+    assert cut.new_incidence_deg == pytest.approx(-1.0 + rounded_change)
+    assert "0.061 in / 1.55 mm" in cut.words and "0.020 + 0.040 in" in cut.words
+
+
+def test_shim_stacks_two_sheets_and_metric():
+    cut = shim(-0.6, 14.0)  # 0.1466 in
+    assert len(cut.stock_sheets) == 2 and abs(cut.stock_thickness_in - cut.thickness_in) < 0.004
+    metric = shim(-0.6, 14.0, stock="metric")  # 3.72 mm -> 1.5 + 2.0 or 1.0 + 2.5 mm
+    assert metric.stock_thickness_mm == pytest.approx(3.5)
+    with pytest.raises(TrimlogError, match="inch"):
+        shim(-0.6, 14.0, stock="furlong")
+
+
+def test_no_change_recommended_when_tiny_or_uncertain():
+    tiny = shim(-0.02, 14.0, elevator_cruise_deg=-0.04, tau=0.5)  # 0.005 in
+    assert not tiny.recommended and tiny.stock_thickness_in == 0.0
+    assert "No change recommended" in tiny.words
+    assert tiny.residual_elevator_deg == pytest.approx(-0.04)
+    uncertain = shim(-0.5, 14.0, change_ci95_deg=(-1.1, 0.1))
+    assert not uncertain.recommended and "includes zero" in uncertain.words
+
+
+def test_new_incidence_outside_usual_range_warns():
+    cut = shim(-1.5, 14.0, current_incidence_deg=-1.0)
+    assert cut.new_incidence_deg < -2.0 and any("usual" in w for w in cut.warnings)
+    assert not shim(-0.3, 14.0, current_incidence_deg=-1.0).warnings
+
+
+@given(
+    a=st.floats(min_value=0.0, max_value=10.0),
+    b=st.floats(min_value=0.0, max_value=10.0),
+    sign=st.sampled_from([-1.0, 1.0]),
+    spacing=st.floats(min_value=2.0, max_value=40.0),
+)
+def test_shim_monotonic_and_location_follows_sign(a, b, sign, spacing):
+    small, large = sorted((a, b))
+    t_small = shim(sign * small, spacing)
+    t_large = shim(sign * large, spacing)
+    assert t_small.thickness_in <= t_large.thickness_in
+    assert t_small.stock_thickness_in <= t_large.stock_thickness_in
+    for cut, size in ((t_small, small), (t_large, large)):
+        if size > 0:
+            assert cut.location == ("rear" if sign < 0 else "front")
+        assert math.isfinite(cut.thickness_in)
+
+
+def test_stock_list_is_sorted_and_documented():
+    assert list(INCH_STOCK_IN) == sorted(INCH_STOCK_IN)
+
+
+# ---------------------------------------------------------------- recommendation
+
+def test_cruise_lift_coefficient_sea_level():
+    profile = parse_profile(PROFILE)
+    # 100 kt CAS at sea level is 100 kt EAS; CL = 295.37 W / (Ve^2 S) (US-units form of
+    # 2W/(rho0 V^2 S), rho0 = 0.0023769 slug/ft^3, U.S. Standard Atmosphere 1976)
+    assert cruise_lift_coefficient(profile) == pytest.approx(295.37 * 1500 / (100**2 * 120),
+                                                            rel=1e-4)
+
+
+def test_recommendation_fills_json_contract():
+    profile = parse_profile(PROFILE)
+    choice = choose_tau(None, profile.tau, profile.elevator_chord_ratio)
+    rec = recommend_incidence(
+        cruise_cl=cruise_lift_coefficient(profile), cruise_cg_pct_mac=25.0,
+        elevator_cruise_deg=-1.2, elevator_ci95_deg=(-1.5, -0.9), tau=choice,
+        spacing_in=profile.stabilizer_attach_spacing_in,
+        current_incidence_deg=profile.current_incidence_deg,
+    )
+    block = rec.to_json()
+    contract = ["cruise_cl", "cruise_cg_pct_mac", "elevator_at_cruise_deg",
+                "elevator_at_cruise_ci95_deg", "tau", "tau_source", "change_deg",
+                "change_ci95_deg", "shim_thickness_in", "shim_thickness_mm", "shim_location"]
+    assert list(block)[: len(contract)] == contract
+    assert block["tau_source"] == "profile" and block["change_deg"] == pytest.approx(-0.6)
+    assert len(block["change_ci95_deg"]) == 2 and block["change_ci95_deg"][1] < 0
+    assert "rear" in block["shim_location"]
+    assert rec.cautions[0] == cautions.ESTIMATE_STATEMENT
+    assert set(cautions.INCIDENCE) <= set(rec.cautions)
+    assert "raise the rear attach points" in rec.words
+    for value in block.values():
+        if isinstance(value, float):
+            assert math.isfinite(value)
+
+
+def test_recommendation_with_uncertain_change_says_none():
+    rec = recommend_incidence(
+        cruise_cl=0.3, cruise_cg_pct_mac=25.0, elevator_cruise_deg=-0.3,
+        elevator_ci95_deg=(-1.0, 0.4), tau=choose_tau(None, 0.5), spacing_in=14.0,
+    )
+    assert not rec.shim_recommended and rec.shim_location.startswith("none")
+    assert rec.residual_elevator_deg == pytest.approx(-0.3)
+    assert "No change recommended" in rec.words

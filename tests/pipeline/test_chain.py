@@ -1,0 +1,148 @@
+"""The whole chain on the demo programme, against the demo's known truth.
+
+The demo flights are invented, generated from a physical model with known
+truth (trimlog.demo.model.DEMO_TRUTH); comparing with it checks the chain end to
+end.  Published checks of each step live in the module tests.
+"""
+
+import json
+from pathlib import Path
+
+import pytest
+
+from trimlog.demo.model import DEMO_TRUTH
+from trimlog.errors import InputFileError
+from trimlog.input.loading_sheet import read_loading_sheet
+from trimlog.pipeline import chain as analysis
+from trimlog.views.json_export import analysis_to_dict
+
+SAMPLES = Path(__file__).resolve().parents[2] / "sample_logs"
+PROFILE = analysis.load_profile(SAMPLES / "tinkerfinch_tf2.toml")
+LOGS = sorted(SAMPLES.glob("flight*.csv"))
+
+
+@pytest.fixture(scope="module")
+def flights():
+    out = []
+    for log in LOGS:
+        out.extend(analysis.load_flight_file(log, PROFILE))
+    return out
+
+
+@pytest.fixture(scope="module")
+def result(flights):
+    return analysis.analyze(flights, PROFILE)
+
+
+def _inside(value, interval):
+    return interval[0] <= value <= interval[1]
+
+
+def test_neutral_points_cover_the_demo_truth(result):
+    fixed = result.primary.stability.stick_fixed.neutral_point
+    free = result.primary.stability.stick_free.neutral_point
+    assert _inside(100 * DEMO_TRUTH.neutral_point_fixed, fixed.ci95_pct_mac)
+    assert _inside(100 * DEMO_TRUTH.neutral_point_free, free.ci95_pct_mac)
+
+
+def test_pooled_and_two_stage_agree_within_their_intervals(result):
+    pooled = result.primary.stability.stick_fixed.neutral_point
+    staged = result.primary.stability.stick_fixed_two_stage.neutral_point
+    assert pooled.identifiable and staged.identifiable
+    assert pooled.ci95_pct_mac[0] <= staged.ci95_pct_mac[1]
+    assert staged.ci95_pct_mac[0] <= pooled.ci95_pct_mac[1]
+
+
+def test_tau_is_calibrated_from_the_shim_flight(result):
+    rec = result.primary.incidence
+    assert rec.tau_source == "flight-calibrated"
+    assert _inside(DEMO_TRUTH.tau, result.primary.tau_calibration.ci95)
+
+
+def test_after_the_shim_the_recommendation_is_the_residual(result):
+    rec = result.primary.incidence
+    after_shim = DEMO_TRUTH.flights[-1].stab_incidence_deg
+    truth_elevator = DEMO_TRUTH.cruise_elevator_deg(after_shim)
+    truth_change = DEMO_TRUTH.incidence_change_deg(after_shim)
+    assert _inside(truth_elevator, rec.elevator_at_cruise_ci95_deg)
+    assert _inside(truth_change, rec.change_ci95_deg)
+    # the residual is smaller than the whole correction from the original rigging
+    assert abs(rec.change_deg) < abs(DEMO_TRUTH.incidence_change_deg(
+        DEMO_TRUTH.rigged_incidence_deg))
+    assert rec.shim_location.startswith("rear")  # trailing edge up in cruise: leading edge down
+    assert rec.new_incidence_deg == pytest.approx(after_shim + rec.shim_stock_change_deg)
+
+
+def test_every_flight_is_stable_with_speed(result):
+    for g in result.primary.stability.gradients:
+        assert g.delev_dcl_deg < 0
+        assert g.stick_force_verdict.startswith("stable")
+
+
+def test_json_has_no_nan_and_names_the_assumptions(result):
+    text = json.dumps(analysis_to_dict(result), allow_nan=False)
+    data = json.loads(text)
+    assert data["configuration"] == "clean"
+    assert data["cautions"] and any("approval" in c for c in data["cautions"])
+    assert {f["kind"] for f in data["flights"]} == {"point_table", "time_series"}
+
+
+def test_configurations_are_never_pooled(flights):
+    flapped = []
+    for f in flights[:2]:
+        points = f.points.copy()
+        points["flap_deg"] = 20.0
+        points["flight"] = f.flight + "_flaps"
+        flapped.append(analysis.FlightData(f.flight + "_flaps", f.source + " (flaps)", f.sha256,
+                                           f.log, points, f.loading))
+    result = analysis.analyze([*flights, *flapped], PROFILE)
+    assert result.primary.config == "clean"
+    assert [o.config for o in result.others] == ["flaps 20 deg"]
+    clean_flights = {g.flight for g in result.primary.stability.gradients}
+    assert not any(name.endswith("_flaps") for name in clean_flights)
+    assert any("analysed separately" in w for w in result.warnings)
+    assert analysis_to_dict(result)["other_configurations"][0]["configuration"] == "flaps 20 deg"
+
+
+def test_exclusions_keep_the_point_and_change_the_fit(flights, result):
+    excluded = analysis.analyze(flights, PROFILE, exclusions={("flight3", 4)})
+    row = excluded.points.loc[(excluded.points["flight"] == "flight3")
+                              & (excluded.points["point"] == 4)]
+    assert len(row) == 1 and not bool(row["included"].iloc[0])
+    assert (excluded.primary.stability.stick_fixed.neutral_point.pct_mac
+            != result.primary.stability.stick_fixed.neutral_point.pct_mac)
+
+
+def test_the_same_flight_twice_is_refused(flights):
+    twin = analysis.FlightData(flights[1].flight, "elsewhere/flight2.csv", flights[1].sha256,
+                               flights[1].log, flights[1].points, flights[1].loading)
+    with pytest.raises(InputFileError, match="given twice"):
+        analysis.analyze([flights[1], twin], PROFILE)
+
+
+def test_no_points_at_all_is_a_clear_error():
+    raw = b"time_s,ias_kt,pressure_alt_ft,elevator_deg\n" + b"".join(
+        f"{t / 10:.1f},{80 + t % 40},5000,{t % 7}\n".encode() for t in range(600))
+    flights = analysis.load_flight_bytes(raw, "wobbly.csv", PROFILE)
+    with pytest.raises(InputFileError, match="no stabilized points"):
+        analysis.analyze(flights, PROFILE)
+
+
+def test_constant_fuel_flow_from_the_loading_sheet_burns_fuel_through_the_flight(tmp_path):
+    log = (SAMPLES / "flight2.csv").read_bytes()
+    # drop the logged fuel quantity column so the sheet's constant flow is used
+    lines = log.decode().splitlines()
+    header_at = next(i for i, line in enumerate(lines) if line.startswith("Time"))
+    cut = [",".join(line.split(",")[:-1]) if i >= header_at else line
+           for i, line in enumerate(lines)]
+    sheet_text = (SAMPLES / "flight2.loading.toml").read_text() + '\n[fuel]\nflow = "8 gal/h"\n'
+    sheet = read_loading_sheet(sheet_text.encode(), name="flight2.loading.toml")
+    flight = analysis.load_flight_bytes("\n".join(cut).encode(), "flight2.csv", PROFILE,
+                                        loading=sheet)[0]
+    fuel = flight.points["fuel_gal"]
+    middle = 0.5 * (flight.points["t_start_s"] + flight.points["t_end_s"])
+    start = flight.log.data["time_s"].min()
+    # takeoff fuel minus 8 gal/h for the time since the first sample (hand-computed)
+    assert fuel.tolist() == pytest.approx(
+        (sheet.takeoff_fuel_gal - 8.0 * (middle - start) / 3600.0).tolist())
+    assert fuel.is_monotonic_decreasing

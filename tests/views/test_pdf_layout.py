@@ -1,0 +1,34 @@
+"""Tests of trimlog.views.pdf_layout: blocks flowed down letter pages."""
+
+from trimlog.views.pdf_layout import Break, Heading, Para, Table, render_pdf
+
+
+def _texts(fig):
+    return [t.get_text() for t in fig.texts]
+
+
+def test_long_table_continues_on_new_pages_with_its_header():
+    rows = tuple((str(i), f"value {i}") for i in range(200))
+    pages = render_pdf([Heading("Points", 1), Table(("number", "what"), rows)], "foot")
+    assert len(pages) >= 3
+    for fig in pages:
+        assert any(t.startswith("number") for t in _texts(fig)), "header on every page"
+    body = [t for fig in pages for t in _texts(fig) if t.split()[:1] and t.split()[0].isdigit()]
+    assert len(body) == 200  # every row drawn once
+
+
+def test_pages_are_numbered_and_carry_the_footer():
+    pages = render_pdf([Para("one"), Break(), Para("two")], "trimlog | demo")
+    assert len(pages) == 2
+    for i, fig in enumerate(pages, start=1):
+        texts = _texts(fig)
+        assert f"page {i} of 2" in texts and "trimlog | demo" in texts
+        assert "Estimates from your own flight data, not an approval." in texts
+
+
+def test_long_paragraph_wraps_within_the_page_width():
+    words = " ".join(["stabilized"] * 300)
+    (page, *_rest) = render_pdf([Para(words)], "")
+    lines = [t for t in _texts(page) if t.startswith("stabilized")]
+    assert len(lines) > 10
+    assert max(len(line) for line in lines) < 120

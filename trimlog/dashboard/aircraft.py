@@ -1,0 +1,88 @@
+"""Aircraft page: the profile in use, uploaded or edited as TOML text."""
+
+from __future__ import annotations
+
+import streamlit as st
+
+from trimlog.dashboard import common, compute, session
+from trimlog.demo import model as demo
+from trimlog.errors import TrimlogError
+
+
+def _try_use(text: str, source: str) -> None:
+    """Take a profile if it reads; otherwise keep the old one and remember why not."""
+    ss = st.session_state
+    try:
+        compute.profile(text, source)
+    except TrimlogError as exc:
+        ss.profile_error = str(exc)
+        return
+    ss.profile_error = ""
+    ss.profile_text, ss.profile_source = text, source
+    ss.profile_editor = text
+
+
+def _apply_upload() -> None:
+    up = st.session_state.get("profile_upload")
+    if up is None:
+        return
+    try:
+        text = up.getvalue().decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        st.session_state.profile_error = (
+            f"{up.name}: not UTF-8 text (byte {exc.start}); save the profile as UTF-8"
+        )
+        return
+    _try_use(text, up.name)
+    if not st.session_state.profile_error:
+        # The demo flights belong to the demo aircraft, not to an uploaded one.
+        st.session_state.use_demo = False
+
+
+def _apply_edit() -> None:
+    source = st.session_state.profile_source
+    if not source.endswith(" (edited)"):
+        source += " (edited)"
+    _try_use(st.session_state.profile_editor, source)
+
+
+def _back_to_demo() -> None:
+    _try_use(demo.PROFILE_TOML, session.DEMO_SOURCE)
+    st.session_state.use_demo = bool(st.session_state.demo_logs)
+
+
+def render() -> None:
+    """Draw the page."""
+    ss = st.session_state
+    st.header("Aircraft")
+    st.caption(
+        "The profile holds the geometry, CG limits and logger channel names. "
+        "The invented demo aircraft is loaded to start with; upload yours or edit the text."
+    )
+    if ss.get("profile_error"):
+        common.show_error(ss.profile_error, "Profile not changed")
+    p = compute.profile(ss.profile_text, ss.profile_source)
+    st.subheader(common.esc(p.name))
+    st.caption(f"Profile in use: {common.esc(ss.profile_source)}")
+    cols = st.columns(4)
+    cols[0].metric("Wing area", common.num(p.wing_area_ft2, ".1f", "ft²"))
+    cols[1].metric("MAC", common.num(p.mac_in, ".1f", "in"),
+                   help=f"leading edge at {p.lemac_in:.1f} in aft of the datum")
+    cols[2].metric("CG limits [%MAC]", f"{p.cg_forward_pct_mac:.1f} to {p.cg_aft_pct_mac:.1f}",
+                   help=f"{p.cg_forward_in:.1f} to {p.cg_aft_in:.1f} in aft of the datum")
+    cols[3].metric("Minimum static margin", common.num(p.min_static_margin_pct_mac, ".1f",
+                                                       "%MAC"))
+    for w in p.warnings:
+        common.warn(w)
+    if p.defaults_used:
+        st.info(common.esc("Assumed because the profile does not say: "
+                           + "; ".join(p.defaults_used)))
+
+    st.file_uploader("Upload a profile (TOML)", type=["toml"], key="profile_upload")
+    st.button("Use the uploaded profile", on_click=_apply_upload,
+              disabled=ss.get("profile_upload") is None)
+    ss.setdefault("profile_editor", ss.profile_text)
+    st.text_area("Profile text (TOML)", key="profile_editor", height=380)
+    left, right = st.columns(2)
+    left.button("Apply the edited text", type="primary", on_click=_apply_edit)
+    right.button("Back to the demo aircraft", on_click=_back_to_demo)

@@ -1,0 +1,45 @@
+"""The dashboard's router: the sidebar and the pages of :mod:`trimlog.dashboard`.
+
+Streamlit runs this file as a script (``trimlog dashboard`` starts it on
+localhost with an explicit upload limit; the top-level ``app.py`` of a source
+checkout runs it too).
+"""
+
+
+import streamlit as st
+
+from trimlog.dashboard import aircraft, flights, history_page, points, results, session
+
+PAGES = {
+    "Results": results.render,
+    "Aircraft": aircraft.render,
+    "Flights": flights.render,
+    "Points": points.render,
+    "History": history_page.render,
+}
+CAPTIONS = [
+    "neutral points, margins, shim",
+    "profile of the airplane",
+    "upload logs and loading sheets",
+    "check the stabilized points",
+    "saved flights, trend, next CG",
+]
+SCROLL_TO_TOP = (
+    "<script>for (const e of document.querySelectorAll("
+    "'[data-testid=stMain], [data-testid=stAppScrollToBottomContainer], "
+    "[data-testid=stAppViewContainer]')) e.scrollTo(0, 0); window.scrollTo(0, 0);</script>"
+)
+
+st.set_page_config(page_title="trimlog", page_icon=":material/flight:", layout="wide")
+session.init()
+st.session_state.setdefault("page", "Results")
+with st.sidebar:
+    st.markdown("### trimlog")
+    st.caption("Stabilized-trim flight-test analysis. Estimates from your data, never an approval.")
+    st.radio("Page", list(PAGES), captions=CAPTIONS, key="page")
+if st.session_state.get("page_shown") != st.session_state.page:
+    # A page opened from a button at the bottom of another starts at its top, where its
+    # headline numbers and the estimate statement are, not where the last one was scrolled.
+    st.session_state.page_shown = st.session_state.page
+    st.html(SCROLL_TO_TOP, unsafe_allow_javascript=True)
+PAGES[st.session_state.page]()

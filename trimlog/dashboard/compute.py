@@ -1,0 +1,248 @@
+"""Cached thin wrappers around the package's heavy calls.
+
+Results are frozen objects shared between reruns and sessions with
+``st.cache_resource`` (no copy; pages only read them).  Bytes that leave the
+page (figures, JSON, CSV, PDF) are cached with ``st.cache_data``.  Cache keys
+are the SHA-256 of the inputs (:class:`~trimlog.dashboard.session.Inputs`),
+so a widget change on analysed data only redraws.
+
+A :class:`~trimlog.errors.TrimlogError` raised inside is never cached: it
+propagates to the page, which shows it.
+"""
+
+from __future__ import annotations
+
+import io
+import json
+import tempfile
+from pathlib import Path
+
+import pandas as pd
+import streamlit as st
+
+from trimlog.dashboard.session import FileBytes, Inputs
+from trimlog.errors import TrimlogError
+from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
+from trimlog.input.profile import AircraftProfile, parse_profile
+from trimlog.pipeline import chain as analysis
+from trimlog.pipeline.chain import Analysis, FlightData
+from trimlog.views.json_export import analysis_to_dict, points_records
+
+_HASH = {FileBytes: lambda f: f.digest, Inputs: lambda i: i.key}
+
+
+@st.cache_resource(max_entries=8, show_spinner=False)
+def profile(text: str, source: str) -> AircraftProfile:
+    """The aircraft profile from its TOML text."""
+    return parse_profile(text, source=source)
+
+
+@st.cache_resource(max_entries=64, show_spinner=False, hash_funcs=_HASH)
+def loading_sheet(sheet: FileBytes) -> LoadingSheet:
+    """A loading sheet from its bytes."""
+    return read_loading_sheet(sheet.raw, name=sheet.name)
+
+
+# A one-hour 50 Hz log holds some 15 MB once read: keep a working set, not every version.
+@st.cache_resource(max_entries=24, show_spinner="Reading the log and finding its points...",
+                   hash_funcs=_HASH)
+def flight_data(
+    log: FileBytes,
+    sheet: FileBytes | None,
+    profile_text: str,
+    profile_source: str,
+    min_hold_s: float | None,
+) -> tuple[FlightData, ...]:
+    """The flights of one log (with its loading sheet), points found."""
+    p = profile(profile_text, profile_source)
+    loading = None if sheet is None else loading_sheet(sheet)
+    return tuple(analysis.load_flight_bytes(log.raw, log.name, p, loading=loading,
+                                            min_hold_s=min_hold_s))
+
+
+def flights_of(inputs: Inputs) -> list[FlightData]:
+    """Every flight of the inputs (each log read once, then cached)."""
+    out: list[FlightData] = []
+    for log, sheet in inputs.logs:
+        out.extend(flight_data(log, sheet, inputs.profile_text, inputs.profile_source,
+                               inputs.min_hold_s))
+    return out
+
+
+@st.cache_resource(max_entries=16, show_spinner="Fitting the trim lines...", hash_funcs=_HASH)
+def run_analysis(inputs: Inputs) -> Analysis:
+    """The analysis of the inputs.
+
+    Choices of points that no longer exist (their log was removed, or the
+    minimum hold changed) are not passed on.
+    """
+    flights = flights_of(inputs)
+    present = {(f.flight, int(p)) for f in flights for p in f.points.get("point", [])}
+    return analysis.analyze(flights, profile(inputs.profile_text, inputs.profile_source),
+                            exclusions=[e for e in inputs.exclusions if e in present],
+                            inclusions=[i for i in inputs.inclusions if i in present])
+
+
+def _png(ax) -> bytes:
+    buf = io.BytesIO()
+    ax.figure.savefig(buf, format="png", dpi=110)
+    return buf.getvalue()
+
+
+@st.cache_data(max_entries=64, show_spinner=False, hash_funcs=_HASH)
+def figure(kind: str, inputs: Inputs) -> bytes:
+    """PNG of a figure of :mod:`trimlog.views.plots` for the analysis."""
+    from trimlog.views import plots
+
+    return _png(getattr(plots, kind)(run_analysis(inputs)))
+
+
+@st.cache_data(max_entries=64, show_spinner=False, hash_funcs=_HASH)
+def log_figure(
+    log: FileBytes, sheet: FileBytes | None, inputs: Inputs, flight: str
+) -> bytes:
+    """PNG of one flight's log with its point windows (points left out hatched)."""
+    from trimlog.views import plots
+
+    data = next(f for f in flight_data(log, sheet, inputs.profile_text, inputs.profile_source,
+                                       inputs.min_hold_s) if f.flight == flight)
+    try:
+        table = run_analysis(inputs).points
+        shaded = table.loc[table["flight"] == flight]
+    except TrimlogError:
+        shaded = None  # no analysis yet: shade the points as found
+    return _png(plots.log_overview(data, points=shaded)[0])
+
+
+@st.cache_data(max_entries=16, show_spinner=False, hash_funcs=_HASH)
+def json_text(inputs: Inputs) -> str:
+    """The ``--json`` result of the analysis."""
+    return json.dumps(analysis_to_dict(run_analysis(inputs)), indent=2, allow_nan=False) + "\n"
+
+
+@st.cache_data(max_entries=16, show_spinner=False, hash_funcs=_HASH)
+def points_csv(inputs: Inputs) -> str:
+    """The reduced points (contract columns first) as CSV."""
+    return pd.DataFrame(points_records(run_analysis(inputs).points)).to_csv(index=False)
+
+
+@st.cache_data(max_entries=8, show_spinner="Drawing the PDF report...", hash_funcs=_HASH)
+def report_pdf(inputs: Inputs) -> bytes:
+    """The PDF report of the analysis.
+
+    The report module writes to a path; it goes to a private temporary folder
+    under a fixed name and is read back, never named from an upload.
+    """
+    from trimlog.views import report
+
+    with tempfile.TemporaryDirectory(prefix="trimlog-report-") as tmp:
+        path = report.write_report(run_analysis(inputs), Path(tmp) / "report.pdf")
+        return Path(path).read_bytes()
+
+
+# --------------------------------------------------------------------------- history
+
+
+def history_path() -> Path:
+    """The history database: ``$TRIMLOG_DB``, else the store's per-user default."""
+    from trimlog.history.store import default_path
+
+    return default_path()
+
+
+def open_history():
+    """Open the history database (a context manager; one connection per call)."""
+    from trimlog.history.store import open_store
+
+    return open_store(history_path())
+
+
+def _db_token() -> tuple:
+    """Changes whenever the database is written (by this tab, another tab or the CLI)."""
+    db = history_path()
+    out = []
+    for path in (db, db.with_name(db.name + "-wal")):
+        try:
+            stat = path.stat()
+        except OSError:
+            out.append(None)
+        else:
+            out.append((stat.st_mtime_ns, stat.st_size))
+    return (str(db), *out)
+
+
+def import_flight(store, log: FileBytes, sheet: FileBytes | None, inputs: Inputs,
+                  label: str | None, notes: str | None):
+    """Save one log (and its loading sheet) to the history; returns the store's outcome."""
+    from trimlog.history import service as history
+
+    return history.import_flight(
+        store, log.raw, log.name, inputs.profile_text, profile_source=inputs.profile_source,
+        loading_raw=None if sheet is None else sheet.raw,
+        loading_name=None if sheet is None else sheet.name,
+        label=label, notes=notes, min_hold_s=inputs.min_hold_s,
+    )
+
+
+@st.cache_data(max_entries=16, show_spinner=False)
+def _listing(aircraft: str, token: tuple) -> list[dict]:
+    from trimlog.history import service as history
+
+    with open_history() as store:
+        return history.flight_listing(store, aircraft)
+
+
+def flight_listing(aircraft: str) -> list[dict]:
+    """The stored flights of an aircraft (re-read when the database changes)."""
+    return _listing(aircraft, _db_token())
+
+
+def stored_points(flight_id: int) -> pd.DataFrame:
+    """The points of a stored flight with the choices saved."""
+    with open_history() as store:
+        return store.flight_points(flight_id)
+
+
+@st.cache_data(max_entries=16, show_spinner="Recomputing the trend...")
+def _trend(aircraft: str, margin: float | None, step: float | None, token: tuple) -> dict:
+    from trimlog.history import service as history
+
+    with open_history() as store:
+        return history.trend(store, aircraft, min_margin_pct_mac=margin,
+                             max_step_pct_mac=step).to_dict()
+
+
+def trend(aircraft: str, margin: float | None, step: float | None) -> dict:
+    """The ``trimlog trend`` object for the aircraft under the given policy."""
+    return _trend(aircraft, margin, step, _db_token())
+
+
+@st.cache_data(max_entries=16, show_spinner=False)
+def _trend_png(aircraft: str, margin: float | None, step: float | None, token: tuple) -> bytes:
+    from trimlog.views import plots
+
+    return _png(plots.neutral_point_trend(_trend(aircraft, margin, step, token)["trend"]))
+
+
+def trend_figure(aircraft: str, margin: float | None, step: float | None) -> bytes:
+    """PNG of the neutral-point trend."""
+    return _trend_png(aircraft, margin, step, _db_token())
+
+
+@st.cache_data(max_entries=4, show_spinner="Drawing the PDF report of the history...")
+def _history_pdf(aircraft: str, margin: float | None, step: float | None, token: tuple) -> bytes:
+    from trimlog.history import service as history
+    from trimlog.views import report
+
+    with open_history() as store:
+        result = history.analyze_history(store, aircraft)
+        steps = history.trend(store, aircraft, min_margin_pct_mac=margin,
+                              max_step_pct_mac=step).records()
+    with tempfile.TemporaryDirectory(prefix="trimlog-report-") as tmp:
+        return Path(report.write_report(result, Path(tmp) / "report.pdf",
+                                        trend=steps)).read_bytes()
+
+
+def history_report_pdf(aircraft: str, margin: float | None, step: float | None) -> bytes:
+    """The PDF report of every stored flight with the trend."""
+    return _history_pdf(aircraft, margin, step, _db_token())

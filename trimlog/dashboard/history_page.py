@@ -1,0 +1,170 @@
+"""History page: save flights, follow the neutral point, plan the next CG."""
+
+from __future__ import annotations
+
+import json
+
+import pandas as pd
+import streamlit as st
+
+from trimlog import cautions
+from trimlog.dashboard import common, compute, session
+from trimlog.dashboard.common import interval, num
+from trimlog.errors import TrimlogError
+
+
+def _save() -> None:
+    """Import every readable flight in use, then apply this session's point choices to them."""
+    ss = st.session_state
+    inputs = session.inputs()
+    messages: list[tuple[str, str]] = []
+    try:
+        with compute.open_history() as store:
+            for log, sheet in inputs.logs:
+                try:
+                    outcome = compute.import_flight(store, log, sheet, inputs,
+                                                    ss.labels.get(log.name) or None,
+                                                    ss.notes.get(log.name) or None)
+                except TrimlogError as exc:
+                    messages.append(("error", str(exc)))
+                    continue
+                messages.append(("ok" if outcome.created else "info", outcome.message))
+                for choices, used in ((inputs.exclusions, False), (inputs.inclusions, True)):
+                    for flight, point in choices:
+                        if flight == log.stem:
+                            store.set_point_included(outcome.flight_id, point, used)
+    except TrimlogError as exc:
+        messages.append(("error", str(exc)))
+    ss.history_messages = messages
+
+
+def _store_choices(flight_id: int, points: list[int], before: list[bool],
+                   after: list[bool]) -> bool:
+    """Save the ticks that changed; True when something was written."""
+    changes = [(p, u) for p, b, u in zip(points, before, after, strict=True) if b != u]
+    if not changes:
+        return False
+    try:
+        with compute.open_history() as store:
+            for point, used in changes:
+                store.set_point_included(flight_id, point, used)
+    except TrimlogError as exc:
+        st.session_state.history_messages = [("error", str(exc))]
+    return True
+
+
+def render() -> None:
+    """Draw the page."""
+    ss = st.session_state
+    st.header("History")
+    st.caption(
+        "Saved flights stay on this computer (raw logs byte for byte, your point choices). "
+        f"Database: {compute.history_path()}"
+    )
+    try:
+        p = compute.profile(ss.profile_text, ss.profile_source)
+    except TrimlogError as exc:
+        common.show_error(exc, "The aircraft profile has a problem (see Aircraft)")
+        return
+    n_logs = len(session.logs())
+    st.button(f"Save the {n_logs} flight(s) in use to the history of {p.name}",
+              type="primary", on_click=_save, disabled=not n_logs)
+    for kind, text in ss.pop("history_messages", []):
+        {"ok": st.success, "info": st.info, "error": st.error}[kind](common.esc(text))
+
+    try:
+        listing = compute.flight_listing(p.name)
+    except TrimlogError as exc:
+        st.info(common.esc(f"Nothing saved for this aircraft yet ({exc})."))
+        common.caution_box(cautions.CG_EXPANSION, key="_history")
+        return
+    common.caution_box(key="_history")
+    _listing(listing)
+    _trend(p)
+
+
+def _listing(listing: list[dict]) -> None:
+    st.subheader(f"Saved flights ({len(listing)})")
+    st.dataframe(
+        pd.DataFrame([
+            {"Id": f["id"], "Flight": f["label"], "File": f["filename"], "Date": f["date"],
+             "CG [%MAC]": num(f["cg_pct_mac"]), "Points": f["n_points"],
+             "Used": f["n_included"], "Stabilizer": f["stab_setting"]}
+            for f in listing
+        ]),
+        hide_index=True, width="stretch",
+    )
+    with st.expander("Change which points of a saved flight are used"):
+        ids = [f["id"] for f in listing]
+        names = {f["id"]: f"{f['id']}: {f['label']}" for f in listing}
+        fid = st.selectbox("Saved flight", ids, format_func=names.__getitem__,
+                           key="history_flight")
+        pts = compute.stored_points(fid)
+        shown = [c for c in ("point", "t_start_s", "t_end_s", "ias_kt", "elevator_deg",
+                             "stick_force_lbf", "flags") if c in pts.columns]
+        before = [bool(x) for x in pts["included"]]
+        edited = st.data_editor(pts[["included", *shown]], key=f"history_editor_{fid}",
+                                hide_index=True, disabled=shown, width="stretch")
+        if _store_choices(fid, [int(x) for x in pts["point"]], before,
+                          [bool(x) for x in edited["included"]]):
+            st.rerun()
+
+
+def _trend(p) -> None:
+    st.subheader("Neutral point, flight by flight")
+    c1, c2 = st.columns(2)
+    margin = c1.number_input("Minimum static margin for the next flight [%MAC]",
+                             min_value=0.0, max_value=30.0,
+                             value=float(p.min_static_margin_pct_mac), step=0.5,
+                             key="policy_margin")
+    step = c2.number_input("Largest step aft of the most aft CG flown [%MAC]",
+                           min_value=0.1, max_value=10.0, value=float(p.cg_step_max_pct_mac),
+                           step=0.5, key="policy_step")
+    try:
+        trend = compute.trend(p.name, margin, step)
+    except TrimlogError as exc:
+        common.show_error(exc, "No trend")
+        return
+    records = trend["trend"]
+    png = compute.trend_figure(p.name, margin, step)
+    if png is not None:
+        st.image(png, caption="Estimates of the neutral point as flights were added, with "
+                 "their 95 % intervals, and the CG of each flight added")
+    st.dataframe(
+        pd.DataFrame([
+            {"After flight": f"{r['n_flights']}: {r['label']}", "CG [%MAC]": num(r["cg_pct_mac"]),
+             "Stick-fixed [%MAC]": num(r["stick_fixed_pct_mac"]),
+             "95 % interval": interval(r["ci95_pct_mac"]),
+             "Stick-free [%MAC]": num(r["stick_free_pct_mac"]),
+             "Stick-free 95 %": interval(r["stick_free_ci95_pct_mac"]),
+             "Note": r["reason"] or ""}
+            for r in records
+        ]),
+        hide_index=True, width="stretch",
+    )
+    for w in trend["warnings"]:
+        common.warn(w)
+    nxt = trend["next_step"]
+    st.subheader("Next flight: how far aft")
+    with st.container(border=True, key="next_step"):
+        if nxt["max_cg_pct_mac"] is None:
+            st.markdown("**No step aft is supported yet.**")
+        else:
+            cols = st.columns(3)
+            cols[0].metric("Most aft CG for the next flight",
+                           f"{nxt['max_cg_pct_mac']:.1f} %MAC")
+            cols[1].metric("As a station", num(nxt["max_cg_station_in"], ".1f", "in"))
+            cols[2].metric("Limited by", nxt["limited_by"])
+        st.markdown(common.esc(nxt["reason"]))
+        common.caution_list(nxt["cautions"])
+    left, right = st.columns(2)
+    left.download_button("Trend (JSON)", json.dumps(trend, indent=2, allow_nan=False),
+                         file_name="trimlog-trend.json", mime="application/json")
+    if right.toggle("Prepare the PDF report of the whole history", key="want_history_pdf"):
+        try:
+            pdf = compute.history_report_pdf(p.name, margin, step)
+        except TrimlogError as exc:
+            common.show_error(exc, "No report")
+            return
+        right.download_button("History report (PDF)", pdf, file_name="trimlog-history.pdf",
+                              mime="application/pdf")

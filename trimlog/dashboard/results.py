@@ -1,0 +1,290 @@
+"""Results page: neutral points, margins, stick forces, authority, the shim, the figures."""
+
+from __future__ import annotations
+
+import pandas as pd
+import streamlit as st
+
+from trimlog import cautions
+from trimlog.dashboard import common, compute, session
+from trimlog.dashboard.common import interval, num, with_interval
+from trimlog.errors import TrimlogError
+from trimlog.pipeline.chain import Analysis
+
+FIGURES = (
+    ("trim_curves", "Elevator to trim against CL, one line per flight"),
+    ("gradient_vs_cg", "Trim gradient against CG: where it reaches zero is the neutral point"),
+    ("stick_force_per_q", "Fs/q against CL (stick-free)"),
+    ("stick_force_vs_speed", "Stick force against airspeed"),
+)
+
+
+def _readable(inputs: session.Inputs) -> tuple[list[str], list[tuple[str, TrimlogError]]]:
+    ok, bad = [], []
+    for log, sheet in inputs.logs:
+        try:
+            compute.flight_data(log, sheet, inputs.profile_text, inputs.profile_source,
+                                inputs.min_hold_s)
+        except TrimlogError as exc:
+            bad.append((log.name, exc))
+        else:
+            ok.append(log.name)
+    return ok, bad
+
+
+def render() -> None:
+    """Draw the page."""
+    st.header("Results")
+    common.estimate_note()
+    everything = session.inputs()
+    if not everything.logs:
+        st.info("No flights yet. Add logs on the Flights page (or switch the demo flights on).")
+        st.button("Go to Flights", on_click=common.go_to, args=("Flights",))
+        common.caution_box(statement=False)
+        return
+    try:
+        compute.profile(everything.profile_text, everything.profile_source)
+    except TrimlogError as exc:
+        common.show_error(exc, "The aircraft profile has a problem (see Aircraft)")
+        return
+    ok, bad = _readable(everything)
+    for name, exc in bad:
+        common.show_error(exc, f"{name} is left out of the analysis")
+    inputs = session.inputs(readable=ok)
+    if not inputs.logs:
+        common.caution_box(statement=False)
+        return
+    try:
+        a = compute.run_analysis(inputs)
+    except TrimlogError as exc:
+        common.show_error(exc, "No analysis")
+        common.caution_box(statement=False)
+        return
+    _banner(a)
+    _neutral_points(a)
+    _shim(a)
+    common.caution_box(statement=False)
+    _margins(a)
+    _stick_forces(a)
+    _authority(a)
+    _warnings(a)
+    _figures(inputs)
+    _next_cg(a)
+    _downloads(inputs)
+
+
+def _banner(a: Analysis) -> None:
+    s = a.primary.stability
+    demo = any(f.source not in st.session_state.user_logs for f in a.flights)
+    st.markdown(
+        f"**{common.esc(a.profile.name)}**: {len(a.flights)} flight(s), {s.n_included} points used"
+        + (f", {s.n_excluded} left out" if s.n_excluded else "")
+        + f"; configuration '{a.primary.config}'."
+    )
+    if demo:
+        st.info("Showing the invented demo aircraft and its demo flights. To analyse your "
+                "own: set up the airplane on **Aircraft**, then upload logs on **Flights**.")
+
+
+def _np_metric(col, title: str, np_, help_text: str) -> None:
+    if np_.identifiable:
+        col.metric(title, f"{np_.pct_mac:.1f} %MAC", help=help_text)
+        col.caption(f"95 %: {interval(np_.ci95_pct_mac)} %MAC; station "
+                    f"{num(np_.station_in, '.2f', 'in')}")
+    else:
+        col.metric(title, "not identifiable yet", help=help_text)
+        col.caption(common.esc(np_.reason))
+
+
+def _neutral_points(a: Analysis) -> None:
+    s = a.primary.stability
+    st.subheader("Neutral points")
+    cols = st.columns(4)
+    _np_metric(cols[0], "Stick-fixed neutral point", s.stick_fixed.neutral_point,
+               s.stick_fixed.neutral_point.method + " fit over every point, Fieller interval")
+    if s.stick_free is None:
+        cols[1].metric("Stick-free neutral point", "no force logged")
+    else:
+        _np_metric(cols[1], "Stick-free neutral point", s.stick_free.neutral_point,
+                   "from Fs/q against CL, Fieller interval")
+    two = s.stick_fixed_two_stage.neutral_point
+    _np_metric(cols[2], "Stick-fixed, two-stage check", two,
+               "per-flight gradients against CG; should agree with the pooled value")
+    aft = next((m for m in s.margins if m.label == "aft CG limit"), None)
+    if aft is not None and aft.stick_fixed_pct_mac is not None:
+        cols[3].metric("Static margin at the aft limit",
+                       f"{aft.stick_fixed_pct_mac:.1f} %MAC",
+                       help="stick-fixed; minimum wanted "
+                       f"{a.profile.min_static_margin_pct_mac:.1f} %MAC")
+        cols[3].caption(f"95 %: {interval(aft.stick_fixed_ci95_pct_mac)} %MAC; stick-free "
+                        f"{num(aft.stick_free_pct_mac)} %MAC")
+    cols = st.columns(4)
+    cols[0].caption(f"CG spread flown {s.stick_fixed.neutral_point.cg_spread_pct_mac:.1f} %MAC "
+                    f"over {s.stick_fixed.neutral_point.n_flights} flight(s).")
+
+
+def _shim(a: Analysis) -> None:
+    st.subheader("Stabilizer incidence and shim")
+    rec = a.primary.incidence
+    with st.container(border=True, key="shim"):
+        if rec is None:
+            st.markdown("**No shim recommendation yet.** "
+                        + common.esc(a.primary.incidence_reason or ""))
+        else:
+            if rec.shim_recommended:
+                from trimlog.views import report
+
+                st.markdown(f"**Shim: {rec.shim_thickness_in:.3f} in "
+                            f"({rec.shim_thickness_mm:.2f} mm) under the {rec.shim_location}.**")
+            else:
+                st.markdown("**No shim recommended from these data** (the reason is below).")
+            cols = st.columns(4)
+            cols[0].metric("Elevator at cruise", f"{rec.elevator_at_cruise_deg:+.2f} deg",
+                           help="trailing edge down positive")
+            cols[0].caption(f"95 %: {interval(rec.elevator_at_cruise_ci95_deg, '+.2f')} deg")
+            cols[1].metric("Incidence change", f"{rec.change_deg:+.2f} deg",
+                           help="leading edge up positive")
+            cols[1].caption(f"95 %: {interval(rec.change_ci95_deg, '+.2f')} deg")
+            if rec.shim_recommended:
+                cols[2].metric("Nearest shim stock", f"{rec.shim_stock_thickness_in:.3f} in",
+                               help=f"{rec.shim_stock} stock")
+                cols[2].caption(" + ".join(f"{t:.3f}" for t in rec.shim_stock_sheets)
+                                + f" in = {rec.shim_stock_thickness_mm:.2f} mm")
+            cols[3].metric("Elevator effectiveness tau", f"{rec.tau:.2f}")
+            cols[3].caption(f"{rec.tau_source}; 95 %: {interval(rec.tau_ci95, '.2f')}")
+            st.markdown(rec.words)
+            if rec.shim_recommended:
+                from trimlog.views import report
+
+                st.markdown("Shim with its uncertainty: " + report.shim_text(
+                    rec.to_json(), a.profile.stabilizer_attach_spacing_in) + ".")
+            st.caption(rec.tau_explanation + ". " + rec.change_method + ".")
+            for w in rec.warnings:
+                common.warn(w)
+        common.caution_list(cautions.INCIDENCE)
+
+
+def _margins(a: Analysis) -> None:
+    s = a.primary.stability
+    st.subheader("Static margins")
+    rows = [
+        {
+            "At": m.label,
+            "CG [%MAC]": num(m.cg_pct_mac),
+            "Stick-fixed [%MAC]": with_interval(m.stick_fixed_pct_mac,
+                                                m.stick_fixed_ci95_pct_mac),
+            "Stick-free [%MAC]": with_interval(m.stick_free_pct_mac, m.stick_free_ci95_pct_mac),
+            f"Lower bound >= {a.profile.min_static_margin_pct_mac:.1f} %MAC": {
+                True: "yes", False: "NO", None: "cannot say"}[m.meets_minimum],
+        }
+        for m in s.margins
+    ]
+    st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
+
+
+def _stick_forces(a: Analysis) -> None:
+    s = a.primary.stability
+    st.subheader("Trim gradients and stick force, per flight")
+    rows = [
+        {
+            "Flight": g.flight,
+            "CG [%MAC]": num(g.cg_pct_mac),
+            "Points": g.n_points,
+            "d(elevator)/dCL [deg]": with_interval(g.delev_dcl_deg, g.delev_dcl_ci95_deg, ".2f"),
+            "Elevator verdict": g.elevator_verdict,
+            "Force gradient [lbf/kt]": with_interval(g.dfs_dv_lbf_per_kt,
+                                                     g.dfs_dv_ci95_lbf_per_kt, ".3f"),
+            "Trim speed [KEAS]": num(g.trim_eas_kt, ".0f"),
+            "Stick-force verdict": g.stick_force_verdict,
+        }
+        for g in s.gradients
+    ]
+    st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
+
+
+def _authority(a: Analysis) -> None:
+    auth = a.primary.stability.authority
+    st.subheader("Elevator authority at the forward CG limit")
+    if auth is None:
+        st.caption("Not computed: no profile.")
+        return
+    if not auth.cases:
+        common.warn(f"Not computed: {auth.reason}")
+    for case in auth.cases:
+        text = (f"**{case.case} (CLmax {case.clmax:.2f}) at {case.cg_pct_mac:.1f} %MAC:** "
+                f"{case.verdict}. Elevator to trim {case.elevator_deg:+.1f} deg against the up "
+                f"stop at {case.up_stop_deg:+.1f} deg.")
+        if case.extrapolated:
+            text += " *Extrapolated beyond the CL or configuration flown.*"
+        st.markdown(text)
+        for n in case.notes:
+            st.caption(n)
+    if auth.most_forward_cg_conservative_pct_mac is not None:
+        st.markdown(
+            f"Most forward CG keeping {auth.reserve_deg:.1f} deg of up elevator in reserve: "
+            f"{auth.most_forward_cg_conservative_pct_mac:.1f} %MAC "
+            f"({num(auth.most_forward_cg_station_in, '.1f', 'in')}), conservative."
+        )
+    common.caution_list(cautions.AUTHORITY)
+
+
+def _warnings(a: Analysis) -> None:
+    sources = {f.source for f in a.flights}
+    reading = [w for w in a.warnings if w.split(": ", 1)[0] in sources]
+    other = [w for w in a.warnings if w not in reading]
+    st.subheader(f"Warnings ({len(other)})")
+    for w in other:
+        common.warn(w)
+    if not other:
+        st.caption("None from the analysis.")
+    if reading:
+        with st.expander(f"{len(reading)} notes from reading the files (missing cells, sign "
+                         "flips, skipped lines)"):
+            st.text("\n".join(reading))
+
+
+def _figures(inputs: session.Inputs) -> None:
+    st.subheader("Figures")
+    cols = st.columns(2)
+    for i, (kind, caption) in enumerate(FIGURES):
+        try:
+            png = compute.figure(kind, inputs)
+        except TrimlogError as exc:
+            cols[i % 2].info(common.esc(f"{caption}: not drawn ({exc})"))
+            continue
+        if png is None:
+            cols[i % 2].info(f"{caption}: appears once trimlog.views.plots is installed.")
+        else:
+            cols[i % 2].image(png, caption=caption)
+
+
+def _next_cg(a: Analysis) -> None:
+    nxt = a.primary.stability.next_cg
+    st.subheader("Where to fly next to narrow the neutral point")
+    if nxt.cg_pct_mac is None:
+        st.markdown(common.esc(nxt.reason))
+    else:
+        st.markdown(
+            f"A flight at **{nxt.cg_pct_mac:.1f} %MAC ({num(nxt.station_in, '.1f', 'in')})** "
+            "would shrink the neutral point's standard error from "
+            f"{num(nxt.current_se_pct_mac, '.2f')} to {num(nxt.predicted_se_pct_mac, '.2f')} "
+            f"%MAC ({nxt.criterion}). {common.esc(nxt.reason)}"
+        )
+    common.caution_list(cautions.CG_EXPANSION)
+
+
+def _downloads(inputs: session.Inputs) -> None:
+    st.subheader("Take the results with you")
+    cols = st.columns(3)
+    cols[0].download_button("Results (JSON)", compute.json_text(inputs),
+                            file_name="trimlog-result.json", mime="application/json")
+    cols[1].download_button("Points (CSV)", compute.points_csv(inputs),
+                            file_name="trimlog-points.csv", mime="text/csv")
+    if cols[2].toggle("Prepare the PDF report", key="want_pdf"):
+        try:
+            pdf = compute.report_pdf(inputs)
+        except TrimlogError as exc:
+            common.show_error(exc, "No report")
+            return
+        cols[2].download_button("Report (PDF)", pdf, file_name="trimlog-report.pdf",
+                                mime="application/pdf")

@@ -1,0 +1,178 @@
+"""What the user gave the dashboard, kept in Streamlit's session state.
+
+Uploaded bytes live only here, in memory (and in the history store when the
+user saves); they are never written to a file, and an uploaded file's name is
+kept as text for messages and flight names, never used as a path.
+"""
+
+from __future__ import annotations
+
+import hashlib
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import streamlit as st
+
+from trimlog.demo import model as demo
+from trimlog.pipeline.chain import LOADING_SHEET_SUFFIX
+
+DEMO_DIR = Path(__file__).resolve().parent.parent.parent / "sample_logs"
+DEMO_SOURCE = demo.PROFILE_FILE
+
+
+@dataclass(frozen=True)
+class FileBytes:
+    """One file as the user gave it: its name (text only) and its bytes."""
+
+    name: str
+    raw: bytes = field(repr=False)
+    digest: str = ""
+
+    @classmethod
+    def of(cls, name: str, raw: bytes) -> FileBytes:
+        """Wrap bytes with their SHA-256 (the cache key)."""
+        return cls(name, bytes(raw), hashlib.sha256(raw).hexdigest())
+
+    @property
+    def stem(self) -> str:
+        """The name up to its first dot (``flight2.loading.toml`` -> ``flight2``)."""
+        return self.name.split(".")[0] or self.name
+
+
+@dataclass(frozen=True)
+class Inputs:
+    """Everything an analysis depends on; ``key`` identifies it for the caches."""
+
+    profile_text: str
+    profile_source: str
+    logs: tuple[tuple[FileBytes, FileBytes | None], ...]
+    min_hold_s: float | None
+    exclusions: tuple[tuple[str, int], ...]
+    inclusions: tuple[tuple[str, int], ...] = ()
+
+    @property
+    def key(self) -> str:
+        """Digest of every input."""
+        h = hashlib.sha256()
+        for part in (self.profile_text, self.profile_source, repr(self.min_hold_s),
+                     repr(self.exclusions), repr(self.inclusions)):
+            h.update(part.encode("utf-8") + b"\0")
+        for log, sheet in self.logs:
+            h.update(f"{log.name}\0{log.digest}\0".encode())
+            h.update(b"-" if sheet is None else f"{sheet.name}\0{sheet.digest}".encode())
+        return h.hexdigest()
+
+
+def is_loading_sheet(name: str) -> bool:
+    """Whether an uploaded file is a loading sheet (a TOML file) rather than a log."""
+    return name.lower().endswith(".toml")
+
+
+def _demo_files() -> tuple[dict[str, FileBytes], dict[str, FileBytes]]:
+    logs, sheets = {}, {}
+    if DEMO_DIR.is_dir():
+        for path in sorted(DEMO_DIR.glob("flight*.csv")):
+            logs[path.name] = FileBytes.of(path.name, path.read_bytes())
+        for path in sorted(DEMO_DIR.glob(f"*{LOADING_SHEET_SUFFIX}")):
+            sheets[path.name] = FileBytes.of(path.name, path.read_bytes())
+    return logs, sheets
+
+
+_WIDGET_KEYS = ("use_demo", "min_hold_s", "points_flight")
+
+
+def init() -> None:
+    """Set the defaults on a new session: the demo aircraft with its flights."""
+    ss = st.session_state
+    if "profile_text" in ss:
+        # Keep the values of widgets that are drawn on one page only.
+        for key in _WIDGET_KEYS:
+            if key in ss:
+                ss[key] = ss[key]
+        return
+    ss.profile_text = demo.PROFILE_TOML
+    ss.profile_source = DEMO_SOURCE
+    ss.demo_logs, ss.demo_sheets = _demo_files()
+    ss.use_demo = bool(ss.demo_logs)
+    ss.user_logs = {}
+    ss.user_sheets = {}
+    ss.sheet_for = {}
+    ss.labels = {}
+    ss.notes = {}
+    # The user's choices where they differ from trimlog's own: points to leave out, and
+    # points trimlog left out (a flag, an elevator at a stop) to fit all the same.
+    ss.exclusions = set()
+    ss.inclusions = set()
+    ss.min_hold_s = None
+    ss.uploader_round = 0
+
+
+def add_uploads(files: list[tuple[str, bytes]]) -> list[str]:
+    """Keep uploaded files (same name replaces); return the names added."""
+    ss = st.session_state
+    added = []
+    for name, raw in files:
+        item = FileBytes.of(name, raw)
+        target = ss.user_sheets if is_loading_sheet(name) else ss.user_logs
+        target[name] = item
+        added.append(name)
+    if any(not is_loading_sheet(n) for n in added) and ss.use_demo:
+        # Your own flights replace the demo flights; the toggle brings them back.
+        ss.use_demo = False
+    return added
+
+
+def remove_upload(name: str) -> None:
+    """Forget an uploaded file and the choices tied to it."""
+    ss = st.session_state
+    ss.user_logs.pop(name, None)
+    ss.user_sheets.pop(name, None)
+    ss.sheet_for.pop(name, None)
+
+
+def logs() -> dict[str, FileBytes]:
+    """Logs in use: the user's, plus the demo flights when switched on (a user file wins)."""
+    ss = st.session_state
+    out = dict(ss.demo_logs) if ss.use_demo else {}
+    out.update(ss.user_logs)
+    return out
+
+
+def sheets() -> dict[str, FileBytes]:
+    """Loading sheets available: the user's, plus the demo ones when the demo is on."""
+    ss = st.session_state
+    out = dict(ss.demo_sheets) if ss.use_demo else {}
+    out.update(ss.user_sheets)
+    return out
+
+
+def sheet_choice(log_name: str) -> str | None:
+    """The loading sheet chosen for a log: the user's pick, else the one named like it."""
+    ss = st.session_state
+    available = sheets()
+    if log_name in ss.sheet_for:
+        chosen = ss.sheet_for[log_name]
+        return chosen if chosen in available else None
+    stem = log_name.split(".")[0]
+    matches = [n for n, f in available.items() if f.stem == stem]
+    return matches[0] if matches else None
+
+
+def inputs(readable: list[str] | None = None) -> Inputs:
+    """The analysis inputs now, limited to ``readable`` logs when given."""
+    ss = st.session_state
+    available = sheets()
+    pairs = []
+    for name, log in logs().items():
+        if readable is not None and name not in readable:
+            continue
+        sheet = sheet_choice(name)
+        pairs.append((log, available.get(sheet) if sheet else None))
+    return Inputs(
+        profile_text=ss.profile_text,
+        profile_source=ss.profile_source,
+        logs=tuple(pairs),
+        min_hold_s=ss.min_hold_s,
+        exclusions=tuple(sorted(ss.exclusions)),
+        inclusions=tuple(sorted(ss.inclusions)),
+    )

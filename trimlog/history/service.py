@@ -1,0 +1,380 @@
+"""The flight history of an aircraft: import flights, recompute, follow the trend.
+
+This module joins the store (:mod:`trimlog.history.store`, every SQL statement) and
+the analysis chain.  The store keeps the raw bytes of every log, its loading
+sheet, the points found with the user's include/exclude choices, and each
+analysis result; everything here can be recomputed from those.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import pandas as pd
+
+from trimlog import cautions
+from trimlog.errors import InputFileError, StoreError, TrimlogError
+from trimlog.history.codec import clean
+from trimlog.history.store import AircraftRecord, FlightRecord, ImportOutcome, Store
+from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
+from trimlog.input.profile import AircraftProfile, parse_profile
+from trimlog.pipeline import chain
+from trimlog.pipeline.reduction import reduce_points
+from trimlog.stability.trend import NextStep, TrendStep, neutral_point_sequence, plan_next_step
+
+_SHEET_TEXT = "sheet_text"
+_SHEET_NAME = "sheet_name"
+
+
+# --------------------------------------------------------------------------- import
+
+
+def import_flight(
+    store: Store,
+    raw: bytes,
+    name: str,
+    profile_text: str,
+    *,
+    profile_source: str = "<profile>",
+    loading_raw: bytes | None = None,
+    loading_name: str | None = None,
+    label: str | None = None,
+    notes: str | None = None,
+    min_hold_s: float | None = None,
+) -> ImportOutcome:
+    """Read one log, find its points and add it to the aircraft's history.
+
+    Parameters
+    ----------
+    store : Store
+    raw : bytes
+        The log exactly as the logger wrote it (kept byte for byte).
+    name : str
+        Its file name (data only, never used as a path).
+    profile_text : str
+        The aircraft profile TOML; the aircraft is the profile's name.
+    profile_source : str
+        Where the profile came from, for messages.
+    loading_raw, loading_name : bytes and str, optional
+        The flight's loading sheet.
+    label, notes : str, optional
+        Default to the loading sheet's.
+    min_hold_s : float, optional
+        Minimum duration of a stabilized point [s].
+
+    Returns
+    -------
+    ImportOutcome
+        ``created`` False when the same bytes were imported before (nothing changes).
+
+    Raises
+    ------
+    TrimlogError
+        A bad profile, log or loading sheet, or a log holding several flights.
+    """
+    profile = parse_profile(profile_text, source=profile_source)
+    sheet = (
+        read_loading_sheet(loading_raw, name=loading_name or "loading sheet")
+        if loading_raw is not None else None
+    )
+    flights = chain.load_flight_bytes(raw, name, profile, loading=sheet, min_hold_s=min_hold_s)
+    if len(flights) != 1:
+        raise InputFileError(
+            f"holds {len(flights)} flights (a 'flight' column); the history takes one flight "
+            "per file: split the file",
+            file=name,
+        )
+    flight = flights[0]
+    aircraft = store.upsert_aircraft(profile.name, profile_text)
+    loading: dict[str, Any] | None = None
+    if loading_raw is not None:
+        loading = {_SHEET_NAME: loading_name, _SHEET_TEXT: loading_raw.decode("utf-8-sig")}
+    return store.import_flight(
+        aircraft.id,
+        raw,
+        name,
+        flight.points,
+        label=label or (sheet.label if sheet is not None and sheet.label else None),
+        date=sheet.date if sheet is not None else None,
+        notes=notes or (sheet.notes if sheet is not None and sheet.notes else None),
+        loading=loading,
+        incidence_label=sheet.stab_setting if sheet is not None else None,
+        incidence_deg=sheet.stab_incidence_deg if sheet is not None else None,
+        config=None if sheet is None or sheet.flap_deg is None else f"flaps {sheet.flap_deg:g}",
+    )
+
+
+def import_log(
+    store: Store,
+    path: str | Path,
+    *,
+    profile_text: str,
+    profile_source: str,
+    loading_path: str | Path | None = None,
+    label: str | None = None,
+    notes: str | None = None,
+    min_hold_s: float | None = None,
+) -> ImportOutcome:
+    """:func:`import_flight` for a file on disk, its loading sheet found beside it."""
+    path = Path(path)
+    try:
+        raw = path.read_bytes()
+    except OSError as exc:
+        raise InputFileError(f"cannot read the file: {exc.strerror}", file=str(path)) from None
+    sheet_path = Path(loading_path) if loading_path else chain.sibling_sheet(path)
+    loading_raw = None
+    if sheet_path is not None:
+        try:
+            loading_raw = sheet_path.read_bytes()
+        except OSError as exc:
+            raise InputFileError(
+                f"cannot read the loading sheet: {exc.strerror}", file=str(sheet_path)
+            ) from None
+    return import_flight(
+        store, raw, path.name, profile_text, profile_source=profile_source,
+        loading_raw=loading_raw, loading_name=None if sheet_path is None else sheet_path.name,
+        label=label, notes=notes, min_hold_s=min_hold_s,
+    )
+
+
+# --------------------------------------------------------------------------- reading back
+
+
+def _aircraft(store: Store, aircraft: str | None) -> AircraftRecord:
+    if aircraft is not None:
+        record = store.find_aircraft(aircraft)
+        if record is None:
+            names = ", ".join(a.name for a in store.aircraft_list()) or "none"
+            raise StoreError(f"no aircraft named '{aircraft}' in the history (found: {names})")
+        return record
+    records = store.aircraft_list()
+    if not records:
+        raise StoreError("the history is empty: add flights with 'trimlog import'")
+    if len(records) > 1:
+        names = ", ".join(f"'{a.name}'" for a in records)
+        raise StoreError(f"the history holds several aircraft ({names}): name one")
+    return records[0]
+
+
+def _sheet(record: FlightRecord) -> LoadingSheet | None:
+    if not record.loading or _SHEET_TEXT not in record.loading:
+        return None
+    return read_loading_sheet(
+        record.loading[_SHEET_TEXT].encode("utf-8"), name=record.loading.get(_SHEET_NAME)
+    )
+
+
+def _flight_names(records: list[FlightRecord]) -> dict[int, str]:
+    """Flight names as the analysis shows them: the file's stem, made unique by the id."""
+    stems = {r.id: Path(r.filename).name.split(".")[0] or f"flight{r.id}" for r in records}
+    counts = pd.Series(list(stems.values())).value_counts()
+    return {fid: stem if counts[stem] == 1 else f"{stem}#{fid}" for fid, stem in stems.items()}
+
+
+@dataclass(frozen=True, eq=False)
+class _Stored:
+    aircraft: AircraftRecord
+    profile: AircraftProfile
+    records: list[FlightRecord]
+    names: dict[int, str]
+    points: pd.DataFrame
+    sheets: dict[str, LoadingSheet]
+
+
+def _load(store: Store, aircraft: str | None) -> _Stored:
+    record = _aircraft(store, aircraft)
+    profile = parse_profile(record.profile_text, source=f"history: {record.name}")
+    records = store.flights(record.id)
+    names = _flight_names(records)
+    points = store.all_points(record.id)
+    if len(points):
+        points["flight"] = points["flight_id"].map(names)
+        points = points.drop(columns=["flight_id"])
+    sheets = {names[r.id]: s for r in records if (s := _sheet(r)) is not None}
+    return _Stored(record, profile, records, names, points, sheets)
+
+
+def analyze_history(store: Store, aircraft: str | None = None) -> chain.Analysis:
+    """Recompute the full analysis of every stored flight (the user's exclusions kept)."""
+    stored = _load(store, aircraft)
+    if not stored.records:
+        raise StoreError(f"no flights stored for '{stored.aircraft.name}' yet")
+    flights = []
+    for r in stored.records:
+        name = stored.names[r.id]
+        read = chain.load_flight_bytes(store.raw_bytes(r.id), r.filename, stored.profile,
+                                       loading=stored.sheets.get(name))[0]
+        mine = stored.points.loc[stored.points["flight"] == name].reset_index(drop=True)
+        flights.append(chain.FlightData(name, r.filename, read.sha256, read.log, mine,
+                                        read.loading))
+    return chain.analyze(flights, stored.profile)
+
+
+# --------------------------------------------------------------------------- trend
+
+
+@dataclass(frozen=True, eq=False)
+class Trend:
+    """The neutral point flight by flight and the next-CG plan."""
+
+    aircraft: str
+    flights: tuple[dict[str, Any], ...]
+    steps: tuple[TrendStep, ...]
+    next_step: NextStep
+    configuration: str
+    warnings: tuple[str, ...]
+
+    @property
+    def identifiable(self) -> bool:
+        """Whether the latest stick-fixed estimate is supported by the data."""
+        return bool(self.steps) and self.steps[-1].stick_fixed.identifiable
+
+    def records(self) -> list[dict[str, Any]]:
+        """One plain record per step (for plots and tables)."""
+        out = []
+        for step in self.steps:
+            fixed, free = step.stick_fixed, step.stick_free
+            out.append({
+                "n_flights": step.n_flights,
+                "label": step.flight,
+                "cg_pct_mac": step.cg_pct_mac,
+                "stick_fixed_pct_mac": fixed.pct_mac if fixed.identifiable else None,
+                "ci95_pct_mac": list(fixed.ci95_pct_mac) if fixed.identifiable else None,
+                "identifiable": fixed.identifiable,
+                "reason": fixed.reason or None,
+                "stick_free_pct_mac": (
+                    free.pct_mac if free is not None and free.identifiable else None),
+                "stick_free_ci95_pct_mac": (
+                    list(free.ci95_pct_mac) if free is not None and free.identifiable else None),
+            })
+        return out
+
+    def to_dict(self) -> dict[str, Any]:
+        """The ``trimlog trend --json`` object (a contract: keys are never renamed)."""
+        n = self.next_step
+        return clean({
+            "aircraft": self.aircraft,
+            "configuration": self.configuration,
+            "flights": list(self.flights),
+            "trend": self.records(),
+            "next_step": {
+                "max_cg_pct_mac": n.max_cg_pct_mac,
+                "max_cg_station_in": n.max_cg_station_in,
+                "min_static_margin_pct_mac": n.min_static_margin_pct_mac,
+                "reason": n.reason,
+                "limited_by": n.limited_by,
+                "step_max_pct_mac": n.step_max_pct_mac,
+                "most_aft_flown_pct_mac": n.most_aft_flown_pct_mac,
+                "cautions": [cautions.ESTIMATE_STATEMENT, *cautions.CG_EXPANSION],
+            },
+            "warnings": list(self.warnings),
+        })
+
+
+def flight_listing(store: Store, aircraft: str | None = None) -> list[dict[str, Any]]:
+    """The stored flights with their mean CG and point counts."""
+    stored = _load(store, aircraft)
+    reduced, _, config = _reduce(stored)
+    return list(_listing(stored, _cg_by_flight(reduced, config)))
+
+
+def _reduce(stored: _Stored) -> tuple[pd.DataFrame | None, list[str], str]:
+    """Reduced points of the history, its warnings and the primary configuration."""
+    if not len(stored.points):
+        return None, [], "clean"
+    result = reduce_points(stored.points, stored.profile, stored.sheets)
+    warnings = list(result.warnings)
+    used = result.points.loc[result.points["included"].astype(bool)]
+    counts = used.groupby("config").size()
+    config = "clean"
+    if len(counts):
+        ranked = sorted(counts.items(), key=lambda kv: (-kv[1], kv[0] != "clean"))
+        config = str(ranked[0][0])
+        if len(counts) > 1:
+            warnings.append(f"the trend uses configuration '{config}' only")
+    return result.points, warnings, config
+
+
+def _cg_by_flight(reduced: pd.DataFrame | None, config: str) -> dict[str, float]:
+    if reduced is None:
+        return {}
+    used = reduced.loc[(reduced["config"] == config) & reduced["included"].astype(bool)]
+    return used.groupby("flight")["cg_pct_mac"].mean().to_dict()
+
+
+def _listing(stored: _Stored, cg_by_flight: dict[str, float]) -> tuple[dict[str, Any], ...]:
+    return tuple(
+        {
+            "id": r.id,
+            "label": r.label or stored.names[r.id],
+            "name": stored.names[r.id],
+            "filename": r.filename,
+            "sha256": r.sha256,
+            "date": None if r.date is None else r.date.isoformat(),
+            "cg_pct_mac": _finite_or_none(cg_by_flight.get(stored.names[r.id])),
+            "n_points": r.n_points,
+            "n_included": r.n_included,
+            "stab_setting": r.incidence_label,
+        }
+        for r in stored.records
+    )
+
+
+def trend(
+    store: Store,
+    aircraft: str | None = None,
+    *,
+    min_margin_pct_mac: float | None = None,
+    max_step_pct_mac: float | None = None,
+) -> Trend:
+    """Neutral point after each successive flight, and the next-CG plan.
+
+    The trend uses the primary configuration (the one with most included
+    points, clean first), as the full analysis does.
+    """
+    stored = _load(store, aircraft)
+    profile = stored.profile
+    reduced, warnings, config = _reduce(stored)
+    cg_by_flight = _cg_by_flight(reduced, config)
+    steps: tuple[TrendStep, ...] = ()
+    if reduced is not None:
+        order = [stored.names[r.id] for r in stored.records]
+        steps = neutral_point_sequence(reduced.loc[reduced["config"] == config], order, profile)
+    latest = steps[-1].stick_fixed if steps else None
+    if latest is None:
+        next_step = NextStep(None, None, min_margin_pct_mac or profile.min_static_margin_pct_mac,
+                             max_step_pct_mac or profile.cg_step_max_pct_mac, None, "none",
+                             "no flight with usable points yet")
+    else:
+        next_step = plan_next_step(
+            latest, list(cg_by_flight.values()), profile, min_margin_pct_mac=min_margin_pct_mac,
+            step_max_pct_mac=max_step_pct_mac,
+            aft_gradient_clearly_stable=_aft_flight_clearly_stable(reduced, config, cg_by_flight),
+        )
+    return Trend(stored.aircraft.name, _listing(stored, cg_by_flight), steps, next_step, config,
+                 tuple(dict.fromkeys(warnings)))
+
+
+def _aft_flight_clearly_stable(
+    reduced: pd.DataFrame | None, config: str, cg_by_flight: dict[str, float]
+) -> bool:
+    """Whether the most aft flight's elevator-to-trim gradient is negative with its whole CI."""
+    if reduced is None or not cg_by_flight:
+        return False
+    from trimlog.stability.neutral_points import flight_gradients
+
+    aft = max(cg_by_flight, key=cg_by_flight.get)
+    part = reduced.loc[(reduced["config"] == config) & (reduced["flight"] == aft)]
+    try:
+        gradient = flight_gradients(part)[0]
+    except (TrimlogError, IndexError):
+        return False
+    ci = gradient.delev_dcl_ci95_deg
+    return ci is not None and ci[1] < 0.0
+
+
+def _finite_or_none(value: float | None) -> float | None:
+    return None if value is None or not math.isfinite(value) else float(value)

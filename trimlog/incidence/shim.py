@@ -1,0 +1,521 @@
+"""Stabilizer incidence: the incidence change and the shim to cut.
+
+A fixed stabilizer whose elevator is not near neutral in cruise costs trim
+drag; the fix is the stabilizer incidence.  This module turns the elevator at
+cruise (from the stability fit) and the elevator effectiveness ``tau`` (from
+:mod:`trimlog.incidence.tau`) into an incidence change and a shim under one pair of
+attach fittings.
+
+Conventions (DEVELOPERS.md): elevator trailing-edge down positive, stabilizer
+incidence leading-edge up positive.  The tail's lift goes with
+``alpha - epsilon + i_t + tau * delta_e``, so ``delta_i_t = tau *
+delta_e_cruise`` brings the elevator to neutral at cruise.
+
+All functions take plain numbers (estimates, intervals), not fit objects, so
+the stability fit and this module stay independent.
+
+References
+----------
+.. [1] B. Etkin and L. D. Reid, *Dynamics of Flight: Stability and Control*,
+   3rd ed., Wiley, 1996, ch. 2 (tail lift linear in the tail angle of attack
+   and the elevator).
+.. [2] J. Roskam, *Airplane Design, Part VI*, DARcorporation, 1987, fig. 8.13
+   (plain-flap effectiveness falling off at larger deflections).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, fields
+from typing import Any, Literal
+
+import numpy as np
+import pandas as pd
+
+from trimlog import cautions
+from trimlog.errors import TrimlogError
+from trimlog.incidence.tau import TauChoice, TauSource, _finite
+from trimlog.input.profile import AircraftProfile
+from trimlog.physics import airspeed
+
+# Shim stock: common aluminium/steel sheet gauges and metric sheet or washer
+# thicknesses; common practice, no source.  Up to two sheets may be stacked.
+INCH_STOCK_IN = (0.016, 0.020, 0.025, 0.032, 0.040, 0.050, 0.063, 0.071, 0.080, 0.090,
+                 0.100, 0.125)
+METRIC_STOCK_MM = (0.5, 1.0, 1.5, 2.0, 2.5, 3.0)
+MM_PER_IN = 25.4
+
+# Usual absolute incidence of a light airplane's stabilizer to the waterline
+# [deg]; common practice, no source.
+USUAL_INCIDENCE_RANGE_DEG = (-2.0, 1.0)
+
+# Beyond about this deflection a plain flap's effectiveness falls below the
+# linear value (Roskam [2] fig. 8.13; from memory).
+LINEAR_DEFLECTION_LIMIT_DEG = 10.0
+
+_MONTE_CARLO_DRAWS = 40_000
+_MONTE_CARLO_SEED = 20_240_501
+_Z95 = 1.959963984540054
+
+
+def _interval(name: str, value: Any, centre: float | None = None) -> tuple[float, float]:
+    try:
+        lo, hi = (float(v) for v in value)
+    except (TypeError, ValueError):
+        raise TrimlogError(f"{name}: expected [lo, hi], found {value!r}") from None
+    lo, hi = _finite(f"{name}[0]", lo), _finite(f"{name}[1]", hi)
+    if lo > hi or (centre is not None and not lo <= centre <= hi):
+        raise TrimlogError(
+            f"{name}: expected lo <= estimate <= hi, found [{lo:g}, {hi:g}]"
+            + (f" around {centre:g}" if centre is not None else "")
+        )
+    return lo, hi
+
+
+# ---------------------------------------------------------------- incidence change
+
+@dataclass(frozen=True)
+class IncidenceChange:
+    """Delta_i_t = tau * delta_e_cruise with its interval."""
+
+    change_deg: float
+    ci95_deg: tuple[float, float]
+    method: str
+
+
+def _split_normal(centre: float, lo: float, hi: float, z: np.ndarray) -> np.ndarray:
+    return centre + np.where(z < 0.0, (centre - lo), (hi - centre)) / _Z95 * z
+
+
+def incidence_change(
+    elevator_cruise_deg: float,
+    elevator_ci95: tuple[float, float],
+    tau: float,
+    tau_ci95: tuple[float, float],
+) -> IncidenceChange:
+    """Incidence change that brings the elevator to neutral at cruise.
+
+    Parameters
+    ----------
+    elevator_cruise_deg : float
+        Elevator at the cruise condition [deg], trailing-edge down positive.
+    elevator_ci95 : (float, float)
+        Its 95 % interval [deg].
+    tau : float
+        Elevator effectiveness [-].
+    tau_ci95 : (float, float)
+        Its 95 % interval [-] (may be asymmetric, e.g. Fieller).
+
+    Returns
+    -------
+    IncidenceChange
+        ``change_deg = tau * elevator_cruise_deg`` [deg], leading-edge up
+        positive, and its 95 % interval.
+
+    Notes
+    -----
+    The interval is propagated by Monte Carlo with a fixed seed (so the
+    same inputs always give the same interval): each input is drawn from a
+    split normal whose two halves match the lower and upper half-widths of
+    its interval, the two independently, and the 2.5 and 97.5 percentiles
+    of ``tau * delta_e`` are taken.  A negative elevator (trailing edge up)
+    gives a negative change: the leading edge goes down (common practice,
+    no source).
+
+    References
+    ----------
+    Tail lift linear in ``alpha - epsilon + i_t + tau delta_e``: Etkin &
+    Reid, *Dynamics of Flight*, ch. 2; Nelson, *Flight Stability and
+    Automatic Control*, ch. 2.
+
+    Examples
+    --------
+    >>> incidence_change(-2.0, (-2.4, -1.6), 0.5, (0.45, 0.55)).change_deg
+    -1.0
+    """
+    de = _finite("elevator_cruise_deg", elevator_cruise_deg)
+    de_lo, de_hi = _interval("elevator_ci95", elevator_ci95, de)
+    t = _finite("tau", tau)
+    t_lo, t_hi = _interval("tau_ci95", tau_ci95, t)
+    rng = np.random.default_rng(_MONTE_CARLO_SEED)
+    z = rng.standard_normal((2, _MONTE_CARLO_DRAWS))
+    draws = _split_normal(t, t_lo, t_hi, z[0]) * _split_normal(de, de_lo, de_hi, z[1])
+    lo, hi = np.percentile(draws, [2.5, 97.5])
+    return IncidenceChange(
+        change_deg=t * de,
+        ci95_deg=(float(lo), float(hi)),
+        method=(
+            f"Monte Carlo, {_MONTE_CARLO_DRAWS} draws, fixed seed; split-normal inputs "
+            "matched to each 95 % interval, independent"
+        ),
+    )
+
+
+# ---------------------------------------------------------------------------- shim
+
+@dataclass(frozen=True)
+class ShimResult:
+    """The shim for one incidence change: exact, rounded to stock, in words."""
+
+    change_deg: float
+    spacing_in: float
+    thickness_in: float
+    thickness_mm: float
+    location: str | None
+    stock: str
+    stock_sheets: tuple[float, ...]
+    stock_thickness_in: float
+    stock_thickness_mm: float
+    stock_change_deg: float
+    recommended: bool
+    residual_elevator_deg: float | None
+    current_incidence_deg: float | None
+    new_incidence_deg: float | None
+    words: str
+    warnings: tuple[str, ...] = ()
+
+
+def shim_thickness_in(change_deg: Any, spacing_in: float) -> Any:
+    """Shim thickness that tilts the stabilizer by an angle.
+
+    Parameters
+    ----------
+    change_deg : float, array or Series
+        Incidence change [deg] (sign ignored).
+    spacing_in : float
+        Fore-aft distance between the front and rear attach points [in].
+
+    Returns
+    -------
+    float, array or Series
+        ``spacing * tan(|change|)`` [in].
+
+    References
+    ----------
+    Right-triangle identity: rise = run x tan(angle).
+
+    Examples
+    --------
+    >>> round(shim_thickness_in(1.0, 300 / 25.4) * 25.4, 3)
+    5.237
+    """
+    spacing = _finite("stabilizer_attach_spacing_in", spacing_in)
+    if spacing <= 0.0:
+        raise TrimlogError(f"stabilizer_attach_spacing_in: expected > 0, found {spacing:g}")
+    result = spacing * np.tan(np.radians(np.abs(np.asarray(change_deg, dtype=float))))
+    if isinstance(change_deg, pd.Series):
+        return pd.Series(result, index=change_deg.index, name="shim_in")
+    return result if result.ndim else float(result)
+
+
+def _stock_choices(stock: str) -> tuple[tuple[tuple[float, ...], float], ...]:
+    """Every stack of zero, one or two sheets, with its thickness in inches."""
+    if stock == "inch":
+        sheets, to_in = INCH_STOCK_IN, 1.0
+    elif stock == "metric":
+        sheets, to_in = METRIC_STOCK_MM, 1.0 / MM_PER_IN
+    else:
+        raise TrimlogError(f"shim stock: expected 'inch' or 'metric', found {stock!r}")
+    stacks = [((), 0.0)]
+    stacks += [((s,), s * to_in) for s in sheets]
+    stacks += [((a, b), (a + b) * to_in) for i, a in enumerate(sheets) for b in sheets[i:]]
+    return tuple(sorted(stacks, key=lambda item: (item[1], len(item[0]))))
+
+
+def _stock_text(sheets: tuple[float, ...], stock: str) -> str:
+    unit = "in" if stock == "inch" else "mm"
+    fmt = "{:.3f}" if stock == "inch" else "{:.1f}"
+    if len(sheets) == 1:
+        return f"one {fmt.format(sheets[0])} {unit} sheet"
+    return " + ".join(fmt.format(s) for s in sheets) + f" {unit} (two sheets stacked)"
+
+
+def shim(
+    change_deg: float,
+    spacing_in: float,
+    *,
+    change_ci95_deg: tuple[float, float] | None = None,
+    elevator_cruise_deg: float | None = None,
+    tau: float | None = None,
+    current_incidence_deg: float | None = None,
+    stock: Literal["inch", "metric"] = "inch",
+) -> ShimResult:
+    """Size the shim for an incidence change, rounded to practical stock.
+
+    Parameters
+    ----------
+    change_deg : float
+        Incidence change [deg], leading-edge up positive.
+    spacing_in : float
+        Fore-aft distance between front and rear attach points [in].
+    change_ci95_deg : (float, float), optional
+        95 % interval of the change [deg]; when it contains zero no change is
+        recommended.
+    elevator_cruise_deg, tau : float, optional
+        Elevator at cruise [deg] and tau [-], to state the residual elevator
+        after the rounded shim.
+    current_incidence_deg : float, optional
+        Present incidence to the waterline [deg], to state the new one.
+    stock : {"inch", "metric"}
+        Which stock list to round to (:data:`INCH_STOCK_IN` or
+        :data:`METRIC_STOCK_MM`); up to two sheets stacked.
+
+    Returns
+    -------
+    ShimResult
+        Exact thickness (in and mm), which fitting to raise, the nearest
+        stack of stock (ties go to the thinner), the residual elevator
+        ``delta_e - delta_i_rounded / tau``, the new incidence, the words.
+
+    Notes
+    -----
+    Leading edge down (change < 0) means raising the rear attach points (or
+    lowering the front ones); leading edge up means raising the front.  No
+    change is recommended when the nearest stock is no shim at all or the
+    change's interval contains zero.  The new incidence is checked against
+    :data:`USUAL_INCIDENCE_RANGE_DEG` (common practice, no source).
+
+    References
+    ----------
+    Thickness = spacing x tan(|change|) (right-triangle identity).
+    """
+    change = _finite("change_deg", change_deg)
+    exact_in = shim_thickness_in(change, spacing_in)
+    spacing = float(spacing_in)
+    warnings: list[str] = []
+    sheets, stock_in = min(_stock_choices(stock), key=lambda item: abs(item[1] - exact_in))
+    interval_has_zero = False
+    if change_ci95_deg is not None:
+        lo, hi = _interval("change_ci95_deg", change_ci95_deg, change)
+        interval_has_zero = lo <= 0.0 <= hi
+    recommended = bool(sheets) and not interval_has_zero
+    if not recommended:
+        sheets, stock_in = (), 0.0
+    stock_change = (
+        math.copysign(math.degrees(math.atan(stock_in / spacing)), change) if stock_in else 0.0
+    )
+    location = None if change == 0.0 else ("rear" if change < 0.0 else "front")
+
+    residual = None
+    if elevator_cruise_deg is not None and tau is not None:
+        t = _finite("tau", tau)
+        if t <= 0.0:
+            raise TrimlogError(f"tau: expected > 0, found {t:g}")
+        residual = _finite("elevator_cruise_deg", elevator_cruise_deg) - stock_change / t
+    new_incidence = None
+    if current_incidence_deg is not None:
+        new_incidence = _finite("current_incidence_deg", current_incidence_deg) + stock_change
+        low, high = USUAL_INCIDENCE_RANGE_DEG
+        if not low <= new_incidence <= high:
+            warnings.append(
+                f"the stabilizer incidence would be {new_incidence:+.2f} deg to the waterline, "
+                f"outside the usual {low:+g} to {high:+g} deg of a small airplane (common "
+                "practice): re-check the rigging, the weight and CG, and the elevator "
+                "calibration before cutting"
+            )
+    top_in = _stock_choices(stock)[-1][1]
+    if exact_in > top_in:
+        warnings.append(
+            f"the shim ({exact_in:.3f} in) is thicker than two stacked sheets of the largest "
+            "stock: make the change in steps and re-fly between them"
+        )
+
+    exact_mm = exact_in * MM_PER_IN
+    direction = "down" if change < 0.0 else "up"
+    move = (
+        f"raise the {location} attach points by {exact_in:.3f} in / {exact_mm:.2f} mm "
+        f"(or lower the {'front' if location == 'rear' else 'rear'} ones by the same)"
+        if location else "no shim"
+    )
+    if recommended:
+        words = (
+            f"Tilt the stabilizer leading edge {direction} by {abs(change):.2f} deg: {move}. "
+            f"Nearest stock: {_stock_text(sheets, stock)} = {stock_in:.3f} in / "
+            f"{stock_in * MM_PER_IN:.2f} mm ({abs(stock_change):.2f} deg)."
+        )
+        if residual is not None:
+            words += f" Expected elevator at cruise after the shim: {residual:+.2f} deg."
+    elif interval_has_zero:
+        words = (
+            f"No change recommended: the computed change ({change:+.2f} deg, {move}) has a "
+            "95 % interval that includes zero; fly more cruise trim points to narrow it."
+        )
+    else:
+        words = (
+            f"No change recommended: the computed change ({change:+.2f} deg, {exact_in:.3f} in "
+            f"/ {exact_mm:.2f} mm) is thinner than half the thinnest practical shim."
+        )
+    if new_incidence is not None:
+        words += f" Stabilizer incidence {new_incidence:+.2f} deg to the waterline."
+    return ShimResult(
+        change_deg=change, spacing_in=spacing, thickness_in=exact_in, thickness_mm=exact_mm,
+        location=location, stock=stock, stock_sheets=sheets, stock_thickness_in=stock_in,
+        stock_thickness_mm=stock_in * MM_PER_IN, stock_change_deg=stock_change,
+        recommended=recommended, residual_elevator_deg=residual,
+        current_incidence_deg=current_incidence_deg, new_incidence_deg=new_incidence,
+        words=words, warnings=tuple(warnings),
+    )
+
+
+# ------------------------------------------------------------------ recommendation
+
+def cruise_lift_coefficient(profile: AircraftProfile) -> float:
+    """Lift coefficient at the profile's cruise condition.
+
+    Parameters
+    ----------
+    profile : AircraftProfile
+        Uses ``cruise_cas_kt``, ``cruise_pressure_alt_ft``, ``cruise_weight_lb``
+        and ``wing_area_ft2`` (the profile states the defaults it filled in).
+
+    Returns
+    -------
+    float
+        CL = W / (q S) in level flight at the cruise EAS [-].
+
+    References
+    ----------
+    CAS -> EAS compressible (Gracey, NASA RP-1046) in :mod:`trimlog.physics.airspeed`;
+    CL = 2 W / (rho0 Ve^2 S).
+    """
+    eas = airspeed.cas_to_eas(profile.cruise_cas_kt, profile.cruise_pressure_alt_ft)
+    return float(airspeed.lift_coefficient(profile.cruise_weight_lb, eas, profile.wing_area_ft2))
+
+
+@dataclass(frozen=True)
+class IncidenceRecommendation:
+    """Everything about the incidence correction that the views show.
+
+    Intervals are (lo, hi) tuples; :meth:`to_json` gives the contract keys of
+    the ``incidence`` block of ``trimlog analyze --json``.
+    """
+
+    cruise_cl: float
+    cruise_cg_pct_mac: float
+    elevator_at_cruise_deg: float
+    elevator_at_cruise_ci95_deg: tuple[float, float]
+    tau: float
+    tau_source: TauSource
+    change_deg: float
+    change_ci95_deg: tuple[float, float]
+    shim_thickness_in: float
+    shim_thickness_mm: float
+    shim_location: str
+    tau_ci95: tuple[float, float]
+    tau_explanation: str
+    change_method: str
+    shim_recommended: bool
+    shim_stock: str
+    shim_stock_sheets: tuple[float, ...]
+    shim_stock_thickness_in: float
+    shim_stock_thickness_mm: float
+    shim_stock_change_deg: float
+    residual_elevator_deg: float
+    current_incidence_deg: float | None
+    new_incidence_deg: float | None
+    words: str
+    warnings: tuple[str, ...]
+    cautions: tuple[str, ...]
+
+    def to_json(self) -> dict[str, Any]:
+        """Return the ``incidence`` block: the contract keys first, then the extras."""
+        return {
+            f.name: list(v) if isinstance(v := getattr(self, f.name), tuple) else v
+            for f in fields(self)
+        }
+
+
+def recommend_incidence(
+    *,
+    cruise_cl: float,
+    cruise_cg_pct_mac: float,
+    elevator_cruise_deg: float,
+    elevator_ci95_deg: tuple[float, float],
+    tau: TauChoice,
+    spacing_in: float,
+    current_incidence_deg: float | None = None,
+    stock: Literal["inch", "metric"] = "inch",
+) -> IncidenceRecommendation:
+    """Recommend the incidence change and the shim for the elevator at cruise.
+
+    Parameters
+    ----------
+    cruise_cl : float
+        Lift coefficient of the cruise condition [-] (see
+        :func:`cruise_lift_coefficient`).
+    cruise_cg_pct_mac : float
+        Cruise CG [%MAC].
+    elevator_cruise_deg : float
+        Elevator at cruise for the latest incidence setting [deg], from the
+        pooled stick-fixed model.
+    elevator_ci95_deg : (float, float)
+        Its 95 % interval [deg].
+    tau : TauChoice
+        From :func:`trimlog.incidence.tau.choose_tau`.
+    spacing_in : float
+        Stabilizer attach-point spacing [in].
+    current_incidence_deg : float, optional
+        Present incidence to the waterline [deg].
+    stock : {"inch", "metric"}
+        Shim stock list to round to.
+
+    Returns
+    -------
+    IncidenceRecommendation
+
+    Notes
+    -----
+    A recommendation after a shim is flown is a residual, not a repeat,
+    provided the elevator at cruise is that of the latest setting.
+
+    References
+    ----------
+    See :func:`incidence_change` and :func:`shim`.
+    """
+    cl = _finite("cruise_cl", cruise_cl)
+    cg = _finite("cruise_cg_pct_mac", cruise_cg_pct_mac)
+    de = _finite("elevator_cruise_deg", elevator_cruise_deg)
+    de_ci = _interval("elevator_ci95_deg", elevator_ci95_deg, de)
+    change = incidence_change(de, de_ci, tau.tau, tau.ci95)
+    cut = shim(
+        change.change_deg, spacing_in, change_ci95_deg=change.ci95_deg,
+        elevator_cruise_deg=de, tau=tau.tau, current_incidence_deg=current_incidence_deg,
+        stock=stock,
+    )
+    warnings = list(tau.notes) + list(cut.warnings)
+    if abs(de) > LINEAR_DEFLECTION_LIMIT_DEG:
+        warnings.append(
+            f"the elevator at cruise ({de:+.1f} deg) is beyond the "
+            f"~{LINEAR_DEFLECTION_LIMIT_DEG:g} deg where tau is near its linear value; the "
+            "change may be underestimated: make it in steps and re-fly"
+        )
+    if cut.location is None or not cut.recommended:
+        location = "none (no change recommended)"
+    elif cut.location == "rear":
+        location = "rear attach points (leading edge down)"
+    else:
+        location = "front attach points (leading edge up)"
+    words = (
+        f"Elevator at cruise (CL {cl:.2f}, CG {cg:.1f} %MAC): {de:+.2f} deg "
+        f"[{de_ci[0]:+.2f}, {de_ci[1]:+.2f}]. Incidence change {change.change_deg:+.2f} deg "
+        f"[{change.ci95_deg[0]:+.2f}, {change.ci95_deg[1]:+.2f}] with tau {tau.tau:.2f} "
+        f"({tau.tau_source}). " + cut.words
+    )
+    return IncidenceRecommendation(
+        cruise_cl=cl, cruise_cg_pct_mac=cg, elevator_at_cruise_deg=de,
+        elevator_at_cruise_ci95_deg=de_ci, tau=tau.tau, tau_ci95=tau.ci95,
+        tau_source=tau.tau_source, tau_explanation=tau.explanation,
+        change_deg=change.change_deg, change_ci95_deg=change.ci95_deg,
+        change_method=change.method, shim_thickness_in=cut.thickness_in,
+        shim_thickness_mm=cut.thickness_mm, shim_location=location,
+        shim_recommended=cut.recommended, shim_stock=stock, shim_stock_sheets=cut.stock_sheets,
+        shim_stock_thickness_in=cut.stock_thickness_in,
+        shim_stock_thickness_mm=cut.stock_thickness_mm,
+        shim_stock_change_deg=cut.stock_change_deg,
+        residual_elevator_deg=(
+            cut.residual_elevator_deg if cut.residual_elevator_deg is not None else de
+        ),
+        current_incidence_deg=current_incidence_deg, new_incidence_deg=cut.new_incidence_deg,
+        words=words, warnings=tuple(warnings),
+        cautions=(cautions.ESTIMATE_STATEMENT, *cautions.INCIDENCE),
+    )

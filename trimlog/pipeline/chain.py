@@ -1,0 +1,448 @@
+"""The whole chain, from log files to one frozen :class:`Analysis`.
+
+``load_flight_file`` / ``load_flight_bytes`` read a log or point table (and
+its loading sheet) and find its stabilized points; :func:`analyze` reduces
+the points of every flight given, separates configurations, runs the
+stability analysis of each, the incidence recommendation and the
+tail-geometry check, and returns one :class:`Analysis`.  The terminal
+summary, the JSON export, the PDF report, the dashboard and the history all
+read that one object, so they cannot disagree.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import pandas as pd
+
+from trimlog import __version__, cautions
+from trimlog.errors import InputFileError, NotIdentifiableError, TrimlogError
+from trimlog.incidence import shim as incidence
+from trimlog.incidence import tau
+from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
+from trimlog.input.logs import LogRead, read_log
+from trimlog.input.profile import AircraftProfile
+from trimlog.input.profile import load_profile as load_profile
+from trimlog.pipeline.points import PointSettings, points_from_log
+from trimlog.pipeline.reduction import reduce_points
+from trimlog.stability import neutral_points as stability
+from trimlog.stability import tail as tailgeometry
+from trimlog.stability.results import StabilityResult
+
+LOADING_SHEET_SUFFIX = ".loading.toml"
+
+
+@dataclass(frozen=True, eq=False)
+class FlightData:
+    """One flight as read: the log, its points and its loading sheet.
+
+    Attributes
+    ----------
+    flight : str
+        Flight identifier (the file's stem, or the log's ``flight`` value).
+    source : str
+        File name as the user gave it.
+    sha256 : str
+        Of the raw bytes, to recognise the same file again.
+    log : LogRead
+        Reader result (kind, columns understood, warnings, dropped rows).
+    points : DataFrame
+        The Points table of this flight.
+    loading : LoadingSheet or None
+        Takeoff loading and incidence setting, when a sheet was given.
+    """
+
+    flight: str
+    source: str
+    sha256: str
+    log: LogRead
+    points: pd.DataFrame
+    loading: LoadingSheet | None = None
+
+    @property
+    def samples(self) -> pd.DataFrame | None:
+        """The time-series samples of this flight (None for a point table)."""
+        if self.log.kind != "time_series":
+            return None
+        data = self.log.data
+        if "flight" in data.columns:
+            return data.loc[data["flight"].astype(str) == self.flight]
+        return data
+
+
+@dataclass(frozen=True, eq=False)
+class ConfigurationResult:
+    """Stability and incidence results of one configuration (never pooled with another)."""
+
+    config: str
+    stability: StabilityResult
+    incidence: incidence.IncidenceRecommendation | None
+    incidence_reason: str
+    tau: tau.TauChoice | None
+    tau_calibration: tau.TauCalibration | None
+
+
+@dataclass(frozen=True, eq=False)
+class Analysis:
+    """Everything trimlog found from a set of flights of one aircraft.
+
+    Attributes
+    ----------
+    profile : AircraftProfile
+    flights : tuple of FlightData
+    points : DataFrame
+        Reduced points of every flight (the Reduced-points contract),
+        excluded ones included with ``included`` False.
+    primary : ConfigurationResult
+        The configuration the headline numbers come from (the one with the
+        most included points, clean first).
+    others : tuple of ConfigurationResult
+    tail : TailGeometryCheck or None
+    warnings : tuple of str
+    cautions : tuple of str
+    """
+
+    profile: AircraftProfile
+    flights: tuple[FlightData, ...]
+    points: pd.DataFrame
+    primary: ConfigurationResult
+    others: tuple[ConfigurationResult, ...]
+    tail: tailgeometry.TailGeometryCheck | None
+    warnings: tuple[str, ...]
+    cautions: tuple[str, ...] = field(default_factory=cautions.all_cautions)
+    software_version: str = __version__
+
+    @property
+    def identifiable(self) -> bool:
+        """Whether the stick-fixed neutral point of the primary configuration is supported."""
+        return self.primary.stability.stick_fixed.neutral_point.identifiable
+
+
+
+# --------------------------------------------------------------------------- reading
+
+
+def load_flight_bytes(
+    raw: bytes,
+    name: str,
+    profile: AircraftProfile,
+    *,
+    loading: LoadingSheet | None = None,
+    min_hold_s: float | None = None,
+) -> list[FlightData]:
+    """Read one log or point table given as bytes and find its points.
+
+    Parameters
+    ----------
+    raw : bytes
+        The file's contents.
+    name : str
+        The file's name, for messages and the flight identifier (its stem);
+        never used as a path.
+    profile : AircraftProfile
+        Supplies the logger's column mapping and sign flips.
+    loading : LoadingSheet, optional
+        Takeoff loading for logs without weight and CG per row.
+    min_hold_s : float, optional
+        Minimum duration of a stabilized point [s].
+
+    Returns
+    -------
+    list of FlightData
+        One per flight in the file (a ``flight`` column may hold several).
+    """
+    log = read_log(raw, name=name, column_map=profile.column_map,
+                   inverted=profile.inverted_columns)
+    settings = PointSettings() if min_hold_s is None else PointSettings(min_duration_s=min_hold_s)
+    stem = Path(name).name.split(".")[0] or name
+    points = points_from_log(log, flight=stem, settings=settings)
+    points["source"] = name
+    _exclude_points_at_a_stop(points, profile)
+    if loading is not None and loading.fuel_flow_gph is not None:
+        _fuel_from_constant_flow(points, log, loading)
+    digest = hashlib.sha256(raw).hexdigest()
+    flights = []
+    for flight, part in points.groupby("flight", sort=False):
+        flights.append(FlightData(str(flight), name, digest, log,
+                                  part.reset_index(drop=True), loading))
+    if not flights:
+        flights.append(FlightData(stem, name, digest, log, points, loading))
+    return flights
+
+
+def _fuel_from_constant_flow(points: pd.DataFrame, log: LogRead, sheet: LoadingSheet) -> None:
+    """Fuel at each point from the sheet's constant burn rate, when the log has no fuel quantity.
+
+    The burn runs from the log's first time stamp (taken as takeoff) to the
+    middle of each point's window.
+    """
+    if "fuel_gal" in points and points["fuel_gal"].notna().any():
+        return
+    if log.kind != "time_series" or "time_s" not in log.data:
+        return
+    start = float(log.data["time_s"].min())
+    middle = 0.5 * (points["t_start_s"] + points["t_end_s"])
+    fuel = sheet.takeoff_fuel_gal - sheet.fuel_flow_gph * (middle - start) / 3600.0
+    if (fuel < 0).any():
+        raise InputFileError(
+            f"the loading sheet's fuel flow {sheet.fuel_flow_gph:g} gal/h burns more than the "
+            f"{sheet.takeoff_fuel_gal:g} gal on board before the last point",
+            file=sheet.source,
+        )
+    points["fuel_gal"] = fuel
+
+
+def load_flight_file(
+    path: str | Path,
+    profile: AircraftProfile,
+    *,
+    loading_path: str | Path | None = None,
+    min_hold_s: float | None = None,
+) -> list[FlightData]:
+    """Read a log file (and its loading sheet) and find its points.
+
+    The loading sheet is ``loading_path`` when given, else a file named like
+    the log with ``.loading.toml`` in place of its extension, when present.
+    """
+    path = Path(path)
+    try:
+        raw = path.read_bytes()
+    except OSError as exc:
+        raise InputFileError(f"cannot read the file: {exc.strerror}", file=str(path)) from None
+    sheet_path = Path(loading_path) if loading_path else sibling_sheet(path)
+    sheet = read_loading_sheet(sheet_path) if sheet_path is not None else None
+    return load_flight_bytes(raw, str(path), profile, loading=sheet, min_hold_s=min_hold_s)
+
+
+def sibling_sheet(path: Path) -> Path | None:
+    """The loading sheet beside a log (``flight3.csv`` -> ``flight3.loading.toml``), if any."""
+    candidate = path.with_name(path.name.rsplit(".", 1)[0] + LOADING_SHEET_SUFFIX)
+    return candidate if candidate.is_file() else None
+
+
+# --------------------------------------------------------------------------- analysis
+
+
+def analyze(
+    flights: Sequence[FlightData],
+    profile: AircraftProfile,
+    *,
+    exclusions: Iterable[tuple[str, int]] = (),
+    inclusions: Iterable[tuple[str, int]] = (),
+) -> Analysis:
+    """Analyse a set of flights of one aircraft together.
+
+    Parameters
+    ----------
+    flights : sequence of FlightData
+        Every flight to analyse (any mix of CGs, weights, altitudes and
+        stabilizer settings).
+    profile : AircraftProfile
+    exclusions : iterable of (flight, point)
+        Points to leave out of the fits; they stay in the tables with
+        ``included`` False.
+    inclusions : iterable of (flight, point)
+        Points to fit although trimlog left them out (a hold it flagged, or
+        an elevator at a stop); they keep their flags.
+
+    Returns
+    -------
+    Analysis
+
+    Raises
+    ------
+    InputFileError
+        No points at all, two files giving the same flight, an exclusion that
+        names no point, or a loading problem found by the reduction.
+    """
+    if not flights:
+        raise InputFileError("no flights given: expected at least one log or point table")
+    _check_unique(flights)
+    frames = [f.points for f in flights if len(f.points)]
+    if not frames:
+        names = ", ".join(sorted({f.source for f in flights}))
+        raise InputFileError(
+            "no stabilized points were found: check the logs, or shorten the minimum hold",
+            file=names,
+        )
+    points = pd.concat(frames, ignore_index=True)
+    points["flight"] = points["flight"].astype(str)
+    loadings = {f.flight: f.loading for f in flights if f.loading is not None}
+    reduced = reduce_points(points, profile, loadings)
+    table = reduced.points
+    _set_included(table, exclusions, False)
+    _set_included(table, inclusions, True)
+
+    warnings: list[str] = list(profile.warnings)
+    seen_logs: set[int] = set()
+    for f in flights:
+        if id(f.log) in seen_logs:
+            continue
+        seen_logs.add(id(f.log))
+        warnings.extend(f"{f.source}: {w}" for w in f.log.warnings)
+        dropped = [d for d in f.log.dropped if d.count]
+        if dropped:
+            total = sum(d.count for d in dropped)
+            warnings.append(
+                f"{f.source}: {total} value(s) or line(s) not used: "
+                + "; ".join(f"{d.count} {d.reason.split(':')[0]}" for d in dropped)
+            )
+        if f.log.kind == "time_series" and not len(f.points):
+            warnings.append(f"{f.source}: no stabilized point found in this log")
+    warnings.extend(reduced.warnings)
+    warnings.extend(_stop_warnings(table))
+
+    results = []
+    for config, part in table.groupby("config", sort=False):
+        results.append(_analyze_configuration(str(config), part, profile))
+    results.sort(key=lambda r: (-r.stability.n_included, r.config != "clean"))
+    primary, others = results[0], tuple(results[1:])
+    if others:
+        warnings.append(
+            "points were flown in several configurations and are analysed separately: "
+            + ", ".join(f"'{r.config}' ({r.stability.n_included} points)" for r in results)
+            + f"; the headline results are for '{primary.config}'"
+        )
+    for r in results:
+        prefix = f"[{r.config}] " if others else ""
+        warnings.extend(prefix + w for w in r.stability.warnings)
+        if r.incidence is not None:
+            warnings.extend(prefix + w for w in r.incidence.warnings)
+        elif r.incidence_reason:
+            warnings.append(prefix + "no incidence recommendation: " + r.incidence_reason)
+    measured = primary.stability.stick_fixed.neutral_point.pct_mac
+    tail = tailgeometry.check_tail_geometry(profile, measured_neutral_point_pct_mac=measured)
+    return Analysis(
+        profile=profile,
+        flights=tuple(flights),
+        points=table,
+        primary=primary,
+        others=others,
+        tail=tail,
+        warnings=tuple(dict.fromkeys(warnings)),
+    )
+
+
+def _check_unique(flights: Sequence[FlightData]) -> None:
+    seen: dict[str, str] = {}
+    for f in flights:
+        if f.flight in seen and seen[f.flight] != f.source:
+            raise InputFileError(
+                f"flight '{f.flight}' is given twice (also in {seen[f.flight]}): rename one "
+                "file or give the logs distinct 'flight' values",
+                file=f.source,
+            )
+        seen[f.flight] = f.source
+
+
+def _set_included(points: pd.DataFrame, choices: Iterable[tuple[str, int]], value: bool) -> None:
+    for flight, point in choices:
+        mask = (points["flight"] == str(flight)) & (points["point"] == int(point))
+        if not mask.any():
+            known = ", ".join(sorted(points["flight"].unique()))
+            verb = "include" if value else "exclude"
+            raise InputFileError(
+                f"cannot {verb} point {point} of flight '{flight}': no such point "
+                f"(flights: {known})"
+            )
+        points.loc[mask, "included"] = value
+
+
+def _exclude_points_at_a_stop(points: pd.DataFrame, profile: AircraftProfile) -> None:
+    """Flag points with the elevator at a stop and leave them out: they are not free trims.
+
+    Done once, when the points are found, so that a user's later choice to
+    include such a point again (stored in the history) is kept.
+    """
+    flags = stability.elevator_stop_flags(
+        points, profile.elevator_up_stop_deg, profile.elevator_down_stop_deg)
+    for flag in flags:
+        points.loc[flag.row, "included"] = False
+        points.loc[flag.row, "flags"] = ";".join(
+            f for f in (str(points.loc[flag.row, "flags"] or ""), "at_stop") if f)
+
+
+def _stop_warnings(points: pd.DataFrame) -> list[str]:
+    at_stop = points.loc[points["flags"].astype(str).str.contains("at_stop", regex=False)]
+    return [
+        f"flight '{r.flight}' point {r.point}: elevator {r.elevator_deg:+.1f} deg is at a stop, "
+        "so the trim there is not free: "
+        + ("included because you chose so" if r.included else
+           "left out of the fits (include it again if the stop was not reached)")
+        for r in at_stop.itertuples()
+    ]
+
+
+def _analyze_configuration(
+    config: str, points: pd.DataFrame, profile: AircraftProfile
+) -> ConfigurationResult:
+    flap_config = "landing" if config.startswith("flaps") and not config.startswith(
+        "flaps 0 ") else "clean"
+    result = stability.analyze_stability(points, profile, flap_config=flap_config)
+    calibration = _calibrate_tau(result, points)
+    try:
+        choice = tau.choose_tau(calibration, profile.tau, profile.elevator_chord_ratio)
+    except NotIdentifiableError as exc:
+        return ConfigurationResult(config, result, None, str(exc), None, calibration)
+    recommendation, reason = _recommend(result, points, profile, choice)
+    return ConfigurationResult(config, result, recommendation, reason, choice, calibration)
+
+
+def _calibrate_tau(result: StabilityResult, points: pd.DataFrame) -> tau.TauCalibration | None:
+    """τ from the intercept shift between the first and the latest stabilizer setting."""
+    fit = result.stick_fixed
+    if fit.linear is None or not fit.has_cg_term or len(fit.groups) < 2:
+        return None
+    first, latest = fit.groups[0], fit.latest_group
+    settings = points.groupby("stab_setting")["stab_incidence_deg"].first()
+    i_first, i_latest = settings.get(first), settings.get(latest)
+    if i_first is None or i_latest is None or not (
+        math.isfinite(i_first) and math.isfinite(i_latest)
+    ) or i_first == i_latest:
+        return None
+    intercepts, cov = fit.intercepts(), fit.intercept_cov()
+    shift = float(intercepts[latest] - intercepts[first])
+    variance = float(cov.loc[first, first] + cov.loc[latest, latest] - 2.0 * cov.loc[first, latest])
+    return tau.calibrate_tau(shift, math.sqrt(max(variance, 0.0)), float(i_latest - i_first),
+                             fit.linear.df_resid)
+
+
+def _latest_incidence(
+    points: pd.DataFrame, setting: str | None, profile: AircraftProfile
+) -> float | None:
+    """Absolute incidence of the latest setting when logged, else the profile's current one."""
+    logged = points.loc[points["stab_setting"] == setting, "stab_incidence_deg"].dropna()
+    return float(logged.iloc[-1]) if len(logged) else profile.current_incidence_deg
+
+
+def _recommend(
+    result: StabilityResult,
+    points: pd.DataFrame,
+    profile: AircraftProfile,
+    choice: tau.TauChoice,
+) -> tuple[incidence.IncidenceRecommendation | None, str]:
+    fit = result.stick_fixed
+    if fit.linear is None:
+        return None, "no trim model could be fitted"
+    cruise_cl = incidence.cruise_lift_coefficient(profile)
+    h_cruise = (profile.cruise_cg_in - profile.lemac_in) / profile.mac_in
+    try:
+        prediction = stability.predict_elevator(fit, cruise_cl, h_cruise)
+    except TrimlogError as exc:
+        return None, str(exc)
+    if prediction.ci95_deg is None:
+        return None, "the elevator at cruise has no interval"
+    recommendation = incidence.recommend_incidence(
+        cruise_cl=cruise_cl,
+        cruise_cg_pct_mac=100.0 * h_cruise,
+        elevator_cruise_deg=prediction.elevator_deg,
+        elevator_ci95_deg=prediction.ci95_deg,
+        tau=choice,
+        spacing_in=profile.stabilizer_attach_spacing_in,
+        current_incidence_deg=_latest_incidence(points, fit.latest_group, profile),
+    )
+    return recommendation, ""

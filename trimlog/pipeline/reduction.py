@@ -1,0 +1,293 @@
+"""Reduction of stabilized points to the quantities the stability fits need.
+
+For each point: calibrated, equivalent and true airspeed, dynamic pressure,
+load factor, weight and CG (from the log or from the flight's loading sheet
+with fuel burn applied), CG as a fraction of the MAC, lift coefficient
+``CL = n·W/(q·S)`` and ``Fs/q``; plus the label of the stabilizer-incidence
+setting and of the configuration, which decide what may be pooled.
+
+References
+----------
+Gracey, W., *Measurement of Aircraft Speed and Altitude*, NASA RP-1046 (1980):
+airspeed relations.  Etkin, B. and Reid, L. D., *Dynamics of Flight*, 3rd ed.,
+Wiley (1996), ch. 2: lift coefficient and trim.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+from typing import Protocol
+
+import numpy as np
+import pandas as pd
+
+from trimlog.errors import InputFileError
+from trimlog.input.profile import AircraftProfile
+from trimlog.physics import airspeed
+from trimlog.physics import mass_balance as loading
+
+#: A CG this far outside the profile's limits [%MAC] is taken as a loading error.
+CG_IMPLAUSIBLE_BEYOND_LIMITS_PCT_MAC = 15.0
+
+DEFAULT_SETTING_LABEL = "as rigged"
+
+
+class FlightLoadingLike(Protocol):
+    """What the reduction needs of a flight's loading sheet (see ``loading_sheet.LoadingSheet``)."""
+
+    takeoff_weight_lb: float
+    takeoff_cg_in: float | None
+    takeoff_cg_pct_mac: float | None
+    takeoff_fuel_gal: float
+    flap_deg: float | None
+    stab_setting: str | None
+    stab_incidence_deg: float | None
+
+
+@dataclass(frozen=True)
+class ReducedPoints:
+    """Reduced points of one or more flights, and what the reduction had to assume."""
+
+    points: pd.DataFrame
+    warnings: tuple[str, ...]
+
+
+def reduce_points(
+    points: pd.DataFrame,
+    profile: AircraftProfile,
+    loadings: Mapping[str, FlightLoadingLike] | None = None,
+) -> ReducedPoints:
+    """Compute EAS, q, CL, Fs/q and h for every stabilized point.
+
+    Parameters
+    ----------
+    points : DataFrame
+        The Points table (see DEVELOPERS.md): one row per point with a
+        ``flight`` column and canonical quantity columns.
+    profile : AircraftProfile
+        Wing area, MAC, position-error table, fuel arm and density.
+    loadings : mapping of flight -> loading sheet, optional
+        Takeoff weight, CG and fuel per flight, for logs that do not carry
+        weight and CG per row; fuel burn is applied from ``fuel_gal``.
+
+    Returns
+    -------
+    ReducedPoints
+        The reduced table (columns of the Reduced-points contract) and the
+        warnings about assumptions made.
+
+    Raises
+    ------
+    InputFileError
+        A flight with neither weight/CG columns nor a loading sheet, or a CG
+        far outside the aircraft's limits.
+    """
+    loadings = dict(loadings or {})
+    out = points.copy()
+    warnings: list[str] = []
+
+    out["cas_kt"] = _calibrated_airspeed(out, profile, warnings)
+    stopped = ~(out["cas_kt"] > 0.0)
+    if stopped.any():
+        where = _where(out, stopped)
+        raise InputFileError(
+            f"{where['prefix']}calibrated airspeed {out.loc[stopped, 'cas_kt'].iloc[0]:g} kt: a "
+            "trim point needs forward speed (expected more than 0 kt)",
+            file=where["file"], line=where["line"], column="cas_kt",
+        )
+    out["eas_kt"] = airspeed.cas_to_eas(out["cas_kt"], out["pressure_alt_ft"])
+    if "oat_c" in out and out["oat_c"].notna().all():
+        oat = out["oat_c"]
+    else:
+        oat = None
+        warnings.append("outside air temperature not logged: ISA temperature assumed for TAS")
+    out["tas_kt"] = airspeed.eas_to_tas(out["eas_kt"], out["pressure_alt_ft"], oat)
+    out["q_psf"] = airspeed.dynamic_pressure_psf(out["eas_kt"])
+
+    out["nz_logged"] = "nz_g" in out and out["nz_g"].notna()
+    if "nz_g" not in out:
+        out["nz_g"] = 1.0
+        warnings.append("normal load factor not logged: n = 1 assumed for CL")
+    out["nz_g"] = out["nz_g"].fillna(1.0)
+
+    _weight_and_cg(out, profile, loadings, warnings)
+    out["h"] = (out["cg_in"] - profile.lemac_in) / profile.mac_in
+    out["cg_pct_mac"] = 100.0 * out["h"]
+    _check_cg_plausible(out, profile, warnings)
+
+    out["cl"] = airspeed.lift_coefficient(
+        out["weight_lb"], out["eas_kt"], profile.wing_area_ft2, out["nz_g"]
+    )
+    if "stick_force_lbf" in out:
+        out["fs_over_q_ft2"] = out["stick_force_lbf"] / out["q_psf"]
+    else:
+        out["stick_force_lbf"] = np.nan
+        out["fs_over_q_ft2"] = np.nan
+
+    _incidence_and_configuration(out, loadings, warnings)
+    return ReducedPoints(points=out, warnings=tuple(warnings))
+
+
+def _where(out: pd.DataFrame, mask: pd.Series | np.ndarray) -> dict[str, object]:
+    """File and line of the first row under ``mask`` (for error messages)."""
+    row = out.loc[np.asarray(mask, dtype=bool)].iloc[0]
+    file = str(row["source"]) if "source" in out and pd.notna(row["source"]) else None
+    line = None
+    if "source_line_start" in out and pd.notna(row["source_line_start"]):
+        line = int(row["source_line_start"])
+    flight = f"flight '{row['flight']}' point {row['point']}: " if "point" in out else ""
+    return {"file": file or f"flight '{row['flight']}'", "line": line, "prefix": flight}
+
+
+def _calibrated_airspeed(
+    out: pd.DataFrame, profile: AircraftProfile, warnings: list[str]
+) -> pd.Series:
+    if "cas_kt" in out and out["cas_kt"].notna().all():
+        return out["cas_kt"]
+    if "ias_kt" not in out:
+        raise InputFileError("no airspeed: expected a column ias_kt or cas_kt", column="ias_kt")
+    if profile.position_error_ias_kt is None:
+        warnings.append(
+            "no airspeed calibration in the profile: CAS = IAS assumed (position error "
+            "ignored); add [airspeed_calibration] for calibrated results"
+        )
+        return out["ias_kt"].astype(float)
+    result = airspeed.ias_to_cas(
+        out["ias_kt"],
+        profile.position_error_ias_kt,
+        profile.position_error_cas_kt,
+        extrapolate="clamp",
+    )
+    warnings.extend(result.warnings)
+    return result.cas_kt
+
+
+def _weight_and_cg(
+    out: pd.DataFrame,
+    profile: AircraftProfile,
+    loadings: Mapping[str, FlightLoadingLike],
+    warnings: list[str],
+) -> None:
+    if "cg_in" not in out and "cg_pct_mac" in out:
+        out["cg_in"] = profile.lemac_in + out["cg_pct_mac"] / 100.0 * profile.mac_in
+    for column in ("weight_lb", "cg_in"):
+        if column not in out:
+            out[column] = np.nan
+    missing_rows = out[["weight_lb", "cg_in"]].isna().any(axis=1)
+    flights = out["flight"].astype(str)
+    for flight in dict.fromkeys(flights[missing_rows]):
+        missing = missing_rows & (flights == flight)
+        sheet = loadings.get(str(flight))
+        if sheet is None:
+            where = _where(out, missing)
+            raise InputFileError(
+                f"{where['prefix']}weight and CG are needed for every point: expected columns "
+                "weight_lb and cg_in (or cg_pct_mac) in the log, or a loading sheet for this "
+                "flight",
+                file=where["file"], line=where["line"], column="weight_lb",
+            )
+        idx = missing[missing].index
+        takeoff_cg_in = (
+            sheet.takeoff_cg_in if sheet.takeoff_cg_in is not None
+            else profile.station(sheet.takeoff_cg_pct_mac)
+        )
+        fuel = out.loc[idx, "fuel_gal"] if "fuel_gal" in out else None
+        if fuel is None or fuel.isna().all():
+            out.loc[idx, "weight_lb"] = sheet.takeoff_weight_lb
+            out.loc[idx, "cg_in"] = takeoff_cg_in
+            warnings.append(
+                f"flight {flight}: no fuel quantity logged: takeoff weight and CG used for "
+                "every point (fuel burn not applied)"
+            )
+            continue
+        if profile.fuel_arm_in is None:
+            raise InputFileError(
+                "fuel burn needs the fuel arm: add [fuel] arm to the aircraft profile",
+                file=_where(out, missing)["file"],
+                column="fuel_gal",
+            )
+        zero_fuel = loading.zero_fuel_loading(
+            sheet.takeoff_weight_lb,
+            takeoff_cg_in,
+            sheet.takeoff_fuel_gal,
+            profile.fuel_arm_in,
+            profile.fuel_density_lb_per_gal,
+        )
+        weight, cg = loading.cg_through_flight(
+            zero_fuel.weight_lb,
+            zero_fuel.cg_in,
+            fuel.astype(float),
+            profile.fuel_arm_in,
+            profile.fuel_density_lb_per_gal,
+        )
+        out.loc[idx, "weight_lb"] = weight
+        out.loc[idx, "cg_in"] = cg
+
+
+def _check_cg_plausible(out: pd.DataFrame, profile: AircraftProfile, warnings: list[str]) -> None:
+    fwd, aft = profile.cg_forward_pct_mac, profile.cg_aft_pct_mac
+    extremes = out.groupby("flight", sort=False)["cg_pct_mac"].agg(["min", "max"])
+    far = (extremes["min"] < fwd - CG_IMPLAUSIBLE_BEYOND_LIMITS_PCT_MAC) | (
+        extremes["max"] > aft + CG_IMPLAUSIBLE_BEYOND_LIMITS_PCT_MAC)
+    if far.any():
+        flight = extremes.index[far.to_numpy()][0]
+        lo, hi = extremes.loc[flight, "min"], extremes.loc[flight, "max"]
+        where = _where(out, out["flight"] == flight)
+        raise InputFileError(
+            f"flight '{flight}': CG {lo:.1f}..{hi:.1f} %MAC is far outside the profile's limits "
+            f"({fwd:.1f}..{aft:.1f} %MAC): check the loading, the datum, lemac and mac",
+            file=where["file"], line=where["line"], column="cg_in",
+        )
+    outside = (extremes["min"] < fwd - 1e-9) | (extremes["max"] > aft + 1e-9)
+    for flight, row in extremes.loc[outside].iterrows():
+        warnings.append(
+            f"flight {flight}: CG {row['min']:.1f}..{row['max']:.1f} %MAC lies outside the "
+            f"profile's limits ({fwd:.1f}..{aft:.1f} %MAC)"
+        )
+
+
+def _incidence_and_configuration(
+    out: pd.DataFrame, loadings: Mapping[str, FlightLoadingLike], warnings: list[str]
+) -> None:
+    flights = out["flight"].astype(str)
+    if "stab_incidence_deg" not in out:
+        out["stab_incidence_deg"] = np.nan
+    logged = out["stab_incidence_deg"].astype(float)
+    by_flight = logged.groupby(flights)
+    spread = by_flight.max() - by_flight.min()
+    for flight in spread.index[spread.to_numpy() > 0.01]:
+        values = logged[flights == flight]
+        warnings.append(
+            f"flight {flight}: stab_incidence_deg varies within the flight "
+            f"({values.min():g}..{values.max():g} deg); each point keeps its own value"
+        )
+    has_logged = logged.notna().groupby(flights).transform("any")
+    labels = logged.map(lambda v: f"{v:+.2f} deg", na_action="ignore").astype(object)
+
+    def sheet_value(attribute: str) -> pd.Series:
+        values = {f: getattr(sheet, attribute) for f, sheet in loadings.items()}
+        return flights.map(lambda f: values.get(f))
+
+    sheet_deg = pd.to_numeric(sheet_value("stab_incidence_deg"), errors="coerce")
+    sheet_label = sheet_value("stab_setting")
+    sheet_label = sheet_label.where(
+        sheet_label.notna(), sheet_deg.map(lambda v: f"{v:+.2f} deg", na_action="ignore"))
+    use_sheet = ~has_logged & sheet_label.notna()
+    out["stab_incidence_deg"] = logged.where(~use_sheet, sheet_deg)
+    labels = labels.where(~use_sheet, sheet_label)
+    out["stab_setting"] = labels.where(labels.notna(), DEFAULT_SETTING_LABEL).astype(str)
+
+    flap = out["flap_deg"].astype(float) if "flap_deg" in out else pd.Series(
+        np.nan, index=out.index)
+    flap = flap.where(flap.notna(), pd.to_numeric(sheet_value("flap_deg"), errors="coerce"))
+    out["flap_deg"] = flap
+    unknown = flap.isna()
+    if unknown.any():
+        names = ", ".join(dict.fromkeys(flights[unknown]))
+        warnings.append(
+            f"flap setting not logged nor in a loading sheet for flight(s) {names}: "
+            "taken as clean (flaps up)"
+        )
+    rounded = flap.fillna(0.0).round(0)
+    out["config"] = rounded.map(lambda v: "clean" if v == 0 else f"flaps {v:g} deg").astype(str)

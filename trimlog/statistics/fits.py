@@ -1,0 +1,498 @@
+"""Statistical building blocks of the stability fits.
+
+Ordinary least squares on a named design matrix, the ratio of two fitted
+coefficients with its Fieller and delta-method intervals, and the outlier
+test by externally studentized residuals.  Nothing here knows about
+aircraft; :mod:`trimlog.stability.neutral_points` gives the numbers their meaning.
+
+Every number leaving this module is finite or ``None``.
+
+References
+----------
+.. [1] E. C. Fieller, "Some problems in interval estimation", *J. R. Stat.
+   Soc. B* 16(2):175-185, 1954 (the confidence set of a ratio of two
+   normally distributed estimates).
+.. [2] D. C. Montgomery, E. A. Peck and G. G. Vining, *Introduction to Linear
+   Regression Analysis*, 5th ed., Wiley, 2012: sec. 4.2 (externally
+   studentized residuals), sec. 2.4 (prediction intervals).
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+import statsmodels.api as sm
+from scipy import stats
+
+#: Two-sided confidence level of every interval trimlog reports.
+CONFIDENCE = 0.95
+#: Family-wise false-alarm rate of the outlier test (Bonferroni over all points).
+OUTLIER_ALPHA = 0.05
+
+
+def finite(value: float | None) -> float | None:
+    """Return ``value`` as a float, or ``None`` when it is missing, NaN or infinite."""
+    if value is None:
+        return None
+    value = float(value)
+    return value if math.isfinite(value) else None
+
+
+def finite_pair(lo: float | None, hi: float | None) -> tuple[float, float] | None:
+    """Return ``(lo, hi)`` as finite floats, or ``None`` if either end is not finite."""
+    lo, hi = finite(lo), finite(hi)
+    if lo is None or hi is None:
+        return None
+    return (min(lo, hi), max(lo, hi))
+
+
+@functools.lru_cache(maxsize=1024)
+def t_quantile(df: float) -> float:
+    """Two-sided Student-t quantile for :data:`CONFIDENCE` with ``df`` degrees of freedom."""
+    return float(stats.t.ppf(0.5 + CONFIDENCE / 2.0, df))
+
+
+@dataclass(frozen=True)
+class RatioInterval:
+    """The ratio ``num/den`` of two estimates and its 95 % intervals.
+
+    Attributes
+    ----------
+    estimate : float or None
+        ``num/den``; None when ``den`` is zero.
+    fieller_ci : (float, float) or None
+        Fieller's interval; None when it is unbounded (``den`` is not
+        clearly non-zero: ``den**2 <= t**2 * var_den``).
+    delta_ci : (float, float) or None
+        First-order (delta-method) interval ``estimate +- t*se``.
+    delta_se : float or None
+        Delta-method standard error.
+    bounded : bool
+        Whether Fieller's set is a finite interval.
+    """
+
+    estimate: float | None
+    fieller_ci: tuple[float, float] | None
+    delta_ci: tuple[float, float] | None
+    delta_se: float | None
+    bounded: bool
+
+
+def ratio_interval(
+    num: float,
+    den: float,
+    var_num: float,
+    var_den: float,
+    cov_num_den: float,
+    t_crit: float,
+) -> RatioInterval:
+    """Fieller and delta-method intervals of the ratio of two estimates.
+
+    Parameters
+    ----------
+    num, den : float
+        The two estimates (numerator, denominator).
+    var_num, var_den, cov_num_den : float
+        Their variances and covariance (from the fit's covariance matrix).
+    t_crit : float
+        Critical value, e.g. :func:`t_quantile` of the residual degrees of freedom.
+
+    Returns
+    -------
+    RatioInterval
+
+    Notes
+    -----
+    Fieller's set is every r with ``(num - r*den)**2 <= t**2 * Var(num -
+    r*den)``, i.e. the roots of ``A r^2 - 2 B r + C <= 0`` with
+    ``A = den^2 - t^2 var_den``, ``B = num*den - t^2 cov``,
+    ``C = num^2 - t^2 var_num``.  It is a finite interval exactly when
+    ``A > 0``; otherwise it is the whole line or the outside of an interval
+    and no finite interval exists [1]_.  The delta-method variance is
+    ``(var_num - 2 r cov + r^2 var_den) / den^2``.
+
+    References
+    ----------
+    .. [1] Fieller (1954), J. R. Stat. Soc. B 16:175, sec. 3.
+    """
+    if den == 0.0 or not all(
+        math.isfinite(x) for x in (num, den, var_num, var_den, cov_num_den, t_crit)
+    ):
+        return RatioInterval(None, None, None, None, False)
+    r = num / den
+    t2 = t_crit * t_crit
+    var_lin = max(var_num - 2.0 * r * cov_num_den + r * r * var_den, 0.0)
+    se = math.sqrt(var_lin) / abs(den)
+    delta = finite_pair(r - t_crit * se, r + t_crit * se)
+    a = den * den - t2 * var_den
+    b = num * den - t2 * cov_num_den
+    c = num * num - t2 * var_num
+    # A relative floor: a denominator whose t-ratio only equals t_crit is not "clearly" non-zero.
+    if a <= 1e-12 * den * den:
+        return RatioInterval(finite(r), None, delta, finite(se), False)
+    disc = max(b * b - a * c, 0.0)
+    root = math.sqrt(disc)
+    fieller = finite_pair((b - root) / a, (b + root) / a)
+    return RatioInterval(finite(r), fieller, delta, finite(se), fieller is not None)
+
+
+@dataclass(frozen=True, eq=False)
+class LinearFit:
+    """An ordinary (or weighted) least-squares fit on a named design.
+
+    Attributes
+    ----------
+    params : pandas.Series
+        Coefficients by column name of the design.
+    cov : pandas.DataFrame
+        Their covariance matrix (classical, scaled by the residual variance).
+    df_resid : int
+        Residual degrees of freedom.
+    residual_std : float
+        Residual standard deviation (root mean square error), in the
+        response's unit.
+    r_squared : float or None
+        Coefficient of determination; None when the response does not vary.
+    n : int
+        Number of observations.
+    exog : numpy.ndarray
+        The design matrix fitted, one row per observation.
+    endog : numpy.ndarray
+        The response fitted.
+    weights : numpy.ndarray or None
+        The weights of a weighted fit.
+    resid : numpy.ndarray
+        Residuals ``endog - exog @ params``, in the response's unit.
+    """
+
+    params: pd.Series
+    cov: pd.DataFrame
+    df_resid: int
+    residual_std: float
+    r_squared: float | None
+    n: int
+    exog: np.ndarray
+    endog: np.ndarray
+    weights: np.ndarray | None
+    resid: np.ndarray
+
+    @functools.cached_property
+    def result(self) -> object:
+        """The statsmodels results object of the same fit, for diagnostics (not stable API).
+
+        Built on first use only: the fit itself is computed without
+        statsmodels' model machinery, by the same pseudo-inverse.
+        """
+        if self.weights is None:
+            return sm.OLS(self.endog, self.exog).fit()
+        return sm.WLS(self.endog, self.exog, weights=self.weights).fit()
+
+    def coef_ci(self, name: str) -> tuple[float, float] | None:
+        """95 % confidence interval of one coefficient, None when it cannot be had."""
+        if self.df_resid < 1:
+            return None
+        se = math.sqrt(max(float(self.cov.loc[name, name]), 0.0))
+        t = t_quantile(self.df_resid)
+        value = float(self.params[name])
+        return finite_pair(value - t * se, value + t * se)
+
+    def coef_se(self, name: str) -> float | None:
+        """Return the standard error of one coefficient."""
+        if self.df_resid < 1:
+            return None
+        return finite(math.sqrt(max(float(self.cov.loc[name, name]), 0.0)))
+
+    def p_value(self, name: str) -> float | None:
+        """Two-sided p-value of the t test of one coefficient against zero."""
+        se = self.coef_se(name)
+        if se is None:
+            return None
+        value = float(self.params[name])
+        if se == 0.0:
+            return 0.0 if value != 0.0 else 1.0
+        return finite(2.0 * stats.t.sf(abs(value / se), self.df_resid))
+
+    def predict(self, row: pd.Series) -> tuple[float, float, float]:
+        """Prediction at one design row: value, its standard error, the residual std.
+
+        Parameters
+        ----------
+        row : pandas.Series
+            Design values by column name (missing columns count as 0).
+        """
+        x = row.reindex(self.params.index).fillna(0.0).to_numpy(dtype=float)
+        value = float(x @ self.params.to_numpy())
+        var = float(x @ self.cov.to_numpy() @ x)
+        return value, math.sqrt(max(var, 0.0)), self.residual_std
+
+
+def is_full_rank(design: pd.DataFrame | np.ndarray) -> bool:
+    """Whether the columns of a design are linearly independent (after scaling each column)."""
+    x = np.asarray(design, dtype=float)
+    if x.shape[0] < x.shape[1]:
+        return False
+    scale = np.sqrt((x * x).sum(axis=0))
+    if np.any(scale == 0.0):
+        return False
+    return int(np.linalg.matrix_rank(x / scale, tol=1e-9)) == x.shape[1]
+
+
+def fit_linear(
+    y: pd.Series, design: pd.DataFrame, weights: np.ndarray | None = None
+) -> LinearFit:
+    """Least-squares fit of ``y`` on ``design`` (no constant added).
+
+    Parameters
+    ----------
+    y : pandas.Series
+        Response, in its own unit.
+    design : pandas.DataFrame
+        Regressors by name, full column rank (check with :func:`is_full_rank`).
+    weights : numpy.ndarray, optional
+        Weights proportional to 1/variance (weighted least squares).
+
+    Returns
+    -------
+    LinearFit
+
+    References
+    ----------
+    .. [1] Montgomery, Peck and Vining (2012), ch. 3 and sec. 5.5 (weighted
+       least squares).
+    """
+    return fit_matrix(y.to_numpy(dtype=float), design.to_numpy(dtype=float), design.columns,
+                      weights)
+
+
+def fit_matrix(yv: np.ndarray, xv: np.ndarray, names: Sequence[str],
+               weights: np.ndarray | None = None) -> LinearFit:
+    """Least-squares fit of the array ``yv`` on the matrix ``xv`` with columns ``names``.
+
+    The array form of :func:`fit_linear` (same result), for the many small fits
+    that would otherwise spend their time building tables.
+    """
+    w = None if weights is None else np.asarray(weights, dtype=float)
+    if w is None:
+        wy, wx = yv, xv
+    else:
+        root_w = np.sqrt(w)
+        wy, wx = yv * root_w, root_w[:, None] * xv
+    # The operations of statsmodels' OLS/WLS fit(method="pinv"), without its per-call model
+    # set-up (most of the cost of the many small fits): the same numbers to the last bit.
+    pinv, singular = _pinv_extended(wx)
+    beta = np.dot(pinv, wy)
+    # statsmodels' rank: np.linalg.matrix_rank of diag(singular), whose singular values are these
+    rank = int(np.count_nonzero(singular > singular.max(initial=0.0) * len(singular)
+                                * np.finfo(float).eps))
+    df_resid = len(yv) - rank
+    resid = yv - np.dot(xv, beta)
+    wresid = wy - np.dot(wx, beta)
+    names = pd.Index(names)
+    params = pd.Series(beta, index=names)
+    if df_resid < 1:
+        cov = pd.DataFrame(0.0, index=names, columns=names)
+    else:
+        scale = np.dot(wresid, wresid) / df_resid
+        cov = pd.DataFrame(np.dot(pinv, np.transpose(pinv)) * scale, index=names, columns=names)
+    ww = np.ones_like(yv) if w is None else w
+    ss_res = float(np.sum(ww * resid**2))
+    residual_std = math.sqrt(ss_res / df_resid) if df_resid > 0 else 0.0
+    ybar = float(np.sum(ww * yv) / np.sum(ww))
+    ss_tot = float(np.sum(ww * (yv - ybar) ** 2))
+    r2 = 1.0 - ss_res / ss_tot if ss_tot > 1e-12 * max(1.0, float(np.sum(ww * yv**2))) else None
+    return LinearFit(params, cov, df_resid, residual_std, finite(r2), len(yv), xv, yv, w, resid)
+
+
+def _pinv_extended(x: np.ndarray, rcond: float = 1e-15) -> tuple[np.ndarray, np.ndarray]:
+    """Pseudo-inverse by SVD and the singular values, as statsmodels computes them."""
+    u, s, vt = np.linalg.svd(x, False)
+    inv = np.where(s > rcond * np.max(s), 1.0 / np.where(s > 0.0, s, 1.0), 0.0)
+    return np.dot(np.transpose(vt), np.multiply(inv[:, np.newaxis], np.transpose(u))), s
+
+
+@dataclass(frozen=True)
+class StudentizedOutlier:
+    """One observation flagged by the outlier test.
+
+    Attributes
+    ----------
+    position : int
+        0-based position in the fitted data.
+    studentized_residual : float
+        Externally studentized residual [-].
+    bonferroni_p : float
+        Two-sided p-value times the number of observations (capped at 1).
+    """
+
+    position: int
+    studentized_residual: float
+    bonferroni_p: float
+
+
+def studentized_outliers(fit: LinearFit, alpha: float = OUTLIER_ALPHA) -> list[StudentizedOutlier]:
+    """Observations whose externally studentized residual fails a Bonferroni test.
+
+    Rule: an observation is flagged when ``n * 2 * P(T > |r|) < alpha`` for
+    ``T ~ t(df_resid - 1)``, ``r`` its externally studentized residual and
+    ``n`` the number of observations (for 40 points and alpha 0.05 this is
+    about ``|r| > 3.6``).  Nothing is dropped; the caller lists the flags.
+
+    Parameters
+    ----------
+    fit : LinearFit
+        An ordinary least-squares fit.
+    alpha : float
+        Family-wise false-alarm rate.
+
+    Returns
+    -------
+    list of StudentizedOutlier
+        Empty when the fit is exact or has fewer than 2 residual degrees of freedom.
+
+    References
+    ----------
+    .. [1] Montgomery, Peck and Vining (2012), sec. 4.2.2 (R-student) and
+       sec. 6.2 (Bonferroni-adjusted outlier test).
+    """
+    if fit.df_resid < 2 or fit.residual_std <= 1e-12:
+        return []
+    x, e = fit.exog, fit.resid
+    # leverages h_ii = diag(X (X'X)^-1 X'); s_(i)^2 is the residual variance without point i
+    lev = np.einsum("ij,jk,ik->i", x, np.linalg.pinv(x.T @ x), x)
+    one_minus = np.clip(1.0 - lev, 1e-12, None)
+    s2_i = (fit.df_resid * fit.residual_std**2 - e**2 / one_minus) / (fit.df_resid - 1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        r = e / np.sqrt(np.clip(s2_i, 0.0, None) * one_minus)
+    ok = np.isfinite(r)
+    p = np.ones_like(r)
+    p[ok] = np.minimum(1.0, fit.n * 2.0 * stats.t.sf(np.abs(r[ok]), fit.df_resid - 1))
+    return [StudentizedOutlier(int(i), float(r[i]), float(p[i]))
+            for i in np.flatnonzero(ok & (p < alpha))]
+
+
+#: Convergence tolerance on the Huber deviance and iteration cap (statsmodels RLM's defaults).
+_HUBER_TOL, _HUBER_MAXITER = 1e-8, 50
+
+
+def robust_params(fit: LinearFit, n_groups: int) -> pd.Series | None:
+    """Huber M-estimate of the coefficients of a trim model's fit, None if it fails.
+
+    Parameters
+    ----------
+    fit : LinearFit
+        An ordinary least-squares fit of a design whose first ``n_groups``
+        columns are one-hot group intercepts (as :func:`trim_design` builds).
+    n_groups : int
+        Number of those intercept columns.
+
+    Returns
+    -------
+    pandas.Series or None
+        Coefficients by name.
+
+    Notes
+    -----
+    The iteration of statsmodels' ``RLM(M=HuberT()).fit()``: start from least
+    squares; weights from the Huber norm of residuals over the MAD scale
+    (centre 0); weighted least squares; stop when the deviance changes by at
+    most 1e-8 or after 50 iterations.  Each weighted fit removes the group
+    intercepts first (weighted group means; Frisch-Waugh-Lovell theorem) and
+    solves for the few slopes only, so the cost grows linearly with the
+    number of points instead of with points times groups squared.
+
+    References
+    ----------
+    .. [1] P. J. Huber, *Robust Statistics*, Wiley, 1981, ch. 7.
+    .. [2] Montgomery, Peck and Vining (2012), sec. 15.1 (M-estimation by
+       iteratively reweighted least squares).
+    """
+    norm = sm.robust.norms.HuberT()
+    y, x, resid = fit.endog, fit.exog, fit.resid
+    codes = np.argmax(x[:, :n_groups], axis=1)
+    slopes = x[:, n_groups:]
+    df = len(y) - x.shape[1]
+    beta = fit.params.to_numpy()
+    scale = float(sm.robust.scale.mad(resid, center=0))
+    deviance = float(norm(resid / (np.dot(resid, resid) / df)).sum())
+    for _ in range(2, _HUBER_MAXITER + 1):
+        if scale == 0.0:
+            break
+        w = norm.weights(resid / scale)
+        if not np.all(np.isfinite(w)):
+            return None
+        total = np.bincount(codes, weights=w, minlength=n_groups)
+        y_mean = np.bincount(codes, weights=w * y, minlength=n_groups) / total
+        s_mean = np.column_stack([np.bincount(codes, weights=w * col, minlength=n_groups)
+                                  for col in slopes.T]) / total[:, None]
+        root = np.sqrt(w)
+        b = np.linalg.lstsq(root[:, None] * (slopes - s_mean[codes]),
+                            root * (y - y_mean[codes]), rcond=None)[0]
+        beta = np.concatenate([y_mean - s_mean @ b, b])
+        resid = y - x @ beta
+        wresid = root * resid
+        scale = float(sm.robust.scale.mad(resid, center=0))
+        previous, deviance = deviance, float(norm(resid / (np.dot(wresid, wresid) / df)).sum())
+        if not abs(deviance - previous) > _HUBER_TOL:
+            break
+    if not np.all(np.isfinite(beta)):
+        return None
+    return pd.Series(beta, index=fit.params.index)
+
+
+def trim_design(frame: pd.DataFrame, group_col: str, groups: list[str], *, cg_term: bool,
+                cl2: bool = False) -> pd.DataFrame:
+    """Design of the trim model: an intercept per group, ``cl``, optionally ``h*cl`` and ``cl^2``.
+
+    Parameters
+    ----------
+    frame : pandas.DataFrame
+        Points with columns ``cl``, ``h`` and ``group_col``.
+    group_col : str
+        Column whose labels each get their own intercept (``a[<label>]``).
+    groups : list of str
+        The labels, in the order the columns should have.
+    cg_term, cl2 : bool
+        Whether to include ``h_cl`` and ``cl2``.
+
+    Returns
+    -------
+    pandas.DataFrame
+        On the index of ``frame``.
+    """
+    h = frame["h"].to_numpy(dtype=float) if cg_term else None
+    x, names = trim_matrix(frame[group_col], groups, frame["cl"].to_numpy(dtype=float), h,
+                           cl2=cl2)
+    return pd.DataFrame(x, index=frame.index, columns=names)
+
+
+def trim_matrix(labels: pd.Series | np.ndarray, groups: Sequence[str], cl: np.ndarray,
+                h: np.ndarray | None = None, *, cl2: bool = False
+                ) -> tuple[np.ndarray, list[str]]:
+    """The matrix of :func:`trim_design` and its column names, from arrays.
+
+    ``labels`` gives each point's group; ``h`` adds the ``h_cl`` column when given.
+    """
+    # One-hot intercepts by indexing: a label not in ``groups`` (or missing, code -1, which
+    # picks the appended -1) gets no intercept column set.
+    codes, uniques = pd.factorize(np.asarray(labels, dtype=object))
+    position = {g: i for i, g in enumerate(groups)}
+    codes = np.array([position.get(u, -1) for u in uniques] + [-1], dtype=np.intp)[codes]
+    extra = [cl]
+    names = [f"a[{g}]" for g in groups] + ["cl"]
+    if h is not None:
+        extra.append(h * cl)
+        names.append("h_cl")
+    if cl2:
+        extra.append(cl**2)
+        names.append("cl2")
+    # Column-major like a DataFrame's values: the SVD's last bits depend on the layout.
+    x = np.zeros((len(cl), len(groups) + len(extra)), order="F")
+    rows = np.flatnonzero(codes >= 0)
+    x[rows, codes[rows]] = 1.0
+    x[:, len(groups):] = np.column_stack(extra)
+    return x, names

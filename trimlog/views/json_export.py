@@ -1,0 +1,214 @@
+"""The machine-readable result: :class:`~trimlog.pipeline.chain.Analysis` as JSON-ready data.
+
+The top-level keys ``points``, ``gradients``, ``neutral_point``,
+``elevator_power_per_rad``, ``static_margin``, ``warnings`` and ``incidence``
+(and the keys inside them listed in the README) are a contract that users'
+scripts rely on: they are never renamed.  Other keys may be added.
+
+Every number is a finite float or ``null``; a ``null`` comes with a reason
+next to it.  No NaN or infinity is ever written.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from typing import TYPE_CHECKING, Any
+
+import pandas as pd
+
+from trimlog.history.codec import clean
+
+if TYPE_CHECKING:
+    from trimlog.pipeline.chain import Analysis, ConfigurationResult
+    from trimlog.stability.results import NeutralPoint, PooledFit
+
+POINT_KEYS = (
+    "flight", "point", "cas_kt", "eas_kt", "cl", "elevator_deg", "stick_force_lbf",
+    "weight_lb", "cg_pct_mac", "t_start_s", "t_end_s", "included",
+)
+POINT_EXTRAS = (
+    "ias_kt", "tas_kt", "pressure_alt_ft", "oat_c", "nz_g", "q_psf", "fs_over_q_ft2",
+    "cg_in", "duration_s", "vs_fpm", "stab_setting", "stab_incidence_deg", "config", "flags",
+)
+
+
+def analysis_to_dict(analysis: Analysis) -> dict[str, Any]:
+    """The ``trimlog analyze --json`` object."""
+    primary = analysis.primary
+    payload = {
+        "software": {"name": "trimlog", "version": analysis.software_version},
+        "aircraft": {
+            "name": analysis.profile.name,
+            "profile": analysis.profile.source,
+            "cg_forward_pct_mac": analysis.profile.cg_forward_pct_mac,
+            "cg_aft_pct_mac": analysis.profile.cg_aft_pct_mac,
+            "assumed": list(analysis.profile.defaults_used),
+        },
+        "flights": [
+            {
+                "flight": f.flight,
+                "source": f.source,
+                "sha256": f.sha256,
+                "kind": f.log.kind,
+                "kind_reason": f.log.kind_reason,
+                "n_points": int(len(f.points)),
+                "columns": [
+                    {"header": c.header, "canonical": c.canonical, "unit": c.unit,
+                     "conversion": c.conversion, "inverted": c.inverted}
+                    for c in f.log.columns
+                ],
+            }
+            for f in analysis.flights
+        ],
+        "configuration": primary.config,
+        "points": points_records(analysis.points),
+        **configuration_dict(primary, analysis),
+        "other_configurations": [
+            {"configuration": other.config, **configuration_dict(other, analysis)}
+            for other in analysis.others
+        ],
+        "tail_geometry": (
+            None if analysis.tail is None else dataclasses.asdict(analysis.tail)
+        ),
+        "warnings": list(analysis.warnings),
+        "cautions": list(analysis.cautions),
+    }
+    return clean(payload)
+
+
+def points_records(points: pd.DataFrame) -> list[dict[str, Any]]:
+    """One record per point, contract keys first."""
+    columns = [c for c in (*POINT_KEYS, *POINT_EXTRAS) if c in points.columns]
+    frame = points[columns].copy()
+    for key in POINT_KEYS:
+        if key not in frame:
+            frame[key] = None
+    frame["included"] = frame["included"].astype(bool)
+    records = frame.astype(object).where(frame.notna(), None).to_dict(orient="records")
+    return [clean(r) for r in records]
+
+
+def configuration_dict(result: ConfigurationResult, analysis: Analysis) -> dict[str, Any]:
+    """The stability, margin, authority and incidence blocks of one configuration."""
+    s = result.stability
+    fixed_np = s.stick_fixed.neutral_point
+    return {
+        "gradients": [
+            {
+                "flight": g.flight,
+                "cg_pct_mac": g.cg_pct_mac,
+                "delev_dcl_deg": g.delev_dcl_deg,
+                "delev_dcl_ci95_deg": g.delev_dcl_ci95_deg,
+                "n_points": g.n_points,
+                "elevator_verdict": g.elevator_verdict,
+                "dfsq_dcl_ft2": g.dfsq_dcl_ft2,
+                "dfsq_dcl_ci95_ft2": g.dfsq_dcl_ci95_ft2,
+                "trim_eas_kt": g.trim_eas_kt,
+                "dfs_dv_lbf_per_kt": g.dfs_dv_lbf_per_kt,
+                "dfs_dv_ci95_lbf_per_kt": g.dfs_dv_ci95_lbf_per_kt,
+                "stick_force_verdict": g.stick_force_verdict,
+            }
+            for g in s.gradients
+        ],
+        "neutral_point": {
+            "stick_fixed": neutral_point_dict(fixed_np, s.stick_fixed),
+            "stick_fixed_two_stage": neutral_point_dict(s.stick_fixed_two_stage.neutral_point),
+            "stick_free": (
+                None if s.stick_free is None
+                else neutral_point_dict(s.stick_free.neutral_point, s.stick_free)
+            ),
+        },
+        "elevator_power_per_rad": (
+            s.stick_fixed.elevator_power_per_rad if fixed_np.identifiable else None
+        ),
+        "elevator_power_ci95_per_rad": (
+            s.stick_fixed.elevator_power_ci95_per_rad if fixed_np.identifiable else None
+        ),
+        "static_margin": [
+            {
+                "flight": m.flight,
+                "label": m.label,
+                "cg_pct_mac": m.cg_pct_mac,
+                "stick_fixed_pct_mac": m.stick_fixed_pct_mac,
+                "stick_fixed_ci95_pct_mac": m.stick_fixed_ci95_pct_mac,
+                "stick_free_pct_mac": m.stick_free_pct_mac,
+                "stick_free_ci95_pct_mac": m.stick_free_ci95_pct_mac,
+                "meets_minimum": m.meets_minimum,
+            }
+            for m in s.margins
+        ],
+        "min_static_margin_pct_mac": analysis.profile.min_static_margin_pct_mac,
+        "elevator_authority": (
+            None if s.authority is None else dataclasses.asdict(s.authority)
+        ),
+        "fit_checks": {
+            "outliers": [
+                {"model": o.model, "flight": o.flight, "point": o.point,
+                 "studentized_residual": o.studentized_residual,
+                 "bonferroni_p": o.bonferroni_p}
+                for fit in (s.stick_fixed, s.stick_free) if fit is not None
+                for o in fit.outliers
+            ],
+            "robust_stick_fixed_pct_mac": (
+                None if s.stick_fixed.robust is None else s.stick_fixed.robust.pct_mac
+            ),
+            "curvature": (
+                None if s.stick_fixed.curvature is None
+                else {k: v for k, v in dataclasses.asdict(s.stick_fixed.curvature).items()
+                      if k != "restricted"}
+            ),
+            "stop_flags": _stop_flags(analysis.points, result.config),
+            "n_excluded": s.n_excluded,
+        },
+        "next_cg_for_precision": dataclasses.asdict(s.next_cg),
+        "incidence": (
+            None if result.incidence is None
+            else {**result.incidence.to_json()}
+        ),
+        "incidence_reason": result.incidence_reason or None,
+        "tau_calibration": (
+            None if result.tau_calibration is None
+            else dataclasses.asdict(result.tau_calibration)
+        ),
+    }
+
+
+def _stop_flags(points: pd.DataFrame, config: str) -> list[dict[str, Any]]:
+    """Points left out because the elevator sat at a stop (flag ``at_stop``)."""
+    mine = points.loc[(points["config"] == config)
+                      & points["flags"].astype(str).str.contains("at_stop", regex=False)]
+    return [
+        {"flight": r.flight, "point": int(r.point), "elevator_deg": float(r.elevator_deg),
+         "stop": "up" if r.elevator_deg < 0 else "down", "included": bool(r.included)}
+        for r in mine.itertuples()
+    ]
+
+
+def neutral_point_dict(np_: NeutralPoint, fit: PooledFit | None = None) -> dict[str, Any]:
+    """A neutral point: contract keys, then the interval details and the reason."""
+    identifiable = bool(np_.identifiable)
+    out = {
+        "pct_mac": np_.pct_mac if identifiable else None,
+        "ci95_pct_mac": np_.ci95_pct_mac if identifiable else None,
+        "station_in": np_.station_in if identifiable else None,
+        "identifiable": identifiable,
+        "method": _method_text(np_),
+        "delta_ci95_pct_mac": np_.delta_ci95_pct_mac if identifiable else None,
+        "se_pct_mac": np_.se_pct_mac if identifiable else None,
+        "ci95_station_in": np_.ci95_station_in if identifiable else None,
+        "reason": np_.reason or None,
+        "cg_spread_pct_mac": np_.cg_spread_pct_mac,
+        "n_points": np_.n_points,
+        "n_flights": np_.n_flights,
+    }
+    if fit is not None:
+        out["intercept_by"] = fit.intercept_by
+        out["groups"] = list(fit.groups)
+    return out
+
+
+def _method_text(np_: NeutralPoint) -> str:
+    if np_.method == "two_stage":
+        return "two-stage: gradients against CG (WLS), Fieller 95 % interval"
+    by = "stabilizer setting" if np_.kind == "stick_fixed" else "flight"
+    return f"pooled: intercept per {by}, Fieller 95 % interval"

@@ -1,0 +1,580 @@
+"""The flight-test report: a multi-page PDF (or a self-contained HTML page).
+
+:func:`write_report` lays out, in order: a title page (aircraft, date,
+software version, the estimate statement and every caution), a summary
+(neutral points or the reason there is none, static margins, stick-force
+verdicts, elevator authority, the shim in words with its uncertainty), the
+loading and points tables, the figures of :mod:`trimlog.views.plots`, the warnings
+and the tail-geometry check, and the time histories of the logged flights.
+
+Every number in the text is formatted from :meth:`Analysis.to_dict`, the
+same values the ``--json`` output carries, so the report and the JSON never
+disagree.  The PDF is drawn with :class:`matplotlib.backends.backend_pdf.PdfPages`
+(no other PDF library); the file is written to a temporary name in the target
+folder and renamed only when complete, so a full disk never leaves half a
+report behind.
+"""
+
+from __future__ import annotations
+
+import base64
+import datetime as dt
+import errno
+import html
+import io
+import os
+import secrets
+from collections.abc import Callable, Mapping, Sequence
+from pathlib import Path
+from typing import IO, TYPE_CHECKING, Any
+
+from matplotlib.axes import Axes
+from matplotlib.figure import Figure
+
+from trimlog import cautions
+from trimlog.errors import TrimlogError
+from trimlog.incidence.shim import shim_thickness_in
+from trimlog.views import plots
+from trimlog.views.json_export import analysis_to_dict
+from trimlog.views.pdf_layout import Break, Heading, Para, Plot, Table, render_pdf, save_pdf
+
+if TYPE_CHECKING:
+    from trimlog.pipeline.chain import Analysis
+
+DASH = "-"
+
+
+# --------------------------------------------------------------------------- formatting
+
+
+def _f(value: float | None, spec: str = ".1f", unit: str = "") -> str:
+    if value is None:
+        return DASH
+    text = f"{value:{spec}}"
+    if float(text) == 0.0:  # no "-0.0" for a value that rounds to zero
+        text = f"{0.0:{spec}}"
+    return text + (f" {unit}" if unit else "")
+
+
+def _ci(pair: Sequence[float] | None, spec: str = ".1f") -> str:
+    return DASH if pair is None else f"[{pair[0]:{spec}}, {pair[1]:{spec}}]"
+
+
+def _with_ci(value: float | None, pair: Sequence[float] | None, spec: str = ".1f") -> str:
+    if value is None:
+        return DASH
+    return f"{value:{spec}} {_ci(pair, spec)}" if pair is not None else f"{value:{spec}}"
+
+
+def _sentence(text: str) -> str:
+    return text[:1].upper() + text[1:] + ("" if text.endswith(".") else ".")
+
+
+def neutral_point_text(np_: Mapping[str, Any] | None) -> str:
+    """One neutral point from its JSON block: estimate and interval, or the verdict.
+
+    Parameters
+    ----------
+    np_ : mapping or None
+        A ``neutral_point`` sub-block of :meth:`Analysis.to_dict`.
+
+    Returns
+    -------
+    str
+        ``"37.6 %MAC, 95 % interval [37.4, 37.8] %MAC"`` or
+        ``"not identifiable: <reason>"``.
+    """
+    if np_ is None:
+        return "not available: no stick force was logged"
+    if not np_["identifiable"]:
+        return f"not identifiable: {np_['reason']}"
+    return f"{np_['pct_mac']:.1f} %MAC, 95 % interval {_ci(np_['ci95_pct_mac'])} %MAC"
+
+
+def shim_text(inc: Mapping[str, Any], spacing_in: float) -> str:
+    """The shim thickness with its 95 % interval, from the ``incidence`` JSON block."""
+    lo, hi = sorted(float(shim_thickness_in(c, spacing_in)) for c in inc["change_ci95_deg"])
+    if inc["change_ci95_deg"][0] < 0.0 < inc["change_ci95_deg"][1]:
+        lo = 0.0
+    return (f"{inc['shim_thickness_in']:.3f} in / {inc['shim_thickness_mm']:.2f} mm "
+            f"(95 % interval {lo:.3f} to {hi:.3f} in; attach points {spacing_in:g} in apart)")
+
+
+# --------------------------------------------------------------------------- content
+
+
+def _title_blocks(a: Analysis, d: dict[str, Any], generated: str) -> list[Any]:
+    fixed = d["neutral_point"]["stick_fixed"]
+    pts = d["points"]
+    used = sum(1 for p in pts if p["included"])
+    statement = cautions.ESTIMATE_STATEMENT
+    others = [c for c in d["cautions"] if c != statement]
+    blocks: list[Any] = [
+        Heading("Flight-test report: longitudinal static stability", 0),
+        Para(f"Aircraft: {d['aircraft']['name']}"),
+        Para(f"Aircraft profile: {d['aircraft']['profile']}"),
+        Para(f"Flights: {len(d['flights'])}, stabilized points: {len(pts)} "
+              f"({used} used in the fits, {len(pts) - used} excluded); headline "
+              f"configuration '{d['configuration']}'"),
+        Para(f"Generated {generated} by trimlog {d['software']['version']}"),
+        Heading("Headline results", 2),
+        Para(f"Stick-fixed neutral point: {neutral_point_text(fixed)}", "strong"),
+        Para("Stick-free neutral point: "
+              + neutral_point_text(d["neutral_point"]["stick_free"]), "strong"),
+        Para("Stabilizer shim: " + _shim_headline(a, d), "strong"),
+        Para(statement if statement in d["cautions"] else d["cautions"][0], "box"),
+        Heading("Cautions", 2),
+    ]
+    blocks += [Para(c, "bullet") for c in others]
+    if a.profile.defaults_used:
+        blocks.append(Para("Profile values assumed (not given): "
+                            + ", ".join(d["aircraft"]["assumed"]), "small"))
+    blocks.append(Break())
+    return blocks
+
+
+def _shim_headline(a: Analysis, d: dict[str, Any]) -> str:
+    inc = d["incidence"]
+    if inc is None:
+        return "no recommendation: " + (d["incidence_reason"] or "no trim model")
+    if not inc["shim_recommended"]:
+        return (f"none recommended (computed change {inc['change_deg']:+.2f} deg, 95 % "
+                f"interval {_ci(inc['change_ci95_deg'], '+.2f')} deg)")
+    return (f"{shim_text(inc, a.profile.stabilizer_attach_spacing_in)} at the "
+            f"{inc['shim_location']}, for an incidence change of {inc['change_deg']:+.2f} deg")
+
+
+def _neutral_blocks(d: dict[str, Any]) -> list[Any]:
+    nps = d["neutral_point"]
+    rows = []
+    for key, name in (("stick_fixed", "stick-fixed, pooled (headline)"),
+                      ("stick_fixed_two_stage", "stick-fixed, two-stage (check)"),
+                      ("stick_free", "stick-free, pooled")):
+        np_ = nps[key]
+        if np_ is None:
+            rows.append((name, "no stick force logged", DASH, DASH))
+        elif np_["identifiable"]:
+            rows.append((name, _f(np_["pct_mac"], ".1f", "%MAC"),
+                         _ci(np_["ci95_pct_mac"]) + " %MAC",
+                         _f(np_["station_in"], ".2f", "in")))
+        else:
+            rows.append((name, "not identifiable", DASH, DASH))
+    blocks: list[Any] = [Heading("Neutral points", 2),
+                         Table(("estimate", "neutral point", "95 % interval (Fieller)",
+                                 "station aft of datum"), tuple(rows))]
+    for key, name in (("stick_fixed", "Stick-fixed"), ("stick_fixed_two_stage", "Two-stage"),
+                      ("stick_free", "Stick-free")):
+        np_ = nps[key]
+        if np_ is not None and not np_["identifiable"]:
+            kind = "box" if key == "stick_fixed" else "body"
+            blocks.append(Para(f"{name} neutral point not identifiable: {np_['reason']}", kind))
+    if d["elevator_power_per_rad"] is not None:
+        blocks.append(Para(
+            "Elevator power Cm_de: "
+            f"{_with_ci(d['elevator_power_per_rad'], d['elevator_power_ci95_per_rad'], '.2f')}"
+            " per rad (95 % interval)."))
+    return blocks
+
+
+def _margin_blocks(d: dict[str, Any]) -> list[Any]:
+    minimum = d["min_static_margin_pct_mac"]
+    rows = []
+    for m in d["static_margin"]:
+        meets = {True: "yes", False: "NO", None: DASH}[m["meets_minimum"]]
+        rows.append((m["label"], _f(m["cg_pct_mac"]),
+                     _with_ci(m["stick_fixed_pct_mac"], m["stick_fixed_ci95_pct_mac"]),
+                     _with_ci(m["stick_free_pct_mac"], m["stick_free_ci95_pct_mac"]), meets))
+    return [
+        Heading("Static margins (%MAC, 95 % interval)", 2),
+        Table(("at", "CG %MAC", "stick-fixed", "stick-free",
+                f"lower bound >= {minimum:g} %MAC"), tuple(rows)),
+    ]
+
+
+def _gradient_blocks(d: dict[str, Any]) -> list[Any]:
+    elevator = tuple(
+        (g["flight"], _f(g["cg_pct_mac"]), str(g["n_points"]),
+         _with_ci(g["delev_dcl_deg"], g["delev_dcl_ci95_deg"], ".2f"), g["elevator_verdict"])
+        for g in d["gradients"])
+    force = tuple(
+        (g["flight"], _f(g["cg_pct_mac"]),
+         _with_ci(g["dfsq_dcl_ft2"], g["dfsq_dcl_ci95_ft2"], ".2f"),
+         _f(g["trim_eas_kt"], ".1f"),
+         _with_ci(g["dfs_dv_lbf_per_kt"], g["dfs_dv_ci95_lbf_per_kt"], ".3f"),
+         g["stick_force_verdict"])
+        for g in d["gradients"])
+    return [
+        Heading("Elevator trim gradient per flight (95 % interval)", 2),
+        Table(("flight", "CG %MAC", "points", "dde/dCL deg", "elevator verdict"), elevator),
+        Heading("Stick force per flight (95 % interval)", 2),
+        Table(("flight", "CG %MAC", "d(Fs/q)/dCL ft^2", "trim EAS kt", "dFs/dV lbf/kt",
+                "stick-force verdict"), force),
+    ]
+
+
+def _authority_blocks(d: dict[str, Any]) -> list[Any]:
+    auth = d["elevator_authority"]
+    blocks: list[Any] = [Heading("Elevator authority at the forward CG limit", 2)]
+    if auth is None:
+        return blocks + [Para("not assessed (no aircraft profile)")]
+    rows = [(c["case"], f"{c['clmax']:g}", _f(c["cg_pct_mac"]),
+             _with_ci(c["elevator_deg"], c["pi95_deg"], "+.1f"), _f(c["up_stop_deg"], "+.1f"),
+             _f(c["margin_conservative_deg"], ".1f"), c["verdict"]) for c in auth["cases"]]
+    if rows:
+        blocks.append(Table(("case", "CLmax", "CG %MAC", "elevator deg [95 % PI]",
+                              "up stop deg", "up left deg (cons.)", "verdict"), tuple(rows)))
+    if auth["most_forward_cg_conservative_pct_mac"] is not None:
+        blocks.append(Para(
+            f"Most forward CG that keeps {auth['reserve_deg']:g} deg of up elevator in reserve "
+            f"at CLmax (clean): {auth['most_forward_cg_conservative_pct_mac']:.1f} %MAC "
+            f"({_f(auth['most_forward_cg_station_in'], '.2f', 'in')}), from the conservative "
+            "end of the prediction interval."))
+    if auth["reason"]:
+        blocks.append(Para(_sentence(auth["reason"])))
+    blocks += [Para(f"{c['case']}: {n}", "small") for c in auth["cases"] for n in c["notes"]]
+    return blocks
+
+
+def _incidence_blocks(a: Analysis, d: dict[str, Any]) -> list[Any]:
+    inc = d["incidence"]
+    blocks: list[Any] = [Heading("Stabilizer incidence and shim", 2)]
+    if inc is None:
+        return blocks + [Para("No recommendation: "
+                               + _sentence(d["incidence_reason"] or "no trim model"))]
+    if inc["shim_recommended"]:
+        head = (f"Recommended shim: {_shim_headline(a, d)}; 95 % interval of the change "
+                f"{_ci(inc['change_ci95_deg'], '+.2f')} deg.")
+    else:
+        head = f"Shim: {_shim_headline(a, d)}."
+    return blocks + [
+        Para(head, "box"),
+        Para(inc["words"]),
+        Para(f"Elevator effectiveness tau: {inc['tau']:.2f} {_ci(inc['tau_ci95'], '.2f')} "
+              f"({inc['tau_source']}): {inc['tau_explanation']}. Interval method: "
+              f"{inc['change_method']}.", "small"),
+    ]
+
+
+def _next_cg_blocks(d: dict[str, Any]) -> list[Any]:
+    nxt = d["next_cg_for_precision"]
+    if nxt["cg_pct_mac"] is None:
+        return []
+    text = (f"To tighten the neutral point most, fly the next flight near "
+            f"{nxt['cg_pct_mac']:.1f} %MAC ({_f(nxt['station_in'], '.2f', 'in')}), chosen by "
+            f"the {nxt['criterion']}")
+    if nxt["current_se_pct_mac"] is not None and nxt["predicted_se_pct_mac"] is not None:
+        text += (f": standard error {nxt['current_se_pct_mac']:.2f} now, about "
+                 f"{nxt['predicted_se_pct_mac']:.2f} %MAC after")
+    return [Heading("Next flight", 2),
+            Para(text + ", within the aircraft's approved limits.")]
+
+
+def _summary_blocks(a: Analysis, d: dict[str, Any]) -> list[Any]:
+    return [
+        Heading(f"Summary: configuration '{d['configuration']}'", 1),
+        *_neutral_blocks(d), *_margin_blocks(d), *_gradient_blocks(d),
+        *_authority_blocks(d), *_incidence_blocks(a, d), *_next_cg_blocks(d),
+        *_other_config_blocks(d),
+        Break(),
+    ]
+
+
+def _other_config_blocks(d: dict[str, Any]) -> list[Any]:
+    if not d["other_configurations"]:
+        return []
+    blocks: list[Any] = [Heading("Other configurations (analysed separately)", 2)]
+    for other in d["other_configurations"]:
+        blocks.append(Para(f"'{other['configuration']}': stick-fixed neutral point "
+                            + neutral_point_text(other["neutral_point"]["stick_fixed"])))
+    return blocks
+
+
+def _loading_blocks(a: Analysis, d: dict[str, Any]) -> list[Any]:
+    rows = []
+    for f in a.flights:
+        mine = [p for p in d["points"] if p["flight"] == f.flight]
+        sheet = f.loading
+        weights = [p["weight_lb"] for p in mine if p["weight_lb"] is not None]
+        cgs = [p["cg_pct_mac"] for p in mine if p["cg_pct_mac"] is not None]
+        rows.append((
+            f.flight, Path(f.source).name, "log" if f.log.kind == "time_series" else "table",
+            DASH if sheet is None or sheet.date is None else sheet.date.isoformat(),
+            DASH if sheet is None else f"{sheet.takeoff_weight_lb:.0f}",
+            DASH if sheet is None else (_f(sheet.takeoff_cg_in, ".1f", "in")
+                                        if sheet.takeoff_cg_in is not None
+                                        else _f(sheet.takeoff_cg_pct_mac, ".1f", "%MAC")),
+            f"{min(weights):.0f}-{max(weights):.0f}" if weights else DASH,
+            f"{min(cgs):.1f}-{max(cgs):.1f}" if cgs else DASH,
+            str(mine[0]["stab_setting"]) if mine else DASH,
+            f"{sum(p['included'] for p in mine)}/{len(mine)}",
+        ))
+    return [
+        Heading("Loading and flights", 1),
+        Table(("flight", "file", "kind", "date", "T/O lb", "T/O CG", "points lb",
+                "points CG %MAC", "stabilizer", "used/pts"), tuple(rows)),
+        Para("T/O: takeoff loading from the loading sheet; points: range over the "
+              "stabilized points (fuel burn included).", "small"),
+    ]
+
+
+def _points_blocks(d: dict[str, Any]) -> list[Any]:
+    rows = []
+    for p in d["points"]:
+        window = (DASH if p["t_start_s"] is None
+                  else f"{p['t_start_s']:.0f}-{p['t_end_s']:.0f}")
+        rows.append((
+            p["flight"], str(p["point"]), window, _f(p.get("ias_kt")), _f(p["eas_kt"]),
+            _f(p.get("pressure_alt_ft"), ".0f"), _f(p["elevator_deg"], "+.2f"),
+            _f(p["stick_force_lbf"], "+.1f"), _f(p.get("nz_g"), ".2f"),
+            _f(p["weight_lb"], ".0f"), _f(p["cg_pct_mac"]), _f(p["cl"], ".3f"),
+            _f(p.get("fs_over_q_ft2"), "+.3f"), "yes" if p["included"] else "NO",
+            p.get("flags") or "",
+        ))
+    return [
+        Heading("Stabilized points", 1),
+        Para("Units: time s, IAS and EAS kt, pressure altitude ft, elevator deg (trailing edge "
+              "down +), stick force lbf (pull +), load factor g, weight lb, CG %MAC, Fs/q ft^2. "
+              "Excluded points (used = NO) are kept in the table, not fitted.", "small"),
+        Table(("flight", "pt", "window s", "IAS", "EAS", "alt ft", "elev", "Fs", "nz",
+                "W lb", "CG", "CL", "Fs/q", "used", "flags"), tuple(rows)),
+        Break(),
+    ]
+
+
+def _figure_blocks(a: Analysis, trend: Sequence[Mapping[str, Any]] | None) -> list[Any]:
+    def one(fn: Callable[..., Axes]) -> Callable[[Figure, tuple], Axes]:
+        return lambda fig, rect: fn(a, ax=fig.add_axes(rect))
+
+    blocks: list[Any] = [
+        Plot("Trim curves", one(plots.trim_curves),
+              "Elevator to trim against lift coefficient for each flight. Filled markers are "
+              "the points fitted, hollow grey ones are excluded. Lines: the pooled stick-fixed "
+              "model at each flight's CG and stabilizer setting, with its 95 % confidence "
+              "band. The lines flatten as the CG moves aft; a flat line means the "
+              "stick-fixed neutral point."),
+        Plot("Gradient against CG", one(plots.gradient_vs_cg),
+              "Each flight's elevator gradient dde/dCL with its 95 % interval, against the "
+              "flight's CG. The two-stage weighted line is extrapolated to zero gradient, "
+              "where the CG is at the stick-fixed neutral point; the markers on the zero line "
+              "are the pooled and the two-stage estimates with their Fieller 95 % intervals. "
+              "Dotted lines: the CG limits of the profile. Anything aft of the CGs flown is "
+              "an extrapolation."),
+        Plot("Stick force per dynamic pressure", one(plots.stick_force_per_q),
+              "Stick force divided by dynamic pressure against lift coefficient (pull "
+              "positive). A rising line is stick-free stable; its slope shrinks to zero at "
+              "the stick-free neutral point. Lines: the pooled stick-free model (an intercept "
+              "per flight) at each flight's CG, with its 95 % band."),
+        Plot("Stick force against speed", one(plots.stick_force_vs_speed),
+              "Stick force against equivalent airspeed. The open marker on the zero line is "
+              "each flight's fitted trim speed; the short line through it has the fitted "
+              "gradient there. A stable aircraft needs a pull to fly slower than trim and a "
+              "push to fly faster: the curves slope down through the trim speed."),
+    ]
+    if trend:
+        blocks.append(Plot(
+            "Neutral point after each flight",
+            lambda fig, rect: plots.neutral_point_trend(trend, ax=fig.add_axes(rect)),
+            "The neutral-point estimates and their 95 % intervals after each successive "
+            "flight, with the CG of the flight added. The intervals should shrink as flights "
+            "at different CGs are added; an estimate that jumps points at a flight to check."))
+    return blocks
+
+
+def _history_blocks(a: Analysis) -> list[Any]:
+    blocks: list[Any] = []
+    for f in a.flights:
+        if f.samples is None:
+            continue
+        mine = a.points.loc[a.points["flight"] == f.flight]
+        blocks.append(Plot(
+            f"Time history: {f.flight}",
+            lambda fig, rect, f=f, mine=mine: plots.log_overview(
+                f, _stacked_axes(fig, rect), points=mine),
+            "The logged channels with the stabilized-point windows found (numbered, shaded); "
+            "hatched windows are excluded points. Check that each window sits on a steady "
+            "stretch of airspeed, elevator and stick force, at 1 g.", tall=True))
+    return blocks
+
+
+def _stacked_axes(fig: Figure, rect: tuple[float, float, float, float]) -> list[Axes]:
+    left, bottom, width, height = rect
+    gap = 0.012
+    h = (height - 3 * gap) / 4
+    axes: list[Axes] = []
+    for i in range(4):
+        y = bottom + (3 - i) * (h + gap)
+        axes.append(fig.add_axes((left, y, width, h), sharex=axes[0] if axes else None))
+    for ax in axes[:-1]:
+        ax.tick_params(labelbottom=False)
+    return axes
+
+
+def _warning_blocks(d: dict[str, Any]) -> list[Any]:
+    sources = tuple(f"{f['source']}: " for f in d["flights"])
+    reading = [w for w in d["warnings"] if w.startswith(sources)]
+    found = [w for w in d["warnings"] if not w.startswith(sources)]
+    blocks: list[Any] = [Heading("Warnings", 1)]
+    blocks += [Para(w, "bullet") for w in found] or [Para("No warnings from the analysis.")]
+    if reading:
+        blocks.append(Heading("Notes from reading the files", 2))
+        blocks += [Para(w, "bullet") for w in reading]
+    tail = d["tail_geometry"]
+    if tail is not None:
+        blocks.append(Heading("Tail-geometry check (paper estimate, not a flight result)", 2))
+        blocks += [Para(t, "bullet") for t in tail["findings"]]
+        if tail["not_computed"]:
+            blocks.append(Para("Not computed: " + "; ".join(tail["not_computed"]), "small"))
+        blocks.append(Para("Assumptions: " + "; ".join(tail["assumptions"]), "small"))
+    blocks.append(Para(cautions.ESTIMATE_STATEMENT, "box"))
+    return blocks
+
+
+def report_blocks(a: Analysis, trend: Sequence[Mapping[str, Any]] | None, generated: str
+                  ) -> list[Any]:
+    """The report's content in reading order (shared by the PDF and the HTML writers)."""
+    d = analysis_to_dict(a)
+    return [*_title_blocks(a, d, generated), *_summary_blocks(a, d), *_loading_blocks(a, d),
+            *_points_blocks(d), *_figure_blocks(a, trend), *_warning_blocks(d),
+            *_history_blocks(a)]
+
+
+
+# --------------------------------------------------------------------------- HTML
+
+
+def _render_html(blocks: Sequence[Any], title: str, footer: str) -> str:
+    out = ["<!DOCTYPE html>", '<html lang="en"><head><meta charset="utf-8">',
+           f"<title>{html.escape(title)}</title>",
+           "<style>body{font-family:sans-serif;max-width:60em;margin:2em auto;padding:0 1em;"
+           "line-height:1.4}table{border-collapse:collapse;font-size:90%;margin:.5em 0}"
+           "th,td{border-bottom:1px solid #ccc;padding:.15em .6em;text-align:left;"
+           "vertical-align:top}tr:nth-child(even){background:#f2f2f2}"
+           ".box{border:2px solid #000;background:#f2f2f2;padding:.6em;font-weight:bold}"
+           ".strong{font-weight:bold}.small{font-size:85%;color:#333}img{max-width:100%}</style></head><body>"]
+    bullets: list[str] = []
+
+    def flush() -> None:
+        if bullets:
+            out.append("<ul>" + "".join(f"<li>{b}</li>" for b in bullets) + "</ul>")
+            bullets.clear()
+
+    for block in blocks:
+        if isinstance(block, Para) and block.kind == "bullet":
+            bullets.append(html.escape(block.text))
+            continue
+        flush()
+        if isinstance(block, Heading):
+            level = block.level + 1
+            out.append(f"<h{level}>{html.escape(block.text)}</h{level}>")
+        elif isinstance(block, Para):
+            cls = f' class="{block.kind}"' if block.kind in ("box", "small", "strong") else ""
+            out.append(f"<p{cls}>{html.escape(block.text)}</p>")
+        elif isinstance(block, Table):
+            head = "".join(f"<th>{html.escape(h)}</th>" for h in block.headers)
+            rows = "".join("<tr>" + "".join(f"<td>{html.escape(c)}</td>" for c in row)
+                           + "</tr>" for row in block.rows)
+            out.append(f"<table><thead><tr>{head}</tr></thead><tbody>{rows}</tbody></table>")
+        elif isinstance(block, Plot):
+            fig = Figure(figsize=(8.0, 9.0 if block.tall else 5.6))
+            block.draw(fig, (0.11, 0.09, 0.85, 0.82))
+            buf = io.BytesIO()
+            fig.savefig(buf, format="png", dpi=110)
+            data = base64.b64encode(buf.getvalue()).decode("ascii")
+            out.append(f"<h2>{html.escape(block.title)}</h2>"
+                       f'<img alt="{html.escape(block.title)}" '
+                       f'src="data:image/png;base64,{data}">'
+                       f"<p>{html.escape(block.caption)}</p>")
+    flush()
+    out.append(f'<hr><p class="small">{html.escape(footer)}</p></body></html>')
+    return "\n".join(out)
+
+
+# --------------------------------------------------------------------------- writing
+
+
+def _os_reason(exc: OSError) -> str:
+    reasons = {errno.ENOSPC: "the disk is full", errno.EDQUOT: "the disk quota is exceeded",
+               errno.EACCES: "permission denied", errno.EPERM: "permission denied",
+               errno.EROFS: "the file system is read-only",
+               errno.ENOENT: "the folder does not exist"}
+    return reasons.get(exc.errno, exc.strerror or str(exc))
+
+
+def _atomic_write(path: Path, write: Callable[[IO[bytes]], None]) -> None:
+    """Write through a temporary file in the same folder, renamed into place when complete."""
+    tmp = path.with_name(f".{path.name}.{os.getpid()}.{secrets.token_hex(4)}.tmp")
+    try:
+        with open(tmp, "xb") as fh:
+            write(fh)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, path)
+    except OSError as exc:
+        _remove(tmp)
+        raise TrimlogError(f"cannot write the report to {path}: {_os_reason(exc)}; no report "
+                           "was written (choose another file with -o, or free some space)"
+                           ) from None
+    except BaseException:
+        _remove(tmp)
+        raise
+
+
+def _remove(tmp: Path) -> None:
+    try:
+        tmp.unlink(missing_ok=True)
+    except OSError:
+        pass  # the original error is the one to report
+
+
+def _check_target(path: Path) -> None:
+    """Refuse a target that cannot be written before spending time on drawing."""
+    if path.is_dir():
+        raise TrimlogError(f"cannot write the report to {path}: it is a folder; give a file "
+                           "name such as report.pdf")
+    if not path.parent.is_dir():
+        raise TrimlogError(f"cannot write the report to {path}: the folder {path.parent} does "
+                           "not exist")
+
+
+def write_report(analysis: Analysis, path: str | os.PathLike[str], *,
+                 trend: Sequence[Mapping[str, Any]] | Any | None = None) -> Path:
+    """Write the flight-test report of an analysis.
+
+    Parameters
+    ----------
+    analysis : Analysis
+        From :func:`trimlog.pipeline.chain.analyze` (or the flight history).
+    path : str or path-like
+        Output file: ``.html`` or ``.htm`` writes one self-contained HTML page
+        (figures embedded as PNG); any other name writes a PDF.
+    trend : sequence of mappings, or an object with ``records()``, optional
+        The neutral point after each successive flight (the records of
+        :func:`trimlog.views.plots.neutral_point_trend`); adds the trend figure.
+
+    Returns
+    -------
+    pathlib.Path
+        The file written.
+
+    Raises
+    ------
+    TrimlogError
+        The file cannot be written (folder missing, permission, disk full);
+        no partial file is left behind.
+    """
+    path = Path(path)
+    _check_target(path)
+    records = trend.records() if hasattr(trend, "records") else trend
+    now = dt.datetime.now(dt.UTC)
+    generated = now.strftime("%Y-%m-%d %H:%M UTC")
+    blocks = report_blocks(analysis, records, generated)
+    title = f"trimlog flight-test report: {analysis.profile.name}"
+    footer = (f"trimlog {analysis.software_version} | {analysis.profile.name} | "
+              f"generated {generated}")
+    if path.suffix.lower() in (".html", ".htm"):
+        data = _render_html(blocks, title, footer).encode("utf-8")
+        _atomic_write(path, lambda fh: fh.write(data))
+    else:
+        pages = render_pdf(blocks, footer)
+        _atomic_write(path, lambda fh: save_pdf(pages, fh, title))
+    return path

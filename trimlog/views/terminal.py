@@ -1,0 +1,261 @@
+"""Plain-text views of results for the terminal.
+
+The texts are built from the same typed results (and JSON dicts) as every
+other view; nothing is computed here but formatting.  Colour (ANSI) only
+when asked for, i.e. when the caller has checked that the terminal takes it.
+"""
+
+from __future__ import annotations
+
+import textwrap
+from collections.abc import Sequence
+from typing import TYPE_CHECKING, Any
+
+from trimlog import cautions
+
+if TYPE_CHECKING:
+    from trimlog.history.service import Trend
+    from trimlog.pipeline.chain import Analysis, ConfigurationResult
+    from trimlog.stability.results import NeutralPoint
+
+WIDTH = 88
+
+
+class _Style:
+    def __init__(self, color: bool) -> None:
+        self.color = color
+
+    def _wrap(self, code: str, text: str) -> str:
+        return f"\033[{code}m{text}\033[0m" if self.color else text
+
+    def head(self, text: str) -> str:
+        return self._wrap("1", text)
+
+    def warn(self, text: str) -> str:
+        return self._wrap("33", text)
+
+    def bad(self, text: str) -> str:
+        return self._wrap("31", text)
+
+
+def _fmt(value: float | None, spec: str = ".1f", missing: str = "-") -> str:
+    return missing if value is None else format(value, spec)
+
+
+def _interval(pair: Sequence[float] | None, spec: str = ".1f") -> str:
+    return "-" if pair is None else f"[{pair[0]:{spec}}, {pair[1]:{spec}}]"
+
+
+def table(headers: Sequence[str], rows: Sequence[Sequence[str]]) -> str:
+    """Align columns: text left, everything else right."""
+    widths = [len(h) for h in headers]
+    for row in rows:
+        widths = [max(w, len(c)) for w, c in zip(widths, row, strict=True)]
+    numeric = [
+        all(_looks_numeric(r[i]) for r in rows) if rows else False for i in range(len(headers))
+    ]
+
+    def line(cells: Sequence[str]) -> str:
+        return "  ".join(
+            c.rjust(w) if num else c.ljust(w)
+            for c, w, num in zip(cells, widths, numeric, strict=True)
+        ).rstrip()
+
+    return "\n".join([line(headers), line(["-" * w for w in widths]), *map(line, rows)])
+
+
+def _looks_numeric(text: str) -> bool:
+    return text.replace(".", "", 1).replace("-", "", 1).replace("+", "", 1).isdigit() or (
+        text == "-"
+    )
+
+
+def _bullets(items: Sequence[str], style_fn=None) -> str:
+    out = []
+    for item in items:
+        wrapped = textwrap.fill(item, WIDTH, initial_indent="  - ", subsequent_indent="    ")
+        out.append(style_fn(wrapped) if style_fn else wrapped)
+    return "\n".join(out)
+
+
+def neutral_point_line(name: str, np_: NeutralPoint | None) -> str:
+    """One line: the estimate with its interval, or why there is none."""
+    if np_ is None:
+        return f"{name}: not available (no stick force logged)"
+    if not np_.identifiable:
+        return f"{name}: NOT IDENTIFIABLE - {np_.reason}"
+    station = f", station {np_.station_in:.2f} in" if np_.station_in is not None else ""
+    return (
+        f"{name}: {np_.pct_mac:.1f} %MAC, 95 % interval "
+        f"{_interval(np_.ci95_pct_mac)} %MAC{station}"
+    )
+
+
+def render(analysis: Analysis, *, color: bool = False) -> str:
+    """The whole terminal summary of an analysis."""
+    s = _Style(color)
+    parts = [
+        s.head(f"trimlog {analysis.software_version} - {analysis.profile.name}"),
+        _flights_block(analysis),
+        _configuration_block(analysis.primary, analysis, s),
+    ]
+    for other in analysis.others:
+        parts.append(s.head(f"== configuration '{other.config}' (analysed separately) =="))
+        parts.append(_configuration_block(other, analysis, s))
+    if analysis.warnings:
+        parts.append(s.head("Warnings") + "\n" + _bullets(analysis.warnings, s.warn))
+    parts.append(s.head("Cautions") + "\n" + _bullets(analysis.cautions))
+    return "\n\n".join(parts) + "\n"
+
+
+def _flights_block(analysis: Analysis) -> str:
+    rows = []
+    table_points = analysis.points
+    for f in analysis.flights:
+        mine = table_points.loc[table_points["flight"] == f.flight]
+        cg = mine["cg_pct_mac"].mean() if len(mine) else None
+        rows.append([
+            f.flight,
+            "log" if f.log.kind == "time_series" else "table",
+            str(len(mine)),
+            str(int(mine["included"].sum())) if len(mine) else "0",
+            _fmt(cg),
+            str(mine["stab_setting"].iloc[0]) if len(mine) else "-",
+        ])
+    return table(["flight", "kind", "points", "used", "CG %MAC", "stabilizer setting"], rows)
+
+
+def _configuration_block(result: ConfigurationResult, analysis: Analysis, s: _Style) -> str:
+    st = result.stability
+    lines = [s.head(f"Neutral points (configuration '{result.config}')")]
+    lines.append("  " + neutral_point_line("stick-fixed (pooled)", st.stick_fixed.neutral_point))
+    lines.append("  " + neutral_point_line(
+        "stick-fixed (two-stage)", st.stick_fixed_two_stage.neutral_point))
+    lines.append("  " + neutral_point_line(
+        "stick-free  (pooled)", None if st.stick_free is None else st.stick_free.neutral_point))
+    if st.stick_fixed.neutral_point.identifiable and st.stick_fixed.elevator_power_per_rad:
+        lines.append(
+            f"  elevator power Cm_de: {st.stick_fixed.elevator_power_per_rad:.2f} per rad "
+            f"{_interval(st.stick_fixed.elevator_power_ci95_per_rad, '.2f')}"
+        )
+    blocks = ["\n".join(lines)]
+
+    rows = [
+        [
+            g.flight,
+            _fmt(g.cg_pct_mac),
+            str(g.n_points),
+            _fmt(g.delev_dcl_deg, ".2f"),
+            _interval(g.delev_dcl_ci95_deg, ".2f"),
+            _fmt(g.dfs_dv_lbf_per_kt, ".2f"),
+            g.stick_force_verdict,
+        ]
+        for g in st.gradients
+    ]
+    blocks.append(s.head("Trim gradients per flight") + "\n" + table(
+        ["flight", "CG %MAC", "n", "dde/dCL deg", "95 % interval", "dFs/dV lbf/kt",
+         "stick force with speed"], rows))
+
+    min_sm = analysis.profile.min_static_margin_pct_mac
+    margin_rows = []
+    for m in st.margins:
+        flag = "" if m.meets_minimum is not False else s.bad(f"below {min_sm:g} %MAC?")
+        margin_rows.append([
+            m.label, _fmt(m.cg_pct_mac), _fmt(m.stick_fixed_pct_mac),
+            _interval(m.stick_fixed_ci95_pct_mac), _fmt(m.stick_free_pct_mac),
+            _interval(m.stick_free_ci95_pct_mac), flag,
+        ])
+    blocks.append(s.head(f"Static margins (%MAC; policy minimum {min_sm:g} %MAC)") + "\n" + table(
+        ["at", "CG", "stick-fixed", "95 %", "stick-free", "95 %", ""], margin_rows))
+
+    if st.authority is not None:
+        auth = [s.head("Elevator authority at the forward CG limit")]
+        for case in st.authority.cases:
+            auth.append(textwrap.fill(
+                f"{case.case}: CLmax {case.clmax:g} needs {case.elevator_deg:+.1f} deg elevator "
+                f"{_interval(case.pi95_deg)} against the up stop {case.up_stop_deg:+.1f} deg: "
+                f"{case.verdict}", WIDTH, initial_indent="  ", subsequent_indent="    "))
+        if st.authority.most_forward_cg_conservative_pct_mac is not None:
+            auth.append(
+                f"  most forward CG keeping {st.authority.reserve_deg:g} deg up elevator in "
+                f"reserve: {st.authority.most_forward_cg_conservative_pct_mac:.1f} %MAC"
+            )
+        if st.authority.reason:
+            auth.append("  " + st.authority.reason)
+        blocks.append("\n".join(auth))
+
+    blocks.append(_incidence_block(result, s))
+    if st.next_cg.cg_pct_mac is not None:
+        blocks.append(s.head("To tighten the estimate") + "\n" + textwrap.fill(
+            f"fly the next flight near {st.next_cg.cg_pct_mac:.1f} %MAC "
+            f"({_fmt(st.next_cg.station_in, '.2f')} in), chosen by the {st.next_cg.criterion}"
+            f"{': ' + st.next_cg.reason if st.next_cg.reason else ''}", WIDTH,
+            initial_indent="  ", subsequent_indent="  "))
+    return "\n\n".join(blocks)
+
+
+def _incidence_block(result: ConfigurationResult, s: _Style) -> str:
+    head = s.head("Stabilizer incidence and shim")
+    rec = result.incidence
+    if rec is None:
+        return head + "\n  no recommendation: " + (result.incidence_reason or "not computed")
+    lines = [
+        f"  elevator at cruise (CL {rec.cruise_cl:.3f}, CG {rec.cruise_cg_pct_mac:.1f} %MAC): "
+        f"{rec.elevator_at_cruise_deg:+.2f} deg "
+        f"{_interval(rec.elevator_at_cruise_ci95_deg, '+.2f')}",
+        f"  tau {rec.tau:.3f} ({rec.tau_source})",
+        f"  incidence change {rec.change_deg:+.2f} deg "
+        f"{_interval(rec.change_ci95_deg, '+.2f')} (leading edge up positive)",
+    ]
+    lines.append(textwrap.fill(rec.words, WIDTH, initial_indent="  ", subsequent_indent="  "))
+    return head + "\n" + "\n".join(lines)
+
+
+def render_flights(listing: list[dict[str, Any]]) -> str:
+    """The flights stored in the history."""
+    if not listing:
+        return "no flights in the history yet: add some with 'trimlog import'"
+    rows = [
+        [str(f["id"]), str(f.get("label") or ""), str(f.get("date") or ""),
+         _fmt(f.get("cg_pct_mac")), str(f["n_points"]), str(f.get("stab_setting") or ""),
+         f["sha256"][:12]]
+        for f in listing
+    ]
+    return table(["id", "label", "date", "CG %MAC", "points", "stabilizer", "sha256"], rows)
+
+
+def render_trend(trend: Trend, *, color: bool = False) -> str:
+    """Neutral point after each successive flight, then the plan."""
+    s = _Style(color)
+    data = trend.to_dict()
+    rows = [
+        [str(step["n_flights"]), str(step.get("label") or ""), _fmt(step.get("cg_pct_mac")),
+         _fmt(step["stick_fixed_pct_mac"]), _interval(step["ci95_pct_mac"]),
+         _fmt(step.get("stick_free_pct_mac")), _interval(step.get("stick_free_ci95_pct_mac"))]
+        for step in data["trend"]
+    ]
+    out = [s.head("Neutral point after each flight (%MAC)"), table(
+        ["flights", "latest", "its CG", "stick-fixed", "95 %", "stick-free", "95 %"], rows)]
+    out.append(render_plan(trend, color=color))
+    return "\n".join(out)
+
+
+def render_plan(trend: Trend, *, color: bool = False) -> str:
+    """The next-CG suggestion with its reasoning and the cautions."""
+    s = _Style(color)
+    step = trend.to_dict()["next_step"]
+    lines = [s.head("Next CG step")]
+    if step["max_cg_pct_mac"] is None:
+        lines.append(textwrap.fill("no suggestion: " + step["reason"], WIDTH,
+                                   initial_indent="  ", subsequent_indent="  "))
+    else:
+        lines.append(
+            f"  most aft CG for the next flight: {step['max_cg_pct_mac']:.1f} %MAC "
+            f"(station {step['max_cg_station_in']:.2f} in), keeping the 95 % lower bound of "
+            f"the static margin at or above {step['min_static_margin_pct_mac']:g} %MAC"
+        )
+        lines.append(textwrap.fill(step["reason"], WIDTH, initial_indent="  ",
+                                   subsequent_indent="  "))
+    lines.append(_bullets((cautions.ESTIMATE_STATEMENT, *cautions.CG_EXPANSION,
+                           *cautions.GENERAL)))
+    return "\n".join(lines)
