@@ -538,7 +538,39 @@ def test_static_margins_are_hn_minus_cg_with_shifted_bounds():
             r.stick_free.neutral_point.pct_mac - m.cg_pct_mac)
     aft = r.margins[-1]
     assert aft.cg_pct_mac == pytest.approx(100 * 16 / 51)
-    assert aft.meets_minimum is True  # 40 - 31.4 = 8.6 %MAC against 5
+    # the verdict uses both neutral points: met only when every known lower bound is >= 5
+    lowers = {"stick_fixed_np": aft.stick_fixed_lower95_pct_mac,
+              "stick_free_np": aft.stick_free_lower95_pct_mac}
+    assert aft.stick_fixed_lower95_pct_mac == pytest.approx(aft.stick_fixed_ci95_pct_mac[0])
+    assert aft.stick_free_lower95_pct_mac == pytest.approx(aft.stick_free_ci95_pct_mac[0])
+    assert aft.limited_by == min(lowers, key=lowers.get)
+    assert aft.meets_minimum is (min(lowers.values()) >= 5.0)
+    assert r.critical is not None and r.critical.kind == aft.limited_by.removesuffix("_np")
+
+
+def test_planner_is_limited_by_the_stick_free_point_when_it_is_forward():
+    # synthetic, noise-free, known truth (issue 12): hn 40, hn' 33 %MAC, flights at 20/25/30;
+    # before, the stick-fixed-only planner proposed 33.0 %MAC, where the stick-free margin is 0
+    pts = make_points(Truth(hn=0.40, hn_free=0.33), cgs_pct_mac=(20.0, 25.0, 30.0))
+    r = analyze_stability(pts, profile())
+    assert r.critical.kind == "stick_free"
+    assert r.critical.pct_mac == pytest.approx(33.0, abs=1e-6)
+    step = r.next_step
+    # 33 - 5 = 28 %MAC is forward of the 30 %MAC flown: no step aft, and it says why
+    assert step.limited_by == "stick_free_np" and step.max_cg_pct_mac is None
+    assert "stick-free" in step.reason
+    assert r.next_cg.cg_pct_mac is None or r.next_cg.cg_pct_mac <= 30.0 + 1e-9
+    aft = r.margins[-1]
+    assert aft.meets_minimum is False and aft.limited_by == "stick_free_np"
+
+
+def test_without_stick_force_the_step_says_it_rests_on_the_stick_fixed_point():
+    pts = make_points(TRUTH, force=False)
+    r = analyze_stability(pts, profile())
+    assert r.critical.kind == "stick_fixed"
+    assert "stick-free margin is unknown" in r.next_step.reason
+    assert "stick-fixed neutral point alone" in r.next_step.reason
+    assert all(m.stick_free_lower95_pct_mac is None for m in r.margins)
 
 
 def test_elevator_authority_against_the_exact_trim_relation():

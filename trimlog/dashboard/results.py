@@ -174,12 +174,22 @@ def _margins(a: Analysis) -> None:
             "Stick-fixed [%MAC]": with_interval(m.stick_fixed_pct_mac,
                                                 m.stick_fixed_ci95_pct_mac),
             "Stick-free [%MAC]": with_interval(m.stick_free_pct_mac, m.stick_free_ci95_pct_mac),
+            "Limited by": {"stick_fixed_np": "stick-fixed", "stick_free_np": "stick-free"}.get(
+                m.limited_by, "cannot say"),
             f"Lower bound >= {a.profile.min_static_margin_pct_mac:.1f} %MAC": {
                 True: "yes", False: "NO", None: "cannot say"}[m.meets_minimum],
         }
         for m in s.margins
     ]
     st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
+    if s.critical is not None:
+        st.caption(common.esc(s.critical.reason))
+    if s.next_step is not None:
+        nxt = s.next_step
+        head = ("No step aft is supported" if nxt.max_cg_pct_mac is None else
+                f"Most aft CG for the next flight: **{nxt.max_cg_pct_mac:.1f} %MAC** "
+                f"(limited by {nxt.limited_by.replace('_np', ' neutral point').replace('_', '-')})")
+        st.markdown(f"{head}. {common.esc(nxt.reason)}")
 
 
 def _stick_forces(a: Analysis) -> None:

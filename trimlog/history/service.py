@@ -23,6 +23,7 @@ from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
 from trimlog.input.profile import AircraftProfile, parse_profile
 from trimlog.pipeline import chain
 from trimlog.pipeline.reduction import reduce_points
+from trimlog.stability.critical import aft_flight_clearly_stable
 from trimlog.stability.trend import NextStep, TrendStep, neutral_point_sequence, plan_next_step
 
 _SHEET_TEXT = "sheet_text"
@@ -344,6 +345,7 @@ def trend(
         order = [stored.names[r.id] for r in stored.records]
         steps = neutral_point_sequence(reduced.loc[reduced["config"] == config], order, profile)
     latest = steps[-1].stick_fixed if steps else None
+    latest_free = steps[-1].stick_free if steps else None
     if latest is None:
         next_step = NextStep(None, None, min_margin_pct_mac or profile.min_static_margin_pct_mac,
                              max_step_pct_mac or profile.cg_step_max_pct_mac, None, "none",
@@ -353,6 +355,7 @@ def trend(
             latest, list(cg_by_flight.values()), profile, min_margin_pct_mac=min_margin_pct_mac,
             step_max_pct_mac=max_step_pct_mac,
             aft_gradient_clearly_stable=_aft_flight_clearly_stable(reduced, config, cg_by_flight),
+            stick_free=latest_free,
         )
     return Trend(stored.aircraft.name, _listing(stored, cg_by_flight), steps, next_step, config,
                  tuple(dict.fromkeys(warnings)))
@@ -369,11 +372,10 @@ def _aft_flight_clearly_stable(
     aft = max(cg_by_flight, key=cg_by_flight.get)
     part = reduced.loc[(reduced["config"] == config) & (reduced["flight"] == aft)]
     try:
-        gradient = flight_gradients(part)[0]
-    except (TrimlogError, IndexError):
+        gradients = flight_gradients(part)
+    except TrimlogError:
         return False
-    ci = gradient.delev_dcl_ci95_deg
-    return ci is not None and ci[1] < 0.0
+    return aft_flight_clearly_stable(gradients)
 
 
 def _finite_or_none(value: float | None) -> float | None:

@@ -25,6 +25,7 @@ from scipy.optimize import brentq
 from trimlog import cautions
 from trimlog.errors import TrimlogError
 from trimlog.input.profile import AircraftProfile
+from trimlog.stability.critical import margin_limit
 from trimlog.stability.results import (
     AuthorityCase,
     ElevatorAuthority,
@@ -69,6 +70,9 @@ def static_margins(
     Returns
     -------
     tuple of StaticMargin
+        ``meets_minimum`` and ``limited_by`` from
+        :func:`trimlog.stability.critical.margin_limit`: both neutral points,
+        the limiting one named.
 
     References
     ----------
@@ -83,10 +87,10 @@ def static_margins(
     for label, flight, cg in cgs:
         fixed, fixed_ci = margin(stick_fixed, cg)
         free, free_ci = margin(stick_free, cg)
-        meets = None
-        if fixed_ci is not None and min_static_margin_pct_mac is not None:
-            meets = fixed_ci[0] >= min_static_margin_pct_mac
-        out.append(StaticMargin(label, flight, cg, fixed, fixed_ci, free, free_ci, meets))
+        fixed_lo, free_lo, meets, limited_by = margin_limit(
+            cg, stick_fixed, stick_free, min_static_margin_pct_mac)
+        out.append(StaticMargin(label, flight, cg, fixed, fixed_ci, free, free_ci, meets,
+                                fixed_lo, free_lo, limited_by))
     return tuple(out)
 
 
@@ -323,8 +327,8 @@ def elevator_authority(fit: PooledFit, profile: AircraftProfile, *, setting: str
         None if h_cons is None else 100.0 * h_cons, station, "; ".join(reasons), tuple(warnings))
 
 
-def plan_next_cg(points: pd.DataFrame, fit: PooledFit, profile: AircraftProfile | None
-                 ) -> NextCg:
+def plan_next_cg(points: pd.DataFrame, fit: PooledFit, profile: AircraftProfile | None,
+                 most_aft_allowed_pct_mac: float | None = None) -> NextCg:
     """Find the CG for the next flight that most reduces the predicted variance of hn.
 
     Parameters
@@ -335,6 +339,10 @@ def plan_next_cg(points: pd.DataFrame, fit: PooledFit, profile: AircraftProfile 
         Pooled stick-fixed fit.
     profile : AircraftProfile or None
         CG limits, ``cg_step_max_pct_mac`` and ``min_static_margin_pct_mac``.
+    most_aft_allowed_pct_mac : float, optional
+        The most aft CG the next flight may be flown at, from the one next-CG
+        rule (:func:`trimlog.stability.critical.next_cg_limit`, which uses
+        both neutral points); None searches only up to the most aft CG flown.
 
     Returns
     -------
@@ -348,11 +356,10 @@ def plan_next_cg(points: pd.DataFrame, fit: PooledFit, profile: AircraftProfile 
     covariance after the flight is ``s^2 (X'X + Xn'Xn)^-1``, and the candidate
     with the smallest delta-method variance of ``hn = -b/c`` wins (or the
     smallest variance of ``c`` while hn is not identifiable).  Candidates run
-    from the forward limit to the most aft CG allowed: the aft limit, the
-    profile's step beyond the most aft CG flown, and the minimum static margin
-    ahead of the neutral point's forward 95 % bound, whichever is most
-    forward.  A larger CG spread is the lever; the step limit keeps the
-    expansion gradual.
+    from the forward limit to the most aft CG allowed by the one next-CG rule
+    (both neutral points' forward 95 % bounds less the minimum margin, the
+    profile's step beyond the most aft CG flown, the aft limit).  A larger CG
+    spread is the lever; the step limit keeps the expansion gradual.
 
     References
     ----------
@@ -374,13 +381,13 @@ def plan_next_cg(points: pd.DataFrame, fit: PooledFit, profile: AircraftProfile 
     x = trim_design(frame, "stab_setting", groups, cg_term=True).to_numpy(dtype=float)
     schedule = frame.loc[frame["flight"] == frame["flight"].value_counts().idxmax(), "cl"]
     np_ = fit.neutral_point
-    hi = min(profile.cg_aft_pct_mac, fit.cg_range_pct_mac[1] + profile.cg_step_max_pct_mac)
-    if np_.identifiable:
-        hi = min(hi, np_.ci95_pct_mac[0] - profile.min_static_margin_pct_mac)
+    # Never aft of what the one next-CG rule allows (both neutral points, step, aft limit).
+    hi = min(profile.cg_aft_pct_mac, fit.cg_range_pct_mac[1]
+             if most_aft_allowed_pct_mac is None else most_aft_allowed_pct_mac)
     lo = profile.cg_forward_pct_mac
     if hi < lo:
         return no("no CG inside the limits keeps the minimum static margin ahead of the "
-                  "neutral point's forward bound", (lo, hi))
+                  "critical neutral point's forward bound", (lo, hi))
     sigma2 = fit.linear.residual_std ** 2
     scale = sigma2 if sigma2 > 0.0 else 1.0
     use_hn = np_.identifiable

@@ -51,6 +51,11 @@ import pandas as pd
 from trimlog.errors import TrimlogError
 from trimlog.input.profile import AircraftProfile
 from trimlog.stability.checks import CURVATURE_P, curvature_check, intercept_check, robust_check
+from trimlog.stability.critical import (
+    aft_flight_clearly_stable,
+    critical_neutral_point,
+    next_cg_limit,
+)
 from trimlog.stability.margins import (
     elevator_authority,
     elevator_stop_flags,
@@ -763,13 +768,25 @@ def analyze_stability(points: pd.DataFrame, profile: AircraftProfile | None = No
         cgs += [("forward CG limit", None, profile.cg_forward_pct_mac),
                 ("aft CG limit", None, profile.cg_aft_pct_mac)]
         min_sm = profile.min_static_margin_pct_mac
-    margins = static_margins(cgs, pooled_np, None if free is None else free.neutral_point, min_sm)
+    free_np = None if free is None else free.neutral_point
+    margins = static_margins(cgs, pooled_np, free_np, min_sm)
     for m in margins:
         if m.meets_minimum is False:
+            kind = "stick-free" if m.limited_by == "stick_free_np" else "stick-fixed"
+            low = (m.stick_free_lower95_pct_mac if m.limited_by == "stick_free_np"
+                   else m.stick_fixed_lower95_pct_mac)
             warnings.append(f"at the {m.label if m.flight is None else 'CG of flight ' + m.label} "
-                            f"({m.cg_pct_mac:.1f} %MAC) the stick-fixed static margin may be below "
-                            f"the minimum of {min_sm:g} %MAC (95 % lower bound "
-                            f"{m.stick_fixed_ci95_pct_mac[0]:.1f} %MAC)")
+                            f"({m.cg_pct_mac:.1f} %MAC) the {kind} static margin may be below "
+                            f"the minimum of {min_sm:g} %MAC (95 % lower bound {low:.1f} %MAC)")
+    critical = critical_neutral_point(pooled_np, free_np)
+    next_step = None
+    if profile is not None:
+        next_step = next_cg_limit(
+            pooled_np, free_np, [g.cg_pct_mac for g in gradients],
+            aft_limit_pct_mac=profile.cg_aft_pct_mac,
+            min_margin_pct_mac=profile.min_static_margin_pct_mac,
+            step_max_pct_mac=profile.cg_step_max_pct_mac, station=profile.station,
+            aft_gradient_clearly_stable=aft_flight_clearly_stable(gradients))
     authority = stops = None
     if profile is not None:
         authority = elevator_authority(fixed, profile, setting=setting, flap_config=flap_config)
@@ -786,6 +803,8 @@ def analyze_stability(points: pd.DataFrame, profile: AircraftProfile | None = No
         config=config, n_points=len(points), n_included=len(frame), n_excluded=n_excluded,
         n_without_force=n_without_force, gradients=gradients, stick_fixed=fixed,
         stick_fixed_two_stage=two, stick_free=free, margins=margins, authority=authority,
-        next_cg=plan_next_cg(points, fixed, profile), stop_flags=stops or (),
-        warnings=tuple(dict.fromkeys(warnings)),
+        next_cg=plan_next_cg(points, fixed, profile, None if next_step is None
+                             else next_step.max_cg_pct_mac),
+        stop_flags=stops or (), warnings=tuple(dict.fromkeys(warnings)),
+        critical=critical, next_step=next_step,
     )

@@ -363,6 +363,61 @@ class TwoStageFit:
 
 
 @dataclass(frozen=True)
+class CriticalNeutralPoint:
+    """The neutral point that limits: the one whose lower 95 % bound is further forward.
+
+    Attributes
+    ----------
+    kind : str
+        ``"stick_fixed"`` or ``"stick_free"``.
+    pct_mac : float
+        Its estimate [%MAC].
+    ci95_pct_mac : (float, float)
+        Its 95 % interval [%MAC].
+    station_in : float or None
+        Its estimate as a station [in].
+    reason : str
+        Why this one limits, in plain words (and what is unknown).
+    """
+
+    kind: str
+    pct_mac: float
+    ci95_pct_mac: tuple[float, float]
+    station_in: float | None
+    reason: str
+
+
+@dataclass(frozen=True)
+class NextStep:
+    """The most aft CG for the next flight, with the reasoning (the one next-CG rule).
+
+    Attributes
+    ----------
+    max_cg_pct_mac, max_cg_station_in : float or None
+        None when no step aft can be supported.
+    min_static_margin_pct_mac : float
+        The margin policy used [%MAC].
+    step_max_pct_mac : float
+        Largest step beyond the most aft CG flown [%MAC].
+    most_aft_flown_pct_mac : float or None
+    limited_by : str
+        ``"stick_free_np"``, ``"stick_fixed_np"``, ``"policy_step"``,
+        ``"aft_limit"`` or ``"none"``.
+    reason : str
+        The reasoning in plain words; names the limiting neutral point, and
+        says when the stick-free margin is unknown.
+    """
+
+    max_cg_pct_mac: float | None
+    max_cg_station_in: float | None
+    min_static_margin_pct_mac: float
+    step_max_pct_mac: float
+    most_aft_flown_pct_mac: float | None
+    limited_by: str
+    reason: str
+
+
+@dataclass(frozen=True)
 class StaticMargin:
     """Static margins hn - h at one CG [%MAC], with Fieller bounds shifted.
 
@@ -376,8 +431,14 @@ class StaticMargin:
     stick_fixed_pct_mac, stick_free_pct_mac : float or None
     stick_fixed_ci95_pct_mac, stick_free_ci95_pct_mac : (float, float) or None
     meets_minimum : bool or None
-        Whether the lower 95 % bound of the stick-fixed margin is at least the
-        profile's minimum; None when it cannot be said.
+        True only when every known lower 95 % bound (stick-fixed, stick-free)
+        is at least the profile's minimum; None when no bound is known.
+    stick_fixed_lower95_pct_mac, stick_free_lower95_pct_mac : float or None
+        Lower 95 % bounds of the two margins [%MAC]; None when unknown.
+    limited_by : str or None
+        ``"stick_fixed_np"`` or ``"stick_free_np"``: the neutral point whose
+        margin has the smaller lower bound (the one that limits); None when
+        neither is known.
     """
 
     label: str
@@ -388,6 +449,9 @@ class StaticMargin:
     stick_free_pct_mac: float | None
     stick_free_ci95_pct_mac: tuple[float, float] | None
     meets_minimum: bool | None
+    stick_fixed_lower95_pct_mac: float | None = None
+    stick_free_lower95_pct_mac: float | None = None
+    limited_by: str | None = None
 
 
 @dataclass(frozen=True)
@@ -560,6 +624,11 @@ class StabilityResult:
     next_cg : NextCg
     stop_flags : tuple of StopFlag
     warnings : tuple of str
+    critical : CriticalNeutralPoint or None
+        The limiting neutral point; None when neither is identifiable.
+    next_step : NextStep or None
+        The most aft CG for the next flight (the same rule as ``trimlog
+        plan``); None without a profile.
     """
 
     config: str | None
@@ -576,3 +645,5 @@ class StabilityResult:
     next_cg: NextCg
     stop_flags: tuple[StopFlag, ...]
     warnings: tuple[str, ...]
+    critical: CriticalNeutralPoint | None = None
+    next_step: NextStep | None = None

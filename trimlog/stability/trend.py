@@ -10,10 +10,11 @@ the coefficients of ``CL`` and ``h*CL`` in a model with one intercept per
 group are those of the regression on the group-demeaned variables, and the
 demeaned cross products of a group follow from its raw sums.
 
-:func:`plan_next_step` turns the latest estimate into the most aft CG for the
-next flight that keeps the 95 % lower bound of the static margin at or above a
-minimum (a policy choice, not a rule), capped by a step beyond the most aft CG
-flown and by the aft limit.
+:func:`plan_next_step` turns the latest estimates into the most aft CG for the
+next flight by the one next-CG rule of :mod:`trimlog.stability.critical`: the
+95 % lower bound of every known static margin (stick-fixed and stick-free) at
+or above a minimum (a policy choice, not a rule), capped by a step beyond the
+most aft CG flown and by the aft limit.
 
 References
 ----------
@@ -35,6 +36,7 @@ import numpy as np
 import pandas as pd
 
 from trimlog.input.profile import AircraftProfile
+from trimlog.stability.critical import next_cg_limit
 from trimlog.stability.neutral_points import (
     MIN_CG_SPREAD_PCT_MAC,
     MIN_CL_SPREAD,
@@ -42,7 +44,9 @@ from trimlog.stability.neutral_points import (
     neutral_point_from_coefficients,
     too_few_speed_ranges,
 )
-from trimlog.stability.results import NeutralPoint
+from trimlog.stability.results import NeutralPoint, NextStep
+
+__all__ = ["NextStep", "TrendStep", "neutral_point_sequence", "plan_next_step"]
 
 #: Relative size of the smallest eigenvalue of the demeaned 2x2 cross-product
 #: matrix below which CL and h*CL are taken as collinear.
@@ -69,34 +73,6 @@ class TrendStep:
     cg_pct_mac: float | None
     stick_fixed: NeutralPoint
     stick_free: NeutralPoint | None
-
-
-@dataclass(frozen=True)
-class NextStep:
-    """The most aft CG for the next flight, with the reasoning.
-
-    Attributes
-    ----------
-    max_cg_pct_mac, max_cg_station_in : float or None
-        None when no step aft can be supported.
-    min_static_margin_pct_mac : float
-        The margin policy used [%MAC].
-    step_max_pct_mac : float
-        Largest step beyond the most aft CG flown [%MAC].
-    most_aft_flown_pct_mac : float or None
-    limited_by : str
-        ``"margin"``, ``"step"``, ``"aft limit"``, ``"policy step only"`` or ``"none"``.
-    reason : str
-        The reasoning in plain words.
-    """
-
-    max_cg_pct_mac: float | None
-    max_cg_station_in: float | None
-    min_static_margin_pct_mac: float
-    step_max_pct_mac: float
-    most_aft_flown_pct_mac: float | None
-    limited_by: str
-    reason: str
 
 
 class _WithinSums:
@@ -266,8 +242,9 @@ def plan_next_step(
     min_margin_pct_mac: float | None = None,
     step_max_pct_mac: float | None = None,
     aft_gradient_clearly_stable: bool = False,
+    stick_free: NeutralPoint | None = None,
 ) -> NextStep:
-    """Most aft CG for the next flight that keeps the static margin's lower bound above a minimum.
+    """Most aft CG for the next flight: the profile's policy over :func:`next_cg_limit`.
 
     Parameters
     ----------
@@ -280,9 +257,12 @@ def plan_next_step(
     min_margin_pct_mac, step_max_pct_mac : float, optional
         Override the profile's minimum static margin and largest step [%MAC].
     aft_gradient_clearly_stable : bool
-        Whether the elevator-to-trim gradient at the most aft CG flown is
-        negative with its whole 95 % interval; used only while the neutral
-        point is not yet identifiable.
+        Whether the trim gradients at the most aft CG flown are stable with
+        their whole 95 % interval; used only while neither neutral point is
+        identifiable.
+    stick_free : NeutralPoint, optional
+        The current stick-free estimate; None when no stick force was logged
+        (the reason then says the step rests on the stick-fixed point alone).
 
     Returns
     -------
@@ -290,60 +270,15 @@ def plan_next_step(
 
     Notes
     -----
-    The static margin at CG ``h`` is ``hn - h``; its lower 95 % bound is
-    ``hn_lo - h`` with ``hn_lo`` the lower Fieller bound, so the largest CG
-    keeping that bound at or above ``SM_min`` is ``hn_lo - SM_min``.  The
-    suggestion is the smallest of that, the most aft CG flown plus the step,
-    and the aft limit.
+    The rule itself is :func:`trimlog.stability.critical.next_cg_limit`, the
+    same one ``trimlog analyze`` uses: the smallest of ``hn_lo - SM_min`` for
+    each identifiable neutral point, the most aft CG flown plus the step, and
+    the aft limit.
     """
     min_sm = profile.min_static_margin_pct_mac if min_margin_pct_mac is None else (
         min_margin_pct_mac)
     step = profile.cg_step_max_pct_mac if step_max_pct_mac is None else step_max_pct_mac
-    aft_limit = profile.cg_aft_pct_mac
-    flown = [c for c in flown_cg_pct_mac if c is not None and np.isfinite(c)]
-    if not flown:
-        return NextStep(None, None, min_sm, step, None, "none",
-                        "no flight with usable points yet: start at a forward CG within the "
-                        "aircraft's limits, as the programme plan says")
-    most_aft = max(flown)
-    by_step = most_aft + step
-
-    def result(value: float, limited_by: str, reason: str) -> NextStep:
-        return NextStep(value, profile.station(value), min_sm, step, most_aft, limited_by, reason)
-
-    if not latest.identifiable:
-        if not aft_gradient_clearly_stable:
-            return NextStep(
-                None, None, min_sm, step, most_aft, "none",
-                "the neutral point is not identifiable yet and the trim gradient at the most aft "
-                f"CG flown ({most_aft:.1f} %MAC) is not clearly stable: do not move aft; re-fly "
-                "or add a flight at a more forward CG to spread the data",
-            )
-        value = min(by_step, aft_limit)
-        return result(
-            value, "policy step only",
-            f"the neutral point is not identifiable yet ({latest.reason}); the trim gradient at "
-            f"{most_aft:.1f} %MAC is clearly stable, so the suggestion is only the policy step of "
-            f"{step:g} %MAC beyond the most aft CG flown"
-            + (", held at the aft limit" if value < by_step else "")
-            + "; it is not backed by a neutral-point estimate",
-        )
-    lo = latest.ci95_pct_mac[0]
-    by_margin = lo - min_sm
-    candidates = {"margin": by_margin, "step": by_step, "aft limit": aft_limit}
-    limited_by = min(candidates, key=candidates.get)
-    value = candidates[limited_by]
-    basis = (
-        f"neutral point {latest.pct_mac:.1f} %MAC, lower 95 % bound {lo:.1f} %MAC; keeping the "
-        f"lower bound of the static margin at or above {min_sm:g} %MAC allows up to "
-        f"{by_margin:.1f} %MAC; the step limit allows {by_step:.1f} %MAC "
-        f"({step:g} %MAC beyond the most aft CG flown, {most_aft:.1f} %MAC); the aft limit is "
-        f"{aft_limit:.1f} %MAC"
-    )
-    if value <= most_aft:
-        return NextStep(
-            None, None, min_sm, step, most_aft, limited_by,
-            basis + ": no step aft of the CGs already flown is supported; tighten the estimate "
-            "first (more points, a flight at a forward CG) or accept the present envelope",
-        )
-    return result(value, limited_by, basis + f": the {limited_by} sets the suggestion")
+    return next_cg_limit(latest, stick_free, flown_cg_pct_mac,
+                         aft_limit_pct_mac=profile.cg_aft_pct_mac, min_margin_pct_mac=min_sm,
+                         step_max_pct_mac=step, station=profile.station,
+                         aft_gradient_clearly_stable=aft_gradient_clearly_stable)

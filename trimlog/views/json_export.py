@@ -117,6 +117,12 @@ def configuration_dict(result: ConfigurationResult, analysis: Analysis) -> dict[
                 None if s.stick_free is None
                 else neutral_point_dict(s.stick_free.neutral_point, s.stick_free)
             ),
+            "critical": (
+                None if s.critical is None
+                else {"kind": s.critical.kind, "pct_mac": s.critical.pct_mac,
+                      "ci95_pct_mac": s.critical.ci95_pct_mac,
+                      "station_in": s.critical.station_in, "reason": s.critical.reason}
+            ),
         },
         "elevator_power_per_rad": (
             s.stick_fixed.elevator_power_per_rad if fixed_np.identifiable else None
@@ -134,6 +140,9 @@ def configuration_dict(result: ConfigurationResult, analysis: Analysis) -> dict[
                 "stick_free_pct_mac": m.stick_free_pct_mac,
                 "stick_free_ci95_pct_mac": m.stick_free_ci95_pct_mac,
                 "meets_minimum": m.meets_minimum,
+                "stick_fixed_lower95_pct_mac": m.stick_fixed_lower95_pct_mac,
+                "stick_free_lower95_pct_mac": m.stick_free_lower95_pct_mac,
+                "limited_by": m.limited_by,
             }
             for m in s.margins
         ],
@@ -161,6 +170,7 @@ def configuration_dict(result: ConfigurationResult, analysis: Analysis) -> dict[
             "n_excluded": s.n_excluded,
         },
         "next_cg_for_precision": dataclasses.asdict(s.next_cg),
+        "next_step": None if s.next_step is None else dataclasses.asdict(s.next_step),
         "incidence": (
             None if result.incidence is None
             else {**result.incidence.to_json()}

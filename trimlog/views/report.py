@@ -183,12 +183,18 @@ def _margin_blocks(d: dict[str, Any]) -> list[Any]:
         meets = {True: "yes", False: "NO", None: DASH}[m["meets_minimum"]]
         rows.append((m["label"], _f(m["cg_pct_mac"]),
                      _with_ci(m["stick_fixed_pct_mac"], m["stick_fixed_ci95_pct_mac"]),
-                     _with_ci(m["stick_free_pct_mac"], m["stick_free_ci95_pct_mac"]), meets))
+                     _with_ci(m["stick_free_pct_mac"], m["stick_free_ci95_pct_mac"]),
+                     _LIMITS.get(m.get("limited_by"), DASH), meets))
+    critical = d["neutral_point"].get("critical")
     return [
         Heading("Static margins (%MAC, 95 % interval)", 2),
-        Table(("at", "CG %MAC", "stick-fixed", "stick-free",
-                f"lower bound >= {minimum:g} %MAC"), tuple(rows)),
+        Table(("at", "CG %MAC", "stick-fixed", "stick-free", "limits",
+                f"every lower bound >= {minimum:g} %MAC"), tuple(rows)),
+        *([Para(critical["reason"] + ".")] if critical else []),
     ]
+
+
+_LIMITS = {"stick_fixed_np": "stick-fixed", "stick_free_np": "stick-free"}
 
 
 def _gradient_blocks(d: dict[str, Any]) -> list[Any]:
@@ -256,16 +262,26 @@ def _incidence_blocks(a: Analysis, d: dict[str, Any]) -> list[Any]:
 
 
 def _next_cg_blocks(d: dict[str, Any]) -> list[Any]:
+    step = d.get("next_step")
+    out: list[Any] = []
+    if step is not None:
+        head = ("No step aft is supported" if step["max_cg_pct_mac"] is None else
+                f"Most aft CG for the next flight: {step['max_cg_pct_mac']:.1f} %MAC, limited by "
+                + {"stick_free_np": "the stick-free neutral point",
+                   "stick_fixed_np": "the stick-fixed neutral point",
+                   "policy_step": "the profile's policy step",
+                   "aft_limit": "the aft CG limit"}.get(step["limited_by"], step["limited_by"]))
+        out = [Heading("Next CG step", 2), Para(f"{head}: {step['reason']}.")]
     nxt = d["next_cg_for_precision"]
     if nxt["cg_pct_mac"] is None:
-        return []
+        return out
     text = (f"To tighten the neutral point most, fly the next flight near "
             f"{nxt['cg_pct_mac']:.1f} %MAC ({_f(nxt['station_in'], '.2f', 'in')}), chosen by "
             f"the {nxt['criterion']}")
     if nxt["current_se_pct_mac"] is not None and nxt["predicted_se_pct_mac"] is not None:
         text += (f": standard error {nxt['current_se_pct_mac']:.2f} now, about "
                  f"{nxt['predicted_se_pct_mac']:.2f} %MAC after")
-    return [Heading("Next flight", 2),
+    return [*out, Heading("Next flight", 2),
             Para(text + ", within the aircraft's approved limits.")]
 
 

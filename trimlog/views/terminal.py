@@ -7,6 +7,7 @@ when asked for, i.e. when the caller has checked that the terminal takes it.
 
 from __future__ import annotations
 
+import dataclasses
 import textwrap
 from collections.abc import Sequence
 from typing import TYPE_CHECKING, Any
@@ -158,15 +159,20 @@ def _configuration_block(result: ConfigurationResult, analysis: Analysis, s: _St
 
     min_sm = analysis.profile.min_static_margin_pct_mac
     margin_rows = []
+    limiting = {"stick_fixed_np": "stick-fixed", "stick_free_np": "stick-free", None: "-"}
     for m in st.margins:
         flag = "" if m.meets_minimum is not False else s.bad(f"below {min_sm:g} %MAC?")
         margin_rows.append([
             m.label, _fmt(m.cg_pct_mac), _fmt(m.stick_fixed_pct_mac),
             _interval(m.stick_fixed_ci95_pct_mac), _fmt(m.stick_free_pct_mac),
-            _interval(m.stick_free_ci95_pct_mac), flag,
+            _interval(m.stick_free_ci95_pct_mac), limiting.get(m.limited_by, "-"), flag,
         ])
-    blocks.append(s.head(f"Static margins (%MAC; policy minimum {min_sm:g} %MAC)") + "\n" + table(
-        ["at", "CG", "stick-fixed", "95 %", "stick-free", "95 %", ""], margin_rows))
+    margin_block = s.head(f"Static margins (%MAC; policy minimum {min_sm:g} %MAC)") + "\n" + table(
+        ["at", "CG", "stick-fixed", "95 %", "stick-free", "95 %", "limits", ""], margin_rows)
+    if st.critical is not None:
+        margin_block += "\n" + textwrap.fill(st.critical.reason, WIDTH, initial_indent="  ",
+                                             subsequent_indent="  ")
+    blocks.append(margin_block)
 
     if st.authority is not None:
         auth = [s.head("Elevator authority at the forward CG limit")]
@@ -185,6 +191,8 @@ def _configuration_block(result: ConfigurationResult, analysis: Analysis, s: _St
         blocks.append("\n".join(auth))
 
     blocks.append(_incidence_block(result, s))
+    if st.next_step is not None:
+        blocks.append(_next_step_block(dataclasses.asdict(st.next_step), s))
     if st.next_cg.cg_pct_mac is not None:
         blocks.append(s.head("To tighten the estimate") + "\n" + textwrap.fill(
             f"fly the next flight near {st.next_cg.cg_pct_mac:.1f} %MAC "
@@ -243,19 +251,37 @@ def render_trend(trend: Trend, *, color: bool = False) -> str:
 def render_plan(trend: Trend, *, color: bool = False) -> str:
     """The next-CG suggestion with its reasoning and the cautions."""
     s = _Style(color)
-    step = trend.to_dict()["next_step"]
-    lines = [s.head("Next CG step")]
-    if step["max_cg_pct_mac"] is None:
-        lines.append(textwrap.fill("no suggestion: " + step["reason"], WIDTH,
-                                   initial_indent="  ", subsequent_indent="  "))
-    else:
-        lines.append(
-            f"  most aft CG for the next flight: {step['max_cg_pct_mac']:.1f} %MAC "
-            f"(station {step['max_cg_station_in']:.2f} in), keeping the 95 % lower bound of "
-            f"the static margin at or above {step['min_static_margin_pct_mac']:g} %MAC"
-        )
-        lines.append(textwrap.fill(step["reason"], WIDTH, initial_indent="  ",
-                                   subsequent_indent="  "))
+    lines = [_next_step_block(trend.to_dict()["next_step"], s)]
     lines.append(_bullets((cautions.ESTIMATE_STATEMENT, *cautions.CG_EXPANSION,
                            *cautions.GENERAL)))
+    return "\n".join(lines)
+
+
+#: Words for the ``limited_by`` codes of the next step.
+LIMITED_BY_WORDS = {
+    "stick_free_np": "limited by the stick-free neutral point",
+    "stick_fixed_np": "limited by the stick-fixed neutral point",
+    "policy_step": "limited by the profile's policy step",
+    "aft_limit": "limited by the aft CG limit",
+    "none": "",
+}
+
+
+def _next_step_block(step: dict[str, Any], s: _Style) -> str:
+    """The most aft CG for the next flight (the one next-CG rule), naming what limits it."""
+    lines = [s.head("Next CG step")]
+    if step["max_cg_pct_mac"] is None:
+        lines.append(textwrap.fill("no step aft: " + step["reason"], WIDTH,
+                                   initial_indent="  ", subsequent_indent="  "))
+    else:
+        station = step.get("max_cg_station_in")
+        where = "" if station is None else f" (station {station:.2f} in)"
+        lines.append(textwrap.fill(
+            f"most aft CG for the next flight: {step['max_cg_pct_mac']:.1f} %MAC{where}, "
+            f"{LIMITED_BY_WORDS.get(step['limited_by'], step['limited_by'])}, keeping the 95 % "
+            f"lower bound of every known static margin at or above "
+            f"{step['min_static_margin_pct_mac']:g} %MAC", WIDTH, initial_indent="  ",
+            subsequent_indent="  "))
+        lines.append(textwrap.fill(step["reason"], WIDTH, initial_indent="  ",
+                                   subsequent_indent="  "))
     return "\n".join(lines)
