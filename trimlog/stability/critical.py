@@ -226,7 +226,7 @@ def next_cg_limit(
     ...     return NeutralPoint(kind, "pooled", True, est, (lo, hi), None, None, None, None,
     ...                         "", 10.0, 30, 4)
     >>> s = next_cg_limit(np_("stick_fixed", 40, 39, 41), np_("stick_free", 33, 32, 34),
-    ...                   [20, 25, 30], aft_limit_pct_mac=38, min_margin_pct_mac=5,
+    ...                   [20, 23, 25], aft_limit_pct_mac=38, min_margin_pct_mac=5,
     ...                   step_max_pct_mac=3)
     >>> s.max_cg_pct_mac, s.limited_by
     (27.0, 'stick_free_np')
