@@ -155,12 +155,15 @@ def test_every_subcommand_has_help_with_an_example(capsys):
 
 
 def test_analyze_path_imports_neither_plotting_nor_the_dashboard(tmp_path):
+    # nor statsmodels, scipy.stats or scipy.optimize: together about 2 s of start-up;
+    # they load only inside the diagnostics that need them
     out = tmp_path / "r.json"
     code = (
         "import sys; from trimlog.cli import main; "
         f"rc = main(['analyze', {LOGS[0]!r}, {LOGS[1]!r}, '--aircraft', {PROFILE!r}, "
         f"'--json', {str(out)!r}, '--quiet']); "
-        "heavy = [m for m in ('matplotlib', 'streamlit') if m in sys.modules]; "
+        "heavy = [m for m in ('matplotlib', 'streamlit', 'statsmodels', 'scipy.stats', "
+        "'scipy.optimize') if m in sys.modules]; "
         "print(rc, heavy)"
     )
     result = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,

@@ -17,11 +17,11 @@ from collections.abc import Callable
 
 import numpy as np
 import pandas as pd
-from scipy import stats
 
 from trimlog.stability.results import Curvature, InterceptCheck, NeutralPoint, RobustCheck
 from trimlog.statistics.fits import (
     LinearFit,
+    f_sf,
     finite,
     fit_matrix,
     is_full_rank,
@@ -85,7 +85,7 @@ def intercept_check(frame: pd.DataFrame, linear: LinearFit, has_cg_term: bool) -
         return InterceptCheck(True, None, 0.0 if significant else 1.0, significant, worst,
                               offset, _intercept_note(significant, worst, offset, None))
     f = (rss_r - rss_f) / df_num / (rss_f / fit_f.df_resid)
-    p = float(stats.f.sf(f, df_num, fit_f.df_resid))
+    p = f_sf(f, df_num, fit_f.df_resid)
     significant = p < INTERCEPT_P
     return InterceptCheck(True, finite(f), finite(p), significant, worst, offset,
                           _intercept_note(significant, worst, offset, p))

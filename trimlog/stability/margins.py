@@ -20,7 +20,6 @@ import math
 
 import numpy as np
 import pandas as pd
-from scipy.optimize import brentq
 
 from trimlog import cautions
 from trimlog.errors import TrimlogError
@@ -37,6 +36,7 @@ from trimlog.stability.results import (
     StopFlag,
 )
 from trimlog.statistics.fits import finite, finite_pair, t_quantile, trim_design
+from trimlog.statistics.roots import brent_root
 
 #: A point within this of an elevator stop is flagged [deg].
 STOP_TOLERANCE_DEG = 0.5
@@ -230,7 +230,7 @@ def _most_forward_cg(fit: PooledFit, clmax: float, target_deg: float, setting: s
     lo, hi = h_est - 1.0, h_est + 1.0
     f_lo, f_hi = lower_bound(lo), lower_bound(hi)
     if math.isfinite(f_lo) and math.isfinite(f_hi) and f_lo < 0.0 < f_hi:
-        h_cons = brentq(lower_bound, lo, hi, xtol=1e-6)
+        h_cons = brent_root(lower_bound, lo, hi, xtol=1e-6)
     return finite(h_est), finite(h_cons)
 
 

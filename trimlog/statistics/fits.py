@@ -26,8 +26,11 @@ from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
-import statsmodels.api as sm
-from scipy import stats
+from scipy import special
+
+# statsmodels and scipy.stats are imported only inside the diagnostics that need them
+# (``LinearFit.result``): together they cost about 2 s of every command's start-up, while
+# the quantiles below come from scipy.special, the same functions scipy.stats calls.
 
 #: Two-sided confidence level of every interval trimlog reports.
 CONFIDENCE = 0.95
@@ -54,7 +57,34 @@ def finite_pair(lo: float | None, hi: float | None) -> tuple[float, float] | Non
 @functools.lru_cache(maxsize=1024)
 def t_quantile(df: float) -> float:
     """Two-sided Student-t quantile for :data:`CONFIDENCE` with ``df`` degrees of freedom."""
-    return float(stats.t.ppf(0.5 + CONFIDENCE / 2.0, df))
+    # scipy.stats.t.ppf(q, df) is scipy.special.stdtrit(df, q) (scipy's t_gen._ppf)
+    return float(special.stdtrit(df, 0.5 + CONFIDENCE / 2.0))
+
+
+def t_sf(x: float | np.ndarray, df: float) -> float | np.ndarray:
+    """Upper tail probability of Student's t, as ``scipy.stats.t.sf(x, df)``.
+
+    Examples
+    --------
+    >>> round(float(t_sf(2.0, 10)), 6)
+    0.036694
+    """
+    # scipy's t_gen._sf is scipy.special.stdtr(df, -x)
+    return special.stdtr(df, -np.asarray(x, dtype=float))
+
+
+def f_sf(f: float, df_num: float, df_den: float) -> float:
+    """Upper tail probability of Fisher's F, as ``scipy.stats.f.sf(f, df_num, df_den)``.
+
+    Examples
+    --------
+    >>> round(f_sf(3.0, 2, 20), 6)
+    0.072538
+    """
+    # scipy's f_gen._sf is scipy.special.fdtrc(dfn, dfd, x); F is 0 below its support
+    if not f > 0.0:
+        return 1.0 if f <= 0.0 else math.nan
+    return float(special.fdtrc(df_num, df_den, f))
 
 
 @dataclass(frozen=True)
@@ -188,6 +218,8 @@ class LinearFit:
         Built on first use only: the fit itself is computed without
         statsmodels' model machinery, by the same pseudo-inverse.
         """
+        import statsmodels.api as sm  # heavy (about 2 s): only when a diagnostic asks
+
         if self.weights is None:
             return sm.OLS(self.endog, self.exog).fit()
         return sm.WLS(self.endog, self.exog, weights=self.weights).fit()
@@ -215,7 +247,7 @@ class LinearFit:
         value = float(self.params[name])
         if se == 0.0:
             return 0.0 if value != 0.0 else 1.0
-        return finite(2.0 * stats.t.sf(abs(value / se), self.df_resid))
+        return finite(2.0 * float(t_sf(abs(value / se), self.df_resid)))
 
     def predict(self, row: pd.Series) -> tuple[float, float, float]:
         """Prediction at one design row: value, its standard error, the residual std.
@@ -370,9 +402,60 @@ def studentized_outliers(fit: LinearFit, alpha: float = OUTLIER_ALPHA) -> list[S
         r = e / np.sqrt(np.clip(s2_i, 0.0, None) * one_minus)
     ok = np.isfinite(r)
     p = np.ones_like(r)
-    p[ok] = np.minimum(1.0, fit.n * 2.0 * stats.t.sf(np.abs(r[ok]), fit.df_resid - 1))
+    p[ok] = np.minimum(1.0, fit.n * 2.0 * t_sf(np.abs(r[ok]), fit.df_resid - 1))
     return [StudentizedOutlier(int(i), float(r[i]), float(p[i]))
             for i in np.flatnonzero(ok & (p < alpha))]
+
+
+#: Huber's tuning constant (statsmodels' ``HuberT`` default: 95 % efficiency at the normal).
+HUBER_T = 1.345
+#: Normal quantile at 3/4: the MAD of a standard normal sample (``scipy.stats.norm.ppf(0.75)``).
+_GAUSSIAN_3_4 = float(special.ndtri(0.75))
+
+
+def huber_rho(z: np.ndarray, t: float = HUBER_T) -> np.ndarray:
+    """Huber's criterion: ``z**2/2`` inside ``|z| <= t``, ``t|z| - t**2/2`` outside.
+
+    The arithmetic of statsmodels' ``HuberT().rho``, term by term, so that
+    the robust refit is bit-identical to it (tested against statsmodels).
+
+    Examples
+    --------
+    >>> huber_rho(np.array([1.0, 3.0])).tolist()
+    [0.5, 3.1304875]
+    """
+    z = np.asarray(z)
+    inside = np.less_equal(np.abs(z), t)
+    return inside * 0.5 * z**2 + (1 - inside) * (np.abs(z) * t - 0.5 * t**2)
+
+
+def huber_weights(z: np.ndarray, t: float = HUBER_T) -> np.ndarray:
+    """IRLS weights of Huber's criterion: 1 inside ``|z| <= t``, ``t/|z|`` outside.
+
+    Examples
+    --------
+    >>> huber_weights(np.array([1.0, -2.69])).tolist()
+    [1.0, 0.5]
+    """
+    z = np.atleast_1d(z)
+    inside = np.less_equal(np.abs(z), t)
+    absz = np.abs(z)
+    absz[inside] = 1.0
+    return inside + (1 - inside) * t / absz
+
+
+def mad_about_zero(a: np.ndarray) -> float:
+    """Median absolute deviation about 0, scaled to a normal's standard deviation.
+
+    ``median(|a|) / 0.6745`` (statsmodels' ``mad(a, center=0)``).
+
+    Examples
+    --------
+    >>> round(mad_about_zero(np.array([-1.0, 0.5, 2.0])), 4)
+    1.4826
+    """
+    err = np.abs(np.asarray(a, dtype=float) - 0.0) / _GAUSSIAN_3_4
+    return float(np.median(err)) if err.size else math.nan
 
 
 #: Convergence tolerance on the Huber deviance and iteration cap (statsmodels RLM's defaults).
@@ -411,18 +494,17 @@ def robust_params(fit: LinearFit, n_groups: int) -> pd.Series | None:
     .. [2] Montgomery, Peck and Vining (2012), sec. 15.1 (M-estimation by
        iteratively reweighted least squares).
     """
-    norm = sm.robust.norms.HuberT()
     y, x, resid = fit.endog, fit.exog, fit.resid
     codes = np.argmax(x[:, :n_groups], axis=1)
     slopes = x[:, n_groups:]
     df = len(y) - x.shape[1]
     beta = fit.params.to_numpy()
-    scale = float(sm.robust.scale.mad(resid, center=0))
-    deviance = float(norm(resid / (np.dot(resid, resid) / df)).sum())
+    scale = mad_about_zero(resid)
+    deviance = float(huber_rho(resid / (np.dot(resid, resid) / df)).sum())
     for _ in range(2, _HUBER_MAXITER + 1):
         if scale == 0.0:
             break
-        w = norm.weights(resid / scale)
+        w = huber_weights(resid / scale)
         if not np.all(np.isfinite(w)):
             return None
         total = np.bincount(codes, weights=w, minlength=n_groups)
@@ -435,8 +517,8 @@ def robust_params(fit: LinearFit, n_groups: int) -> pd.Series | None:
         beta = np.concatenate([y_mean - s_mean @ b, b])
         resid = y - x @ beta
         wresid = root * resid
-        scale = float(sm.robust.scale.mad(resid, center=0))
-        previous, deviance = deviance, float(norm(resid / (np.dot(wresid, wresid) / df)).sum())
+        scale = mad_about_zero(resid)
+        previous, deviance = deviance, float(huber_rho(resid / (np.dot(wresid, wresid) / df)).sum())
         if not abs(deviance - previous) > _HUBER_TOL:
             break
     if not np.all(np.isfinite(beta)):

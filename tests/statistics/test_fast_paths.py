@@ -1,0 +1,94 @@
+"""The start-up-light statistics are the reference libraries' numbers, bit for bit.
+
+trimlog computes t and F tail probabilities with scipy.special, the Huber
+refit with its own norm and MAD, and the conservative CG's root with its own
+Brent iteration, so that the analysis never imports statsmodels, scipy.stats
+or scipy.optimize.  Here each is compared with the library it stands in for
+(scipy.stats, statsmodels.robust, scipy.optimize.brentq: used only in tests).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+import scipy.optimize
+import scipy.stats
+from statsmodels.robust import norms, scale
+
+from trimlog.statistics import fits
+from trimlog.statistics.roots import brent_root
+
+
+@pytest.mark.parametrize("df", [1, 2, 3, 5, 7.5, 10, 30, 100, 1e4])
+def test_t_quantile_and_tail_equal_scipy_stats(df):
+    assert fits.t_quantile(df) == float(scipy.stats.t.ppf(0.975, df))
+    x = np.array([0.0, 0.3, 1.0, 2.0, 4.5, 40.0, np.inf])
+    assert np.array_equal(fits.t_sf(x, df), scipy.stats.t.sf(x, df))
+
+
+def test_t_quantile_against_a_printed_table():
+    # Student t table, two-sided 95 % (e.g. Montgomery, Peck and Vining 2012, Table A.3),
+    # printed to 3 decimals
+    assert fits.t_quantile(10) == pytest.approx(2.228, abs=5e-4)
+    assert fits.t_quantile(30) == pytest.approx(2.042, abs=5e-4)
+
+
+@pytest.mark.parametrize(("dfn", "dfd"), [(1, 5), (2, 20), (7, 3), (30, 200)])
+def test_f_tail_equals_scipy_stats(dfn, dfd):
+    for f in (-1.0, 0.0, 0.2, 1.0, 3.0, 50.0, np.inf):
+        assert fits.f_sf(f, dfn, dfd) == float(scipy.stats.f.sf(f, dfn, dfd))
+
+
+def test_huber_norm_and_mad_equal_statsmodels():
+    rng = np.random.default_rng(17)
+    huber = norms.HuberT()
+    for _ in range(200):
+        z = rng.standard_t(3, size=int(rng.integers(1, 60))) * rng.uniform(0.1, 10)
+        assert np.array_equal(fits.huber_rho(z), huber(z))
+        assert np.array_equal(fits.huber_weights(z), huber.weights(z))
+        assert fits.mad_about_zero(z) == float(scale.mad(z, center=0))
+
+
+def test_robust_refit_equals_statsmodels_rlm():
+    # synthetic trim data of known truth with a few gross errors; two groups' intercepts
+    import statsmodels.api as sm
+
+    rng = np.random.default_rng(3)
+    for _ in range(20):
+        n = 40
+        group = rng.integers(0, 2, n)
+        cl = rng.uniform(0.2, 1.0, n)
+        y = np.where(group == 0, 1.0, -0.5) - 4.0 * cl + rng.normal(0, 0.1, n)
+        y[rng.integers(0, n, 3)] += 3.0
+        x = np.column_stack([group == 0, group == 1, cl]).astype(float)
+        fit = fits.fit_matrix(y, x, ["a[0]", "a[1]", "cl"])
+        ours = fits.robust_params(fit, 2).to_numpy()
+        theirs = sm.RLM(y, x, M=sm.robust.norms.HuberT()).fit().params
+        assert ours == pytest.approx(theirs, rel=1e-9, abs=1e-12)
+
+
+def test_brent_root_equals_scipy_brentq():
+    rng = np.random.default_rng(5)
+    compared = 0
+    for _ in range(300):
+        a, b, c = rng.normal(size=3)
+        root = rng.uniform(-2, 2)
+
+        def f(x, a=a, b=b, c=c, root=root):
+            d = x - root
+            return d * (1.0 + a * a) + b * np.tanh(d) ** 3 + 0.01 * c * d**2
+
+        lo, hi = root - rng.uniform(0.1, 3), root + rng.uniform(0.1, 3)
+        if not f(lo) * f(hi) < 0:
+            assert brent_root(f, lo, hi) is None
+            continue
+        compared += 1
+        for xtol in (1e-6, 2e-12):
+            assert brent_root(f, lo, hi, xtol=xtol) == scipy.optimize.brentq(f, lo, hi, xtol=xtol)
+    assert compared > 250
+
+
+def test_brent_root_says_none_without_a_sign_change_or_on_nan():
+    assert brent_root(lambda x: x * x + 1.0, -1.0, 1.0) is None
+    assert brent_root(lambda x: float("nan"), -1.0, 1.0) is None
+    assert brent_root(lambda x: x, 0.0, 1.0) == 0.0
