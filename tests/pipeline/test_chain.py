@@ -100,8 +100,19 @@ def test_configurations_are_never_pooled(flights):
     assert [o.config for o in result.others] == ["flaps 20 deg"]
     clean_flights = {g.flight for g in result.primary.stability.gradients}
     assert not any(name.endswith("_flaps") for name in clean_flights)
-    assert any("analysed separately" in w for w in result.warnings)
+    separate = [f for f in result.findings if f.code == "pipeline.configurations_separate"]
+    assert len(separate) == 1 and separate[0].values["primary"] == "clean"
+    # per-configuration findings carry their configuration, shown as a prefix when several
+    assert any(f.subject is not None and f.subject.config == "flaps 20 deg"
+               for f in result.findings)
+    assert any(w.startswith("[flaps 20 deg] ") for w in result.warnings)
     assert analysis_to_dict(result)["other_configurations"][0]["configuration"] == "flaps 20 deg"
+
+
+def test_warnings_are_the_findings_in_words(result):
+    assert result.findings, "the demo programme has findings (reading notes at least)"
+    assert result.warnings == tuple(dict.fromkeys(f.line() for f in result.findings))
+    assert all(f.code and f.severity for f in result.findings)
 
 
 def test_exclusions_keep_the_point_and_change_the_fit(flights, result):

@@ -21,6 +21,7 @@ import pandas as pd
 
 from trimlog import __version__, cautions
 from trimlog.errors import InputFileError, NotIdentifiableError, TrimlogError
+from trimlog.findings import Finding, Severity, Subject, finding, lines
 from trimlog.incidence import shim as incidence
 from trimlog.incidence import tau
 from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
@@ -102,7 +103,9 @@ class Analysis:
         most included points, clean first).
     others : tuple of ConfigurationResult
     tail : TailGeometryCheck or None
-    warnings : tuple of str
+    findings : tuple of Finding
+        Every warning and verdict, typed (code, severity, subject, values);
+        :mod:`trimlog.findings` puts them into words.
     cautions : tuple of str
     """
 
@@ -112,7 +115,7 @@ class Analysis:
     primary: ConfigurationResult
     others: tuple[ConfigurationResult, ...]
     tail: tailgeometry.TailGeometryCheck | None
-    warnings: tuple[str, ...]
+    findings: tuple[Finding, ...]
     cautions: tuple[str, ...] = field(default_factory=cautions.all_cautions)
     software_version: str = __version__
 
@@ -120,6 +123,11 @@ class Analysis:
     def identifiable(self) -> bool:
         """Whether the stick-fixed neutral point of the primary configuration is supported."""
         return self.primary.stability.stick_fixed.neutral_point.identifiable
+
+    @property
+    def warnings(self) -> tuple[str, ...]:
+        """The findings as lines of text, each once (kept for compatibility)."""
+        return lines(self.findings, show_config=bool(self.others))
 
 
 
@@ -277,24 +285,12 @@ def analyze(
     _set_included(table, exclusions, False)
     _set_included(table, inclusions, True)
 
-    warnings: list[str] = list(profile.warnings)
-    seen_logs: set[int] = set()
-    for f in flights:
-        if id(f.log) in seen_logs:
-            continue
-        seen_logs.add(id(f.log))
-        warnings.extend(f"{f.source}: {w}" for w in f.log.warnings)
-        dropped = [d for d in f.log.dropped if d.count]
-        if dropped:
-            total = sum(d.count for d in dropped)
-            warnings.append(
-                f"{f.source}: {total} value(s) or line(s) not used: "
-                + "; ".join(f"{d.count} {d.reason.split(':')[0]}" for d in dropped)
-            )
-        if f.log.kind == "time_series" and not len(f.points):
-            warnings.append(f"{f.source}: no stabilized point found in this log")
-    warnings.extend(reduced.warnings)
-    warnings.extend(_stop_warnings(table))
+    found: list[Finding] = [_text("input.profile.unconverted", Severity.CAUTION, w)
+                            for w in profile.warnings]
+    found += _reading_findings(flights)
+    found += [_text("pipeline.reduction.unconverted", Severity.CAUTION, w)
+              for w in reduced.warnings]
+    found += _stop_findings(table)
 
     results = []
     for config, part in table.groupby("config", sort=False):
@@ -302,18 +298,20 @@ def analyze(
     results.sort(key=lambda r: (-r.stability.n_included, r.config != "clean"))
     primary, others = results[0], tuple(results[1:])
     if others:
-        warnings.append(
-            "points were flown in several configurations and are analysed separately: "
-            + ", ".join(f"'{r.config}' ({r.stability.n_included} points)" for r in results)
-            + f"; the headline results are for '{primary.config}'"
-        )
+        found.append(finding(
+            "pipeline.configurations_separate", Severity.CAUTION,
+            counts=", ".join(f"'{r.config}' ({r.stability.n_included} points)" for r in results),
+            primary=primary.config))
     for r in results:
-        prefix = f"[{r.config}] " if others else ""
-        warnings.extend(prefix + w for w in r.stability.warnings)
+        subject = Subject(config=r.config)
+        found += [_text("stability.unconverted", Severity.CAUTION, w, subject)
+                  for w in r.stability.warnings]
         if r.incidence is not None:
-            warnings.extend(prefix + w for w in r.incidence.warnings)
+            found += [_text("incidence.unconverted", Severity.CAUTION, w, subject)
+                      for w in r.incidence.warnings]
         elif r.incidence_reason:
-            warnings.append(prefix + "no incidence recommendation: " + r.incidence_reason)
+            found.append(finding("incidence.no_recommendation", Severity.CAUTION, subject,
+                                 reason=r.incidence_reason))
     measured = primary.stability.stick_fixed.neutral_point.pct_mac
     tail = tailgeometry.check_tail_geometry(profile, measured_neutral_point_pct_mac=measured)
     return Analysis(
@@ -323,7 +321,7 @@ def analyze(
         primary=primary,
         others=others,
         tail=tail,
-        warnings=tuple(dict.fromkeys(warnings)),
+        findings=tuple(found),
     )
 
 
@@ -366,13 +364,40 @@ def _exclude_points_at_a_stop(points: pd.DataFrame, profile: AircraftProfile) ->
             f for f in (str(points.loc[flag.row, "flags"] or ""), "at_stop") if f)
 
 
-def _stop_warnings(points: pd.DataFrame) -> list[str]:
+def _text(code: str, severity: Severity, text: str, subject: Subject | None = None) -> Finding:
+    """A finding that still carries a sentence built below (converted to codes step by step)."""
+    return finding(code, severity, subject, text=text)
+
+
+def _reading_findings(flights: Sequence[FlightData]) -> list[Finding]:
+    """What reading each log found: its notes, values not used, and no points at all."""
+    found: list[Finding] = []
+    seen_logs: set[int] = set()
+    for f in flights:
+        if id(f.log) in seen_logs:
+            continue
+        seen_logs.add(id(f.log))
+        source = Subject(source=f.source)
+        found += [_text("input.log.unconverted", Severity.CAUTION, w, source)
+                  for w in f.log.warnings]
+        dropped = [d for d in f.log.dropped if d.count]
+        if dropped:
+            found.append(finding(
+                "input.log.values_not_used", Severity.NOTE, source,
+                total=sum(d.count for d in dropped),
+                reasons="; ".join(f"{d.count} {d.reason.split(':')[0]}" for d in dropped)))
+        if f.log.kind == "time_series" and not len(f.points):
+            found.append(finding("pipeline.no_points_in_log", Severity.CAUTION, source))
+    return found
+
+
+def _stop_findings(points: pd.DataFrame) -> list[Finding]:
     at_stop = points.loc[points["flags"].astype(str).str.contains("at_stop", regex=False)]
     return [
-        f"flight '{r.flight}' point {r.point}: elevator {r.elevator_deg:+.1f} deg is at a stop, "
-        "so the trim there is not free: "
-        + ("included because you chose so" if r.included else
-           "left out of the fits (include it again if the stop was not reached)")
+        finding("pipeline.at_stop.included" if r.included else "pipeline.at_stop.left_out",
+                Severity.WARNING, Subject(flight=str(r.flight), point=int(r.point),
+                                          quantity="elevator_deg"),
+                elevator_deg=float(r.elevator_deg))
         for r in at_stop.itertuples()
     ]
 

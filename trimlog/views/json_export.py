@@ -71,6 +71,7 @@ def analysis_to_dict(analysis: Analysis) -> dict[str, Any]:
             None if analysis.tail is None else dataclasses.asdict(analysis.tail)
         ),
         "warnings": list(analysis.warnings),
+        "findings": [f.to_dict() for f in analysis.findings],
         "cautions": list(analysis.cautions),
     }
     return clean(payload)

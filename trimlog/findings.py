@@ -1,0 +1,252 @@
+"""Findings: typed warnings and verdicts, and the one catalogue that puts them into words.
+
+The core (input, stability, incidence, pipeline, history) never builds a
+sentence for the user.  It returns :class:`Finding` records: a stable dotted
+``code``, a :class:`Severity`, a :class:`Subject` (which file, flight, point,
+configuration or quantity it is about) and the ``values`` it rests on.  Every
+view (terminal, JSON, report, dashboard) turns a finding into words through
+:data:`CATALOGUE`, so the wording lives in one place and can be improved
+without touching a computation or a test: tests assert on codes and numbers.
+
+Severity levels follow the flight-manual convention pilots know, in
+decreasing order (:attr:`Severity.rank`):
+
+``warning``
+    Safety: a number a pilot acts on is not supported by the data, or the
+    data show something that matters before the next flight (a margin not
+    met, an elevator at a stop, a neutral point that cannot be identified).
+``caution``
+    The result rests on an assumption or is weaker than it looks (ISA
+    temperature assumed, an extrapolation, a configuration analysed apart).
+``note``
+    A reading note: how the input was understood (a sign inverted as
+    declared, lines skipped before the header, missing values).  Shown last.
+
+Adding a finding: add ``code: template`` to :data:`CATALOGUE` in its
+section, then create it with :func:`finding`.  ``tests/test_findings.py``
+fails if a code used anywhere in ``trimlog/`` has no template, or a
+template names a field that the finding does not carry.
+
+Examples
+--------
+>>> f = finding("pipeline.no_points_in_log", Severity.CAUTION,
+...             Subject(source="flight3.csv"))
+>>> f.message
+'no stabilized point found in this log'
+>>> f.line()
+'flight3.csv: no stabilized point found in this log'
+>>> f.severity.rank > Severity.NOTE.rank
+True
+"""
+
+from __future__ import annotations
+
+import enum
+import string
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass, field
+from types import MappingProxyType
+
+Value = float | int | str | None
+
+
+class Severity(enum.StrEnum):
+    """How much a finding matters, in the flight-manual order warning > caution > note."""
+
+    WARNING = "warning"
+    CAUTION = "caution"
+    NOTE = "note"
+
+    @property
+    def rank(self) -> int:
+        """Larger is more severe (warning 3, caution 2, note 1), for sorting."""
+        return {"warning": 3, "caution": 2, "note": 1}[self.value]
+
+
+@dataclass(frozen=True)
+class Subject:
+    """What a finding is about; every field is optional.
+
+    Attributes
+    ----------
+    source : str, optional
+        The input file as the user named it.
+    flight : str, optional
+        Flight identifier.
+    point : int, optional
+        Point number within the flight.
+    config : str, optional
+        Configuration (flaps, gear) the finding belongs to.
+    quantity : str, optional
+        The result it concerns, e.g. ``"neutral_point.stick_free"``.
+    """
+
+    source: str | None = None
+    flight: str | None = None
+    point: int | None = None
+    config: str | None = None
+    quantity: str | None = None
+
+    def as_dict(self) -> dict[str, str | int]:
+        """The fields that are set, for JSON and for message templates."""
+        return {k: v for k, v in (("source", self.source), ("flight", self.flight),
+                                  ("point", self.point), ("config", self.config),
+                                  ("quantity", self.quantity)) if v is not None}
+
+
+# --------------------------------------------------------------------------- the catalogue
+#: Code -> message template (``str.format`` syntax).  A template may name any
+#: key of the finding's ``values`` and any field of its subject that is set.
+#: Keep one section per layer; add new codes at the end of your section.
+_TEMPLATES: dict[str, str] = {
+    # ---- input: reading the files (mostly reading notes)
+    "input.profile.unconverted": "{text}",
+    "input.log.unconverted": "{text}",
+    "input.log.values_not_used": "{total} value(s) or line(s) not used: {reasons}",
+    # ---- pipeline: the chain
+    "pipeline.no_points_in_log": "no stabilized point found in this log",
+    "pipeline.reduction.unconverted": "{text}",
+    "pipeline.at_stop.included": (
+        "flight '{flight}' point {point}: elevator {elevator_deg:+.1f} deg is at a stop, so the "
+        "trim there is not free: included because you chose so"),
+    "pipeline.at_stop.left_out": (
+        "flight '{flight}' point {point}: elevator {elevator_deg:+.1f} deg is at a stop, so the "
+        "trim there is not free: left out of the fits (include it again if the stop was not "
+        "reached)"),
+    "pipeline.configurations_separate": (
+        "points were flown in several configurations and are analysed separately: {counts}; "
+        "the headline results are for '{primary}'"),
+    # ---- stability
+    "stability.unconverted": "{text}",
+    # ---- incidence
+    "incidence.unconverted": "{text}",
+    "incidence.no_recommendation": "no incidence recommendation: {reason}",
+    # ---- history
+}
+
+#: The one catalogue (read-only view of the templates above).
+CATALOGUE: Mapping[str, str] = MappingProxyType(_TEMPLATES)
+
+_FORMATTER = string.Formatter()
+
+
+def template_fields(template: str) -> set[str]:
+    """Names a template refers to.
+
+    >>> sorted(template_fields("elevator {elevator_deg:+.1f} deg at {flight}"))
+    ['elevator_deg', 'flight']
+    """
+    return {name.split(".")[0].split("[")[0]
+            for _, name, _, _ in _FORMATTER.parse(template) if name}
+
+
+class _Render(string.Formatter):
+    """``str.format`` that prints a missing number (None) as 'unknown' whatever the spec."""
+
+    def format_field(self, value: object, format_spec: str) -> str:
+        if value is None:
+            return "unknown"
+        return super().format_field(value, format_spec)
+
+
+@dataclass(frozen=True)
+class Finding:
+    """One warning or verdict: a code, a severity, a subject and its numbers.
+
+    Attributes
+    ----------
+    code : str
+        Stable dotted code, a key of :data:`CATALOGUE`
+        (``layer.topic[.detail]``).  Never renamed once released: users'
+        scripts read it from the JSON.
+    severity : Severity
+    subject : Subject or None
+    values : mapping of str to float, int, str or None
+        The numbers (in the units their key names) and words the message
+        shows.
+
+    Raises
+    ------
+    ValueError
+        The code has no template, or the template names a field that neither
+        ``values`` nor ``subject`` carries (a programming error, caught by the
+        tests).
+    """
+
+    code: str
+    severity: Severity
+    subject: Subject | None = None
+    values: Mapping[str, Value] = field(default_factory=dict)
+
+    def __post_init__(self) -> None:
+        template = CATALOGUE.get(self.code)
+        if template is None:
+            raise ValueError(f"finding code {self.code!r} has no template in trimlog.findings")
+        missing = template_fields(template) - set(self._fields())
+        if missing:
+            raise ValueError(
+                f"finding {self.code!r} lacks the value(s) {sorted(missing)} its template names")
+        object.__setattr__(self, "severity", Severity(self.severity))
+        object.__setattr__(self, "values", MappingProxyType(dict(self.values)))
+
+    def _fields(self) -> dict[str, object]:
+        subject = self.subject.as_dict() if self.subject is not None else {}
+        return {**subject, **self.values}
+
+    @property
+    def message(self) -> str:
+        """The finding in words, from the catalogue (without its file or configuration)."""
+        return _Render().format(CATALOGUE[self.code], **self._fields())
+
+    def line(self, *, show_config: bool = False) -> str:
+        """The message as one line of the ``warnings`` list: ``[config] source: message``.
+
+        Parameters
+        ----------
+        show_config : bool
+            Prefix the configuration (done when several were analysed).
+        """
+        text = self.message
+        s = self.subject
+        if s is not None and s.source:
+            text = f"{s.source}: {text}"
+        if show_config and s is not None and s.config:
+            text = f"[{s.config}] {text}"
+        return text
+
+    def to_dict(self) -> dict[str, object]:
+        """JSON-ready: ``code``, ``severity``, ``subject``, ``message``, ``values``."""
+        return {
+            "code": self.code,
+            "severity": self.severity.value,
+            "subject": self.subject.as_dict() if self.subject is not None else None,
+            "message": self.message,
+            "values": dict(self.values),
+        }
+
+
+def finding(code: str, severity: Severity, subject: Subject | None = None,
+            **values: Value) -> Finding:
+    """Shorthand for ``Finding(code, severity, subject, values)``.
+
+    >>> finding("incidence.no_recommendation", Severity.CAUTION,
+    ...         reason="no trim model could be fitted").message
+    'no incidence recommendation: no trim model could be fitted'
+    """
+    return Finding(code, severity, subject, values)
+
+
+def lines(findings: Iterable[Finding], *, show_config: bool = False) -> tuple[str, ...]:
+    """The findings as ``warnings`` lines, in order, each text once."""
+    return tuple(dict.fromkeys(f.line(show_config=show_config) for f in findings))
+
+
+def by_severity(findings: Iterable[Finding]) -> list[Finding]:
+    """Most severe first, keeping the order within a level (views show safety first).
+
+    >>> fs = [finding("pipeline.no_points_in_log", Severity.NOTE),
+    ...       finding("incidence.no_recommendation", Severity.WARNING, reason="x")]
+    >>> [f.severity.value for f in by_severity(fs)]
+    ['warning', 'note']
+    """
+    return sorted(findings, key=lambda f: -f.severity.rank)
