@@ -7,26 +7,41 @@ format); quantities are strings with a unit, parsed once here.
 from __future__ import annotations
 
 import datetime as dt
-import difflib
-import re
-import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from trimlog.errors import InputFileError, UnitError
+from trimlog.errors import InputFileError
 from trimlog.input.logs import load_source
-from trimlog.input.units import parse_quantity
+from trimlog.input.schema import Key, check_keys, load_toml, read_key
 
-__all__ = ["LoadingSheet", "read_loading_sheet"]
+__all__ = ["SHEET_KEYS", "LoadingSheet", "read_loading_sheet"]
 
 
-_SHEET_KEYS: dict[str, tuple[str, ...]] = {
-    "": ("flight", "date", "label", "notes", "takeoff", "fuel", "config"),
-    "takeoff": ("weight", "cg", "fuel"),
-    "fuel": ("flow",),
-    "config": ("flap", "stab_setting", "stab_incidence"),
-}
+# Ranges: generous bounds for light aircraft and UAVs (common practice, no source).
+SHEET_KEYS: tuple[Key, ...] = (
+    Key("flight", "text", required=True, description="the log's flight label"),
+    Key("date", "date", description="date flown"),
+    Key("label", "text", default="", description="free text"),
+    Key("notes", "text", default="", description="free text"),
+    Key("takeoff.weight", "quantity", "lb", required=True, low=1.0, high=1.0e5,
+        attr="takeoff_weight_lb", description="weight at takeoff"),
+    Key("takeoff.cg", "quantity", "in", required=True, low=-1000.0, high=1000.0,
+        attr="takeoff_cg_in", description='CG at takeoff, station ("78.4 in") or "27.5 %MAC"'),
+    Key("takeoff.fuel", "quantity", "gal", required=True, low=0.0, high=5000.0,
+        attr="takeoff_fuel_gal", description="fuel on board at takeoff"),
+    Key("fuel.flow", "quantity", "gal/h", low=0.0, high=200.0, low_open=True,
+        attr="fuel_flow_gph", description="constant fuel flow"),
+    Key("config.flap", "quantity", "deg", low=-20.0, high=60.0, attr="flap_deg",
+        description="flap setting flown"),
+    Key("config.stab_setting", "text", description="label of the stabilizer setting flown"),
+    Key("config.stab_incidence", "quantity", "deg", low=-15.0, high=15.0,
+        attr="stab_incidence_deg", description="its incidence, leading edge up positive"),
+)
+_BY_KEY = {k.key: k for k in SHEET_KEYS}
+# The takeoff CG given in %MAC instead of as a station.
+_CG_PCT_MAC = Key("takeoff.cg", "quantity", "percent", low=-50.0, high=150.0,
+                  attr="takeoff_cg_pct_mac", description="CG at takeoff [%MAC]")
 
 
 @dataclass(frozen=True)
@@ -122,117 +137,42 @@ def read_loading_sheet(
         kind, or an implausible value.
     """
     raw, label = load_source(source, name)
+
+    def fail(key: str, message: str) -> InputFileError:
+        return InputFileError(message, file=label)
+
     try:
         text = raw.decode("utf-8-sig")
-        table = tomllib.loads(text)
     except UnicodeDecodeError as exc:
         raise InputFileError("a loading sheet must be UTF-8 text (TOML)", file=label) from exc
-    except tomllib.TOMLDecodeError as exc:
-        where = re.search(r"line (\d+)", str(exc))
-        raise InputFileError(
-            f"not a valid TOML loading sheet: {exc}",
-            file=label,
-            line=int(where.group(1)) if where else None,
-        ) from exc
-    _check_sheet_keys(table, label)
-    takeoff = table.get("takeoff")
-    if not isinstance(takeoff, dict):
+    table = load_toml(text, label, fail, "a valid TOML loading sheet")
+    check_keys(table, SHEET_KEYS, fail)
+    if not isinstance(table.get("takeoff"), dict):
         raise InputFileError(
             "missing [takeoff] table with weight, cg and fuel (e.g. weight = \"1520 lb\")",
             file=label,
         )
-    for key in _SHEET_KEYS["takeoff"]:
-        if key not in takeoff:
-            raise InputFileError(f"missing key 'takeoff.{key}'", file=label)
-    fuel = table.get("fuel", {})
-    config = table.get("config", {})
-    weight = _sheet_quantity(takeoff["weight"], "lb", "takeoff.weight", label, (1.0, 1e5))
-    cg_in, cg_pct = _sheet_cg(takeoff["cg"], label)
-    fuel_gal = _sheet_quantity(takeoff["fuel"], "gal", "takeoff.fuel", label, (0.0, 5000.0))
-    flow = fuel.get("flow")
-    date = table.get("date")
-    if date is not None and not isinstance(date, dt.date):
-        raise InputFileError(
-            f"key 'date': expected a TOML date such as 2026-06-14, found {date!r}", file=label
-        )
-    if isinstance(date, dt.datetime):
-        date = date.date()
-    return LoadingSheet(
-        source=label,
-        flight=_sheet_text(table, "flight", label, required=True),
-        date=date,
-        label=_sheet_text(table, "label", label),
-        notes=_sheet_text(table, "notes", label),
-        takeoff_weight_lb=weight,
-        takeoff_cg_in=cg_in,
-        takeoff_cg_pct_mac=cg_pct,
-        takeoff_fuel_gal=fuel_gal,
-        fuel_flow_gph=None
-        if flow is None
-        else _sheet_quantity(flow, "gal/h", "fuel.flow", label, (1e-6, 200.0)),
-        flap_deg=None
-        if "flap" not in config
-        else _sheet_quantity(config["flap"], "deg", "config.flap", label, (-20.0, 60.0)),
-        stab_setting=_sheet_text(config, "stab_setting", label) or None,
-        stab_incidence_deg=None
-        if "stab_incidence" not in config
-        else _sheet_quantity(
-            config["stab_incidence"], "deg", "config.stab_incidence", label, (-15.0, 15.0)
-        ),
-    )
-
-
-def _check_sheet_keys(table: dict[str, Any], label: str) -> None:
-    for section, allowed in _SHEET_KEYS.items():
-        part = table if not section else table.get(section, {})
-        if not isinstance(part, dict):
-            raise InputFileError(f"'{section}' must be a table ([{section}])", file=label)
-        for key in part:
-            if key in allowed:
-                continue
-            near = difflib.get_close_matches(key, allowed, n=2, cutoff=0.5)
-            full = f"{section}.{key}" if section else key
-            hint = f"; did you mean {' or '.join(repr(n) for n in near)}?" if near else ""
-            raise InputFileError(
-                f"unknown key '{full}'; expected one of {', '.join(allowed)}{hint}", file=label
-            )
-
-
-def _sheet_text(table: dict[str, Any], key: str, label: str, *, required: bool = False) -> str:
-    value = table.get(key, "")
-    if isinstance(value, int) and not isinstance(value, bool):
-        value = str(value)
-    if not isinstance(value, str):
-        raise InputFileError(f"key '{key}': expected text, found {value!r}", file=label)
-    if required and not value.strip():
-        raise InputFileError(f"missing key '{key}' (e.g. {key} = \"3\")", file=label)
-    return value.strip()
-
-
-def _sheet_quantity(
-    value: Any, unit: str, key: str, label: str, bounds: tuple[float, float]
-) -> float:
-    try:
-        number = parse_quantity(value, unit, key=key)
-    except UnitError as exc:
-        raise InputFileError(str(exc), file=label) from exc
-    low, high = bounds
-    if not low <= number <= high:
-        raise InputFileError(
-            f"key '{key}': {value!r} is outside the plausible range {low:g}...{high:g} {unit}",
-            file=label,
-        )
-    return number
-
-
-def _sheet_cg(value: Any, label: str) -> tuple[float | None, float | None]:
-    """Return the takeoff CG as a station [in] or as %MAC, decided by its unit."""
-    if isinstance(value, str) and ("%" in value or "mac" in value.lower() or "pct" in value):
-        return None, _sheet_quantity(value, "percent", "takeoff.cg", label, (-50.0, 150.0))
-    if not isinstance(value, str):
+    flight = table.get("flight")
+    if isinstance(flight, int) and not isinstance(flight, bool) and abs(flight) < 10**18:
+        table["flight"] = str(flight)  # flight = 3 is the flight "3"
+    # the flight label last, so that a malformed value is named before a missing label
+    values = {spec.field: read_key(table, spec, fail) for spec in SHEET_KEYS[1:]
+              if spec.key != "takeoff.cg"}
+    values["flight"] = read_key(table, SHEET_KEYS[0], fail)
+    cg = table["takeoff"].get("cg")
+    if cg is None:
+        raise InputFileError("missing key 'takeoff.cg'", file=label)
+    if isinstance(cg, str) and ("%" in cg or "mac" in cg.lower() or "pct" in cg):
+        values["takeoff_cg_in"], values["takeoff_cg_pct_mac"] = None, read_key(
+            {"takeoff": {"cg": cg}}, _CG_PCT_MAC, fail)
+    elif not isinstance(cg, str):
         raise InputFileError(
             f"key 'takeoff.cg': expected a station such as \"78.4 in\" or \"27.5 %MAC\", "
-            f"found the bare value {value!r}",
+            f"found the bare value {cg!r}",
             file=label,
         )
-    return _sheet_quantity(value, "in", "takeoff.cg", label, (-1000.0, 1000.0)), None
+    else:
+        values["takeoff_cg_in"] = read_key(table, _BY_KEY["takeoff.cg"], fail)
+        values["takeoff_cg_pct_mac"] = None
+    values["stab_setting"] = values["stab_setting"] or None
+    return LoadingSheet(source=label, **values)

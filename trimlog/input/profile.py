@@ -59,15 +59,15 @@ are strings with units (``"118 ft^2"``, ``"51 in"``, ``"25 deg"``).
 
 from __future__ import annotations
 
-import math
-import tomllib
+import dataclasses
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
 from trimlog.errors import ProfileError, TrimlogError
-from trimlog.input.units import is_compatible, parse_quantity, parse_unit, unit_factor
+from trimlog.input.schema import Key, check_keys, check_range, load_toml, read_key
+from trimlog.input.units import is_compatible, parse_unit, unit_factor
 from trimlog.physics.mass_balance import pct_mac_to_station, station_to_pct_mac
 
 DEFAULT_CRUISE_PRESSURE_ALT_FT = 5000.0
@@ -77,9 +77,102 @@ DEFAULT_CG_STEP_MAX_PCT_MAC = 2.0
 DEFAULT_ELEVATOR_RESERVE_DEG = 3.0
 DEFAULT_FUEL_DENSITY_LB_PER_GAL = 6.0
 
-_SECTIONS = (
-    "aircraft", "tail", "limits", "cruise", "fuel", "airspeed_calibration", "logger",
+#: Band around the MAC [%MAC] inside which every CG station of the profile
+#: must lie (limits and cruise CG); outside it lemac, mac or the datum is wrong.
+CG_BAND_PCT_MAC = (-25.0, 75.0)
+# A cruise weight above this multiple of the maximum weight is a unit mistake (kg vs lb is 2.2).
+MAX_CRUISE_WEIGHT_FACTOR = 1.25
+
+# Ranges: generous bounds for light aircraft and UAVs (common practice, no source);
+# they catch unit and typing mistakes, not design choices.
+PROFILE_KEYS: tuple[Key, ...] = (
+    Key("aircraft.name", "text", required=True, description="aircraft name"),
+    Key("aircraft.wing_area", "quantity", "ft^2", required=True, low=0.1, high=5000.0,
+        attr="wing_area_ft2", description="reference wing area"),
+    Key("aircraft.mac", "quantity", "in", required=True, low=0.5, high=600.0, attr="mac_in",
+        description="mean aerodynamic chord"),
+    Key("aircraft.lemac", "quantity", "in", required=True, low=-5000.0, high=5000.0,
+        attr="lemac_in", description="station of the MAC leading edge, aft of the datum"),
+    Key("aircraft.wing_span", "quantity", "in", low=0.0, high=3600.0, low_open=True,
+        attr="wing_span_in", description="wing span"),
+    Key("aircraft.clmax_clean", "number", low=0.3, high=4.0,
+        description="maximum lift coefficient, clean"),
+    Key("aircraft.clmax_landing", "number", low=0.3, high=4.0,
+        description="maximum lift coefficient, landing flaps"),
+    Key("tail.tau", "number", low=0.0, high=1.0, low_open=True,
+        description="elevator effectiveness"),
+    Key("tail.elevator_chord_ratio", "number", low=0.0, high=1.0, low_open=True,
+        high_open=True, description="elevator chord / tail chord"),
+    Key("tail.stabilizer_attach_spacing", "quantity", "in", required=True, low=0.0,
+        high=600.0, low_open=True, attr="stabilizer_attach_spacing_in",
+        description="spacing of the stabilizer attachments (front to rear)"),
+    Key("tail.elevator_up_stop", "quantity", "deg", required=True, low=0.0, high=60.0,
+        low_open=True, absolute=True, attr="elevator_up_stop_deg",
+        description="elevator travel to the up stop"),
+    Key("tail.elevator_down_stop", "quantity", "deg", required=True, low=0.0, high=60.0,
+        low_open=True, absolute=True, attr="elevator_down_stop_deg",
+        description="elevator travel to the down stop"),
+    Key("tail.current_incidence", "quantity", "deg", low=-15.0, high=15.0,
+        attr="current_incidence_deg",
+        description="stabilizer incidence as rigged, leading edge up positive"),
+    Key("tail.horizontal_area", "quantity", "ft^2", low=0.0, high=2000.0, low_open=True,
+        attr="htail_area_ft2", description="horizontal tail area"),
+    Key("tail.horizontal_span", "quantity", "in", low=0.0, high=1200.0, low_open=True,
+        attr="htail_span_in", description="horizontal tail span"),
+    Key("tail.horizontal_arm", "quantity", "in", low=0.0, high=2400.0, low_open=True,
+        attr="htail_arm_in", description="wing quarter-MAC to tail quarter-MAC"),
+    Key("tail.vertical_area", "quantity", "ft^2", low=0.0, high=2000.0, low_open=True,
+        attr="vtail_area_ft2", description="vertical tail area"),
+    Key("tail.vertical_height", "quantity", "in", low=0.0, high=1200.0, low_open=True,
+        attr="vtail_height_in", description="vertical tail height"),
+    Key("tail.vertical_arm", "quantity", "in", low=0.0, high=2400.0, low_open=True,
+        attr="vtail_arm_in", description="wing quarter-MAC to fin quarter-MAC"),
+    Key("limits.cg_forward", "quantity", "in", required=True, low=-5000.0, high=5000.0,
+        attr="cg_forward_in", description="forward CG limit, station"),
+    Key("limits.cg_aft", "quantity", "in", required=True, low=-5000.0, high=5000.0,
+        attr="cg_aft_in", description="aft CG limit, station"),
+    Key("limits.max_weight", "quantity", "lb", required=True, low=1.0, high=1.0e5,
+        attr="max_weight_lb", description="maximum weight"),
+    Key("limits.min_static_margin", "number", "%MAC", low=0.0, high=40.0,
+        default=DEFAULT_MIN_STATIC_MARGIN_PCT_MAC, attr="min_static_margin_pct_mac",
+        description="minimum static margin to keep, a policy choice"),
+    Key("limits.cg_step_max", "number", "%MAC", low=0.0, high=20.0, low_open=True,
+        default=DEFAULT_CG_STEP_MAX_PCT_MAC, attr="cg_step_max_pct_mac",
+        description="largest CG step beyond the most aft CG flown"),
+    Key("limits.elevator_reserve", "quantity", "deg", low=0.0, high=30.0,
+        default=DEFAULT_ELEVATOR_RESERVE_DEG, attr="elevator_reserve_deg",
+        description="up elevator to keep in hand at CLmax"),
+    Key("cruise.cas", "quantity", "kt", required=True, low=5.0, high=500.0,
+        attr="cruise_cas_kt", description="cruise calibrated airspeed"),
+    Key("cruise.pressure_altitude", "quantity", "ft", low=-2000.0, high=60000.0,
+        attr="cruise_pressure_alt_ft", description="cruise pressure altitude"),
+    Key("cruise.weight", "quantity", "lb", low=1.0, high=1.0e5, attr="cruise_weight_lb",
+        description="cruise weight"),
+    Key("cruise.cg", "quantity", "in", low=-5000.0, high=5000.0, attr="cruise_cg_in",
+        description="cruise CG station"),
+    Key("fuel.arm", "quantity", "in", low=-5000.0, high=5000.0, attr="fuel_arm_in",
+        description="fuel tank arm"),
+    Key("fuel.density", "quantity", "lb/gal", low=3.0, high=10.0,
+        default=DEFAULT_FUEL_DENSITY_LB_PER_GAL, attr="fuel_density_lb_per_gal",
+        description="fuel density (avgas 6.0 lb/US gal)"),
+    Key("airspeed_calibration.ias", "numbers", description="indicated airspeeds of the table"),
+    Key("airspeed_calibration.cas", "numbers", description="calibrated airspeeds of the table"),
+    Key("airspeed_calibration.unit", "text", default="kt",
+        description="speed unit of the table"),
+    Key("logger.columns", "mapping", attr="column_map",
+        description="logger header = canonical column name"),
+    Key("logger.inverted", "texts", attr="inverted_columns",
+        description="canonical columns the logger records with the opposite sign"),
 )
+
+#: Keys whose station must lie inside :data:`CG_BAND_PCT_MAC` of the MAC.
+_CG_STATION_KEYS = ("limits.cg_forward", "limits.cg_aft", "cruise.cg")
+# Keys read by their own code (calibration table) or only checked (text defaults).
+_OWN_CODE = ("airspeed_calibration.ias", "airspeed_calibration.cas",
+             "airspeed_calibration.unit")
+_BY_KEY = {k.key: k for k in PROFILE_KEYS}
+# Position-error table speeds [kt], after conversion (common practice, no source).
+_CALIBRATION_RANGE_KT = (1.0, 600.0)
 
 
 @dataclass(frozen=True)
@@ -145,58 +238,64 @@ class AircraftProfile:
         return self.pct_mac(self.cg_aft_in)
 
 
-class _Reader:
-    """Pulls typed values out of the parsed TOML, naming the key in every error."""
+def profile_key(key: str) -> Key:
+    """The schema row of one profile key (for options that set the same value).
 
-    def __init__(self, data: Mapping[str, Any], source: str) -> None:
-        self.data = data
-        self.source = source
+    Examples
+    --------
+    >>> profile_key("limits.min_static_margin").range_text()
+    '0..40 %MAC'
+    """
+    return _BY_KEY[key]
 
-    def fail(self, key: str, message: str) -> ProfileError:
-        return ProfileError(f"{self.source}: [{key.split('.')[0]}] {key}: {message}")
 
-    def _raw(self, key: str, required: bool) -> Any:
-        section, name = key.split(".", 1)
-        table = self.data.get(section, {})
-        if not isinstance(table, Mapping):
-            raise self.fail(key, f"[{section}] must be a table, found {type(table).__name__}")
-        if name not in table:
-            if required:
-                raise ProfileError(
-                    f"{self.source}: missing key '{name}' in [{section}] "
-                    f"(required; see the profile format in trimlog.input.profile)"
-                )
-            return None
-        return table[name]
+def check_policy(key: str, value: float, *, source: str = "option") -> float:
+    """Check a value typed outside the profile (CLI option, dashboard) by the profile's rule.
 
-    def quantity(self, key: str, unit: str, *, required: bool = True) -> float | None:
-        raw = self._raw(key, required)
-        if raw is None:
-            return None
-        try:
-            return parse_quantity(raw, unit, key=f"{self.source}: {key}")
-        except TrimlogError as exc:
-            raise ProfileError(str(exc)) from None
+    Parameters
+    ----------
+    key : str
+        The profile key whose rule applies, e.g. ``"limits.min_static_margin"``.
+    value : float
+        In the key's unit.
+    source : str
+        Where the value was typed, for the message (``"--min-margin"``).
 
-    def number(self, key: str, *, required: bool = False) -> float | None:
-        raw = self._raw(key, required)
-        if raw is None:
-            return None
-        if isinstance(raw, bool) or not isinstance(raw, int | float) or not math.isfinite(raw):
-            raise self.fail(key, f"expected a plain finite number, found {raw!r}")
-        return float(raw)
+    Returns
+    -------
+    float
 
-    def text(self, key: str, *, required: bool = False) -> str | None:
-        raw = self._raw(key, required)
-        if raw is None:
-            return None
-        if not isinstance(raw, str) or not raw.strip():
-            raise self.fail(key, f"expected a non-empty string, found {raw!r}")
-        return raw.strip()
+    Raises
+    ------
+    ProfileError
+        Not finite or outside the plausible range.
+
+    Examples
+    --------
+    >>> check_policy("limits.min_static_margin", 0.0)
+    0.0
+    >>> check_policy("limits.min_static_margin", -10.0, source="--min-margin")
+    ... # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    trimlog.errors.ProfileError: --min-margin: limits.min_static_margin: -10 is outside ...
+    """
+    def fail(_key: str, message: str) -> ProfileError:
+        return ProfileError(f"{source}: {message}")
+
+    try:
+        number = float(value)
+    except (TypeError, ValueError, OverflowError):
+        raise fail(key, f"{key}: expected a number, found {value!r}") from None
+    return check_range(_BY_KEY[key], number, fail)
 
 
 def parse_profile(text: str, source: str = "<profile>") -> AircraftProfile:
     """Parse and validate the text of a profile TOML.
+
+    Every key is declared once in :data:`PROFILE_KEYS` (kind, unit,
+    required or default, plausible range); unknown keys and sections are
+    refused with the nearest valid key.
 
     Parameters
     ----------
@@ -212,161 +311,91 @@ def parse_profile(text: str, source: str = "<profile>") -> AircraftProfile:
     Raises
     ------
     ProfileError
-        Malformed TOML, a missing key, a unit of the wrong dimension, or an
-        implausible value; the message names the key.
+        Malformed TOML, an unknown or missing key, a unit of the wrong
+        dimension, or an implausible value; the message names the key.
     """
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise ProfileError(f"{source}: not valid TOML: {exc}") from None
-    unknown = sorted(set(data) - set(_SECTIONS))
+    def fail(key: str, message: str) -> ProfileError:
+        return ProfileError(f"{source}: {message}")
+
+    data = load_toml(text, source, fail)
+    check_keys(data, PROFILE_KEYS, fail)
+    values: dict[str, Any] = {}
+    for spec in PROFILE_KEYS:
+        if spec.key not in _OWN_CODE:
+            values[spec.field] = read_key(data, spec, fail)
     warnings: list[str] = []
-    if unknown:
-        warnings.append(
-            f"{source}: sections not used by trimlog (ignored, check the spelling): "
-            + ", ".join(f"[{name}]" for name in unknown)
-        )
-    r = _Reader(data, source)
     defaults: list[str] = []
-
-    name = r.text("aircraft.name", required=True)
-    wing_area = _positive(r, "aircraft.wing_area", r.quantity("aircraft.wing_area", "ft^2"))
-    mac = _positive(r, "aircraft.mac", r.quantity("aircraft.mac", "in"))
-    lemac = r.quantity("aircraft.lemac", "in")
-    spacing = _positive(
-        r, "tail.stabilizer_attach_spacing", r.quantity("tail.stabilizer_attach_spacing", "in")
-    )
-    up_stop = abs(r.quantity("tail.elevator_up_stop", "deg"))
-    down_stop = abs(r.quantity("tail.elevator_down_stop", "deg"))
-    for key, stop in (("tail.elevator_up_stop", up_stop), ("tail.elevator_down_stop", down_stop)):
-        if not 0.0 < stop <= 60.0:
-            raise r.fail(key, f"expected an elevator stop between 0 and 60 deg, found {stop:g} deg")
-    cg_fwd = r.quantity("limits.cg_forward", "in")
-    cg_aft = r.quantity("limits.cg_aft", "in")
-    max_weight = _positive(r, "limits.max_weight", r.quantity("limits.max_weight", "lb"))
-    if cg_fwd >= cg_aft:
-        raise r.fail(
-            "limits.cg_forward",
-            f"the forward limit ({cg_fwd:g} in) must lie forward of (less than) "
-            f"the aft limit ({cg_aft:g} in)",
-        )
-    for key, station in (("limits.cg_forward", cg_fwd), ("limits.cg_aft", cg_aft)):
-        pct = 100.0 * (station - lemac) / mac
-        if not -25.0 <= pct <= 75.0:
-            raise r.fail(
-                key,
-                f"{station:g} in is {pct:.0f} %MAC (MAC {lemac:g} to {lemac + mac:g} in); "
-                "expected a CG limit within -25..75 %MAC: check lemac, mac and the datum",
-            )
-
-    tau = r.number("tail.tau")
-    if tau is not None and not 0.0 < tau <= 1.0:
-        raise r.fail("tail.tau", f"expected elevator effectiveness between 0 and 1, found {tau:g}")
-    chord_ratio = r.number("tail.elevator_chord_ratio")
-    if chord_ratio is not None and not 0.0 < chord_ratio < 1.0:
-        raise r.fail(
-            "tail.elevator_chord_ratio",
-            f"expected elevator chord / tail chord between 0 and 1, found {chord_ratio:g}",
-        )
-    if tau is None and chord_ratio is None:
+    _check_cross_keys(values, fail)
+    if values["tau"] is None and values["elevator_chord_ratio"] is None:
         warnings.append(
             f"{source}: neither tail.tau nor tail.elevator_chord_ratio is given; the shim "
             "needs a flight-calibrated tau (flights before and after an incidence change)"
         )
-
-    cruise_cas = _positive(r, "cruise.cas", r.quantity("cruise.cas", "kt"))
-    cruise_alt = r.quantity("cruise.pressure_altitude", "ft", required=False)
-    if cruise_alt is None:
-        cruise_alt = DEFAULT_CRUISE_PRESSURE_ALT_FT
-        defaults.append(f"cruise pressure altitude {cruise_alt:g} ft")
-    cruise_weight = r.quantity("cruise.weight", "lb", required=False)
-    if cruise_weight is None:
-        cruise_weight = DEFAULT_CRUISE_WEIGHT_FRACTION * max_weight
-        defaults.append(f"cruise weight {cruise_weight:g} lb (90 % of max weight)")
-    cruise_cg = r.quantity("cruise.cg", "in", required=False)
-    if cruise_cg is None:
-        cruise_cg = 0.5 * (cg_fwd + cg_aft)
-        defaults.append(f"cruise CG {cruise_cg:g} in (mid-envelope)")
-
-    min_sm = r.number("limits.min_static_margin")
-    if min_sm is None:
-        min_sm = DEFAULT_MIN_STATIC_MARGIN_PCT_MAC
-        defaults.append(f"minimum static margin {min_sm:g} %MAC (a policy choice, not a rule)")
-    elif not 0.0 <= min_sm <= 40.0:
-        raise r.fail("limits.min_static_margin", f"expected 0..40 %MAC, found {min_sm:g}")
-    step_max = r.number("limits.cg_step_max")
-    if step_max is None:
-        step_max = DEFAULT_CG_STEP_MAX_PCT_MAC
-    elif not 0.0 < step_max <= 20.0:
-        raise r.fail("limits.cg_step_max", f"expected 0..20 %MAC, found {step_max:g}")
-    reserve = r.quantity("limits.elevator_reserve", "deg", required=False)
-    if reserve is None:
-        reserve = DEFAULT_ELEVATOR_RESERVE_DEG
-
-    fuel_density = r.quantity("fuel.density", "lb/gal", required=False)
-    if fuel_density is None:
-        fuel_density = DEFAULT_FUEL_DENSITY_LB_PER_GAL
-
-    ias_table, cas_table = _position_error_table(r)
-    column_map, inverted = _logger_mapping(r)
-
-    values: dict[str, float | None] = {}
-    for attr, key, unit in (
-        ("current_incidence_deg", "tail.current_incidence", "deg"),
-        ("wing_span_in", "aircraft.wing_span", "in"),
-        ("htail_area_ft2", "tail.horizontal_area", "ft^2"),
-        ("htail_span_in", "tail.horizontal_span", "in"),
-        ("htail_arm_in", "tail.horizontal_arm", "in"),
-        ("vtail_area_ft2", "tail.vertical_area", "ft^2"),
-        ("vtail_height_in", "tail.vertical_height", "in"),
-        ("vtail_arm_in", "tail.vertical_arm", "in"),
-        ("fuel_arm_in", "fuel.arm", "in"),
-    ):
-        values[attr] = r.quantity(key, unit, required=False)
-    for attr in ("wing_span_in", "htail_area_ft2", "htail_span_in", "htail_arm_in",
-                 "vtail_area_ft2", "vtail_height_in", "vtail_arm_in"):
-        if values[attr] is not None:
-            _positive(r, attr, values[attr])
-    clmax = {}
-    for key in ("aircraft.clmax_clean", "aircraft.clmax_landing"):
-        value = r.number(key)
-        if value is not None and not 0.3 <= value <= 4.0:
-            raise r.fail(key, f"expected a maximum lift coefficient of 0.3..4, found {value:g}")
-        clmax[key] = value
-
+    _fill_defaults(data, values, defaults)
+    _check_cg_band(values, fail)
+    ias_table, cas_table = _position_error_table(data, fail)
+    values["column_map"] = values["column_map"] or {}
+    values["inverted_columns"] = values["inverted_columns"] or ()
     return AircraftProfile(
-        name=name,
-        wing_area_ft2=wing_area,
-        mac_in=mac,
-        lemac_in=lemac,
-        stabilizer_attach_spacing_in=spacing,
-        elevator_up_stop_deg=up_stop,
-        elevator_down_stop_deg=down_stop,
-        cg_forward_in=cg_fwd,
-        cg_aft_in=cg_aft,
-        max_weight_lb=max_weight,
-        cruise_cas_kt=cruise_cas,
-        cruise_pressure_alt_ft=cruise_alt,
-        cruise_weight_lb=cruise_weight,
-        cruise_cg_in=cruise_cg,
-        tau=tau,
-        elevator_chord_ratio=chord_ratio,
-        clmax_clean=clmax["aircraft.clmax_clean"],
-        clmax_landing=clmax["aircraft.clmax_landing"],
-        min_static_margin_pct_mac=min_sm,
-        cg_step_max_pct_mac=step_max,
-        elevator_reserve_deg=reserve,
-        fuel_density_lb_per_gal=fuel_density,
+        **values,
         position_error_ias_kt=ias_table,
         position_error_cas_kt=cas_table,
-        column_map=column_map,
-        inverted_columns=inverted,
         defaults_used=tuple(defaults),
         warnings=tuple(warnings),
         source=source,
         text=text,
-        **values,
     )
+
+
+def _check_cross_keys(values: dict[str, Any], fail: Any) -> None:
+    cg_fwd, cg_aft = values["cg_forward_in"], values["cg_aft_in"]
+    if cg_fwd >= cg_aft:
+        raise fail(
+            "limits.cg_forward",
+            f"limits.cg_forward: the forward limit ({cg_fwd:g} in) must lie forward "
+            f"of (less than) the aft limit ({cg_aft:g} in)",
+        )
+    weight = values["cruise_weight_lb"]
+    if weight is not None and weight > MAX_CRUISE_WEIGHT_FACTOR * values["max_weight_lb"]:
+        raise fail(
+            "cruise.weight",
+            f"cruise.weight: {weight:g} lb is more than "
+            f"{MAX_CRUISE_WEIGHT_FACTOR:g} x the maximum weight ({values['max_weight_lb']:g} lb);"
+            " check the units (kg against lb is a factor 2.2)",
+        )
+
+
+def _fill_defaults(data: Mapping[str, Any], values: dict[str, Any], defaults: list[str]) -> None:
+    """The defaults that depend on other keys, each recorded in words."""
+    if values["cruise_pressure_alt_ft"] is None:
+        values["cruise_pressure_alt_ft"] = DEFAULT_CRUISE_PRESSURE_ALT_FT
+        defaults.append(f"cruise pressure altitude {DEFAULT_CRUISE_PRESSURE_ALT_FT:g} ft")
+    if values["cruise_weight_lb"] is None:
+        values["cruise_weight_lb"] = DEFAULT_CRUISE_WEIGHT_FRACTION * values["max_weight_lb"]
+        defaults.append(f"cruise weight {values['cruise_weight_lb']:g} lb (90 % of max weight)")
+    if values["cruise_cg_in"] is None:
+        values["cruise_cg_in"] = 0.5 * (values["cg_forward_in"] + values["cg_aft_in"])
+        defaults.append(f"cruise CG {values['cruise_cg_in']:g} in (mid-envelope)")
+    if "min_static_margin" not in data.get("limits", {}):
+        defaults.append(
+            f"minimum static margin {DEFAULT_MIN_STATIC_MARGIN_PCT_MAC:g} %MAC "
+            "(a policy choice, not a rule)"
+        )
+
+
+def _check_cg_band(values: dict[str, Any], fail: Any) -> None:
+    lemac, mac = values["lemac_in"], values["mac_in"]
+    low, high = CG_BAND_PCT_MAC
+    for key in _CG_STATION_KEYS:
+        station = values[_BY_KEY[key].field]
+        pct = station_to_pct_mac(station, lemac, mac)
+        if not low <= pct <= high:
+            raise fail(
+                key,
+                f"{key}: {station:g} in is {pct:.0f} %MAC (MAC {lemac:g} "
+                f"to {lemac + mac:g} in); expected a CG station within {low:g}..{high:g} %MAC: "
+                "check lemac, mac and the datum",
+            )
 
 
 def load_profile(path: str | Path) -> AircraftProfile:
@@ -383,57 +412,56 @@ def load_profile(path: str | Path) -> AircraftProfile:
     return parse_profile(text, source=str(path))
 
 
-def _positive(r: _Reader, key: str, value: float) -> float:
-    if not value > 0.0:
-        raise r.fail(key, f"expected a positive value, found {value:g}")
-    return value
-
-
-def _position_error_table(r: _Reader) -> tuple[tuple[float, ...] | None, tuple[float, ...] | None]:
-    table = r.data.get("airspeed_calibration")
+def _position_error_table(
+    data: Mapping[str, Any], fail: Any
+) -> tuple[tuple[float, ...] | None, tuple[float, ...] | None]:
+    table = data.get("airspeed_calibration")
     if table is None:
         return None, None
     key = "airspeed_calibration"
-    if not isinstance(table, Mapping) or "ias" not in table or "cas" not in table:
-        raise r.fail(f"{key}.ias", "expected arrays 'ias' and 'cas' and a 'unit'")
-    unit_text = table.get("unit", "kt")
+    if "ias" not in table or "cas" not in table:
+        raise fail(f"{key}.ias", f"{key}.ias: expected arrays 'ias' and 'cas' and a 'unit'")
+    unit_text = read_key(data, _BY_KEY[f"{key}.unit"], fail)
     try:
-        unit = parse_unit(str(unit_text))
+        unit = parse_unit(str(unit_text)) if unit_text else None
     except TrimlogError:
         unit = None
     if unit is None or not is_compatible(unit, "kt"):
-        raise r.fail(f"{key}.unit", f"expected a speed unit such as 'kt', found {unit_text!r}")
+        raise fail(f"{key}.unit",
+                   f"{key}.unit: expected a speed unit such as 'kt', found {unit_text!r}")
     scale, offset = unit_factor(unit, "kt")
     columns = []
+    low, high = _CALIBRATION_RANGE_KT
     for name in ("ias", "cas"):
-        values = table[name]
-        if not isinstance(values, list) or not all(
-            isinstance(v, int | float) and not isinstance(v, bool) and math.isfinite(v)
-            for v in values
-        ):
-            raise r.fail(f"{key}.{name}", f"expected a list of finite numbers, found {values!r}")
-        columns.append(tuple(scale * float(v) + offset for v in values))
+        values = read_key(data, _BY_KEY[f"{key}.{name}"], fail)
+        converted = tuple(scale * v + offset for v in values)
+        if any(not low <= v <= high for v in converted):
+            raise fail(f"{key}.{name}", f"{key}.{name}: expected speeds within {low:g}..{high:g}"
+                                        f" kt, found {list(values)!r} {unit_text}")
+        columns.append(converted)
     ias, cas = columns
     if len(ias) != len(cas) or len(ias) < 2:
-        raise r.fail(
+        raise fail(
             f"{key}.ias",
-            f"expected two lists of equal length (at least 2), found {len(ias)} and {len(cas)}",
+            f"{key}.ias: expected two lists of equal length (at least 2), found {len(ias)} "
+            f"and {len(cas)}",
         )
     if any(b <= a for a, b in zip(ias, ias[1:], strict=False)):
-        raise r.fail(f"{key}.ias", "expected indicated airspeeds in strictly increasing order")
+        raise fail(f"{key}.ias", f"{key}.ias: expected indicated airspeeds in strictly "
+                                 "increasing order")
     return ias, cas
 
 
-def _logger_mapping(r: _Reader) -> tuple[dict[str, str], tuple[str, ...]]:
-    table = r.data.get("logger", {})
-    if not isinstance(table, Mapping):
-        raise r.fail("logger.columns", "[logger] must be a table")
-    columns = table.get("columns", {})
-    if not isinstance(columns, Mapping) or not all(
-        isinstance(k, str) and isinstance(v, str) for k, v in columns.items()
-    ):
-        raise r.fail("logger.columns", "expected a table of logger header = canonical name")
-    inverted = table.get("inverted", [])
-    if not isinstance(inverted, list) or not all(isinstance(v, str) for v in inverted):
-        raise r.fail("logger.inverted", "expected a list of canonical column names")
-    return dict(columns), tuple(inverted)
+def with_policy(profile: AircraftProfile, **changes: float) -> AircraftProfile:
+    """A copy of ``profile`` with policy values changed, each checked by its key's rule.
+
+    Parameters
+    ----------
+    profile : AircraftProfile
+    **changes : float
+        Attribute names (``min_static_margin_pct_mac``, ``cg_step_max_pct_mac``,
+        ``elevator_reserve_deg``) and values in their units.
+    """
+    by_attr = {k.field: k for k in PROFILE_KEYS}
+    checked = {attr: check_policy(by_attr[attr].key, value) for attr, value in changes.items()}
+    return dataclasses.replace(profile, **checked)

@@ -177,6 +177,11 @@ def parse_quantity(text: str | float | int, to_unit: str, *, key: str) -> float:
     if isinstance(text, bool):
         raise UnitError(f"{key}: expected a quantity in {to_unit}, found {text!r}")
     if isinstance(text, int | float):
+        try:
+            text = float(text)
+        except OverflowError:  # an integer too large for a float
+            raise UnitError(f"{key}: expected a finite number, found an integer of about "
+                            f"{int(text.bit_length() * math.log10(2)) + 1} digits") from None
         if not math.isfinite(text):
             raise UnitError(f"{key}: expected a finite number, found {text!r}")
         if target_dim:
