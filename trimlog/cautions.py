@@ -58,6 +58,16 @@ AUTHORITY = (
     "CL; keep a reserve beyond the figure shown.",
 )
 
+AIRSPEED_CALIBRATION = (
+    "Fly calibration legs in smooth air, with altitude, lookout and airspace in mind; "
+    "the legs are long and straight at speeds away from the usual cruise.",
+    "The position error is an estimate from your GPS legs: confirm it with a second "
+    "flight before relying on it, and never use it to fly nearer a stall speed or VNE "
+    "than the aircraft's published limits allow.",
+    "Any change to the pitot or static installation, the probes, or the airframe near "
+    "them (fairings, antennas, doors) invalidates the table: calibrate again.",
+)
+
 
 def all_cautions() -> tuple[str, ...]:
     """Every caution, in the order the views show them."""

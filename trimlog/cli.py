@@ -88,6 +88,26 @@ def _build_parser() -> argparse.ArgumentParser:
     p.add_argument("--quiet", action="store_true", help="no terminal summary")
 
     p = command(
+        "calibrate",
+        _run_calibrate,
+        "Airspeed calibration from GPS legs: TAS and wind per speed, the position error "
+        "CAS - IAS, and a profile with the table filled.",
+        "trimlog calibrate cal_flight.csv --aircraft plane.toml --json cal.json "
+        "--write-profile plane_calibrated.toml",
+    )
+    p.add_argument("logs", nargs="+", metavar="LOG",
+                   help="calibration logs or leg tables (CSV with IAS, pressure altitude, "
+                        "GPS ground speed and track)")
+    p.add_argument("--aircraft", required=True, metavar="PROFILE.toml", help="aircraft profile")
+    p.add_argument("--json", metavar="OUT.json", help="write the machine-readable result")
+    p.add_argument("--write-profile", metavar="NEW.toml",
+                   help="write a copy of the profile with the airspeed-calibration table "
+                        "filled (everything else byte for byte)")
+    p.add_argument("--min-leg", type=float, metavar="SECONDS",
+                   help="shortest steady leg in a time-series log (default 20 s)")
+    p.add_argument("--quiet", action="store_true", help="no terminal summary")
+
+    p = command(
         "report",
         _run_report,
         "Write a PDF flight-test report from logs or from the flight history.",
@@ -320,6 +340,57 @@ def _run_analyze(args: argparse.Namespace) -> int:
     if not args.quiet:
         print(summary.render(result, color=_use_color()))
     return EXIT_OK if result.identifiable else EXIT_REFUSED
+
+
+def _run_calibrate(args: argparse.Namespace) -> int:
+    from trimlog.input.profile import load_profile
+    from trimlog.pipeline import calibration
+    from trimlog.views.calibration import calibration_to_dict, render_calibration
+
+    profile = load_profile(args.aircraft)
+    settings = calibration.LegSettings(
+        **({} if args.min_leg is None else {"min_leg_s": args.min_leg}))
+    logs = []
+    for number, log in enumerate(args.logs, start=1):
+        _progress(f"reading {log} ({number}/{len(args.logs)})")
+        logs.append(calibration.read_calibration_log(log, profile))
+    result = calibration.calibrate(logs, settings=settings)
+    if args.json:
+        _write_json(args.json, calibration_to_dict(result))
+    if not args.quiet:
+        print(render_calibration(result))
+    if args.write_profile:
+        if len(result.table_ias_kt) < 2:
+            print(f"trimlog: {args.write_profile} not written: a position-error table needs "
+                  "at least two calibrated speeds", file=sys.stderr)
+            return EXIT_REFUSED
+        _write_calibrated_profile(args.aircraft, args.write_profile, result)
+    return EXIT_OK if result.determinable else EXIT_REFUSED
+
+
+def _write_calibrated_profile(source: str, target: str, result) -> None:
+    from datetime import UTC, datetime
+
+    from trimlog.input.profile_writer import replace_calibration
+
+    raw = Path(source).read_bytes()
+    bom = raw.startswith(b"\xef\xbb\xbf")
+    text = raw.decode("utf-8-sig")
+    stamp = datetime.now(UTC).strftime("%Y-%m-%d")
+    comment = (f"written by trimlog calibrate {stamp} from "
+               f"{', '.join(Path(s).name for s in result.sources)} (GPS legs); an estimate, "
+               "confirm it before relying on it")
+    new = replace_calibration(text, result.table_ias_kt, result.table_cas_kt,
+                              comment=comment, source=source)
+    data = (b"\xef\xbb\xbf" if bom else b"") + new.encode("utf-8")
+    path = Path(target)
+    tmp = path.with_name(f".{path.name}.tmp{os.getpid()}")
+    try:
+        tmp.write_bytes(data)
+        os.replace(tmp, path)
+    except OSError as exc:
+        tmp.unlink(missing_ok=True)
+        raise TrimlogError(f"{target}: cannot write the profile: {exc.strerror}") from None
 
 
 def _run_report(args: argparse.Namespace) -> int:

@@ -75,6 +75,8 @@ QUANTITIES: dict[str, Quantity] = {
         Quantity("flap_deg", "degree", "flap deflection"),
         Quantity("vs_fpm", "foot / minute", "vertical speed"),
         Quantity("stab_incidence_deg", "degree", "stabilizer incidence"),
+        Quantity("gps_groundspeed_kt", "knot", "GPS ground speed"),
+        Quantity("gps_track_deg", "degree", "GPS ground track (degrees true)"),
         Quantity("flight", None, "flight label"),
         Quantity("event", None, "event marker"),
     )
@@ -94,6 +96,8 @@ PLAUSIBLE_RANGES: dict[str, tuple[float, float]] = {
     "pressure_alt_ft": (-2000.0, 40000.0),
     "nz_g": (-5.0, 10.0),  # common practice, no source: beyond any light-aircraft envelope
     "weight_lb": (1e-9, 1e6),
+    "gps_groundspeed_kt": (0.0, 500.0),
+    "gps_track_deg": (-360.0, 720.0),  # 0..360 or -180..180 as loggers write it
 }
 
 # Quantities that vary in flight: constant over a whole log means a dead sensor.
@@ -124,8 +128,13 @@ _SYNONYMS: dict[str, tuple[str, ...]] = {
     "vs_fpm": ("vs", "vsi", "vertical_speed", "climb_rate", "roc", "rate_of_climb", "vz"),
     "stab_incidence_deg": ("stab", "incidence", "stab_incidence", "stabilizer",
                            "stabilizer_incidence", "tail_incidence", "it"),
+    "gps_groundspeed_kt": ("gs", "gps_gs", "groundspeed", "ground_speed", "gps_groundspeed",
+                           "gps_ground_speed", "gps_speed", "gnd_speed", "gnd_spd", "sog",
+                           "speed_over_ground"),
+    "gps_track_deg": ("trk", "track", "gps_track", "gps_trk", "ground_track", "true_track",
+                      "track_true", "gps_track_true", "cog", "course_over_ground", "gps_course"),
     "flight": ("flight", "flight_no", "flight_number", "flt", "sortie"),
-    "event": ("event", "marker", "mark", "evt", "point", "test_point", "tp", "events"),
+    "event": ("event", "marker", "mark", "evt", "point", "test_point", "tp", "events", "leg"),
 }
 
 _WORD_TO_CANONICAL: dict[str, str] = {}
@@ -534,17 +543,36 @@ def map_columns(
     return found, unknown, ignored
 
 
-def require_columns(
-    found: dict[int, HeaderMeaning], headers: tuple[str, ...], header_line: int, label: str,
-    notes: Notes,
-) -> None:
-    """Raise when airspeed, pressure altitude or elevator is missing; warn of OAT, force."""
-    names = {m.canonical for m in found.values()}
-    required = (
+Purpose = Literal["trim", "airspeed_calibration"]
+
+_REQUIRED_FOR: dict[str, tuple[tuple[tuple[str, ...], str], ...]] = {
+    "trim": (
         (("ias_kt", "cas_kt"), "an airspeed column (e.g. 'ias_kt', 'cas_kt', 'airspeed [mph]')"),
         (("pressure_alt_ft",), "a pressure altitude column (e.g. 'pressure_alt_ft', 'palt [m]')"),
         (("elevator_deg",), "an elevator column (e.g. 'elevator_deg', 'Elevator (deg)')"),
-    )
+    ),
+    "airspeed_calibration": (
+        (("ias_kt",), "an indicated airspeed column (e.g. 'ias_kt', 'airspeed [mph]')"),
+        (("pressure_alt_ft",), "a pressure altitude column (e.g. 'pressure_alt_ft', 'palt [m]')"),
+        (("gps_groundspeed_kt",),
+         "a GPS ground speed column (e.g. 'gps_groundspeed_kt', 'ground speed [kt]')"),
+        (("gps_track_deg",), "a GPS track column (e.g. 'gps_track_deg', 'track [deg]')"),
+    ),
+}
+
+
+def require_columns(
+    found: dict[int, HeaderMeaning], headers: tuple[str, ...], header_line: int, label: str,
+    notes: Notes, purpose: Purpose = "trim",
+) -> None:
+    """Raise when a column the purpose needs is missing; warn of OAT (and force for trim).
+
+    ``purpose="trim"`` needs airspeed, pressure altitude and elevator;
+    ``"airspeed_calibration"`` needs indicated airspeed, pressure altitude,
+    GPS ground speed and GPS track.
+    """
+    names = {m.canonical for m in found.values()}
+    required = _REQUIRED_FOR[purpose]
     for options, what in required:
         if names.isdisjoint(options):
             words = [w for o in options for w in synonyms_of(o)]
@@ -563,7 +591,7 @@ def require_columns(
             )
     if "oat_c" not in names:
         notes.warnings.append("no outside air temperature column: ISA temperature will be assumed")
-    if "stick_force_lbf" not in names:
+    if purpose == "trim" and "stick_force_lbf" not in names:
         notes.warnings.append("no stick force column: no stick-free (force) result is possible")
 
 

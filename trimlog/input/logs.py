@@ -81,6 +81,7 @@ from trimlog.input.headers import (
     HeaderMeaning,
     Kind,
     Notes,
+    Purpose,
     check_constant,
     check_plausible,
     check_time,
@@ -478,6 +479,7 @@ def read_log(
     column_map: Mapping[str, str] | None = None,
     inverted: Iterable[str] = (),
     kind: Kind | None = None,
+    purpose: Purpose = "trim",
 ) -> LogRead:
     """Read a data-logger CSV or a typed table of trim points.
 
@@ -501,6 +503,10 @@ def read_log(
         contract and is left as it is, with a warning saying so.
     kind : {"point_table", "time_series"}, optional
         Force the kind of input instead of detecting it.
+    purpose : {"trim", "airspeed_calibration"}, optional
+        Which columns are required: airspeed, pressure altitude and elevator
+        for trim points; indicated airspeed, pressure altitude, GPS ground
+        speed and track for the legs of an airspeed calibration.
 
     Returns
     -------
@@ -528,7 +534,7 @@ def read_log(
                 f"'{canonical}' is declared inverted but is not a numeric canonical column name",
                 file=label,
             )
-    require_columns(found, layout.headers, layout.header_line, label, notes)
+    require_columns(found, layout.headers, layout.header_line, label, notes, purpose)
     if unknown:
         notes.warnings.append(
             "columns not understood, kept out of the analysis: "

@@ -37,6 +37,7 @@ from trimlog.physics.arrays import (
 from trimlog.physics.atmosphere import (
     A0_MPS,
     GAMMA,
+    P0_PA,
     RHO0_KGM3,
     density_ratio,
     isa_temperature_k,
@@ -348,6 +349,39 @@ def cas_to_tas(cas_kt: Numeric, pressure_alt_ft: Numeric, oat_c: Numeric | None 
     174.1
     """
     return eas_to_tas(cas_to_eas(cas_kt, pressure_alt_ft), pressure_alt_ft, oat_c)
+
+
+def impact_pressure_pa(cas_kt: Numeric) -> Numeric:
+    """Impact pressure qc = pt − ps that an airspeed indicator reads as ``cas_kt``.
+
+    Parameters
+    ----------
+    cas_kt : float, array or Series
+        Calibrated (or indicated) airspeed [kt], not negative.
+
+    Returns
+    -------
+    float, array or Series
+        Impact pressure [Pa].
+
+    Notes
+    -----
+    qc = p0·[(1 + 0.2·(Vc/a0)²)^3.5 − 1], the calibration law of the indicator;
+    the same at every altitude.
+
+    References
+    ----------
+    Gracey, NASA RP-1046 (1980): subsonic impact pressure, calibrated airspeed.
+
+    Examples
+    --------
+    >>> round(impact_pressure_pa(100.0), 1)
+    1630.3
+    """
+    cas = _speeds(cas_kt, "cas_kt")
+    _check_subsonic(cas / A0_KT, cas, "cas_kt", series_template(cas_kt))
+    qc = P0_PA * _impact_ratio_from_mach(cas / A0_KT)
+    return like_input(qc, cas_kt, name="qc_pa")
 
 
 def dynamic_pressure_psf(eas_kt: Numeric) -> Numeric:

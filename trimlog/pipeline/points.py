@@ -85,6 +85,7 @@ References
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, fields
 
 import numpy as np
@@ -220,7 +221,8 @@ def points_from_log(
 
 
 def find_stabilized_points(
-    samples: pd.DataFrame, *, flight: str = "1", settings: PointSettings | None = None
+    samples: pd.DataFrame, *, flight: str = "1", settings: PointSettings | None = None,
+    steady_signals: Mapping[str, float] | None = None,
 ) -> pd.DataFrame:
     """Find the stabilized trim points of a time-series log.
 
@@ -234,6 +236,11 @@ def find_stabilized_points(
         flight is searched separately.
     settings : PointSettings, optional
         Detection settings.
+    steady_signals : mapping of str to float, optional
+        Canonical column -> largest range [its unit] within a point, tested
+        instead of airspeed, elevator and force (e.g. the legs of an airspeed
+        calibration: airspeed, pressure altitude and GPS track).  The load
+        factor is still held near 1 g when logged; no elevator is needed.
 
     Returns
     -------
@@ -250,9 +257,9 @@ def find_stabilized_points(
     settings = settings or PointSettings()
     if "time_s" not in samples:
         return point_table_to_points(samples, flight=flight)
-    _check_columns(samples)
+    _check_columns(samples, steady_signals)
     frames = [
-        _points_of_flight(piece, label, settings)
+        _points_of_flight(piece, label, settings, steady_signals)
         for label, part in _by_flight(samples, flight)
         for piece in _split_at_long_gaps(part, settings)
     ]
@@ -311,8 +318,9 @@ def point_table_to_points(samples: pd.DataFrame, *, flight: str = "1") -> pd.Dat
 # --------------------------------------------------------------------- helpers
 
 
-def _check_columns(samples: pd.DataFrame) -> None:
-    missing = [c for c in _REQUIRED if c not in samples]
+def _check_columns(samples: pd.DataFrame, signals: Mapping[str, float] | None = None) -> None:
+    required = _REQUIRED if signals is None else ("pressure_alt_ft", *signals)
+    missing = [c for c in dict.fromkeys(required) if c not in samples]
     if "ias_kt" not in samples and "cas_kt" not in samples:
         missing.insert(0, "ias_kt or cas_kt")
     if missing:
@@ -392,7 +400,11 @@ def _dtype(column: str) -> str:
 # --------------------------------------------------------------------- detection
 
 
-def _tolerances(samples: pd.DataFrame, settings: PointSettings) -> dict[str, float]:
+def _tolerances(
+    samples: pd.DataFrame, settings: PointSettings, signals: Mapping[str, float] | None = None
+) -> dict[str, float]:
+    if signals is not None:
+        return dict(signals)
     tolerances = {
         _speed_name(samples): settings.ias_tol_kt,
         "elevator_deg": settings.elevator_tol_deg,
@@ -403,7 +415,8 @@ def _tolerances(samples: pd.DataFrame, settings: PointSettings) -> dict[str, flo
 
 
 def _points_of_flight(
-    samples: pd.DataFrame, flight: str, settings: PointSettings
+    samples: pd.DataFrame, flight: str, settings: PointSettings,
+    signals: Mapping[str, float] | None = None,
 ) -> pd.DataFrame:
     samples = samples[np.isfinite(samples["time_s"].to_numpy(dtype=float))]
     time = samples["time_s"].to_numpy(dtype=float)
@@ -419,11 +432,11 @@ def _points_of_flight(
     if not len(positive):
         return pd.DataFrame()
     bin_s = max(settings.bin_s, float(np.median(positive)))
-    tolerances = _tolerances(samples, settings)
-    signals = list(tolerances) + (["nz_g"] if "nz_g" in samples else [])
+    tolerances = _tolerances(samples, settings, signals)
+    tested = list(tolerances) + (["nz_g"] if "nz_g" in samples else [])
     k = np.floor((time - time[0]) / bin_s).astype(np.int64)
     n_bins = int(k[-1]) + 1
-    binned = samples[signals].groupby(k).median().reindex(range(n_bins))
+    binned = samples[tested].groupby(k).median().reindex(range(n_bins))
     smooth_bins = max(3, int(round(settings.smooth_s / bin_s)) | 1)
     smooth = binned.rolling(smooth_bins, center=True, min_periods=1).median()
     half = max(1, int(round(settings.min_duration_s / bin_s)) // 2)
@@ -456,7 +469,7 @@ def _points_of_flight(
     rows = _match_marks(windows, marks, settings) if marks is not None else [
         (t0, t1, flags, "", True) for t0, t1, flags in windows
     ]
-    return _summaries(samples, rows, flight, settings)
+    return _summaries(samples, rows, flight, settings, signals)
 
 
 def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
@@ -688,13 +701,14 @@ def _summaries(
     rows: list[tuple[float, float, str, str, bool]],
     flight: str,
     settings: PointSettings,
+    signals: Mapping[str, float] | None = None,
 ) -> pd.DataFrame:
     time = samples["time_s"].to_numpy(dtype=float)
     names = _numeric_names(samples)
     arrays = {n: samples[n].to_numpy(dtype=float) for n in names}
     by_row = np.ascontiguousarray(samples[names].to_numpy(dtype=float).T)
     lines = samples["source_line"].to_numpy() if "source_line" in samples else np.zeros(len(time))
-    core = set(_tolerances(samples, settings))
+    core = set(_tolerances(samples, settings, signals))
     speed = _speed_name(samples)
     out = []
     for t0, t1, flags, label, included in rows:
