@@ -44,7 +44,7 @@ from __future__ import annotations
 import enum
 import string
 from collections.abc import Iterable, Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from types import MappingProxyType
 
 Value = float | int | str | None
@@ -95,6 +95,13 @@ class Subject:
 
 
 # --------------------------------------------------------------------------- the catalogue
+# Shared pieces of the shim's verdicts.
+_MOVE = ("raise the {location} attach points by {thickness_in:.3f} in / {thickness_mm:.2f} mm "
+         "(or lower the {other} ones by the same)")
+_CUT = "Tilt the stabilizer leading edge {direction} by {change_abs_deg:.2f} deg: " + _MOVE + (
+    ". Nearest stock: ")
+_CUT_END = " = {stock_in:.3f} in / {stock_mm:.2f} mm ({stock_change_abs_deg:.2f} deg)."
+
 #: Code -> message template (``str.format`` syntax).  A template may name any
 #: key of the finding's ``values`` and any field of its subject that is set.
 #: Keep one section per layer; add new codes at the end of your section.
@@ -119,8 +126,45 @@ _TEMPLATES: dict[str, str] = {
     # ---- stability
     "stability.unconverted": "{text}",
     # ---- incidence
-    "incidence.unconverted": "{text}",
     "incidence.no_recommendation": "no incidence recommendation: {reason}",
+    "incidence.tau.unconverted": "{text}",
+    "incidence.elevator_beyond_linear": (
+        "the elevator at cruise ({elevator_deg:+.1f} deg) is beyond the ~{limit_deg:g} deg where "
+        "tau is near its linear value; the change may be underestimated: make it in steps and "
+        "re-fly"),
+    "incidence.summary": (
+        "Elevator at cruise (CL {cruise_cl:.2f}, CG {cruise_cg_pct_mac:.1f} %MAC): "
+        "{elevator_deg:+.2f} deg [{elevator_lo_deg:+.2f}, {elevator_hi_deg:+.2f}]. Incidence "
+        "change {change_deg:+.2f} deg [{change_lo_deg:+.2f}, {change_hi_deg:+.2f}] with tau "
+        "{tau:.2f} ({tau_source})."),
+    "incidence.shim.cut.inch_one": _CUT + "one {sheet_1_in:.3f} in sheet" + _CUT_END,
+    "incidence.shim.cut.inch_two": (
+        _CUT + "{sheet_1_in:.3f} + {sheet_2_in:.3f} in (two sheets stacked)" + _CUT_END),
+    "incidence.shim.cut.metric_one": _CUT + "one {sheet_1_mm:.1f} mm sheet" + _CUT_END,
+    "incidence.shim.cut.metric_two": (
+        _CUT + "{sheet_1_mm:.1f} + {sheet_2_mm:.1f} mm (two sheets stacked)" + _CUT_END),
+    "incidence.shim.residual": (
+        "Expected elevator at cruise after the shim: {residual_elevator_deg:+.2f} deg."),
+    "incidence.shim.none.interval_has_zero": (
+        "No change recommended: the computed change ({change_deg:+.2f} deg, " + _MOVE + ") has "
+        "a 95 % interval that includes zero; fly more cruise trim points to narrow it."),
+    "incidence.shim.none.interval_has_zero.no_shim": (
+        "No change recommended: the computed change ({change_deg:+.2f} deg, no shim) has a "
+        "95 % interval that includes zero; fly more cruise trim points to narrow it."),
+    "incidence.shim.none.too_thin": (
+        "No change recommended: the computed change ({change_deg:+.2f} deg, "
+        "{thickness_in:.3f} in / {thickness_mm:.2f} mm) is thinner than half the thinnest "
+        "practical shim."),
+    "incidence.shim.new_incidence": (
+        "Stabilizer incidence {new_incidence_deg:+.2f} deg to the waterline."),
+    "incidence.shim.unusual_incidence": (
+        "the stabilizer incidence would be {new_incidence_deg:+.2f} deg to the waterline, "
+        "outside the usual {low_deg:+g} to {high_deg:+g} deg of a small airplane (common "
+        "practice): re-check the rigging, the weight and CG, and the elevator calibration "
+        "before cutting"),
+    "incidence.shim.thicker_than_stock": (
+        "the shim ({thickness_in:.3f} in) is thicker than two stacked sheets of the largest "
+        "stock: make the change in steps and re-fly between them"),
     # ---- history
 }
 
@@ -213,6 +257,16 @@ class Finding:
         if show_config and s is not None and s.config:
             text = f"[{s.config}] {text}"
         return text
+
+    def about(self, **subject: str | int | None) -> Finding:
+        """A copy with subject fields set (e.g. ``about(config="clean")`` by the chain).
+
+        >>> f = finding("pipeline.no_points_in_log", Severity.NOTE).about(source="a.csv")
+        >>> f.subject
+        Subject(source='a.csv', flight=None, point=None, config=None, quantity=None)
+        """
+        base = self.subject if self.subject is not None else Subject()
+        return replace(self, subject=replace(base, **subject))
 
     def to_dict(self) -> dict[str, object]:
         """JSON-ready: ``code``, ``severity``, ``subject``, ``message``, ``values``."""

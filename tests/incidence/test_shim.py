@@ -51,8 +51,10 @@ def test_direction_trailing_edge_up_means_leading_edge_down():
     assert change.change_deg == pytest.approx(-1.0)
     assert change.ci95_deg[0] < -1.0 < change.ci95_deg[1] < 0.0
     cut = shim(change.change_deg, 14.0)
-    assert cut.location == "rear" and "raise the rear attach points" in cut.words
-    assert "leading edge down" in cut.words
+    assert cut.location == "rear"
+    assert cut.verdict[0].code.startswith("incidence.shim.cut.")
+    assert cut.verdict[0].values["location"] == "rear"
+    assert cut.verdict[0].values["direction"] == "down"  # leading edge down
 
 
 def test_direction_mirror_case():
@@ -61,7 +63,8 @@ def test_direction_mirror_case():
     change = incidence_change(2.0, (1.6, 2.4), 0.5, (0.45, 0.55))
     assert change.change_deg == pytest.approx(1.0)
     cut = shim(change.change_deg, 14.0)
-    assert cut.location == "front" and "raise the front attach points" in cut.words
+    assert cut.location == "front" and cut.verdict[0].values["location"] == "front"
+    assert cut.verdict[0].values["direction"] == "up"
 
 
 def test_incidence_change_interval_matches_delta_method_for_small_spreads():
@@ -110,6 +113,13 @@ def test_shim_rounding_and_residual_consistent():
     assert cut.stock_change_deg == pytest.approx(rounded_change)
     assert cut.residual_elevator_deg == pytest.approx(de - rounded_change / tau)
     assert cut.new_incidence_deg == pytest.approx(-1.0 + rounded_change)
+    said = cut.verdict[0]
+    assert said.code == "incidence.shim.cut.inch_two"
+    assert said.values["thickness_mm"] == pytest.approx(cut.thickness_in * 25.4)
+    assert (said.values["sheet_1_in"], said.values["sheet_2_in"]) == (0.020, 0.040)
+    assert [f.code for f in cut.verdict[1:]] == ["incidence.shim.residual",
+                                                 "incidence.shim.new_incidence"]
+    # the words, rendered once here from the catalogue
     assert "0.061 in / 1.55 mm" in cut.words and "0.020 + 0.040 in" in cut.words
 
 
@@ -118,6 +128,9 @@ def test_shim_stacks_two_sheets_and_metric():
     assert len(cut.stock_sheets) == 2 and abs(cut.stock_thickness_in - cut.thickness_in) < 0.004
     metric = shim(-0.6, 14.0, stock="metric")  # 3.72 mm -> 1.5 + 2.0 or 1.0 + 2.5 mm
     assert metric.stock_thickness_mm == pytest.approx(3.5)
+    assert metric.verdict[0].code == "incidence.shim.cut.metric_two"
+    one = shim(-0.2, 14.0, stock="metric")  # 1.24 mm -> one 1.0 mm sheet (nearer than 1.5)
+    assert one.verdict[0].code == "incidence.shim.cut.metric_one" and one.words
     with pytest.raises(TrimlogError, match="inch"):
         shim(-0.6, 14.0, stock="furlong")
 
@@ -125,16 +138,20 @@ def test_shim_stacks_two_sheets_and_metric():
 def test_no_change_recommended_when_tiny_or_uncertain():
     tiny = shim(-0.02, 14.0, elevator_cruise_deg=-0.04, tau=0.5)  # 0.005 in
     assert not tiny.recommended and tiny.stock_thickness_in == 0.0
-    assert "No change recommended" in tiny.words
+    assert tiny.verdict[0].code == "incidence.shim.none.too_thin"
     assert tiny.residual_elevator_deg == pytest.approx(-0.04)
     uncertain = shim(-0.5, 14.0, change_ci95_deg=(-1.1, 0.1))
-    assert not uncertain.recommended and "includes zero" in uncertain.words
+    assert not uncertain.recommended
+    assert uncertain.verdict[0].code == "incidence.shim.none.interval_has_zero"
 
 
 def test_new_incidence_outside_usual_range_warns():
     cut = shim(-1.5, 14.0, current_incidence_deg=-1.0)
-    assert cut.new_incidence_deg < -2.0 and any("usual" in w for w in cut.warnings)
-    assert not shim(-0.3, 14.0, current_incidence_deg=-1.0).warnings
+    assert cut.new_incidence_deg < -2.0
+    unusual = [f for f in cut.findings if f.code == "incidence.shim.unusual_incidence"]
+    assert unusual and unusual[0].values["new_incidence_deg"] == cut.new_incidence_deg
+    assert unusual[0].severity == "warning"
+    assert not shim(-0.3, 14.0, current_incidence_deg=-1.0).findings
 
 
 @given(
@@ -188,7 +205,10 @@ def test_recommendation_fills_json_contract():
     assert "rear" in block["shim_location"]
     assert rec.cautions[0] == cautions.ESTIMATE_STATEMENT
     assert set(cautions.INCIDENCE) <= set(rec.cautions)
-    assert "raise the rear attach points" in rec.words
+    assert rec.verdict[0].code == "incidence.summary"
+    assert rec.verdict[1].code.startswith("incidence.shim.cut.inch_")
+    assert rec.verdict[1].values["location"] == "rear"
+    assert block["words"] == rec.words and block["warnings"] == list(rec.warnings)
     for value in block.values():
         if isinstance(value, float):
             assert math.isfinite(value)
@@ -201,4 +221,4 @@ def test_recommendation_with_uncertain_change_says_none():
     )
     assert not rec.shim_recommended and rec.shim_location.startswith("none")
     assert rec.residual_elevator_deg == pytest.approx(-0.3)
-    assert "No change recommended" in rec.words
+    assert rec.verdict[1].code == "incidence.shim.none.interval_has_zero"

@@ -34,6 +34,7 @@ import pandas as pd
 
 from trimlog import cautions
 from trimlog.errors import TrimlogError
+from trimlog.findings import Finding, Severity, finding
 from trimlog.incidence.tau import TauChoice, TauSource, _finite
 from trimlog.input.profile import AircraftProfile
 from trimlog.physics import airspeed
@@ -171,8 +172,18 @@ class ShimResult:
     residual_elevator_deg: float | None
     current_incidence_deg: float | None
     new_incidence_deg: float | None
-    words: str
-    warnings: tuple[str, ...] = ()
+    verdict: tuple[Finding, ...]
+    findings: tuple[Finding, ...] = ()
+
+    @property
+    def words(self) -> str:
+        """The verdict in words (from the findings catalogue)."""
+        return " ".join(f.message for f in self.verdict)
+
+    @property
+    def warnings(self) -> tuple[str, ...]:
+        """The findings in words."""
+        return tuple(f.message for f in self.findings)
 
 
 def shim_thickness_in(change_deg: Any, spacing_in: float) -> Any:
@@ -222,12 +233,11 @@ def _stock_choices(stock: str) -> tuple[tuple[tuple[float, ...], float], ...]:
     return tuple(sorted(stacks, key=lambda item: (item[1], len(item[0]))))
 
 
-def _stock_text(sheets: tuple[float, ...], stock: str) -> str:
+def _stock_values(sheets: tuple[float, ...], stock: str) -> tuple[str, dict[str, float]]:
+    """Code suffix and sheet thicknesses (in the stock's unit) of a stack of one or two sheets."""
     unit = "in" if stock == "inch" else "mm"
-    fmt = "{:.3f}" if stock == "inch" else "{:.1f}"
-    if len(sheets) == 1:
-        return f"one {fmt.format(sheets[0])} {unit} sheet"
-    return " + ".join(fmt.format(s) for s in sheets) + f" {unit} (two sheets stacked)"
+    count = "one" if len(sheets) == 1 else "two"
+    return f"{stock}_{count}", {f"sheet_{i + 1}_{unit}": s for i, s in enumerate(sheets)}
 
 
 def shim(
@@ -282,7 +292,7 @@ def shim(
     change = _finite("change_deg", change_deg)
     exact_in = shim_thickness_in(change, spacing_in)
     spacing = float(spacing_in)
-    warnings: list[str] = []
+    found: list[Finding] = []
     sheets, stock_in = min(_stock_choices(stock), key=lambda item: abs(item[1] - exact_in))
     interval_has_zero = False
     if change_ci95_deg is not None:
@@ -307,53 +317,41 @@ def shim(
         new_incidence = _finite("current_incidence_deg", current_incidence_deg) + stock_change
         low, high = USUAL_INCIDENCE_RANGE_DEG
         if not low <= new_incidence <= high:
-            warnings.append(
-                f"the stabilizer incidence would be {new_incidence:+.2f} deg to the waterline, "
-                f"outside the usual {low:+g} to {high:+g} deg of a small airplane (common "
-                "practice): re-check the rigging, the weight and CG, and the elevator "
-                "calibration before cutting"
-            )
+            found.append(finding("incidence.shim.unusual_incidence", Severity.WARNING,
+                                 new_incidence_deg=new_incidence, low_deg=low, high_deg=high))
     top_in = _stock_choices(stock)[-1][1]
     if exact_in > top_in:
-        warnings.append(
-            f"the shim ({exact_in:.3f} in) is thicker than two stacked sheets of the largest "
-            "stock: make the change in steps and re-fly between them"
-        )
+        found.append(finding("incidence.shim.thicker_than_stock", Severity.WARNING,
+                             thickness_in=exact_in))
 
     exact_mm = exact_in * MM_PER_IN
-    direction = "down" if change < 0.0 else "up"
-    move = (
-        f"raise the {location} attach points by {exact_in:.3f} in / {exact_mm:.2f} mm "
-        f"(or lower the {'front' if location == 'rear' else 'rear'} ones by the same)"
-        if location else "no shim"
-    )
+    move = {"location": location, "other": "front" if location == "rear" else "rear",
+            "thickness_in": exact_in, "thickness_mm": exact_mm}
     if recommended:
-        words = (
-            f"Tilt the stabilizer leading edge {direction} by {abs(change):.2f} deg: {move}. "
-            f"Nearest stock: {_stock_text(sheets, stock)} = {stock_in:.3f} in / "
-            f"{stock_in * MM_PER_IN:.2f} mm ({abs(stock_change):.2f} deg)."
-        )
+        kind, sheet_values = _stock_values(sheets, stock)
+        verdict = [finding(f"incidence.shim.cut.{kind}", Severity.NOTE,
+                           direction="down" if change < 0.0 else "up", change_abs_deg=abs(change),
+                           **move, **sheet_values, stock_in=stock_in,
+                           stock_mm=stock_in * MM_PER_IN, stock_change_abs_deg=abs(stock_change))]
         if residual is not None:
-            words += f" Expected elevator at cruise after the shim: {residual:+.2f} deg."
+            verdict.append(finding("incidence.shim.residual", Severity.NOTE,
+                                   residual_elevator_deg=residual))
     elif interval_has_zero:
-        words = (
-            f"No change recommended: the computed change ({change:+.2f} deg, {move}) has a "
-            "95 % interval that includes zero; fly more cruise trim points to narrow it."
-        )
+        code = "incidence.shim.none.interval_has_zero" + ("" if location else ".no_shim")
+        verdict = [finding(code, Severity.CAUTION, change_deg=change, **move)]
     else:
-        words = (
-            f"No change recommended: the computed change ({change:+.2f} deg, {exact_in:.3f} in "
-            f"/ {exact_mm:.2f} mm) is thinner than half the thinnest practical shim."
-        )
+        verdict = [finding("incidence.shim.none.too_thin", Severity.NOTE, change_deg=change,
+                           thickness_in=exact_in, thickness_mm=exact_mm)]
     if new_incidence is not None:
-        words += f" Stabilizer incidence {new_incidence:+.2f} deg to the waterline."
+        verdict.append(finding("incidence.shim.new_incidence", Severity.NOTE,
+                               new_incidence_deg=new_incidence))
     return ShimResult(
         change_deg=change, spacing_in=spacing, thickness_in=exact_in, thickness_mm=exact_mm,
         location=location, stock=stock, stock_sheets=sheets, stock_thickness_in=stock_in,
         stock_thickness_mm=stock_in * MM_PER_IN, stock_change_deg=stock_change,
         recommended=recommended, residual_elevator_deg=residual,
         current_incidence_deg=current_incidence_deg, new_incidence_deg=new_incidence,
-        words=words, warnings=tuple(warnings),
+        verdict=tuple(verdict), findings=tuple(found),
     )
 
 
@@ -413,16 +411,36 @@ class IncidenceRecommendation:
     residual_elevator_deg: float
     current_incidence_deg: float | None
     new_incidence_deg: float | None
-    words: str
-    warnings: tuple[str, ...]
+    verdict: tuple[Finding, ...]
+    findings: tuple[Finding, ...]
     cautions: tuple[str, ...]
 
+    @property
+    def words(self) -> str:
+        """The recommendation in words (from the findings catalogue)."""
+        return " ".join(f.message for f in self.verdict)
+
+    @property
+    def warnings(self) -> tuple[str, ...]:
+        """The findings in words."""
+        return tuple(f.message for f in self.findings)
+
     def to_json(self) -> dict[str, Any]:
-        """Return the ``incidence`` block: the contract keys first, then the extras."""
-        return {
-            f.name: list(v) if isinstance(v := getattr(self, f.name), tuple) else v
-            for f in fields(self)
-        }
+        """Return the ``incidence`` block: the contract keys first, then the extras.
+
+        ``verdict`` and ``findings`` appear as their words, under the keys
+        ``words`` and ``warnings``.
+        """
+        out: dict[str, Any] = {}
+        for f in fields(self):
+            if f.name == "verdict":
+                out["words"] = self.words
+            elif f.name == "findings":
+                out["warnings"] = list(self.warnings)
+            else:
+                v = getattr(self, f.name)
+                out[f.name] = list(v) if isinstance(v, tuple) else v
+        return out
 
 
 def recommend_incidence(
@@ -482,25 +500,22 @@ def recommend_incidence(
         elevator_cruise_deg=de, tau=tau.tau, current_incidence_deg=current_incidence_deg,
         stock=stock,
     )
-    warnings = list(tau.notes) + list(cut.warnings)
+    found = [finding("incidence.tau.unconverted", Severity.CAUTION, text=n) for n in tau.notes]
+    found += cut.findings
     if abs(de) > LINEAR_DEFLECTION_LIMIT_DEG:
-        warnings.append(
-            f"the elevator at cruise ({de:+.1f} deg) is beyond the "
-            f"~{LINEAR_DEFLECTION_LIMIT_DEG:g} deg where tau is near its linear value; the "
-            "change may be underestimated: make it in steps and re-fly"
-        )
+        found.append(finding("incidence.elevator_beyond_linear", Severity.CAUTION,
+                             elevator_deg=de, limit_deg=LINEAR_DEFLECTION_LIMIT_DEG))
     if cut.location is None or not cut.recommended:
         location = "none (no change recommended)"
     elif cut.location == "rear":
         location = "rear attach points (leading edge down)"
     else:
         location = "front attach points (leading edge up)"
-    words = (
-        f"Elevator at cruise (CL {cl:.2f}, CG {cg:.1f} %MAC): {de:+.2f} deg "
-        f"[{de_ci[0]:+.2f}, {de_ci[1]:+.2f}]. Incidence change {change.change_deg:+.2f} deg "
-        f"[{change.ci95_deg[0]:+.2f}, {change.ci95_deg[1]:+.2f}] with tau {tau.tau:.2f} "
-        f"({tau.tau_source}). " + cut.words
-    )
+    summary = finding(
+        "incidence.summary", Severity.NOTE, cruise_cl=cl, cruise_cg_pct_mac=cg, elevator_deg=de,
+        elevator_lo_deg=de_ci[0], elevator_hi_deg=de_ci[1], change_deg=change.change_deg,
+        change_lo_deg=change.ci95_deg[0], change_hi_deg=change.ci95_deg[1], tau=tau.tau,
+        tau_source=tau.tau_source)
     return IncidenceRecommendation(
         cruise_cl=cl, cruise_cg_pct_mac=cg, elevator_at_cruise_deg=de,
         elevator_at_cruise_ci95_deg=de_ci, tau=tau.tau, tau_ci95=tau.ci95,
@@ -516,6 +531,6 @@ def recommend_incidence(
             cut.residual_elevator_deg if cut.residual_elevator_deg is not None else de
         ),
         current_incidence_deg=current_incidence_deg, new_incidence_deg=cut.new_incidence_deg,
-        words=words, warnings=tuple(warnings),
+        verdict=(summary, *cut.verdict), findings=tuple(found),
         cautions=(cautions.ESTIMATE_STATEMENT, *cautions.INCIDENCE),
     )

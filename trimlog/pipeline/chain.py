@@ -307,8 +307,7 @@ def analyze(
         found += [_text("stability.unconverted", Severity.CAUTION, w, subject)
                   for w in r.stability.warnings]
         if r.incidence is not None:
-            found += [_text("incidence.unconverted", Severity.CAUTION, w, subject)
-                      for w in r.incidence.warnings]
+            found += [f.about(config=r.config) for f in r.incidence.findings]
         elif r.incidence_reason:
             found.append(finding("incidence.no_recommendation", Severity.CAUTION, subject,
                                  reason=r.incidence_reason))
