@@ -125,6 +125,8 @@ _TEMPLATES: dict[str, str] = {
         "the headline results are for '{primary}'"),
     # ---- stability
     "stability.unconverted": "{text}",
+    "stability.maneuver.unconverted": "{text}",
+    "stability.maneuver.light_force": "{text}",
     # ---- incidence
     "incidence.no_recommendation": "no incidence recommendation: {reason}",
     "incidence.tau.unconverted": "{text}",

@@ -28,8 +28,10 @@ from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
 from trimlog.input.logs import LogRead, read_log
 from trimlog.input.profile import AircraftProfile
 from trimlog.input.profile import load_profile as load_profile
+from trimlog.pipeline.maneuvers import maneuvers_from_log
 from trimlog.pipeline.points import PointSettings, points_from_log
 from trimlog.pipeline.reduction import reduce_points
+from trimlog.stability import maneuver
 from trimlog.stability import neutral_points as stability
 from trimlog.stability import tail as tailgeometry
 from trimlog.stability.results import StabilityResult
@@ -55,6 +57,9 @@ class FlightData:
         The Points table of this flight.
     loading : LoadingSheet or None
         Takeoff loading and incidence setting, when a sheet was given.
+    maneuvers : DataFrame or None
+        The maneuvering points of this flight (the Points contract, flag
+        ``maneuver``); None: found from the log when analysed.
     """
 
     flight: str
@@ -63,6 +68,16 @@ class FlightData:
     log: LogRead
     points: pd.DataFrame
     loading: LoadingSheet | None = None
+    maneuvers: pd.DataFrame | None = None
+
+    def maneuvering_points(self) -> pd.DataFrame:
+        """The maneuvering points of this flight (found from the log when not given)."""
+        if self.maneuvers is not None:
+            return self.maneuvers
+        found = maneuvers_from_log(self.log, flight=self.flight)
+        found = found.loc[found["flight"].astype(str) == self.flight].reset_index(drop=True)
+        found["source"] = self.source
+        return found
 
     @property
     def samples(self) -> pd.DataFrame | None:
@@ -107,6 +122,9 @@ class Analysis:
         Every warning and verdict, typed (code, severity, subject, values);
         :mod:`trimlog.findings` puts them into words.
     cautions : tuple of str
+    maneuvering : ManeuverResult or None
+        Gradients per g and maneuver points; None when no maneuvering point
+        was found.
     """
 
     profile: AircraftProfile
@@ -118,6 +136,7 @@ class Analysis:
     findings: tuple[Finding, ...]
     cautions: tuple[str, ...] = field(default_factory=cautions.all_cautions)
     software_version: str = __version__
+    maneuvering: maneuver.ManeuverResult | None = None
 
     @property
     def identifiable(self) -> bool:
@@ -173,12 +192,19 @@ def load_flight_bytes(
     if loading is not None and loading.fuel_flow_gph is not None:
         _fuel_from_constant_flow(points, log, loading)
     digest = hashlib.sha256(raw).hexdigest()
+    turns = maneuvers_from_log(log, flight=stem)
+    turns["source"] = name
     flights = []
     for flight, part in points.groupby("flight", sort=False):
+        mine = turns.loc[turns["flight"].astype(str) == str(flight)].reset_index(drop=True)
         flights.append(FlightData(str(flight), name, digest, log,
-                                  part.reset_index(drop=True), loading))
+                                  part.reset_index(drop=True), loading, mine))
+    for flight, part in turns.groupby("flight", sort=False):
+        if str(flight) not in {f.flight for f in flights}:  # turns only, no trim point
+            flights.append(FlightData(str(flight), name, digest, log, points.iloc[0:0].copy(),
+                                      loading, part.reset_index(drop=True)))
     if not flights:
-        flights.append(FlightData(stem, name, digest, log, points, loading))
+        flights.append(FlightData(stem, name, digest, log, points, loading, turns))
     return flights
 
 
@@ -241,6 +267,8 @@ def analyze(
     *,
     exclusions: Iterable[tuple[str, int]] = (),
     inclusions: Iterable[tuple[str, int]] = (),
+    maneuver_exclusions: Iterable[tuple[str, int]] = (),
+    maneuver_inclusions: Iterable[tuple[str, int]] = (),
 ) -> Analysis:
     """Analyse a set of flights of one aircraft together.
 
@@ -256,6 +284,8 @@ def analyze(
     inclusions : iterable of (flight, point)
         Points to fit although trimlog left them out (a hold it flagged, or
         an elevator at a stop); they keep their flags.
+    maneuver_exclusions, maneuver_inclusions : iterable of (flight, point)
+        The same for the maneuvering points (numbered on their own).
 
     Returns
     -------
@@ -313,6 +343,14 @@ def analyze(
                                  reason=r.incidence_reason))
     measured = primary.stability.stick_fixed.neutral_point.pct_mac
     tail = tailgeometry.check_tail_geometry(profile, measured_neutral_point_pct_mac=measured)
+    maneuvering = _analyze_maneuvers(flights, profile, loadings, primary,
+                                     maneuver_exclusions, maneuver_inclusions)
+    if maneuvering is not None:
+        # A light or lightening stick force per g is a warning; the rest are cautions.
+        found += [_text("stability.maneuver.light_force", Severity.WARNING, w)
+                  if ("below the minimum" in w or "lightens" in w)
+                  else _text("stability.maneuver.unconverted", Severity.CAUTION, w)
+                  for w in maneuvering.warnings]
     return Analysis(
         profile=profile,
         flights=tuple(flights),
@@ -321,7 +359,35 @@ def analyze(
         others=others,
         tail=tail,
         findings=tuple(found),
+        maneuvering=maneuvering,
     )
+
+
+def _analyze_maneuvers(
+    flights: Sequence[FlightData],
+    profile: AircraftProfile,
+    loadings: dict[str, LoadingSheet],
+    primary: ConfigurationResult,
+    exclusions: Iterable[tuple[str, int]],
+    inclusions: Iterable[tuple[str, int]],
+) -> maneuver.ManeuverResult | None:
+    """Reduce the maneuvering points of every flight and analyse them (None without any)."""
+    frames = [m for m in (f.maneuvering_points() for f in flights) if len(m)]
+    exclusions, inclusions = list(exclusions), list(inclusions)
+    if not frames:
+        if exclusions or inclusions:
+            raise InputFileError("cannot choose maneuvering points: none was found")
+        return None
+    points = pd.concat(frames, ignore_index=True)
+    points["flight"] = points["flight"].astype(str)
+    table = maneuver.mark_off_speed(reduce_points(points, profile, loadings).points)
+    _set_included(table, exclusions, False)
+    _set_included(table, inclusions, True)
+    s = primary.stability
+    free = s.stick_free.neutral_point if s.stick_free is not None else None
+    return maneuver.analyze_maneuvering(table, profile,
+                                        neutral_fixed=s.stick_fixed.neutral_point,
+                                        neutral_free=free)
 
 
 def _check_unique(flights: Sequence[FlightData]) -> None:

@@ -68,8 +68,13 @@ views (a test checks that it and this table agree):
 ``incomplete``       a point-table row missing airspeed, altitude or elevator (excluded)
 ``too_slow``         a hold below min_airspeed_kt: on the ground or taxiing (excluded)
 ``at_stop``          elevator at a stop: not a free trim (excluded)
+``maneuver``         a maneuvering point: load factor held steady at 1.1 g or more
+``off_speed``        a maneuvering point away from its flight's turn speed (excluded)
 
 The analysis (:mod:`trimlog.pipeline.chain`) adds ``at_stop``; this module never does.
+The flags for maneuvering points (:mod:`trimlog.pipeline.maneuvers`,
+:mod:`trimlog.stability.maneuver`) are in the table too; a
+point-table row at 1.1 g or more is a maneuvering point, never a trim point.
 
 References
 ----------
@@ -96,8 +101,8 @@ from trimlog.input.headers import QUANTITIES, TEXT_COLUMNS
 from trimlog.input.logs import LogRead
 
 __all__ = [
-    "FLAG_TEXT", "PointSettings", "find_stabilized_points", "point_table_to_points",
-    "points_from_log",
+    "FLAG_TEXT", "MANEUVER_NZ_MIN_G", "PointSettings", "find_stabilized_points",
+    "point_table_to_points", "points_from_log", "split_point_table",
 ]
 
 #: Flag code -> one-line plain explanation, for every view of the Points table.
@@ -117,7 +122,13 @@ FLAG_TEXT: dict[str, str] = {
     "incomplete": "a point-table row missing airspeed, altitude or elevator (excluded)",
     "too_slow": "a hold below min_airspeed_kt: on the ground or taxiing (excluded)",
     "at_stop": "elevator at a stop: not a free trim (excluded)",
+    "maneuver": "a maneuvering point: load factor held steady at 1.1 g or more",
+    "off_speed": "a maneuvering point away from its flight's turn speed (excluded)",
 }
+
+#: Smallest load factor of a maneuvering point [g] ("above about 1.1 g").  A trim
+#: point is within ``PointSettings.nz_tol_g`` (0.1 g) of 1 g, so the two never meet.
+MANEUVER_NZ_MIN_G = 1.1
 
 _NO_MARK = frozenset({"", "0", "0.0", "false", "off", "no", "none", "nan"})
 _MAD_TO_SIGMA = 1.4826  # MAD of a normal sample times this estimates its sigma
@@ -216,7 +227,8 @@ def points_from_log(
         The Points contract of ``DEVELOPERS.md``.
     """
     if log.kind == "point_table":
-        return point_table_to_points(log.data, flight=flight)
+        # Rows at 1.1 g or more are maneuvering points (trimlog.pipeline.maneuvers), not trims.
+        return split_point_table(point_table_to_points(log.data, flight=flight))[0]
     return find_stabilized_points(log.data, flight=flight, settings=settings or PointSettings())
 
 
@@ -313,6 +325,33 @@ def point_table_to_points(samples: pd.DataFrame, *, flight: str = "1") -> pd.Dat
         out["flight"] = label
         frames.append(out)
     return _assemble(frames, samples)
+
+
+def split_point_table(table: pd.DataFrame) -> tuple[pd.DataFrame, pd.DataFrame]:
+    """Split a point table's points into trim points and maneuvering points.
+
+    Parameters
+    ----------
+    table : pandas.DataFrame
+        The Points table of a point table (:func:`point_table_to_points`).
+
+    Returns
+    -------
+    (pandas.DataFrame, pandas.DataFrame)
+        Trim points (``nz_g`` missing or below :data:`MANEUVER_NZ_MIN_G`) and
+        maneuvering points (flag ``maneuver`` added), each renumbered 1, 2, ...
+        within its flight in the table's order.
+    """
+    if "nz_g" not in table:
+        return table, table.iloc[0:0].copy()
+    turn = table["nz_g"].to_numpy(dtype=float) >= MANEUVER_NZ_MIN_G
+    trim = table.loc[~turn].reset_index(drop=True)
+    man = table.loc[turn].reset_index(drop=True)
+    man["flags"] = [_join(str(f), "maneuver") for f in man["flags"]]
+    for part in (trim, man):
+        if len(part):
+            part["point"] = part.groupby("flight", sort=False).cumcount() + 1
+    return trim, man
 
 
 # --------------------------------------------------------------------- helpers

@@ -73,8 +73,58 @@ def analysis_to_dict(analysis: Analysis) -> dict[str, Any]:
         "warnings": list(analysis.warnings),
         "findings": [f.to_dict() for f in analysis.findings],
         "cautions": list(analysis.cautions),
+        "maneuvering": maneuvering_dict(analysis.maneuvering),
     }
     return clean(payload)
+
+
+_MANEUVER_POINT_KEYS = ("flight", "point", "nz_g", "eas_kt", "elevator_deg", "stick_force_lbf",
+                        "cg_pct_mac", "t_start_s", "t_end_s", "included", "flags", "source")
+
+
+def maneuvering_dict(result: Any) -> dict[str, Any] | None:
+    """The ``maneuvering`` block (issue 14 contract keys first); None without maneuvering points."""
+    if result is None:
+        return None
+    frame = result.points[[c for c in _MANEUVER_POINT_KEYS if c in result.points.columns]].copy()
+    frame["included"] = frame["included"].astype(bool)
+    points = [clean(r) for r in
+              frame.astype(object).where(frame.notna(), None).to_dict(orient="records")]
+
+    def point(p: NeutralPoint | None) -> dict[str, Any] | None:
+        if p is None:
+            return None
+        out = neutral_point_dict(p)
+        out["method"] = ("two-stage: gradient per g (normalised) against CG, OLS over flights, "
+                         "Fieller 95 % interval")
+        return out
+
+    req = result.requirement
+    return {
+        "points": points,
+        "per_flight": [
+            {"flight": g.flight, "cg_pct_mac": g.cg_pct_mac,
+             "elevator_per_g_deg": g.elevator_per_g_deg,
+             "elevator_per_g_ci95_deg": g.elevator_per_g_ci95_deg,
+             "stick_force_per_g_lbf": g.stick_force_per_g_lbf,
+             "stick_force_per_g_ci95_lbf": g.stick_force_per_g_ci95_lbf,
+             "n_points": g.n_points, "nz_range": g.nz_range,
+             "eas_kt": g.eas_kt, "weight_lb": g.weight_lb,
+             "force_top_ratio": g.force_top_ratio, "lightening": g.lightening,
+             "reason": g.reason or None}
+            for g in result.gradients
+        ],
+        "maneuver_point": {"stick_fixed": point(result.stick_fixed),
+                           "stick_free": point(result.stick_free)},
+        "hm_minus_hn_pct_mac": result.hm_minus_hn_pct_mac,
+        "hm_free_minus_hn_free_pct_mac": result.hm_free_minus_hn_free_pct_mac,
+        "requirement": dataclasses.asdict(req),
+        "aft_limit_stick_force_per_g_lbf": result.aft_limit_force_per_g_lbf,
+        "aft_limit_stick_force_per_g_ci95_lbf": result.aft_limit_force_per_g_ci95_lbf,
+        "aft_cg_pct_mac": result.aft_cg_pct_mac,
+        "limited_by": result.limited_by or None,
+        "warnings": list(result.warnings),
+    }
 
 
 def points_records(points: pd.DataFrame) -> list[dict[str, Any]]:

@@ -1,0 +1,181 @@
+"""Finding maneuvering points: steady turns held at a constant load factor.
+
+A maneuvering point is a stretch of at least ``min_duration_s`` in which the
+load factor is held steady above :data:`MANEUVER_NZ_MIN_G` (a level turn, or
+one step of a wind-up turn flown in steps) while airspeed, elevator and stick
+force stay within their tolerances.  It is the complement of a trim point:
+:mod:`trimlog.pipeline.points` accepts a trim point only within ``nz_tol_g``
+of 1 g, so no stretch of a log is ever both.  A row of a typed point table
+with ``nz_g`` of at least :data:`MANEUVER_NZ_MIN_G` is a maneuvering point
+and not a trim point (:func:`split_point_table`).
+
+Method: the same binned, smoothed window test as the trim points (bins of
+medians, a running median, the range of each signal over a window), with the
+load factor as one more steady signal and the window's smallest load factor
+at least :data:`MANEUVER_NZ_MIN_G`.  Each window is summarised from the raw
+samples with the trim points' robust statistics and flags; a maneuvering
+point carries the flag ``maneuver`` instead of ``nz_off``.
+
+Steady pull-ups and push-overs hold their load factor for a second or two
+only; they are not found here (their load factor is not steady over a
+window long enough to average the noise).
+
+The Maneuvering-points table has the columns of the Points contract.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from trimlog.input.logs import LogRead
+from trimlog.pipeline import points as trim_points
+from trimlog.pipeline.points import MANEUVER_NZ_MIN_G, PointSettings, split_point_table
+
+__all__ = [
+    "MANEUVER_NZ_MIN_G", "MANEUVER_SETTINGS", "find_maneuvering_points", "maneuvers_from_log",
+    "split_point_table",
+]
+
+#: Detection settings of maneuvering points.  Shorter holds than a trim point
+#: (a wind-up step is flown for 10-20 s) and a little more room for airspeed
+#: and force, which are harder to hold in a turn (common practice, no source).
+MANEUVER_SETTINGS = PointSettings(
+    min_duration_s=6.0, ias_tol_kt=3.0, elevator_tol_deg=0.6, force_tol_lbf=2.0, nz_tol_g=0.1,
+)
+
+
+def maneuvers_from_log(
+    log: LogRead, *, flight: str = "1", settings: PointSettings | None = None
+) -> pd.DataFrame:
+    """Return the maneuvering points of a log as read, whichever its kind.
+
+    Parameters
+    ----------
+    log : LogRead
+        From :func:`trimlog.input.logs.read_log`.
+    flight : str, optional
+        Flight label where the log has no ``flight`` column.
+    settings : PointSettings, optional
+        Detection settings (default :data:`MANEUVER_SETTINGS`).
+
+    Returns
+    -------
+    pandas.DataFrame
+        The Points contract, one row per maneuvering point (possibly none).
+    """
+    if log.kind == "point_table":
+        table = trim_points.point_table_to_points(log.data, flight=flight)
+        return split_point_table(table)[1]
+    return find_maneuvering_points(log.data, flight=flight, settings=settings)
+
+
+def find_maneuvering_points(
+    samples: pd.DataFrame, *, flight: str = "1", settings: PointSettings | None = None
+) -> pd.DataFrame:
+    """Find the steady turns of a time-series log.
+
+    Parameters
+    ----------
+    samples : pandas.DataFrame
+        The Samples contract (``LogRead.data``).  Without ``time_s`` (a point
+        table) see :func:`split_point_table`; without ``nz_g`` no turn can be
+        told from a trim point and the table is empty.
+    flight : str, optional
+        Flight label where there is no ``flight`` column.
+    settings : PointSettings, optional
+        Detection settings (default :data:`MANEUVER_SETTINGS`); ``nz_tol_g``
+        is the largest range of the smoothed load factor within a point.
+
+    Returns
+    -------
+    pandas.DataFrame
+        One row per maneuvering point, the Points contract, flag ``maneuver``.
+
+    Examples
+    --------
+    >>> import numpy as np, pandas as pd
+    >>> t = np.arange(0.0, 60.0, 0.1)
+    >>> nz = np.where((t > 20) & (t < 40), 1.5, 1.0)
+    >>> s = pd.DataFrame({"time_s": t, "ias_kt": 100.0, "pressure_alt_ft": 5000.0,
+    ...                   "elevator_deg": 2.0 - 3.0 * (nz - 1.0), "nz_g": nz})
+    >>> found = find_maneuvering_points(s)
+    >>> len(found), round(float(found["nz_g"].iloc[0]), 2)
+    (1, 1.5)
+    """
+    settings = settings or MANEUVER_SETTINGS
+    if "time_s" not in samples:
+        return split_point_table(trim_points.point_table_to_points(samples, flight=flight))[1]
+    trim_points._check_columns(samples)
+    frames = []
+    if "nz_g" in samples and samples["nz_g"].notna().any():
+        frames = [
+            _maneuvers_of_flight(piece, label, settings)
+            for label, part in trim_points._by_flight(samples, flight)
+            for piece in trim_points._split_at_long_gaps(part, settings)
+        ]
+    return trim_points._assemble(frames, samples)
+
+
+def _maneuvers_of_flight(
+    samples: pd.DataFrame, flight: str, settings: PointSettings
+) -> pd.DataFrame:
+    samples = samples[np.isfinite(samples["time_s"].to_numpy(dtype=float))]
+    time = samples["time_s"].to_numpy(dtype=float)
+    steps = np.diff(time)
+    positive = steps[steps > 0] if len(time) > 2 else steps[:0]
+    if not len(positive) or (steps < 0).any():
+        # Too short, or out of order: the trim-point search reports the order error.
+        return pd.DataFrame()
+    bin_s = max(settings.bin_s, float(np.median(positive)))
+    tolerances = trim_points._tolerances(samples, settings)
+    tolerances["nz_g"] = settings.nz_tol_g
+    k = np.floor((time - time[0]) / bin_s).astype(np.int64)
+    n_bins = int(k[-1]) + 1
+    binned = samples[list(tolerances)].groupby(k).median().reindex(range(n_bins))
+    smooth_bins = max(3, int(round(settings.smooth_s / bin_s)) | 1)
+    smooth = binned.rolling(smooth_bins, center=True, min_periods=1).median()
+    half = max(1, int(round(settings.min_duration_s / bin_s)) // 2)
+    window = 2 * half + 1
+    min_periods = int(np.ceil(0.8 * window))
+    steady = np.ones(n_bins, dtype=bool)
+    for name, tol in tolerances.items():
+        rolling = smooth[name].rolling(window, center=True, min_periods=min_periods)
+        spread = (rolling.max() - rolling.min()).to_numpy()
+        steady &= np.nan_to_num(spread, nan=np.inf) <= tol
+    low = smooth["nz_g"].rolling(window, center=True, min_periods=min_periods).min().to_numpy()
+    steady &= np.nan_to_num(low, nan=-np.inf) >= MANEUVER_NZ_MIN_G
+    values = smooth[list(tolerances)].to_numpy()
+    tol = np.array(list(tolerances.values()))
+    rows = []
+    for a, b in _spans(trim_points._runs(steady), half, n_bins):
+        a, b = trim_points._trim_edges(values[a : b + 1], tol, a)
+        if b - a + 1 >= window:
+            rows.append((time[0] + a * bin_s, time[0] + (b + 1) * bin_s, "maneuver", "", True))
+    out = trim_points._summaries(samples, rows, flight, settings)
+    if len(out):
+        # Every maneuvering point is off 1 g by design: its flag is "maneuver", not "nz_off".
+        out["flags"] = [
+            ";".join(f for f in str(flags).split(";") if f and f != "nz_off")
+            for flags in out["flags"]
+        ]
+        if "event" not in samples:
+            out = out.drop(columns=["event"])
+    return out
+
+
+def _spans(runs: list[tuple[int, int]], half: int, n_bins: int) -> list[tuple[int, int]]:
+    """Widen each run of steady centres by half a window, never into its neighbour's.
+
+    Unlike the trim points' merge, two runs stay two points: the steps of a
+    wind-up turn are joined by transitions shorter than a window, and each
+    step is its own load factor.  Where the widened runs would meet they are
+    cut halfway between; the edge trimming then drops the transition's tail.
+    """
+    spans = [(max(first - half, 0), min(last + half, n_bins - 1)) for first, last in runs]
+    for i in range(1, len(spans)):
+        if spans[i][0] <= spans[i - 1][1]:
+            cut = (runs[i - 1][1] + runs[i][0]) // 2
+            spans[i - 1] = (spans[i - 1][0], cut)
+            spans[i] = (cut + 1, spans[i][1])
+    return spans
