@@ -29,10 +29,24 @@ CODE = re.compile(r"^[a-z][a-z0-9_]*(\.[a-z0-9_]+)+$")
 SUBJECT_FIELDS = {"source", "flight", "point", "config", "quantity"}
 
 
-def _creators(call: ast.Call) -> bool:
-    func = call.func
-    name = func.id if isinstance(func, ast.Name) else getattr(func, "attr", "")
-    return name.lower().endswith("finding") or name == "_text"
+def _creators(tree: ast.Module) -> set[str]:
+    """Names that create a :class:`trimlog.findings.Finding` in a module.
+
+    ``Finding`` and ``finding`` as imported from :mod:`trimlog.findings` (under
+    any alias), and the module's own helpers whose first parameter is
+    ``code`` when the module imports from :mod:`trimlog.findings`.  A module's
+    unrelated class that happens to be called ``Finding`` is not one.
+    """
+    names = set()
+    for node in ast.walk(tree):
+        if isinstance(node, ast.ImportFrom) and node.module == "trimlog.findings":
+            names |= {a.asname or a.name for a in node.names if a.name in ("Finding", "finding")}
+    if names:
+        for node in ast.walk(tree):
+            if (isinstance(node, ast.FunctionDef) and node.args.args
+                    and node.args.args[0].arg == "code"):
+                names.add(node.name)
+    return names
 
 
 def _codes(node: ast.expr) -> list[str]:
@@ -49,8 +63,10 @@ def _calls():
         if path.name == "findings.py" and path.parent == PACKAGE:
             continue
         tree = ast.parse(path.read_text(encoding="utf-8"), str(path))
+        creators = _creators(tree)
         for node in ast.walk(tree):
-            if isinstance(node, ast.Call) and _creators(node) and node.args:
+            if (isinstance(node, ast.Call) and isinstance(node.func, ast.Name)
+                    and node.func.id in creators and node.args):
                 for code in _codes(node.args[0]):
                     yield f"{path.relative_to(PACKAGE.parent)}:{node.lineno}", code, node
 
