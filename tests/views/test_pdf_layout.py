@@ -32,3 +32,38 @@ def test_long_paragraph_wraps_within_the_page_width():
     lines = [t for t in _texts(page) if t.startswith("stabilized")]
     assert len(lines) > 10
     assert max(len(line) for line in lines) < 120
+
+
+def _pdf(blocks):
+    import io
+
+    from pypdf import PdfReader
+
+    from trimlog.views.pdf_layout import save_pdf
+
+    buf = io.BytesIO()
+    save_pdf(render_pdf(blocks, "foot"), buf, "t")
+    return buf.getvalue(), "\n".join(p.extract_text() for p in PdfReader(buf).pages)
+
+
+def _negative_plot():
+    from trimlog.views.pdf_layout import Plot
+
+    def draw(fig, rect):
+        ax = fig.add_axes(rect)
+        ax.plot([-3.0, 1.0], [-2.0, 2.0], label="flight A")
+        ax.legend()
+
+    return Plot("Signs", draw, "negative ticks")
+
+
+def test_plain_text_is_set_in_the_core_fonts_with_ascii_minus_signs():
+    raw, text = _pdf([Heading("Report", 0), Para("elevator -1.2 deg"), _negative_plot()])
+    assert b"/Helvetica" in raw and b"FontFile2" not in raw  # nothing embedded
+    assert "-2" in text and "?" not in text  # a tick label's minus is not replaced
+
+
+def test_characters_outside_the_core_fonts_keep_the_embedded_font():
+    raw, text = _pdf([Heading("Żuraw, flight Ω", 0), Para("τ estimated"), _negative_plot()])
+    assert b"FontFile2" in raw  # TrueType embedded
+    assert "Żuraw" in text and "Ω" in text and "τ" in text
