@@ -20,6 +20,7 @@ from pathlib import Path
 
 from trimlog import __version__
 from trimlog.errors import TrimlogError
+from trimlog.progress import SILENT, Progress, TerminalProgress
 
 EXIT_OK, EXIT_REFUSED, EXIT_BAD_INPUT = 0, 1, 2
 
@@ -285,20 +286,20 @@ def _write_json(path: str, payload: object) -> None:
         raise TrimlogError(f"{path}: cannot write the JSON result: {exc.strerror}") from None
 
 
-def _load_inputs(args: argparse.Namespace):  # -> (profile, flights)
+def _load_inputs(args: argparse.Namespace, progress: Progress = SILENT):  # -> (profile, flights)
     from trimlog.pipeline import chain as analysis
 
     profile = analysis.load_profile(args.aircraft)
     loading_overrides = _parse_pairs(args.loading, "--loading", "LOG=SHEET", "=")
     flights = []
-    for number, log in enumerate(args.logs, start=1):
-        _progress(f"reading {log} ({number}/{len(args.logs)})")
+    for log in args.logs:
         flights.extend(
             analysis.load_flight_file(
                 log,
                 profile,
                 loading_path=loading_overrides.get(log),
                 min_hold_s=args.min_hold,
+                progress=progress,
             )
         )
     return profile, flights
@@ -330,9 +331,11 @@ def _run_analyze(args: argparse.Namespace) -> int:
     from trimlog.pipeline import chain as analysis
     from trimlog.views import terminal as summary
 
-    profile, flights = _load_inputs(args)
-    _progress("fitting")
-    result = analysis.analyze(flights, profile, exclusions=_exclusions(args.exclude))
+    # reading and points per file, then the fits: a bar on a terminal's stderr
+    with TerminalProgress(2 * len(args.logs) + 1) as progress:
+        profile, flights = _load_inputs(args, progress)
+        result = analysis.analyze(flights, profile, exclusions=_exclusions(args.exclude),
+                                  progress=progress)
     if args.json:
         from trimlog.views.json_export import analysis_to_dict
 
@@ -397,16 +400,18 @@ def _run_report(args: argparse.Namespace) -> int:
     from trimlog.pipeline import chain as analysis
     from trimlog.views import report
 
-    if args.db:
-        result, trend = _history_analysis(args.db, args.aircraft_name)
-    else:
-        if not args.logs or not args.aircraft:
-            raise TrimlogError("report: give LOG files with --aircraft, or --db DB")
-        profile, flights = _load_inputs(args)
-        result = analysis.analyze(flights, profile, exclusions=_exclusions(args.exclude))
-        trend = None
-    _progress("drawing the report")
-    path = report.write_report(result, args.output, trend=trend)
+    with TerminalProgress(2 * len(args.logs or ()) + 1) as progress:
+        if args.db:
+            progress.step("reading", args.db)
+            result, trend = _history_analysis(args.db, args.aircraft_name)
+        else:
+            if not args.logs or not args.aircraft:
+                raise TrimlogError("report: give LOG files with --aircraft, or --db DB")
+            profile, flights = _load_inputs(args, progress)
+            result = analysis.analyze(flights, profile, exclusions=_exclusions(args.exclude),
+                                      progress=progress)
+            trend = None
+        path = report.write_report(result, args.output, trend=trend, progress=progress)
     print(f"report written to {path}")
     return EXIT_OK if result.identifiable else EXIT_REFUSED
 

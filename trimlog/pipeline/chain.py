@@ -31,6 +31,7 @@ from trimlog.input.profile import load_profile as load_profile
 from trimlog.pipeline.maneuvers import maneuvers_from_log
 from trimlog.pipeline.points import PointSettings, points_from_log
 from trimlog.pipeline.reduction import reduce_points
+from trimlog.progress import SILENT, Progress
 from trimlog.stability import maneuver
 from trimlog.stability import neutral_points as stability
 from trimlog.stability import tail as tailgeometry
@@ -160,6 +161,7 @@ def load_flight_bytes(
     *,
     loading: LoadingSheet | None = None,
     min_hold_s: float | None = None,
+    progress: Progress = SILENT,
 ) -> list[FlightData]:
     """Read one log or point table given as bytes and find its points.
 
@@ -176,16 +178,20 @@ def load_flight_bytes(
         Takeoff loading for logs without weight and CG per row.
     min_hold_s : float, optional
         Minimum duration of a stabilized point [s].
+    progress : trimlog.progress.Progress, optional
+        Told as reading and point finding start (shows nothing by default).
 
     Returns
     -------
     list of FlightData
         One per flight in the file (a ``flight`` column may hold several).
     """
+    progress.step("reading", name)
     log = read_log(raw, name=name, column_map=profile.column_map,
                    inverted=profile.inverted_columns)
     settings = PointSettings() if min_hold_s is None else PointSettings(min_duration_s=min_hold_s)
     stem = Path(name).name.split(".")[0] or name
+    progress.step("points", name)
     points = points_from_log(log, flight=stem, settings=settings)
     points["source"] = name
     _exclude_points_at_a_stop(points, profile)
@@ -236,6 +242,7 @@ def load_flight_file(
     *,
     loading_path: str | Path | None = None,
     min_hold_s: float | None = None,
+    progress: Progress = SILENT,
 ) -> list[FlightData]:
     """Read a log file (and its loading sheet) and find its points.
 
@@ -249,7 +256,8 @@ def load_flight_file(
         raise InputFileError(f"cannot read the file: {exc.strerror}", file=str(path)) from None
     sheet_path = Path(loading_path) if loading_path else sibling_sheet(path)
     sheet = read_loading_sheet(sheet_path) if sheet_path is not None else None
-    return load_flight_bytes(raw, str(path), profile, loading=sheet, min_hold_s=min_hold_s)
+    return load_flight_bytes(raw, str(path), profile, loading=sheet, min_hold_s=min_hold_s,
+                             progress=progress)
 
 
 def sibling_sheet(path: Path) -> Path | None:
@@ -269,6 +277,7 @@ def analyze(
     inclusions: Iterable[tuple[str, int]] = (),
     maneuver_exclusions: Iterable[tuple[str, int]] = (),
     maneuver_inclusions: Iterable[tuple[str, int]] = (),
+    progress: Progress = SILENT,
 ) -> Analysis:
     """Analyse a set of flights of one aircraft together.
 
@@ -300,6 +309,7 @@ def analyze(
     if not flights:
         raise InputFileError("no flights given: expected at least one log or point table")
     _check_unique(flights)
+    progress.step("fits")
     frames = [f.points for f in flights if len(f.points)]
     if not frames:
         names = ", ".join(sorted({f.source for f in flights}))

@@ -18,6 +18,7 @@ report behind.
 from __future__ import annotations
 
 import base64
+import dataclasses
 import datetime as dt
 import errno
 import html
@@ -34,6 +35,7 @@ from matplotlib.figure import Figure
 from trimlog import cautions
 from trimlog.errors import TrimlogError
 from trimlog.incidence.shim import shim_thickness_in
+from trimlog.progress import SILENT, Progress
 from trimlog.views import plots
 from trimlog.views.json_export import analysis_to_dict
 from trimlog.views.pdf_layout import Break, Heading, Para, Plot, Table, render_pdf, save_pdf
@@ -552,8 +554,23 @@ def _check_target(path: Path) -> None:
                            "not exist")
 
 
+def _announcing(blocks: list[Any], progress: Progress) -> list[Any]:
+    """The blocks, each figure telling ``progress`` as it is drawn."""
+    plots_ = [b for b in blocks if isinstance(b, Plot)]
+    progress.expect(len(plots_) + 1)  # the figures, then the pages
+
+    def announced(block: Plot) -> Plot:
+        def draw(fig: Figure, rect: tuple[float, float, float, float]) -> Any:
+            progress.step("figures", block.title)
+            return block.draw(fig, rect)
+        return dataclasses.replace(block, draw=draw)
+
+    return [announced(b) if isinstance(b, Plot) else b for b in blocks]
+
+
 def write_report(analysis: Analysis, path: str | os.PathLike[str], *,
-                 trend: Sequence[Mapping[str, Any]] | Any | None = None) -> Path:
+                 trend: Sequence[Mapping[str, Any]] | Any | None = None,
+                 progress: Progress = SILENT) -> Path:
     """Write the flight-test report of an analysis.
 
     Parameters
@@ -566,6 +583,8 @@ def write_report(analysis: Analysis, path: str | os.PathLike[str], *,
     trend : sequence of mappings, or an object with ``records()``, optional
         The neutral point after each successive flight (the records of
         :func:`trimlog.views.plots.neutral_point_trend`); adds the trend figure.
+    progress : trimlog.progress.Progress, optional
+        Told as each figure is drawn and as the pages are written.
 
     Returns
     -------
@@ -583,14 +602,16 @@ def write_report(analysis: Analysis, path: str | os.PathLike[str], *,
     records = trend.records() if hasattr(trend, "records") else trend
     now = dt.datetime.now(dt.UTC)
     generated = now.strftime("%Y-%m-%d %H:%M UTC")
-    blocks = report_blocks(analysis, records, generated)
+    blocks = _announcing(report_blocks(analysis, records, generated), progress)
     title = f"trimlog flight-test report: {analysis.profile.name}"
     footer = (f"trimlog {analysis.software_version} | {analysis.profile.name} | "
               f"generated {generated}")
     if path.suffix.lower() in (".html", ".htm"):
         data = _render_html(blocks, title, footer).encode("utf-8")
+        progress.step("pages", path.name)
         _atomic_write(path, lambda fh: fh.write(data))
     else:
         pages = render_pdf(blocks, footer)
+        progress.step("pages", f"{len(pages)} pages")
         _atomic_write(path, lambda fh: save_pdf(pages, fh, title))
     return path
