@@ -108,8 +108,43 @@ _CUT_END = " = {stock_in:.3f} in / {stock_mm:.2f} mm ({stock_change_abs_deg:.2f}
 _TEMPLATES: dict[str, str] = {
     # ---- input: reading the files (mostly reading notes)
     "input.profile.unconverted": "{text}",
-    "input.log.unconverted": "{text}",
     "input.log.values_not_used": "{total} value(s) or line(s) not used: {reasons}",
+    "input.log.no_oat": "no outside air temperature column: ISA temperature will be assumed",
+    "input.log.no_stick_force": "no stick force column: no stick-free (force) result is possible",
+    "input.log.duplicate_times": (
+        "{count} duplicated time stamp(s) in '{header}' (lines {lines}); rows kept"),
+    "input.log.time_gaps": (
+        "{count} gap(s) in the time stamps, longest {longest_s:.3g} s after line {after_line}; "
+        "gaps after lines {lines}"),
+    "input.log.uneven_sampling": (
+        "uneven sampling: {fraction:.0%} of intervals differ from the median {median_s:.3g} s "
+        "by more than 25 % (range {min_s:.3g}-{max_s:.3g} s)"),
+    "input.log.glitches_blanked": (
+        "WARNING: {count} implausible sample(s) of {quantity} outside the plausible range "
+        "{low:g}...{high:g} {unit} at line(s) {lines} were blanked as sensor glitches; check "
+        "the logger"),
+    "input.log.constant_column": (
+        "column '{header}' ({quantity}) is constant at {value:g} over all {rows} rows: sensor "
+        "unplugged or not logged?"),
+    "input.log.cp1252": (
+        "the file is not UTF-8; read it as Windows code page 1252 (check degree signs and "
+        "accented letters in the headers)"),
+    "input.log.preamble_skipped": (
+        "skipped {count} line(s) before the header (metadata preamble, lines 1-{count})"),
+    "input.log.columns_not_understood": (
+        "columns not understood, kept out of the analysis: {headers} (map them in the "
+        "profile's [logger] columns to use them)"),
+    "input.log.columns_ignored": "columns ignored as the column map says: {headers}",
+    "input.log.unit_assumed": "'{header}' has no unit; assumed {unit}",
+    "input.log.sign_inverted": (
+        "'{header}' ({quantity}) sign inverted, as the aircraft profile declares"),
+    "input.log.not_inverted_standard_name": (
+        "'{header}' ({quantity}) NOT sign inverted although the aircraft profile declares it "
+        "inverted: the inversion applies only to logger columns named in the profile's "
+        "[logger] columns map, and this header is a standard name, taken to follow the "
+        "package's sign convention (map the header in [logger] columns if this is the "
+        "logger's channel)"),
+    "input.log.inverted_not_in_file": "'{quantity}' is declared inverted but is not in the file",
     # ---- pipeline: the chain
     "pipeline.no_points_in_log": "no stabilized point found in this log",
     "pipeline.reduction.unconverted": "{text}",

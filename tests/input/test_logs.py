@@ -27,6 +27,11 @@ CANONICAL_7 = [
 ]
 
 
+def _found(log, code):
+    """The log's findings with this code."""
+    return [f for f in log.findings if f.code == code]
+
+
 def read(name: str, **kwargs) -> LogRead:
     return read_log(LOGS / name, **kwargs)
 
@@ -119,7 +124,7 @@ def test_comma_file_is_a_time_series(comma):
     assert list(comma.data.columns) == CANONICAL_7 + ["source_line"]
     assert len(comma.data) == comma.n_rows_read == 40
     assert comma.data["source_line"].tolist() == list(range(2, 42))
-    assert comma.warnings == ()
+    assert comma.findings == ()
     assert comma.dropped == ()
     assert comma.source == "comma.csv"
     assert all(c.conversion == "none" and not c.inverted for c in comma.columns)
@@ -135,7 +140,8 @@ def test_tab_bom_and_preamble_give_the_same_numbers(comma, name):
 
 def test_preamble_is_skipped_and_said(comma):
     log = read("preamble.csv")
-    assert any("skipped 5 line(s) before the header" in w for w in log.warnings)
+    assert _found(log, "input.log.preamble_skipped")[0].values["count"] == 5
+    assert _found(log, "input.log.preamble_skipped")[0].severity == "note"  # a reading note
     assert log.data["source_line"].iloc[0] == 7
 
 
@@ -195,10 +201,9 @@ def test_iso_8601_time_stamps():
 def test_uneven_sampling_and_gap_are_warned_with_where():
     log = read("uneven_gaps.csv")
     assert log.kind == "time_series"
-    text = " ".join(log.warnings)
-    assert "1 gap(s) in the time stamps" in text
-    assert "after line 26" in text
-    assert "uneven sampling" in text
+    (gap,) = _found(log, "input.log.time_gaps")
+    assert gap.values["count"] == 1 and gap.values["after_line"] == 26
+    assert _found(log, "input.log.uneven_sampling")
 
 
 def test_dropouts_are_counted_per_column_with_lines():
@@ -219,8 +224,8 @@ def test_single_spike_is_left_alone():
 
 def test_constant_column_is_warned():
     log = read("constant_column.csv")
-    assert any("'stick_force_lbf'" in w and "constant at 0" in w and "unplugged" in w
-               for w in log.warnings)
+    assert any(f.subject.quantity == "stick_force_lbf" and f.values["value"] == 0
+               for f in _found(log, "input.log.constant_column"))
 
 
 def test_time_going_backwards_is_an_error_naming_the_line():
@@ -241,7 +246,8 @@ def test_time_backwards_is_fine_across_flights():
 def test_duplicated_time_stamp_is_a_warning_with_line():
     log = read("time_duplicated.csv")
     assert len(log.data) == 40
-    assert any("1 duplicated time stamp(s)" in w and "lines 14" in w for w in log.warnings)
+    (dup,) = _found(log, "input.log.duplicate_times")
+    assert dup.values["count"] == 1 and dup.values["lines"] == "14"
 
 
 def test_header_only():
@@ -302,7 +308,7 @@ def test_huge_file_reads_completely(tmp_path):
     assert log.data["source_line"].iloc[-1] == n + 1
     assert [d.lines for d in log.dropped] == [(1002,)]
     np.testing.assert_allclose(log.data["time_s"], t, atol=1e-4)
-    assert any("constant at 4500" in w for w in log.warnings)
+    assert any(f.values["value"] == 4500 for f in _found(log, "input.log.constant_column"))
 
 
 # --------------------------------------------------------------------- values and checks
@@ -317,7 +323,9 @@ def test_implausible_value_in_point_table_is_an_error():
 def test_isolated_implausible_sample_in_time_series_is_blanked_loudly():
     log = read("implausible_glitch.csv")
     assert np.isnan(log.data.loc[log.data["source_line"] == 19, "elevator_deg"]).all()
-    assert any(w.startswith("WARNING: 1 implausible sample") and "19" in w for w in log.warnings)
+    (glitch,) = _found(log, "input.log.glitches_blanked")
+    assert glitch.values["count"] == 1 and glitch.values["lines"] == "19"
+    assert glitch.severity == "warning" and glitch.subject.quantity == "elevator_deg"
     assert any("blanked" in d.reason and d.lines == (19,) for d in log.dropped)
 
 
@@ -360,9 +368,7 @@ def test_missing_airspeed_lists_columns():
 
 def test_optional_columns_missing_are_warned():
     log = read_log(b"ias_kt,palt_ft,elevator_deg\n100,4500,-3\n", name="t.csv")
-    text = " ".join(log.warnings)
-    assert "ISA temperature will be assumed" in text
-    assert "no stick-free" in text
+    assert _found(log, "input.log.no_oat") and _found(log, "input.log.no_stick_force")
 
 
 def test_not_a_number_cells_are_counted():
@@ -427,7 +433,7 @@ def test_line_with_extra_fields_is_dropped_and_counted():
 
 def test_windows_code_page_file():
     log = read("cp1252.csv")
-    assert any("code page 1252" in w for w in log.warnings)
+    assert _found(log, "input.log.cp1252")
     assert {c.canonical for c in log.columns} >= {"oat_c", "elevator_deg"}
 
 
@@ -442,9 +448,8 @@ def test_column_map_and_inverted_elevator(comma):
     np.testing.assert_allclose(log.data["elevator_deg"], comma.data["elevator_deg"], atol=1e-9)
     by = {c.canonical: c for c in log.columns}
     assert by["elevator_deg"].inverted and by["elevator_deg"].header == "ELEV_POS"
-    text = " ".join(log.warnings)
-    assert "sign inverted" in text
-    assert "'RPM'" in text and "ignored as the column map says" in text
+    assert _found(log, "input.log.sign_inverted")[0].values["header"] == "ELEV_POS"
+    assert "'RPM'" in _found(log, "input.log.columns_ignored")[0].values["headers"]
 
 
 # The logger's airspeed and altitude channels, which logger_names.csv does not name by itself.
@@ -457,8 +462,9 @@ def test_inversion_skips_a_column_under_its_canonical_name(comma):
     log = read("comma.csv", inverted=("elevator_deg",))
     np.testing.assert_array_equal(log.data["elevator_deg"], comma.data["elevator_deg"])
     assert not {c.canonical: c for c in log.columns}["elevator_deg"].inverted
-    note = [w for w in log.warnings if "NOT sign inverted" in w]
-    assert len(note) == 1 and "'elevator_deg'" in note[0] and "[logger] columns" in note[0]
+    note = _found(log, "input.log.not_inverted_standard_name")
+    assert len(note) == 1 and note[0].subject.quantity == "elevator_deg"
+    assert "[logger] columns" in note[0].message  # the message says how to fix it
 
 
 def test_inversion_skips_a_synonym_that_is_not_in_the_column_map(comma):
@@ -469,10 +475,10 @@ def test_inversion_skips_a_synonym_that_is_not_in_the_column_map(comma):
     for name in ("elevator_deg", "stick_force_lbf"):
         np.testing.assert_array_equal(log.data[name], plain.data[name])
     assert not any(c.inverted for c in log.columns)
-    text = " ".join(log.warnings)
-    assert "'ELEV_POS' (elevator_deg) NOT sign inverted" in text
-    assert "'FORCE_N' (stick_force_lbf) NOT sign inverted" in text
-    assert "sign inverted, as the aircraft profile declares" not in text
+    assert {(f.values["header"], f.subject.quantity)
+            for f in _found(log, "input.log.not_inverted_standard_name")} == {
+        ("ELEV_POS", "elevator_deg"), ("FORCE_N", "stick_force_lbf")}
+    assert not _found(log, "input.log.sign_inverted")
 
 
 def test_inversion_applies_to_a_mapped_column_only(comma):
@@ -484,14 +490,15 @@ def test_inversion_applies_to_a_mapped_column_only(comma):
     np.testing.assert_array_equal(log.data["stick_force_lbf"], plain.data["stick_force_lbf"])
     by = {c.canonical: c for c in log.columns}
     assert by["elevator_deg"].inverted and not by["stick_force_lbf"].inverted
-    text = " ".join(log.warnings)
-    assert "'ELEV_POS' (elevator_deg) sign inverted, as the aircraft profile declares" in text
-    assert "'FORCE_N' (stick_force_lbf) NOT sign inverted" in text
+    assert [f.values["header"] for f in _found(log, "input.log.sign_inverted")] == ["ELEV_POS"]
+    assert [f.values["header"] for f in _found(log, "input.log.not_inverted_standard_name")] == [
+        "FORCE_N"]
 
 
 def test_unknown_columns_are_listed_not_silently_dropped():
     log = read("logger_names.csv", column_map={"AS_IND": "ias_kt", "ALT_BARO": "palt_ft"})
-    assert any("not understood" in w and "'RPM'" in w and "'TEMP_OUT'" in w for w in log.warnings)
+    (unknown,) = _found(log, "input.log.columns_not_understood")
+    assert "'RPM'" in unknown.values["headers"] and "'TEMP_OUT'" in unknown.values["headers"]
     assert "RPM" not in log.data
 
 

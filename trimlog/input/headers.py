@@ -34,6 +34,7 @@ import numpy as np
 import pandas as pd
 
 from trimlog.errors import InputFileError, UnitError
+from trimlog.findings import Finding, Severity, Subject, Value, finding
 from trimlog.input.units import Q_, parse_unit, unit_factor
 
 
@@ -451,11 +452,17 @@ class Dropped(NamedTuple):
 
 
 class Notes:
-    """Warnings and dropped counts collected while reading one file."""
+    """Findings and dropped counts collected while reading one file."""
 
     def __init__(self) -> None:
-        self.warnings: list[str] = []
+        self.findings: list[Finding] = []
         self.dropped: list[Dropped] = []
+
+    def add(self, code: str, severity: Severity, quantity: str | None = None,
+            **values: Value) -> None:
+        """Record a finding about the file (``quantity``: the canonical column concerned)."""
+        subject = Subject(quantity=quantity) if quantity else None
+        self.findings.append(finding(code, severity, subject, **values))
 
     def drop(self, reason: str, lines: np.ndarray) -> None:
         """Record ``len(lines)`` rows or cells dropped for ``reason`` (nothing if none)."""
@@ -590,9 +597,9 @@ def require_columns(
                 line=header_line + 1,
             )
     if "oat_c" not in names:
-        notes.warnings.append("no outside air temperature column: ISA temperature will be assumed")
+        notes.add("input.log.no_oat", Severity.CAUTION, "oat_c")
     if purpose == "trim" and "stick_force_lbf" not in names:
-        notes.warnings.append("no stick force column: no stick-free (force) result is possible")
+        notes.add("input.log.no_stick_force", Severity.CAUTION, "stick_force_lbf")
 
 
 def conversion_text(meaning: HeaderMeaning) -> str:
@@ -747,10 +754,8 @@ def check_time(
         )
     dup = np.flatnonzero(steps == 0) + 1
     if len(dup):
-        notes.warnings.append(
-            f"{len(dup)} duplicated time stamp(s) in '{header}' (lines {lines_text(lines[dup])}); "
-            "rows kept"
-        )
+        notes.add("input.log.duplicate_times", Severity.NOTE, "time_s", count=len(dup),
+                  header=header, lines=lines_text(lines[dup]))
     good = steps[np.isfinite(steps) & (steps > 0)]
     if not len(good):
         return
@@ -758,16 +763,13 @@ def check_time(
     gap = np.flatnonzero(steps > max(5.0 * median, 1.0))
     if len(gap):
         longest = int(gap[np.argmax(steps[gap])])
-        notes.warnings.append(
-            f"{len(gap)} gap(s) in the time stamps, longest {steps[longest]:.3g} s after line "
-            f"{lines[longest]}; gaps after lines {lines_text(lines[gap])}"
-        )
+        notes.add("input.log.time_gaps", Severity.CAUTION, "time_s", count=len(gap),
+                  longest_s=float(steps[longest]), after_line=int(lines[longest]),
+                  lines=lines_text(lines[gap]))
     uneven = np.mean(np.abs(good - median) > 0.25 * median)
     if uneven > 0.1:
-        notes.warnings.append(
-            f"uneven sampling: {uneven:.0%} of intervals differ from the median {median:.3g} s "
-            f"by more than 25 % (range {good.min():.3g}-{good.max():.3g} s)"
-        )
+        notes.add("input.log.uneven_sampling", Severity.NOTE, "time_s", fraction=float(uneven),
+                  median_s=median, min_s=float(good.min()), max_s=float(good.max()))
 
 
 def check_plausible(
@@ -799,10 +801,8 @@ def check_plausible(
         if kind == "time_series" and isolated:
             values[bad] = np.nan
             notes.drop(f"implausible value in '{headers[name]}' ({where}) blanked", lines[bad])
-            notes.warnings.append(
-                f"WARNING: {len(bad)} implausible sample(s) of {name} {where} at line(s) "
-                f"{lines_text(lines[bad])} were blanked as sensor glitches; check the logger"
-            )
+            notes.add("input.log.glitches_blanked", Severity.WARNING, name, count=len(bad),
+                      low=low, high=high, unit=unit, lines=lines_text(lines[bad]))
             continue
         i = int(bad[0])
         raise InputFileError(
@@ -825,7 +825,5 @@ def check_constant(
             continue
         finite = values[np.isfinite(values)]
         if len(finite) >= minimum_rows and finite.min() == finite.max():
-            notes.warnings.append(
-                f"column '{headers[name]}' ({name}) is constant at {finite[0]:g} over all "
-                f"{len(finite)} rows: sensor unplugged or not logged?"
-            )
+            notes.add("input.log.constant_column", Severity.CAUTION, name, header=headers[name],
+                      value=float(finite[0]), rows=len(finite))

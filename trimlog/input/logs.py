@@ -71,6 +71,7 @@ import numpy as np
 import pandas as pd
 
 from trimlog.errors import InputFileError, TrimlogError
+from trimlog.findings import Finding, Severity
 from trimlog.input.headers import (
     NA_TOKENS,
     NUMBER,
@@ -155,8 +156,9 @@ class LogRead:
         The file name as given.
     columns : tuple of ColumnInfo
         How each used column was understood.
-    warnings : tuple of str
-        Everything the user should know about the file.
+    findings : tuple of Finding
+        Everything the user should know about the file (``warnings`` gives
+        them in words).
     dropped : tuple of Dropped
         Every dropped or blanked row or cell, counted, with line numbers.
     n_rows_read : int
@@ -168,9 +170,14 @@ class LogRead:
     kind_reason: str
     source: str
     columns: tuple[ColumnInfo, ...]
-    warnings: tuple[str, ...]
+    findings: tuple[Finding, ...]
     dropped: tuple[Dropped, ...]
     n_rows_read: int
+
+    @property
+    def warnings(self) -> tuple[str, ...]:
+        """The findings in words (from the catalogue)."""
+        return tuple(f.message for f in self.findings)
 
 
 @dataclass(frozen=True)
@@ -246,10 +253,7 @@ def _encoding(raw: bytes, label: str, notes: Notes) -> str:
         encoding = "utf-8-sig"
     except UnicodeDecodeError:
         encoding = "cp1252"
-        notes.warnings.append(
-            "the file is not UTF-8; read it as Windows code page 1252 (check degree signs "
-            "and accented letters in the headers)"
-        )
+        notes.add("input.log.cp1252", Severity.NOTE)
     text = head.decode(encoding, errors="replace").lstrip("\ufeff \t\r\n")
     first = text[:1]
     if first == "<":
@@ -310,9 +314,7 @@ def _sniff(raw: bytes, encoding: str, label: str, notes: Notes) -> _Layout:
     _, delimiter, header, width = best
     headers = [h.strip() for h in split_fields(lines[header], delimiter)]
     if header > 0:
-        notes.warnings.append(
-            f"skipped {header} line(s) before the header (metadata preamble, lines 1-{header})"
-        )
+        notes.add("input.log.preamble_skipped", Severity.NOTE, count=header)
     units = [""] * width
     data_start = header + 1
     if data_start < len(lines):
@@ -536,15 +538,11 @@ def read_log(
             )
     require_columns(found, layout.headers, layout.header_line, label, notes, purpose)
     if unknown:
-        notes.warnings.append(
-            "columns not understood, kept out of the analysis: "
-            + ", ".join(f"'{h}'" for h in unknown)
-            + " (map them in the profile's [logger] columns to use them)"
-        )
+        notes.add("input.log.columns_not_understood", Severity.CAUTION,
+                  headers=", ".join(f"'{h}'" for h in unknown))
     if ignored:
-        notes.warnings.append(
-            "columns ignored as the column map says: " + ", ".join(f"'{h}'" for h in ignored)
-        )
+        notes.add("input.log.columns_ignored", Severity.NOTE,
+                  headers=", ".join(f"'{h}'" for h in ignored))
 
     frame, lines, last_line = _parse(raw, layout, found, label, notes)
     n_rows_read = len(frame) + sum(d.count for d in notes.dropped)
@@ -592,7 +590,7 @@ def read_log(
         kind_reason=reason,
         source=label,
         columns=tuple(sorted(infos, key=lambda c: order.index(c.canonical))),
-        warnings=tuple(notes.warnings),
+        findings=tuple(notes.findings),
         dropped=tuple(notes.dropped),
         n_rows_read=n_rows_read,
     )
@@ -630,28 +628,22 @@ def _convert(
             if conversion != "none":
                 values = values * meaning.scale + meaning.offset
             if meaning.unit_assumed:
-                notes.warnings.append(f"'{header}' has no unit; assumed {meaning.unit_text}")
+                notes.add("input.log.unit_assumed", Severity.CAUTION, canonical, header=header,
+                          unit=meaning.unit_text)
         # The profile's inversion describes the logger's own channels: a column
         # under a standard name follows the package's sign convention by contract.
         flip = canonical in inverted and meaning.from_map
         if flip:
             values = -values
-            notes.warnings.append(
-                f"'{header}' ({canonical}) sign inverted, as the aircraft profile declares"
-            )
+            notes.add("input.log.sign_inverted", Severity.NOTE, canonical, header=header)
         elif canonical in inverted:
-            notes.warnings.append(
-                f"'{header}' ({canonical}) NOT sign inverted although the aircraft profile "
-                "declares it inverted: the inversion applies only to logger columns named in "
-                "the profile's [logger] columns map, and this header is a standard name, "
-                "taken to follow the package's sign convention (map the header in "
-                "[logger] columns if this is the logger's channel)"
-            )
+            notes.add("input.log.not_inverted_standard_name", Severity.WARNING, canonical,
+                      header=header)
         data[canonical] = values
         infos.append(ColumnInfo(header, canonical, unit, conversion, flip))
     for canonical in inverted:
         if canonical not in data:
-            notes.warnings.append(f"'{canonical}' is declared inverted but is not in the file")
+            notes.add("input.log.inverted_not_in_file", Severity.CAUTION, canonical)
     return data, missing, headers, infos
 
 

@@ -453,8 +453,7 @@ def _reading_findings(flights: Sequence[FlightData]) -> list[Finding]:
             continue
         seen_logs.add(id(f.log))
         source = Subject(source=f.source)
-        found += [_text("input.log.unconverted", Severity.CAUTION, w, source)
-                  for w in f.log.warnings]
+        found += [x.about(source=f.source) for x in f.log.findings]
         dropped = [d for d in f.log.dropped if d.count]
         if dropped:
             found.append(finding(
