@@ -207,14 +207,18 @@ def test_weight_and_cg_follow_the_package_fuel_burn(flight, profile):
 def test_point_table_reads_with_typed_values_near_the_truth(flight, profile):
     log = _read(flight, profile)
     assert log.kind == "point_table"
-    truth = truth_points(flight)
-    assert len(log.data) == len(truth) == flight.n_points == 8
+    # The card's trim points, then one typed row per step of the wind-up turn.
+    truth = pd.concat([truth_points(flight), truth_points(flight, maneuvers=True)],
+                      ignore_index=True)
+    assert len(log.data) == len(truth) == flight.n_points + flight.n_windup_steps == 12
     assert log.data["ias_kt"].between(60, 130).all()
     # typed readings: 0.15 deg reading error + 0.1 deg rounding; 0.4 lbf + 0.5 lbf steps
     np.testing.assert_allclose(log.data["elevator_deg"], truth["elevator_deg"], atol=0.6)
     np.testing.assert_allclose(log.data["stick_force_lbf"], truth["stick_force_lbf"], atol=1.5)
     np.testing.assert_allclose(log.data["cg_in"], truth["cg_in"], atol=0.25)
-    assert log.data["weight_lb"].is_monotonic_decreasing
+    # the g-meter read to 0.05 g after 0.02 g of reading error
+    np.testing.assert_allclose(log.data["nz_g"], truth["nz_g"], atol=0.1)
+    assert log.data["weight_lb"].iloc[:8].is_monotonic_decreasing
 
 
 @pytest.mark.parametrize("flight", LOGGED, ids=lambda f: f"flight{f.number}")
@@ -386,3 +390,47 @@ def test_sample_logs_give_neutral_points_with_credible_intervals():
         low, high = result[key]["ci95_pct_mac"]
         assert low < truth < high, key
         assert 0.5 < 0.5 * (high - low) < 2.0, key
+
+
+# ---------------------------------------------------------------- maneuvering (issue 14)
+
+
+def test_the_holds_keep_their_noise_when_the_wind_up_turn_is_added(profile):
+    # The wind-up turn draws its own noise: the samples before it are those of a flight
+    # without it (written by the same writer from the programme cut before the turn).
+    import dataclasses
+
+    from trimlog.demo import files, model
+
+    flight = DEMO_TRUTH.flights[1]
+    short = dataclasses.replace(flight, segments=flight.segments[: flight.windup_from])
+    dt = model._sample_interval(flight)
+    args = (dt, model.DEMO_PROFILE, np.random.default_rng([model.DEFAULT_SEED, flight.number]))
+    without = files.time_series_csv(short, model._smooth_state(short, dt, DEMO_TRUTH),
+                                    model._hold_error_series(short, model.DEFAULT_SEED), *args)
+    shipped = (SAMPLE_LOGS / flight.log_file).read_text(encoding="utf-8").splitlines()
+    lines = without.splitlines()
+    last_hold = max(k for k, s in enumerate(flight.segments) if s.kind == "hold")
+    state = model._smooth_state(flight, dt, DEMO_TRUTH)
+    through = int(np.searchsorted(state["seg"], last_hold + 1))  # samples up to the last hold
+    head = 3  # preamble and header lines
+    assert shipped[: head + through] == lines[: head + through]
+
+
+def test_demo_maneuver_points_cover_the_model(profile):
+    # The demo model leaves out pitch damping, so hm = hn and hm' = hn' (model truth).
+    from trimlog.pipeline import chain
+
+    flights = []
+    for f in DEMO_TRUTH.flights:
+        flights += chain.load_flight_file(SAMPLE_LOGS / f.log_file, profile)
+    result = chain.analyze(flights, profile).maneuvering
+    assert result is not None and len(result.gradients) == 5
+    assert all(g.n_points >= 4 for g in result.gradients)
+    fixed, free = result.stick_fixed, result.stick_free
+    assert fixed.identifiable and free.identifiable
+    assert fixed.ci95_pct_mac[0] <= 100 * DEMO_TRUTH.neutral_point_fixed <= fixed.ci95_pct_mac[1]
+    assert free.ci95_pct_mac[0] <= 100 * DEMO_TRUTH.neutral_point_free <= free.ci95_pct_mac[1]
+    # The most aft flight (30 %MAC) is light in stick force per g: a warning.
+    assert any("below the minimum" in w for w in result.warnings)
+

@@ -34,6 +34,8 @@ from trimlog.demo.model import (
     HOLD_FORCE_SD_LBF,
     PROFILE_FILE,
     PROFILE_TOML,
+    WINDUP_STEP_S,
+    WINDUP_STEPS_G,
     DemoFlight,
     DemoTruth,
     _hold_error_series,
@@ -91,7 +93,9 @@ def _table(header: list[str], columns: list[list[str]], preamble: list[str]) -> 
     return "\n".join(lines) + "\n"
 
 
-def point_table_csv(flight: DemoFlight, points: pd.DataFrame, rng: np.random.Generator) -> str:
+def point_table_csv(flight: DemoFlight, points: pd.DataFrame, rng: np.random.Generator,
+                    turns: pd.DataFrame | None = None,
+                    turns_rng: np.random.Generator | None = None) -> str:
     """Write the hand-typed card of a point-table flight, rounded as a pilot types it.
 
     Parameters
@@ -102,20 +106,43 @@ def point_table_csv(flight: DemoFlight, points: pd.DataFrame, rng: np.random.Gen
         Its noise-free points (:func:`trimlog.demo.model.truth_points`).
     rng : numpy.random.Generator
         The flight's noise generator; the reading error is drawn from it.
+    turns : pandas.DataFrame, optional
+        Noise-free steps of its wind-up turn (``truth_points(..., maneuvers=True)``),
+        typed after the points with the load factor read off the g-meter.
+    turns_rng : numpy.random.Generator, optional
+        The reading error of the turns, so that the points keep theirs.
 
     Returns
     -------
     str
         The CSV text.
     """
-    pts = points
+    columns = _typed_rows(points, rng, "TP", 1)
+    header = ["test_point", "ias_kt", "pressure_alt_ft", "oat_c", "ELEV_POS",
+              "stick_force_lbf", "weight_lb", "cg_in", "flap_deg"]
+    if turns is not None and len(turns) and turns_rng is not None:
+        more = _typed_rows(turns, turns_rng, "WT", 1)
+        g_meter = turns["nz_g"].to_numpy() + 0.02 * turns_rng.standard_normal(len(turns))
+        columns = [a + b for a, b in zip(columns, more, strict=True)]
+        columns.append(["1.00"] * len(points) + _cells(g_meter, 2, 0.05))
+        header.append("nz_g")
+    preamble = [f"Tinkerfinch TF-2 DEMO-1 (invented demo aircraft): flight {flight.number}, "
+                f"forward CG, typed from the knee-board card"]
+    return _table(header, columns, preamble)
+
+
+def _typed_rows(pts: pd.DataFrame, rng: np.random.Generator, prefix: str,
+                first: int) -> list[list[str]]:
+    """The typed columns of a card's rows, with reading error from ``rng``."""
     n = len(pts)
 
     def read(column: str, sigma: float) -> np.ndarray:
         return pts[column].to_numpy() + sigma * rng.standard_normal(n)
 
-    columns = [
-        [f"TP{k}" for k in pts["point"]],
+    # The elevator is typed as the panel indicator shows it: the logger's channel,
+    # trailing-edge up positive, under the logger's name (see the profile's [logger]).
+    return [
+        [f"{prefix}{k}" for k in range(first, first + n)],
         _cells(read("ias_kt", 0.3), 0, 1.0),
         _cells(read("pressure_alt_ft", 8.0), 0, 10.0),
         _cells(read("oat_c", 0.4), 0, 1.0),
@@ -125,18 +152,12 @@ def point_table_csv(flight: DemoFlight, points: pd.DataFrame, rng: np.random.Gen
         _cells(read("cg_in", 0.04), 1),
         ["0"] * n,
     ]
-    # The elevator is typed as the panel indicator shows it: the logger's channel,
-    # trailing-edge up positive, under the logger's name (see the profile's [logger]).
-    header = ["test_point", "ias_kt", "pressure_alt_ft", "oat_c", "ELEV_POS",
-              "stick_force_lbf", "weight_lb", "cg_in", "flap_deg"]
-    preamble = [f"Tinkerfinch TF-2 DEMO-1 (invented demo aircraft): flight {flight.number}, "
-                f"forward CG, typed from the knee-board card"]
-    return _table(header, columns, preamble)
 
 
 def time_series_csv(flight: DemoFlight, state: Mapping[str, np.ndarray],
                     held: Mapping[str, np.ndarray], dt: float, profile: AircraftProfile,
-                    rng: np.random.Generator) -> str:
+                    rng: np.random.Generator,
+                    windup_rng: np.random.Generator | None = None) -> str:
     """Write the demo logger's file: hold error, turbulence, noise, spikes, dropouts.
 
     Parameters
@@ -155,14 +176,43 @@ def time_series_csv(flight: DemoFlight, state: Mapping[str, np.ndarray],
         The demo profile (its position-error table gives the logged IAS).
     rng : numpy.random.Generator
         The flight's noise generator.
+    windup_rng : numpy.random.Generator, optional
+        Noise of the appended wind-up turn (from ``flight.windup_from``), so
+        that the samples before it draw exactly what they drew without it.
 
     Returns
     -------
     str
         The CSV text, in the logger's own units and channel names.
     """
-    p = profile
     s = state
+    cut = s["t"].size
+    if flight.windup_from is not None and windup_rng is not None:
+        cut = int(np.searchsorted(s["seg"], flight.windup_from))
+    parts = [({k: np.asarray(v)[:cut] for k, v in s.items() if np.ndim(v)},
+              {k: np.asarray(v)[:cut] for k, v in held.items()}, rng)]
+    if cut < s["t"].size:
+        parts.append(({k: np.asarray(v)[cut:] for k, v in s.items() if np.ndim(v)},
+                      {k: np.asarray(v)[cut:] for k, v in held.items()}, windup_rng))
+    pieces = [_noisy_channels(a, b, dt, profile, g) for a, b, g in parts]
+    channels = {name: np.concatenate([c[name] for c in pieces]) for name in pieces[0]}
+    resolution = {"IAS (mph)": (1, None), "PALT (ft)": (0, 1.0), "OAT (C)": (1, None),
+                  "ELEV_POS": (2, None), "FSTK": (1, None), "NZ (g)": (3, None),
+                  "VSI (fpm)": (0, 10.0), "FUEL_QTY (gal)": (1, None)}
+    time_decimals = 1 if dt >= 0.1 else 2
+    columns = [_cells(s["t"], time_decimals)]
+    columns += [_cells(values, *resolution[name]) for name, values in channels.items()]
+    preamble = [
+        "DEMO-LOG (invented logger) session export",
+        f"aircraft: DEMO-1 Tinkerfinch TF-2 (invented); flight {flight.number}; "
+        f"{flight.sample_rate_hz:g} Hz",
+    ]
+    return _table(["Time (s)", *channels], columns, preamble)
+
+
+def _noisy_channels(s: Mapping[str, np.ndarray], held: Mapping[str, np.ndarray], dt: float,
+                    p: AircraftProfile, rng: np.random.Generator) -> dict[str, np.ndarray]:
+    """The logger's channels of one stretch of flight, with its noise drawn from ``rng``."""
     n = s["t"].size
     white = rng.standard_normal
     cas = s["cas"] + _ar1(rng, n, 0.3, 1.5, dt)
@@ -185,18 +235,7 @@ def time_series_csv(flight: DemoFlight, state: Mapping[str, np.ndarray],
     _spikes(rng, channels["FSTK"], 1 / 60, dt, 30.0, 70.0)
     for values in channels.values():
         _dropouts(rng, values, 1 / 150, dt)
-    resolution = {"IAS (mph)": (1, None), "PALT (ft)": (0, 1.0), "OAT (C)": (1, None),
-                  "ELEV_POS": (2, None), "FSTK": (1, None), "NZ (g)": (3, None),
-                  "VSI (fpm)": (0, 10.0), "FUEL_QTY (gal)": (1, None)}
-    time_decimals = 1 if dt >= 0.1 else 2
-    columns = [_cells(s["t"], time_decimals)]
-    columns += [_cells(values, *resolution[name]) for name, values in channels.items()]
-    preamble = [
-        "DEMO-LOG (invented logger) session export",
-        f"aircraft: DEMO-1 Tinkerfinch TF-2 (invented); flight {flight.number}; "
-        f"{flight.sample_rate_hz:g} Hz",
-    ]
-    return _table(["Time (s)", *channels], columns, preamble)
+    return channels
 
 
 def loading_sheet_toml(flight: DemoFlight) -> str:
@@ -311,10 +350,16 @@ weight and CG through the flight follow the logged fuel quantity.  Each logged
 flight holds {t.flights[1].n_points} stabilized points of 20-30 s (level holds, an
 off-trim climb at +450 ft/min and an off-trim descent at -550 ft/min at fixed power)
 joined by speed changes, and flies {t.flights[1].n_turns} level turns at 30-40 deg bank that
-are not points.  The logger (see `[logger]` in `{profile_file}`) writes airspeed in mph,
-stick force in newtons under `FSTK`, and the elevator trailing-edge up positive
-under `ELEV_POS`; the files carry turbulence, sensor noise, single-sample spikes
-and short dropouts (empty cells).
+are not trim points.  After the last hold each logged flight flies a wind-up turn at its
+trim speed in {t.flights[1].n_windup_steps} steps of {WINDUP_STEP_S:.0f} s at
+{", ".join(f"{n:g}" for n in WINDUP_STEPS_G)} g: with the level turns at trim speed these
+are the maneuvering points (elevator and stick force per g, the maneuver points).  The
+demo model leaves out pitch damping, so its maneuver points equal its neutral points
+(stick fixed {100 * t.neutral_point_fixed:.0f} %MAC, stick free
+{100 * t.neutral_point_free:.0f} %MAC).  The logger (see `[logger]` in `{profile_file}`)
+writes airspeed in mph, stick force in newtons under `FSTK`, and the elevator
+trailing-edge up positive under `ELEV_POS`; the files carry turbulence, sensor noise,
+single-sample spikes and short dropouts (empty cells).
 
 No point is flown exactly at trim: each logged hold carries its own offset of
 elevator (standard deviation {hold_elevator_sd_deg:g} deg) and stick force
@@ -368,12 +413,14 @@ def write_demo(directory: Path, *, seed: int = DEFAULT_SEED) -> list[Path]:
     for flight in DEMO_TRUTH.flights:
         rng = np.random.default_rng([seed, flight.number])
         if flight.kind == "point_table":
-            texts[flight.log_file] = point_table_csv(flight, truth_points(flight), rng)
+            texts[flight.log_file] = point_table_csv(
+                flight, truth_points(flight), rng, truth_points(flight, maneuvers=True),
+                np.random.default_rng([seed, flight.number, 2]))
         else:
             dt = _sample_interval(flight)
             texts[flight.log_file] = time_series_csv(
                 flight, _smooth_state(flight, dt, DEMO_TRUTH), _hold_error_series(flight, seed),
-                dt, DEMO_PROFILE, rng)
+                dt, DEMO_PROFILE, rng, np.random.default_rng([seed, flight.number, 2]))
             texts[flight.loading_file] = loading_sheet_toml(flight)
     texts["README.md"] = readme(
         seed, DEMO_TRUTH, DEMO_PROFILE, profile_file=PROFILE_FILE, shim_deg=_SHIM_DEG,

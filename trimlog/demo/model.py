@@ -173,11 +173,12 @@ class Segment:
 
     Parameters
     ----------
-    kind : {"move", "hold", "turn"}
+    kind : {"move", "hold", "turn", "windup"}
         ``move``: change speed and vertical speed smoothly (a transition);
         ``hold``: a stabilized point (level, or an off-trim climb or descent
         at fixed power when ``vs_fpm`` is not zero); ``turn``: a level turn at
-        constant speed.
+        constant speed; ``windup``: one step of a wind-up turn, rolling from
+        the previous step's bank to ``bank_deg`` and holding it level.
     duration_s : float
         Duration [s] (for a point table: time to the next point).
     ias_kt : float
@@ -224,7 +225,8 @@ class DemoFlight:
     sample_rate_hz : float or None
         Logging rate of a time series [Hz].
     segments : tuple of Segment
-        The programme flown, in order.
+        The programme flown, in order.  A logged flight ends with a wind-up
+        turn in steps (segments of kind ``windup``), flown after every hold.
     """
 
     number: int
@@ -249,6 +251,21 @@ class DemoFlight:
     def n_turns(self) -> int:
         """Level turns flown (nz away from 1, never a point)."""
         return sum(s.kind == "turn" for s in self.segments)
+
+    @property
+    def n_windup_steps(self) -> int:
+        """Steps of the wind-up turn at the end of a logged flight (maneuvering points)."""
+        return sum(s.kind == "windup" and s.bank_deg > 0.0 for s in self.segments)
+
+    @property
+    def windup_from(self) -> int | None:
+        """Index of the first segment of the appended wind-up turn (None without one).
+
+        The wind-up turn, the speed change into it and the roll-out are drawn
+        from their own noise stream, so the holds before it keep theirs.
+        """
+        first = [k for k, s in enumerate(self.segments) if s.kind == "windup"]
+        return first[0] - 1 if first else None
 
     @property
     def takeoff_cg_pct_mac(self) -> float:
@@ -278,15 +295,38 @@ def _logged_programme(trim: float) -> tuple[Segment, ...]:
         ("move", 20, 12, 0, 0),
     )
     return tuple(Segment(kind, float(duration), trim + dv, float(vs), float(bank))
-                 for kind, duration, dv, vs, bank in plan)
+                 for kind, duration, dv, vs, bank in plan) + _windup(trim)
+
+
+#: Load factors of the wind-up turn's steps [g] (level turn: n = 1/cos(bank)).
+WINDUP_STEPS_G = (1.3, 1.5, 1.7, 1.9)
+#: Duration of each wind-up step, the roll to its bank included [s].
+WINDUP_STEP_S = 20.0
+
+
+def _windup(trim: float) -> tuple[Segment, ...]:
+    """A wind-up turn at the trim speed in steps of :data:`WINDUP_STEPS_G`, after the holds.
+
+    A speed change back to trim, then each step rolls to its bank in
+    ``_ROLL_S`` and holds it level at constant speed, then the roll-out.
+    """
+    steps = tuple(Segment("windup", WINDUP_STEP_S, trim, 0.0, math.degrees(math.acos(1.0 / n)))
+                  for n in WINDUP_STEPS_G)
+    # Brisk enough that neither the speed change nor the roll-out holds still for the 10 s
+    # of a trim point.
+    return (Segment("move", 12.0, trim), *steps, Segment("windup", 6.0, trim, 0.0, 0.0))
 
 
 def _point_programme() -> tuple[Segment, ...]:
-    """Eight points of a hand-flown card, each at its own altitude, 4 min apart."""
+    """Eight points of a hand-flown card, each at its own altitude, 4 min apart; a wind-up turn."""
     speeds = (100, 90, 80, 70, 60, 110, 120, 130)
     altitudes = (5500, 5450, 5600, 5700, 5650, 5400, 5300, 5200)
     pairs = zip(speeds, altitudes, strict=True)
-    return tuple(Segment("hold", 240.0, float(v), alt_ft=float(a)) for v, a in pairs)
+    holds = tuple(Segment("hold", 240.0, float(v), alt_ft=float(a)) for v, a in pairs)
+    # Then a wind-up turn at the trim speed, one typed row per step, read off the g-meter.
+    steps = tuple(Segment("windup", 120.0, 100.0, 0.0, math.degrees(math.acos(1.0 / n)),
+                          alt_ft=5500.0) for n in WINDUP_STEPS_G)
+    return holds + steps
 
 
 DEMO_PROFILE: AircraftProfile = parse_profile(PROFILE_TOML, source=PROFILE_FILE)
@@ -455,7 +495,7 @@ _KT_TO_FPS = 1852.0 / 0.3048 / 3600.0
 
 def _programme(flight: DemoFlight, dt: float, truth: DemoTruth) -> dict[str, np.ndarray]:
     """Commanded IAS, vertical speed, bank, altitude and segment index, per sample."""
-    ias0, vs0 = flight.trim_ias_kt + 12.0, 0.0
+    ias0, vs0, bank0 = flight.trim_ias_kt + 12.0, 0.0, 0.0
     parts: dict[str, list[np.ndarray]] = {"ias": [], "vs": [], "bank": [], "seg": [], "alt": []}
     for k, seg in enumerate(flight.segments):
         n = int(round(seg.duration_s / dt))
@@ -467,12 +507,14 @@ def _programme(flight: DemoFlight, dt: float, truth: DemoTruth) -> dict[str, np.
         if seg.kind == "turn":
             edge = np.minimum(u, 1.0 - u + 1.0 / n) * seg.duration_s
             bank = seg.bank_deg * np.clip(edge / _ROLL_S, 0.0, 1.0)
+        elif seg.kind == "windup":  # roll from the last step's bank to this one's, then hold it
+            bank = bank0 + (seg.bank_deg - bank0) * np.clip(u * seg.duration_s / _ROLL_S, 0, 1)
         parts["ias"].append(ias)
         parts["vs"].append(vs)
         parts["bank"].append(bank)
         parts["seg"].append(np.full(n, k))
         parts["alt"].append(np.full(n, np.nan if seg.alt_ft is None else seg.alt_ft))
-        ias0, vs0 = float(ias[-1]), float(vs[-1])
+        ias0, vs0, bank0 = float(ias[-1]), float(vs[-1]), float(bank[-1])
     out = {key: np.concatenate(value) for key, value in parts.items()}
     out["t"] = dt * np.arange(out["ias"].size)
     climbed = truth.test_altitude_ft + np.cumsum(out["vs"] / 60.0 * dt)
@@ -520,7 +562,8 @@ def _sample_interval(flight: DemoFlight) -> float:
     return 1.0 / flight.sample_rate_hz if flight.sample_rate_hz else 1.0
 
 
-def truth_points(flight: DemoFlight, truth: DemoTruth | None = None) -> pd.DataFrame:
+def truth_points(flight: DemoFlight, truth: DemoTruth | None = None, *,
+                 maneuvers: bool = False) -> pd.DataFrame:
     """Return the noise-free stabilized points of a demo flight (the oracle for tests).
 
     Parameters
@@ -540,6 +583,8 @@ def truth_points(flight: DemoFlight, truth: DemoTruth | None = None) -> pd.DataF
         ``fuel_gal``, ``weight_lb``, ``cg_in``, ``h``, ``cl`` and ``q_psf``;
         ``elevator_deg`` (trailing-edge down positive) and ``stick_force_lbf``
         (pull positive) from the model at those means; ``stab_incidence_deg``.
+        With ``maneuvers=True``: the same for each step of the wind-up turn
+        instead (the maneuvering points; point tables: the whole typed step).
     """
     truth = truth or DEMO_TRUTH
     dt = _sample_interval(flight)
@@ -549,9 +594,12 @@ def truth_points(flight: DemoFlight, truth: DemoTruth | None = None) -> pd.DataF
              "weight": "weight_lb", "cg": "cg_in", "h": "h", "cl": "cl", "q": "q_psf",
              "elevator": "elevator_deg", "force": "stick_force_lbf"}
     rows = []
-    holds = [k for k, seg in enumerate(flight.segments) if seg.kind == "hold"]
+    holds = [k for k, seg in enumerate(flight.segments)
+             if (seg.kind == "windup" and seg.bank_deg > 0.0 if maneuvers else seg.kind == "hold")]
     for number, k in enumerate(holds, start=1):
         mask = s["seg"] == k
+        if maneuvers and flight.kind == "time_series":  # the step once rolled to its bank
+            mask &= s["t"] >= s["t"][mask][0] + _ROLL_S
         row = {"flight": str(flight.number), "point": number,
                "t_start_s": float(s["t"][mask][0]), "t_end_s": float(s["t"][mask][-1])}
         row.update({out: float(s[key][mask].mean()) for key, out in names.items()})
@@ -582,13 +630,20 @@ def _hold_error_series(flight: DemoFlight, seed: int) -> dict[str, np.ndarray]:
     out = {"t": s["t"], "seg": s["seg"]}
     knots_t: list[float] = []
     knots: dict[str, list[float]] = {"elevator": [], "force": []}
+    # Each step of the wind-up turn is held like a trim point, with its own offset drawn
+    # from a stream of its own, so that the holds keep theirs.
+    steps_rng = np.random.default_rng([seed, flight.number, 3])
     for k, seg in enumerate(flight.segments):
-        if seg.kind != "hold":
+        is_step = seg.kind == "windup" and seg.bank_deg > 0.0
+        if seg.kind != "hold" and not is_step:
             continue
         t = s["t"][s["seg"] == k]
-        knots_t += [float(t[0]), float(t[-1])]
+        # A step's offset settles once rolled to its bank, so the error stays continuous.
+        knots_t += [float(t[0]) + (_ROLL_S if is_step else 0.0), float(t[-1])]
+        draw = steps_rng if is_step else rng
         for name, sd in (("elevator", HOLD_ELEVATOR_SD_DEG), ("force", HOLD_FORCE_SD_LBF)):
-            offset, drift = sd * rng.standard_normal(), HOLD_DRIFT_SD * sd * rng.standard_normal()
+            offset = sd * draw.standard_normal()
+            drift = HOLD_DRIFT_SD * sd * draw.standard_normal()
             knots[name] += [offset - 0.5 * drift, offset + 0.5 * drift]
     ends = [0.0, float(s["t"][-1])]
     for name, values in knots.items():
