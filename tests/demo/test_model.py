@@ -434,3 +434,45 @@ def test_demo_maneuver_points_cover_the_model(profile):
     # The most aft flight (30 %MAC) is light in stick force per g: a warning.
     assert any("below the minimum" in w for w in result.warnings)
 
+
+
+def test_demo_maneuvering_in_the_terminal_and_the_json_contract(profile):
+    from trimlog.pipeline import chain
+    from trimlog.views import terminal
+    from trimlog.views.json_export import analysis_to_dict
+
+    flights = []
+    for f in DEMO_TRUTH.flights:
+        flights += chain.load_flight_file(SAMPLE_LOGS / f.log_file, profile)
+    analysis = chain.analyze(flights, profile)
+    text = terminal.render(analysis)
+    assert "stick-fixed maneuver point hm:" in text and "23.155" in text
+    block = analysis_to_dict(analysis)["maneuvering"]
+    # The contract of issue 14: these keys, and only more beside them.
+    assert set(block["points"][0]) >= {"flight", "nz_g", "eas_kt", "elevator_deg",
+                                       "stick_force_lbf", "cg_pct_mac", "t_start_s", "t_end_s",
+                                       "included"}
+    assert set(block["per_flight"][0]) >= {
+        "flight", "cg_pct_mac", "elevator_per_g_deg", "elevator_per_g_ci95_deg",
+        "stick_force_per_g_lbf", "stick_force_per_g_ci95_lbf", "n_points", "nz_range"}
+    for kind in ("stick_fixed", "stick_free"):
+        assert set(block["maneuver_point"][kind]) >= {"pct_mac", "ci95_pct_mac", "station_in",
+                                                      "identifiable", "method"}
+    # A trim point is never a maneuvering point: no time window is in both tables.
+    trims = analysis.points.dropna(subset=["t_start_s"])
+    for p in block["points"]:
+        if p["t_start_s"] is None:
+            continue
+        same = trims.loc[trims["flight"] == p["flight"]]
+        assert not ((same["t_start_s"] < p["t_end_s"]) & (same["t_end_s"] > p["t_start_s"])).any()
+
+
+def test_no_maneuvering_point_gives_null(profile):
+    from trimlog.pipeline import chain
+    from trimlog.views.json_export import analysis_to_dict
+
+    flights = chain.load_flight_bytes(
+        b"ias_kt,pressure_alt_ft,elevator_deg,stick_force_lbf,weight_lb,cg_in\n"
+        b"100,5000,2.0,0,1550,68\n90,5000,3.0,2,1550,68\n80,5000,4.5,4,1550,68\n",
+        "typed.csv", profile)
+    assert analysis_to_dict(chain.analyze(flights, profile))["maneuvering"] is None

@@ -103,10 +103,44 @@ def render(analysis: Analysis, *, color: bool = False) -> str:
     for other in analysis.others:
         parts.append(s.head(f"== configuration '{other.config}' (analysed separately) =="))
         parts.append(_configuration_block(other, analysis, s))
+    if analysis.maneuvering is not None:
+        parts.append(_maneuvering_block(analysis.maneuvering, s))
     if analysis.warnings:
         parts.append(s.head("Warnings") + "\n" + _bullets(analysis.warnings, s.warn))
     parts.append(s.head("Cautions") + "\n" + _bullets(analysis.cautions))
     return "\n\n".join(parts) + "\n"
+
+
+def _maneuvering_block(m: Any, s: _Style) -> str:
+    """Gradients per g per flight, the maneuver points, hm - hn and the 23.155 minimum."""
+    used = int(m.points["included"].astype(bool).sum())
+    lines = [s.head(f"Maneuvering ({len(m.points)} maneuvering points, {used} used)")]
+    rows = [[g.flight, _fmt(g.cg_pct_mac), str(g.n_points),
+             f"{g.nz_range[0]:.2f}-{g.nz_range[1]:.2f}", _fmt(g.elevator_per_g_deg, ".2f"),
+             _interval(g.elevator_per_g_ci95_deg, ".2f"), _fmt(g.stick_force_per_g_lbf),
+             _interval(g.stick_force_per_g_ci95_lbf), "lightens" if g.lightening else ""]
+            for g in m.gradients]
+    lines.append(table(["flight", "CG %MAC", "pts", "n (g)", "de/dn deg/g", "95 %",
+                        "Fs/n lbf/g", "95 %", ""], rows))
+    lines.append("  " + neutral_point_line("stick-fixed maneuver point hm", m.stick_fixed))
+    lines.append("  " + neutral_point_line("stick-free maneuver point hm'", m.stick_free))
+    if m.hm_minus_hn_pct_mac is not None:
+        lines.append(f"  hm - hn = {m.hm_minus_hn_pct_mac:+.1f} %MAC (pitch damping)")
+    if m.hm_free_minus_hn_free_pct_mac is not None:
+        lines.append(f"  hm' - hn' = {m.hm_free_minus_hn_free_pct_mac:+.1f} %MAC")
+    r = m.requirement
+    lines.append(
+        f"  minimum stick force per g {r.minimum_per_g_lbf:.1f} lbf/g: 14 CFR 23.155(a) "
+        f"{r.force_to_limit_lbf:.0f} lbf to {r.limit_load_factor_g:.2f} g with a {r.control} "
+        f"({r.per_g_23_155_lbf:.1f} lbf/g); common practice {r.per_g_common_practice_lbf:.1f} "
+        "lbf/g (no source)")
+    if m.aft_limit_force_per_g_lbf is not None:
+        lines.append(f"  predicted at the aft CG limit: {m.aft_limit_force_per_g_lbf:.1f} lbf/g, "
+                     f"95 % {_interval(m.aft_limit_force_per_g_ci95_lbf)}")
+    if m.aft_cg_pct_mac is not None:
+        lines.append(f"  most aft CG the maneuvering results allow: {m.aft_cg_pct_mac:.1f} %MAC "
+                     f"(limited by the {m.limited_by})")
+    return "\n".join(lines)
 
 
 def _flights_block(analysis: Analysis) -> str:
