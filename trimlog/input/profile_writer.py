@@ -10,10 +10,10 @@ introduce the next one) are kept.
 from __future__ import annotations
 
 import re
-import tomllib
 
 from trimlog.errors import ProfileError
 from trimlog.input.profile import parse_profile
+from trimlog.input.schema import load_toml
 
 _HEADER = re.compile(r"^[ \t]*\[[ \t]*airspeed_calibration[ \t]*\][ \t]*(#.*)?$")
 _ANY_HEADER = re.compile(r"^[ \t]*\[")
@@ -76,10 +76,8 @@ def replace_calibration(text: str, ias_kt: tuple[float, ...] | list[float],
     if len(starts) > 1:
         raise ProfileError(f"{source}: [airspeed_calibration] appears {len(starts)} times")
     if not starts:
-        try:
-            has_table = "airspeed_calibration" in tomllib.loads(text)
-        except tomllib.TOMLDecodeError as exc:
-            raise ProfileError(f"{source}: not valid TOML: {exc}") from None
+        has_table = "airspeed_calibration" in load_toml(
+            text, source, lambda key, message: ProfileError(f"{source}: {message}"))
         if has_table:
             raise ProfileError(
                 f"{source}: [airspeed_calibration] is written as an inline table or dotted "
