@@ -6,6 +6,7 @@ from pathlib import Path
 import pytest
 
 from trimlog.cli import EXIT_BAD_INPUT, EXIT_OK, EXIT_REFUSED, main
+from trimlog.history.store import open_store
 
 SAMPLES = Path(__file__).resolve().parent.parent / "sample_logs"
 PROFILE = str(SAMPLES / "tinkerfinch_tf2.toml")
@@ -95,19 +96,22 @@ def test_exclude_option_keeps_the_point_listed(tmp_path):
         (["analyze", PROFILE, "--aircraft", PROFILE], PROFILE),
         (["import", "nonexistent.csv", "--aircraft", PROFILE, "--db", "{db}"],
          "cannot read the file"),
-        (["flights", "--db", "{db}"], "history is empty"),
-        (["trend", "--db", "{db}"], "history is empty"),
-        (["plan", "--db", "{db}"], "history is empty"),
+        (["flights", "--db", "{empty}"], "history is empty"),
+        (["trend", "--db", "{empty}"], "history is empty"),
+        (["plan", "--db", "{empty}"], "history is empty"),
         (["report", "-o", "{tmp}/r.pdf"], "give LOG files"),
         (["trend", "--db", "{corrupt}"], "not"),
-        (["exclude", "--db", "{db}", "--flight", "99", "--point", "1"], "99"),
+        (["exclude", "--db", "{empty}", "--flight", "99", "--point", "1"], "99"),
         (["restore", "{tmp}/missing", "--db", "{db}"], "missing"),
     ],
 )
 def test_bad_input_exits_2_with_a_message(argv, message, tmp_path, capsys):
     corrupt = tmp_path / "corrupt.sqlite"
     corrupt.write_bytes(b"this is not a database" * 50)
-    argv = [a.format(db=tmp_path / "h.sqlite", tmp=tmp_path, corrupt=corrupt) for a in argv]
+    empty = tmp_path / "empty.sqlite"
+    open_store(empty).close()  # reading commands refuse a database that does not exist
+    argv = [a.format(db=tmp_path / "h.sqlite", tmp=tmp_path, corrupt=corrupt, empty=empty)
+            for a in argv]
     assert main(argv) == EXIT_BAD_INPUT
     err = capsys.readouterr().err
     assert err.startswith("trimlog: error:") and message in err

@@ -81,10 +81,12 @@ def _build_parser() -> argparse.ArgumentParser:
     p = command(
         "analyze",
         _run_analyze,
-        "Analyse one or more logs or point tables together (each file one flight).",
-        "trimlog analyze flight1.csv flight2.csv --aircraft plane.toml --json result.json",
+        "Analyse one or more logs or point tables together (each file one flight), in the "
+        "order flown; with --db, together with every flight saved for the aircraft.",
+        "trimlog analyze flight1.csv flight2.csv --aircraft plane.toml --json result.json\n"
+        "  trimlog analyze today.csv --db history.sqlite --aircraft-name 'My plane'",
     )
-    _add_log_inputs(p)
+    _add_log_inputs(p, with_db=True)
     p.add_argument("--json", metavar="OUT.json", help="write the machine-readable result")
     p.add_argument("--quiet", action="store_true", help="no terminal summary")
 
@@ -111,12 +113,14 @@ def _build_parser() -> argparse.ArgumentParser:
     p = command(
         "report",
         _run_report,
-        "Write a PDF flight-test report from logs or from the flight history.",
+        "Write a PDF flight-test report from logs or from the flight history (with --db and "
+        "logs: the saved flights and the new logs together).",
         "trimlog report flight*.csv --aircraft plane.toml -o report.pdf",
     )
     p.add_argument("logs", nargs="*", metavar="LOG", help="logs or point tables (CSV)")
     p.add_argument("--aircraft", metavar="PROFILE.toml", help="aircraft profile")
-    p.add_argument("--db", metavar="DB", help="make the report from this flight history")
+    p.add_argument("--db", metavar="DB", help="make the report from this flight history "
+                   "(it must exist)")
     p.add_argument("--aircraft-name", metavar="NAME",
                    help="with --db: which aircraft (needed when the history holds several)")
     p.add_argument("-o", "--output", required=True, metavar="REPORT.pdf", help="PDF to write")
@@ -132,6 +136,19 @@ def _build_parser() -> argparse.ArgumentParser:
     _add_db(p)
     p.add_argument("--label", help="label for the flight (one file only)")
     p.add_argument("--notes", help="notes for the flight (one file only)")
+
+    p = command(
+        "edit",
+        _run_edit,
+        "Change the label, notes or date of a saved flight.",
+        "trimlog edit --db history.sqlite --flight 3 --label 'aft CG, new shim'",
+    )
+    _add_db(p)
+    p.add_argument("--flight", type=int, required=True, help="history id (see 'trimlog flights')")
+    p.add_argument("--label", help="new label")
+    p.add_argument("--notes", help="new notes")
+    p.add_argument("--date", metavar="YYYY-MM-DD", help="date flown (the programme is "
+                   "renumbered in date order)")
 
     p = command(
         "flights",
@@ -229,9 +246,19 @@ def _build_parser() -> argparse.ArgumentParser:
     return parser
 
 
-def _add_log_inputs(p: argparse.ArgumentParser) -> None:
+def _add_log_inputs(p: argparse.ArgumentParser, *, with_db: bool = False) -> None:
     p.add_argument("logs", nargs="+", metavar="LOG", help="logs or point tables (CSV)")
-    p.add_argument("--aircraft", required=True, metavar="PROFILE.toml", help="aircraft profile")
+    if not with_db:
+        p.add_argument("--aircraft", required=True, metavar="PROFILE.toml",
+                       help="aircraft profile")
+    else:
+        p.add_argument("--aircraft", metavar="PROFILE.toml",
+                       help="aircraft profile (with --db: or the aircraft's name in the history)")
+        p.add_argument("--db", metavar="DB",
+                       help="also analyse every flight saved for the aircraft in this history "
+                       "(with its saved point choices); the database must exist")
+        p.add_argument("--aircraft-name", metavar="NAME",
+                       help="with --db: the aircraft in the history (its saved profile is used)")
     _add_detection_options(p)
 
 
@@ -286,10 +313,13 @@ def _write_json(path: str, payload: object) -> None:
         raise TrimlogError(f"{path}: cannot write the JSON result: {exc.strerror}") from None
 
 
-def _load_inputs(args: argparse.Namespace, progress: Progress = SILENT):  # -> (profile, flights)
+def _load_inputs(  # -> (profile, flights)
+    args: argparse.Namespace, progress: Progress = SILENT, profile=None,
+):
     from trimlog.pipeline import chain as analysis
 
-    profile = analysis.load_profile(args.aircraft)
+    if profile is None:
+        profile = analysis.load_profile(args.aircraft)
     loading_overrides = _parse_pairs(args.loading, "--loading", "LOG=SHEET", "=")
     flights = []
     for log in args.logs:
@@ -315,16 +345,59 @@ def _parse_pairs(values: list[str], option: str, form: str, sep: str) -> dict[st
     return pairs
 
 
-def _exclusions(values: list[str]) -> set[tuple[str, int]]:
-    out = set()
-    for flight, point in _parse_pairs(values, "--exclude", "FLIGHT:POINT", ":").items():
+def _exclusions(values: list[str]) -> list[tuple[str, int]]:
+    """Every ``--exclude FLIGHT:POINT`` given (several points of one flight are all kept)."""
+    out: list[tuple[str, int]] = []
+    for value in values:
+        flight, found, point = value.rpartition(":")
+        if not found or not flight or not point:
+            raise TrimlogError(f"--exclude: expected FLIGHT:POINT, found {value!r}")
         try:
-            out.add((flight, int(point)))
+            number = int(point)
         except ValueError:
             raise TrimlogError(
                 f"--exclude: point must be a whole number, found {point!r}"
             ) from None
+        if (flight, number) not in out:
+            out.append((flight, number))
     return out
+
+
+def _db_profile(args: argparse.Namespace, st):  # -> (profile or None, aircraft name or None)
+    """With --db: ``--aircraft`` is a profile file, or else the aircraft's name in the history."""
+    from trimlog.pipeline import chain as analysis
+
+    name = getattr(args, "aircraft_name", None)
+    given = args.aircraft
+    if given is None:
+        return None, name
+    if Path(given).is_file() or given.lower().endswith(".toml") or name is not None:
+        return analysis.load_profile(given), name
+    if st.find_aircraft(given) is not None:
+        return None, given
+    known = ", ".join(f"'{a.name}'" for a in st.aircraft_list()) or "none"
+    raise TrimlogError(
+        f"--aircraft {given!r}: neither a profile file nor an aircraft of {st.path} "
+        f"(aircraft there: {known})")
+
+
+def _analyze_with_db(args: argparse.Namespace, progress: Progress = SILENT):  # -> Analysis
+    from trimlog.history import programme
+
+    with _open_store(args.db, must_exist=True) as st:
+        profile, name = _db_profile(args, st)
+        if profile is None:
+            record = programme.find_aircraft(st, name)
+            if record is None:
+                raise TrimlogError(f"{args.db}: no aircraft named {name!r} in the history")
+            from trimlog.input.profile import parse_profile
+
+            profile = parse_profile(record.profile_text, source=f"history: {record.name}")
+            name = record.name
+        profile, flights = _load_inputs(args, progress, profile)
+        return programme.analyze_programme(
+            st, flights, profile=profile, aircraft=name,
+            exclusions=_exclusions(args.exclude), min_hold_s=args.min_hold, progress=progress)
 
 
 def _run_analyze(args: argparse.Namespace) -> int:
@@ -333,14 +406,22 @@ def _run_analyze(args: argparse.Namespace) -> int:
 
     # reading and points per file, then the fits: a bar on a terminal's stderr
     with TerminalProgress(2 * len(args.logs) + 1) as progress:
-        profile, flights = _load_inputs(args, progress)
-        result = analysis.analyze(flights, profile, exclusions=_exclusions(args.exclude),
-                                  progress=progress)
+        if args.db:
+            result = _analyze_with_db(args, progress)
+        else:
+            if args.aircraft is None:
+                raise TrimlogError("analyze: give --aircraft PROFILE.toml (or --db DB with the "
+                                   "aircraft saved there)")
+            profile, flights = _load_inputs(args, progress)
+            result = analysis.analyze(flights, profile, exclusions=_exclusions(args.exclude),
+                                      progress=progress)
     if args.json:
         from trimlog.views.json_export import analysis_to_dict
 
         _write_json(args.json, analysis_to_dict(result))
     if not args.quiet:
+        if result.programme is not None:
+            print(result.programme.describe() + "\n")
         print(summary.render(result, color=_use_color()))
     return EXIT_OK if result.identifiable else EXIT_REFUSED
 
@@ -401,7 +482,10 @@ def _run_report(args: argparse.Namespace) -> int:
     from trimlog.views import report
 
     with TerminalProgress(2 * len(args.logs or ()) + 1) as progress:
-        if args.db:
+        if args.db and args.logs:
+            result = _analyze_with_db(args, progress)
+            trend = None
+        elif args.db:
             progress.step("reading", args.db)
             result, trend = _history_analysis(args.db, args.aircraft_name)
         else:
@@ -416,16 +500,23 @@ def _run_report(args: argparse.Namespace) -> int:
     return EXIT_OK if result.identifiable else EXIT_REFUSED
 
 
-def _open_store(db: str | None):
+def _open_store(db: str | None, *, must_exist: bool = False):
+    """Open the history; a command that only reads refuses a database that does not exist."""
     from trimlog.history import store
 
+    if must_exist:
+        path = Path(db).expanduser() if db is not None else store.default_path()
+        if "://" not in str(db or "") and not path.exists():
+            raise TrimlogError(
+                f"{path}: no such history database (this command only reads one): check the "
+                "path, or create it by saving flights with 'trimlog import'")
     return store.open_store(db)
 
 
 def _history_analysis(db: str, aircraft: str | None):
     from trimlog.history import service as history
 
-    with _open_store(db) as st:
+    with _open_store(db, must_exist=True) as st:
         return history.analyze_history(st, aircraft), history.trend(st, aircraft)
 
 
@@ -438,7 +529,9 @@ def _run_import(args: argparse.Namespace) -> int:
 
     profile_text = load_profile(args.aircraft).text
     loading_overrides = _parse_pairs(args.loading, "--loading", "LOG=SHEET", "=")
+    exclusions = _exclusions(args.exclude)
     with _open_store(args.db) as st:
+        saved = []
         for number, log in enumerate(args.logs, start=1):
             _progress(f"importing {log} ({number}/{len(args.logs)})")
             outcome = history.import_log(
@@ -451,7 +544,19 @@ def _run_import(args: argparse.Namespace) -> int:
                 notes=args.notes,
                 min_hold_s=args.min_hold,
             )
-            print(f"{log}: {outcome.message}")
+            saved.append(outcome.flight_id)
+            print(outcome.message)
+        for line in history.apply_exclusions(st, saved, exclusions):
+            print(line)
+    return EXIT_OK
+
+
+def _run_edit(args: argparse.Namespace) -> int:
+    from trimlog.history import service as history
+
+    with _open_store(args.db, must_exist=True) as st:
+        print(history.edit_flight(st, args.flight, label=args.label, notes=args.notes,
+                                  date=args.date))
     return EXIT_OK
 
 
@@ -459,7 +564,7 @@ def _run_flights(args: argparse.Namespace) -> int:
     from trimlog.history import service as history
     from trimlog.views import terminal as summary
 
-    with _open_store(args.db) as st:
+    with _open_store(args.db, must_exist=True) as st:
         listing = history.flight_listing(st, args.aircraft_name)
     if args.json:
         _write_json(args.json, listing)
@@ -471,7 +576,7 @@ def _run_trend(args: argparse.Namespace) -> int:
     from trimlog.history import service as history
     from trimlog.views import terminal as summary
 
-    with _open_store(args.db) as st:
+    with _open_store(args.db, must_exist=True) as st:
         trend = history.trend(st, args.aircraft_name)
     if args.json:
         _write_json(args.json, trend.to_dict())
@@ -483,7 +588,7 @@ def _run_plan(args: argparse.Namespace) -> int:
     from trimlog.history import service as history
     from trimlog.views import terminal as summary
 
-    with _open_store(args.db) as st:
+    with _open_store(args.db, must_exist=True) as st:
         trend = history.trend(st, args.aircraft_name, min_margin_pct_mac=args.min_margin,
                               max_step_pct_mac=args.max_step)
     if args.json:
@@ -493,7 +598,7 @@ def _run_plan(args: argparse.Namespace) -> int:
 
 
 def _run_exclude(args: argparse.Namespace) -> int:
-    with _open_store(args.db) as st:
+    with _open_store(args.db, must_exist=True) as st:
         st.set_point_included(args.flight, args.point, args.include)
     state = "included" if args.include else "excluded"
     print(f"flight {args.flight} point {args.point}: {state}")
@@ -501,7 +606,7 @@ def _run_exclude(args: argparse.Namespace) -> int:
 
 
 def _run_export(args: argparse.Namespace) -> int:
-    with _open_store(args.db) as st:
+    with _open_store(args.db, must_exist=True) as st:
         written = st.export(Path(args.directory))
     print(f"{len(written)} files written to {args.directory}")
     return EXIT_OK
@@ -515,7 +620,7 @@ def _run_restore(args: argparse.Namespace) -> int:
 
 
 def _run_backup(args: argparse.Namespace) -> int:
-    with _open_store(args.db) as st:
+    with _open_store(args.db, must_exist=True) as st:
         st.backup(Path(args.destination))
     print(f"backup written to {args.destination}")
     return EXIT_OK

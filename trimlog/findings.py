@@ -158,6 +158,10 @@ _TEMPLATES: dict[str, str] = {
     "pipeline.configurations_separate": (
         "points were flown in several configurations and are analysed separately: {counts}; "
         "the headline results are for '{primary}'"),
+    "pipeline.order.undated": (
+        "no date for flight(s) {flights} (neither a loading-sheet 'date' nor ISO 8601 date-time "
+        "stamps in the log): {order}; add a 'date' to their loading sheets, because the "
+        "stabilizer setting a shim corrects from is the latest flight's"),
     # ---- stability
     "stability.unconverted": "{text}",
     "stability.maneuver.unconverted": "{text}",
@@ -203,6 +207,16 @@ _TEMPLATES: dict[str, str] = {
         "the shim ({thickness_in:.3f} in) is thicker than two stacked sheets of the largest "
         "stock: make the change in steps and re-fly between them"),
     # ---- history
+    "history.programme.no_saved_flights": (
+        "no flight of '{aircraft}' is saved in {database} yet: only the new flights are analysed"),
+    "history.programme.profile_differs": (
+        "the profile given ({profile}) differs from the one saved for '{aircraft}': every "
+        "flight is analysed with the one given"),
+    "history.programme.already_saved": (
+        "already saved as history flight id {history_id}; used once, with its saved choices"),
+    "history.programme.points_differ": (
+        "(history id {history_id}): the points found now differ from the {n_saved} saved with "
+        "it (another minimum hold?): the saved points are used"),
 }
 
 #: The one catalogue (read-only view of the templates above).

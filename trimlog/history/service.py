@@ -9,7 +9,7 @@ analysis result; everything here can be recomputed from those.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
@@ -17,6 +17,7 @@ import pandas as pd
 
 from trimlog import cautions
 from trimlog.errors import InputFileError, StoreError, TrimlogError
+from trimlog.history import programme
 from trimlog.history.codec import clean
 from trimlog.history.store import AircraftRecord, FlightRecord, ImportOutcome, Store
 from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
@@ -93,19 +94,51 @@ def import_flight(
     loading: dict[str, Any] | None = None
     if loading_raw is not None:
         loading = {_SHEET_NAME: loading_name, _SHEET_TEXT: loading_raw.decode("utf-8-sig")}
-    return store.import_flight(
+    when = flight.when
+    if when.has_time:
+        loading = {**(loading or {}), programme.FLOWN_AT: when.iso()}
+    outcome = store.import_flight(
         aircraft.id,
         raw,
         name,
         flight.points,
         label=label or (sheet.label if sheet is not None and sheet.label else None),
-        date=sheet.date if sheet is not None else None,
+        date=None if when.when is None else when.when.date(),
         notes=notes or (sheet.notes if sheet is not None and sheet.notes else None),
         loading=loading,
         incidence_label=sheet.stab_setting if sheet is not None else None,
         incidence_deg=sheet.stab_incidence_deg if sheet is not None else None,
         config=None if sheet is None or sheet.flap_deg is None else f"flaps {sheet.flap_deg:g}",
     )
+    if not outcome.created:
+        return _already_saved(store, outcome, name, label=label, notes=notes)
+    records = programme.renumber_by_date(store, aircraft.id)
+    number = programme.flight_number(records, outcome.flight_id)
+    dated = "" if when.when is None else f", flown {when.iso()}"
+    undated = "" if when.when is not None else (
+        ", no date (add a 'date' to its loading sheet: undated flights are taken as flown "
+        "before the dated ones)")
+    return replace(outcome, message=(
+        f"{name}: stored as flight {number} of {len(records)} of '{aircraft.name}' in date "
+        f"order{dated}{undated} (history id {outcome.flight_id}, "
+        f"{len(flight.points)} points, SHA-256 {flight.sha256[:12]})"))
+
+
+def _already_saved(
+    store: Store, outcome: ImportOutcome, name: str, *, label: str | None, notes: str | None
+) -> ImportOutcome:
+    """The outcome of importing bytes already saved: nothing changes, and the user is told how."""
+    record = store.flight(outcome.flight_id)
+    text = (f"{name}: already stored as history flight id {record.id} of this aircraft (same "
+            f"SHA-256 {record.sha256[:12]}, from '{record.filename}' imported "
+            f"{record.imported_at}); nothing changed")
+    given = [k for k, v in (("label", label), ("notes", notes)) if v is not None]
+    if given:
+        options = " ".join(f"--{k} ..." for k in given)
+        text += (f"; the {' and '.join(given)} given now {'was' if len(given) == 1 else 'were'} "
+                 "not applied: change them with "
+                 f"'trimlog edit --db DB --flight {record.id} {options}'")
+    return replace(outcome, message=text)
 
 
 def import_log(
@@ -380,3 +413,93 @@ def _aft_flight_clearly_stable(
 
 def _finite_or_none(value: float | None) -> float | None:
     return None if value is None or not math.isfinite(value) else float(value)
+
+
+# --------------------------------------------------------------------------- choices and edits
+
+
+def apply_exclusions(
+    store: Store, flight_ids: list[int], exclusions: list[tuple[str, int]]
+) -> list[str]:
+    """Exclude points of flights just imported (``import --exclude``), saved or not before.
+
+    ``FLIGHT`` names a flight by its label in the log (the file's stem) or by
+    its history id.  Every exclusion is checked before any is applied.
+
+    Returns
+    -------
+    list of str
+        One line per point excluded (or already excluded).
+
+    Raises
+    ------
+    StoreError
+        An exclusion names no flight of those given, or no point of it.
+    """
+    if not exclusions:
+        return []
+    by_name: dict[str, int] = {}
+    points: dict[int, pd.DataFrame] = {}
+    for fid in dict.fromkeys(flight_ids):
+        record = store.flight(fid)
+        frame = store.flight_points(fid)
+        points[fid] = frame
+        names = {str(fid), Path(record.filename).name.split(".")[0]}
+        if "flight" in frame and len(frame):
+            names.update(str(v) for v in frame["flight"].unique())
+        for n in names:
+            by_name.setdefault(n, fid)
+    plan = []
+    for flight, point in exclusions:
+        fid = by_name.get(flight)
+        if fid is None:
+            raise StoreError(
+                f"--exclude {flight}:{point}: no flight '{flight}' among the files given "
+                f"(flights: {', '.join(sorted(by_name))}); the flights were saved, no point "
+                "was excluded")
+        if point not in set(points[fid]["point"].astype(int)):
+            raise StoreError(
+                f"--exclude {flight}:{point}: flight '{flight}' (history id {fid}) has no point "
+                f"{point} (points 1..{len(points[fid])}); no point was excluded")
+        plan.append((flight, fid, point))
+    lines = []
+    for flight, fid, point in plan:
+        frame = points[fid]
+        was = bool(frame.loc[frame["point"].astype(int) == point, "included"].iloc[0])
+        store.set_point_included(fid, point, False)
+        state = "excluded" if was else "already excluded"
+        lines.append(f"flight '{flight}' (history id {fid}) point {point}: {state}")
+    return lines
+
+
+def edit_flight(
+    store: Store, flight_id: int, *, label: str | None = None, notes: str | None = None,
+    date: str | None = None,
+) -> str:
+    """Change what is known of a saved flight (``trimlog edit``); return what was done.
+
+    A new date renumbers the programme in date order.
+    """
+    import datetime as dt
+
+    if label is None and notes is None and date is None:
+        raise StoreError("edit: give --label, --notes or --date")
+    record = store.flight(flight_id)
+    changes: dict[str, Any] = {}
+    if label is not None:
+        changes["label"] = label
+    if notes is not None:
+        changes["notes"] = notes
+    if date is not None:
+        try:
+            changes["date"] = dt.date.fromisoformat(date.strip())
+        except ValueError:
+            raise StoreError(f"--date: expected YYYY-MM-DD, found {date!r}") from None
+        if record.loading and programme.FLOWN_AT in record.loading:
+            changes["loading"] = {k: v for k, v in record.loading.items()
+                                  if k != programme.FLOWN_AT}
+    store.update_flight(flight_id, **changes)
+    records = programme.renumber_by_date(store, record.aircraft_id)
+    number = programme.flight_number(records, flight_id)
+    return (f"history flight id {flight_id} ({record.filename}): "
+            f"{', '.join(sorted(changes))} changed; flight {number} of {len(records)} by date")

@@ -457,6 +457,8 @@ class Notes:
     def __init__(self) -> None:
         self.findings: list[Finding] = []
         self.dropped: list[Dropped] = []
+        #: First ISO 8601 date-time stamp of the log (UTC, ISO text), when the log has one.
+        self.started_at: str | None = None
 
     def add(self, code: str, severity: Severity, quantity: str | None = None,
             **values: Value) -> None:
@@ -626,13 +628,16 @@ def numeric_values(
 
 
 def clock_seconds(
-    column: pd.Series, header: str, lines: np.ndarray, label: str
+    column: pd.Series, header: str, lines: np.ndarray, label: str,
+    notes: Notes | None = None,
 ) -> tuple[np.ndarray, str]:
     """Clock or ISO 8601 stamps -> seconds since midnight of the first stamp's day.
 
     A clock that drops by more than 12 h between consecutive stamps has
     passed midnight: a day is added from there on.  Stamps not understood
-    become NaN; when more than half are, the column is refused.
+    become NaN; when more than half are, the column is refused.  With
+    ``notes``, the first ISO 8601 date-time stamp (the log's own date and
+    time, in UTC) is kept in ``notes.started_at``.
     """
     text = column.astype("string").str.strip()
     sample = text.dropna()
@@ -643,7 +648,10 @@ def clock_seconds(
         if not valid.any():
             seconds = np.full(len(text), np.nan)
         else:
-            midnight = stamps[valid].iloc[0].normalize()
+            first_stamp = stamps[valid].iloc[0]
+            midnight = first_stamp.normalize()
+            if notes is not None:
+                notes.started_at = first_stamp.isoformat()
             elapsed = (stamps - midnight).dt.total_seconds()
             seconds = elapsed.to_numpy(dtype=float, na_value=np.nan)
         how = "ISO 8601 date-time -> s since midnight of the first stamp's day"

@@ -163,6 +163,9 @@ class LogRead:
         Every dropped or blanked row or cell, counted, with line numbers.
     n_rows_read : int
         Data lines read from the file (before anything was dropped).
+    started_at : str or None
+        The log's own date and time of its first sample (ISO 8601, UTC),
+        when its time column holds ISO 8601 date-time stamps; else None.
     """
 
     data: pd.DataFrame
@@ -173,6 +176,7 @@ class LogRead:
     findings: tuple[Finding, ...]
     dropped: tuple[Dropped, ...]
     n_rows_read: int
+    started_at: str | None = None
 
     @property
     def warnings(self) -> tuple[str, ...]:
@@ -593,6 +597,7 @@ def read_log(
         findings=tuple(notes.findings),
         dropped=tuple(notes.dropped),
         n_rows_read=n_rows_read,
+        started_at=notes.started_at,
     )
 
 
@@ -619,7 +624,7 @@ def _convert(
         unit = ("assumed " if meaning.unit_assumed else "") + meaning.unit_text
         missing[canonical] = column.isna().to_numpy()
         if canonical == "time_s" and not pd.api.types.is_numeric_dtype(column):
-            values, conversion = clock_seconds(column, header, lines, label)
+            values, conversion = clock_seconds(column, header, lines, label, notes)
             missing[canonical] = ~np.isfinite(values)
             unit = "clock"
         else:

@@ -28,6 +28,7 @@ from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
 from trimlog.input.logs import LogRead, read_log
 from trimlog.input.profile import AircraftProfile
 from trimlog.input.profile import load_profile as load_profile
+from trimlog.pipeline import ordering
 from trimlog.pipeline.maneuvers import maneuvers_from_log
 from trimlog.pipeline.points import PointSettings, points_from_log
 from trimlog.pipeline.reduction import reduce_points
@@ -81,6 +82,11 @@ class FlightData:
         return found
 
     @property
+    def when(self) -> ordering.FlightWhen:
+        """When the flight was flown (loading-sheet date, else the log's own clock)."""
+        return ordering.flight_when(self.loading, self.log)
+
+    @property
     def samples(self) -> pd.DataFrame | None:
         """The time-series samples of this flight (None for a point table)."""
         if self.log.kind != "time_series":
@@ -111,6 +117,7 @@ class Analysis:
     ----------
     profile : AircraftProfile
     flights : tuple of FlightData
+        In the order flown (by date; see :mod:`trimlog.pipeline.ordering`).
     points : DataFrame
         Reduced points of every flight (the Reduced-points contract),
         excluded ones included with ``included`` False.
@@ -126,6 +133,9 @@ class Analysis:
     maneuvering : ManeuverResult or None
         Gradients per g and maneuver points; None when no maneuvering point
         was found.
+    programme : ProgrammeInputs or None
+        Which saved and new flights went in, when the analysis is of a
+        programme kept in a history database (``trimlog analyze --db``).
     """
 
     profile: AircraftProfile
@@ -138,6 +148,7 @@ class Analysis:
     cautions: tuple[str, ...] = field(default_factory=cautions.all_cautions)
     software_version: str = __version__
     maneuvering: maneuver.ManeuverResult | None = None
+    programme: ordering.ProgrammeInputs | None = None
 
     @property
     def identifiable(self) -> bool:
@@ -285,7 +296,9 @@ def analyze(
     ----------
     flights : sequence of FlightData
         Every flight to analyse (any mix of CGs, weights, altitudes and
-        stabilizer settings).
+        stabilizer settings), in any order: they are analysed in the order
+        flown (:func:`trimlog.pipeline.ordering.order_by_date`), so the
+        latest stabilizer setting is the latest flight's.
     profile : AircraftProfile
     exclusions : iterable of (flight, point)
         Points to leave out of the fits; they stay in the tables with
@@ -309,6 +322,7 @@ def analyze(
     if not flights:
         raise InputFileError("no flights given: expected at least one log or point table")
     _check_unique(flights)
+    flights, order_findings = ordering.order_by_date(flights)
     progress.step("fits")
     frames = [f.points for f in flights if len(f.points)]
     if not frames:
@@ -327,6 +341,7 @@ def analyze(
 
     found: list[Finding] = [_text("input.profile.unconverted", Severity.CAUTION, w)
                             for w in profile.warnings]
+    found += order_findings
     found += _reading_findings(flights)
     found += [_text("pipeline.reduction.unconverted", Severity.CAUTION, w)
               for w in reduced.warnings]

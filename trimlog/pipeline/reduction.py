@@ -143,24 +143,37 @@ def _where(out: pd.DataFrame, mask: pd.Series | np.ndarray) -> dict[str, object]
 def _calibrated_airspeed(
     out: pd.DataFrame, profile: AircraftProfile, warnings: list[str]
 ) -> pd.Series:
-    if "cas_kt" in out and out["cas_kt"].notna().all():
-        return out["cas_kt"]
+    """CAS of every point, row by row: the logged ``cas_kt``, else ``ias_kt`` corrected.
+
+    A programme may mix point tables typed in calibrated airspeed with logs
+    of indicated airspeed: each row keeps its own kind of airspeed.
+    """
+    cas = pd.to_numeric(out["cas_kt"], errors="coerce").astype(float) if "cas_kt" in out else (
+        pd.Series(np.nan, index=out.index))
+    need = ~np.isfinite(cas.to_numpy(dtype=float))
+    if not need.any():
+        return cas
     if "ias_kt" not in out:
         raise InputFileError("no airspeed: expected a column ias_kt or cas_kt", column="ias_kt")
+    ias = pd.to_numeric(out.loc[need, "ias_kt"], errors="coerce").astype(float)
     if profile.position_error_ias_kt is None:
         warnings.append(
             "no airspeed calibration in the profile: CAS = IAS assumed (position error "
             "ignored); add [airspeed_calibration] for calibrated results"
         )
-        return out["ias_kt"].astype(float)
-    result = airspeed.ias_to_cas(
-        out["ias_kt"],
-        profile.position_error_ias_kt,
-        profile.position_error_cas_kt,
-        extrapolate="clamp",
-    )
-    warnings.extend(result.warnings)
-    return result.cas_kt
+        corrected = ias
+    else:
+        result = airspeed.ias_to_cas(
+            ias,
+            profile.position_error_ias_kt,
+            profile.position_error_cas_kt,
+            extrapolate="clamp",
+        )
+        warnings.extend(result.warnings)
+        corrected = pd.Series(np.asarray(result.cas_kt, dtype=float), index=ias.index)
+    cas = cas.copy()
+    cas.loc[need] = corrected.to_numpy(dtype=float)
+    return cas
 
 
 def _weight_and_cg(

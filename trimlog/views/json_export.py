@@ -49,6 +49,8 @@ def analysis_to_dict(analysis: Analysis) -> dict[str, Any]:
                 "flight": f.flight,
                 "source": f.source,
                 "sha256": f.sha256,
+                "date": f.when.iso(),
+                "date_from": f.when.origin,
                 "kind": f.log.kind,
                 "kind_reason": f.log.kind_reason,
                 "n_points": int(len(f.points)),
@@ -74,6 +76,7 @@ def analysis_to_dict(analysis: Analysis) -> dict[str, Any]:
         "findings": [f.to_dict() for f in analysis.findings],
         "cautions": list(analysis.cautions),
         "maneuvering": maneuvering_dict(analysis.maneuvering),
+        "programme": None if analysis.programme is None else analysis.programme.to_dict(),
     }
     return clean(payload)
 
