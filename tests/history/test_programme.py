@@ -59,7 +59,8 @@ def test_aircraft_by_name_and_a_file_already_saved_is_used_once(demo, capsys):
     assert "saved flights flight2 (id 1), flight3 (id 2), flight4 (id 3)" in out
     assert [f["flight"] for f in result["flights"]] == ["flight2", "flight3", "flight4", "flight5"]
     assert result["programme"]["already_saved"] == [{"source": "flight4.csv", "history_id": 3}]
-    assert any("already saved as history flight id 3" in w for w in result["warnings"])
+    assert any(f["code"] == "history.programme.already_saved"
+               and f["values"]["history_id"] == 3 for f in result["findings"])
     # --aircraft NAME works too when it is no file
     assert main(["analyze", "flight5.csv", "--db", "h.sqlite", "--aircraft", name,
                  "--quiet"]) in (0, 1)
@@ -95,4 +96,4 @@ def test_programme_without_saved_flights_says_so(demo):
     with open_store(demo / "empty.sqlite") as store:
         prog = programme.programme_flights(store, new, profile=profile)
     assert prog.inputs.saved == () and prog.inputs.new == ("flight2",)
-    assert any("no flight of" in w for w in prog.warnings)
+    assert [f.code for f in prog.findings] == ["history.programme.no_saved_flights"]

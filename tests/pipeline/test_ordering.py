@@ -44,10 +44,12 @@ def test_undated_flights_are_named_with_the_order_used():
     flights = [_flight("x", dt.date(2026, 5, 2)), _flight("u1"), _flight("u2")]
     ordered, warnings = ordering.order_by_date(flights)
     assert [f.flight for f in ordered] == ["u1", "u2", "x"]
-    assert len(warnings) == 1 and "'u1', 'u2'" in warnings[0]
-    assert "before the dated flights, in the order given" in warnings[0]
+    assert [f.code for f in warnings] == ["pipeline.order.undated"]
+    assert warnings[0].values["flights"] == "'u1', 'u2'"
+    assert (warnings[0].values["n_undated"], warnings[0].values["n_dated"]) == (2, 1)
+    assert "before the dated flights, in the order given" in warnings[0].message
     _, none_dated = ordering.order_by_date([_flight("u1"), _flight("u2")])
-    assert "in the order given" in none_dated[0]
+    assert none_dated[0].values["n_dated"] == 0
 
 
 def test_log_with_iso_stamps_reports_its_own_start():
@@ -99,4 +101,5 @@ def test_analysis_object_keeps_date_order():
     assert [f.flight for f in result.flights] == [
         "flight1_points", "flight2", "flight3", "flight4", "flight5"]
     assert result.primary.stability.stick_fixed.latest_group == "shim 0.6 deg LE down"
-    assert any("no date for flight(s) 'flight1_points'" in w for w in result.warnings)
+    undated = [f for f in result.findings if f.code == "pipeline.order.undated"]
+    assert [f.values["flights"] for f in undated] == ["'flight1_points'"]
