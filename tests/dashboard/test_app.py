@@ -239,7 +239,10 @@ def test_a_point_trimlog_left_out_can_be_ticked_back_in(demo_analysis, tmp_path)
     assert at.session_state["exclusions"] == set()
     _go(at, "Results")
     fixed = back.primary.stability.stick_fixed.neutral_point
-    assert _metrics(at)["Stick-fixed neutral point"] == f"{fixed.pct_mac:.1f} %MAC"
+    # the point 12 deg off its trim line also widens the flight-level interval (it may no
+    # longer be a usable estimate); the page shows what the analysis says either way
+    assert _metrics(at)["Stick-fixed neutral point"] == (
+        f"{fixed.pct_mac:.1f} %MAC" if fixed.identifiable else "not identifiable yet")
     assert f"{back.primary.stability.n_included} points used" in _texts(at)
     # saved with the flight (the card alone, to be quick), the choice is kept in the
     # history and used there

@@ -52,11 +52,17 @@ def test_trend_ends_at_the_full_history_analysis(filled):
         trend = history.trend(store)
         full = history.analyze_history(store)
     last = trend.steps[-1].stick_fixed
-    headline = full.primary.stability.stick_fixed.neutral_point
-    assert last.identifiable and headline.identifiable
-    assert last.pct_mac == pytest.approx(headline.pct_mac, abs=1e-9)
-    assert last.ci95_pct_mac == pytest.approx(headline.ci95_pct_mac, abs=1e-9)
+    # the trend table accumulates the ordinary pooled model ...
+    independent = full.primary.stability.stick_fixed.independent_neutral_point
+    assert last.identifiable and independent.identifiable
+    assert last.pct_mac == pytest.approx(independent.pct_mac, abs=1e-9)
+    assert last.ci95_pct_mac == pytest.approx(independent.ci95_pct_mac, abs=1e-9)
     assert not trend.steps[0].stick_fixed.identifiable  # one CG cannot give a neutral point
+    # ... and the plan uses the same headline and the same rule as the full analysis
+    plan, analysed = trend.next_step, full.primary.stability.next_step
+    assert plan.limited_by == analysed.limited_by
+    assert plan.max_cg_pct_mac == pytest.approx(analysed.max_cg_pct_mac, abs=1e-9)
+    assert plan.most_aft_flown_pct_mac == pytest.approx(analysed.most_aft_flown_pct_mac)
 
 
 def test_trend_json_contract(filled):

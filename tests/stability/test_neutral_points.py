@@ -202,7 +202,7 @@ def test_fieller_interval_is_the_inverted_t_test():
     # Fieller (1954): {hn : |b + hn c| <= t * se(b + hn c)}; check by a brute-force grid.
     pts = make_points(TRUTH, sigma_elev_deg=0.4, seed=11)
     fit = pooled_fit(pts)
-    lo, hi = fit.neutral_point.ci95_pct_mac
+    lo, hi = fit.independent_neutral_point.ci95_pct_mac  # the ordinary pooled fit
     p, cov = fit.params, fit.cov
     t = stats.t.ppf(0.975, fit.linear.df_resid)
     grid = np.linspace(lo - 5, hi + 5, 200001) / 100.0
@@ -212,8 +212,8 @@ def test_fieller_interval_is_the_inverted_t_test():
     assert 100 * inside.min() == pytest.approx(lo, abs=1e-3)
     assert 100 * inside.max() == pytest.approx(hi, abs=1e-3)
     # the delta-method interval is symmetric about the estimate, Fieller's is not
-    dlo, dhi = fit.neutral_point.delta_ci95_pct_mac
-    est = fit.neutral_point.pct_mac
+    dlo, dhi = fit.independent_neutral_point.delta_ci95_pct_mac
+    est = fit.independent_neutral_point.pct_mac
     assert dhi - est == pytest.approx(est - dlo, rel=1e-9)
 
 
@@ -633,8 +633,9 @@ def test_robust_estimate_matches_statsmodels_rlm(kind):
     ref = sm.RLM(fit.linear.endog, fit.linear.exog, M=sm.robust.norms.HuberT()).fit()
     expected = -100.0 * ref.params[names.index("cl")] / ref.params[names.index("h_cl")]
     assert fit.robust.pct_mac == pytest.approx(expected, rel=1e-9)
-    assert fit.robust.shift_pct_mac == pytest.approx(expected - fit.neutral_point.pct_mac,
-                                                     rel=1e-6, abs=1e-9)
+    assert fit.robust.shift_pct_mac == pytest.approx(
+        expected - fit.independent_neutral_point.pct_mac,
+        rel=1e-6, abs=1e-9)
 
 
 def test_studentized_residuals_match_statsmodels_influence():

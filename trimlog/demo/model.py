@@ -145,6 +145,10 @@ min_static_margin = 5.0
 cg_step_max = 3.0
 elevator_reserve = "3 deg"
 
+[measurement]
+cg_uncertainty = 0.3
+stick_force_zero_uncertainty = "0.3 lbf"
+
 [cruise]
 cas = "110 kt"
 pressure_altitude = "5500 ft"

@@ -377,8 +377,7 @@ def trend(
     if reduced is not None:
         order = [stored.names[r.id] for r in stored.records]
         steps = neutral_point_sequence(reduced.loc[reduced["config"] == config], order, profile)
-    latest = steps[-1].stick_fixed if steps else None
-    latest_free = steps[-1].stick_free if steps else None
+    latest, latest_free = _latest_flight_level(reduced, config, profile) if steps else (None, None)
     if latest is None:
         next_step = NextStep(None, None, min_margin_pct_mac or profile.min_static_margin_pct_mac,
                              max_step_pct_mac or profile.cg_step_max_pct_mac, None, "none",
@@ -392,6 +391,24 @@ def trend(
         )
     return Trend(stored.aircraft.name, _listing(stored, cg_by_flight), steps, next_step, config,
                  tuple(dict.fromkeys(warnings)))
+
+
+def _latest_flight_level(reduced: pd.DataFrame, config: str, profile: AircraftProfile):
+    """Both neutral points of every flight so far by the headline (flight-level) model.
+
+    The trend table accumulates the ordinary pooled model flight by flight (fast); the
+    plan rests on the same model as ``trimlog analyze``, which allows for errors shared by
+    a whole flight (CG, force zero), so the two commands give the same next step.
+    """
+    from trimlog.stability.neutral_points import pooled_fit
+
+    part = reduced.loc[reduced["config"] == config]
+    errors = {"lemac_in": profile.lemac_in, "mac_in": profile.mac_in,
+              "cg_uncertainty_pct_mac": profile.cg_uncertainty_pct_mac,
+              "stick_force_zero_uncertainty_lbf": profile.stick_force_zero_uncertainty_lbf}
+    fixed = pooled_fit(part, "stick_fixed", **errors)
+    free = pooled_fit(part, "stick_free", **errors)
+    return fixed.neutral_point, None if free is None else free.neutral_point
 
 
 def _aft_flight_clearly_stable(

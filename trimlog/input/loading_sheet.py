@@ -34,6 +34,9 @@ SHEET_KEYS: tuple[Key, ...] = (
         attr="fuel_flow_gph", description="constant fuel flow"),
     Key("config.flap", "quantity", "deg", low=-20.0, high=60.0, attr="flap_deg",
         description="flap setting flown"),
+    Key("takeoff.cg_uncertainty", "quantity", "in", low=0.0, high=10.0,
+        attr="cg_uncertainty_in",
+        description="1-sigma uncertainty of this flight's CG, shared by all its points"),
     Key("config.stab_setting", "text", description="label of the stabilizer setting flown"),
     Key("config.stab_incidence", "quantity", "deg", low=-15.0, high=15.0,
         attr="stab_incidence_deg", description="its incidence, leading edge up positive"),
@@ -42,6 +45,10 @@ _BY_KEY = {k.key: k for k in SHEET_KEYS}
 # The takeoff CG given in %MAC instead of as a station.
 _CG_PCT_MAC = Key("takeoff.cg", "quantity", "percent", low=-50.0, high=150.0,
                   attr="takeoff_cg_pct_mac", description="CG at takeoff [%MAC]")
+# Its uncertainty given in %MAC instead of as a length.
+_CG_SIGMA_PCT_MAC = Key("takeoff.cg_uncertainty", "quantity", "percent", low=0.0, high=10.0,
+                        attr="cg_uncertainty_pct_mac",
+                        description="1-sigma CG uncertainty of this flight [%MAC]")
 
 
 @dataclass(frozen=True)
@@ -76,6 +83,10 @@ class LoadingSheet:
         Label of the stabilizer incidence setting flown.
     stab_incidence_deg : float or None
         That incidence [deg, leading edge up positive].
+    cg_uncertainty_in, cg_uncertainty_pct_mac : float or None
+        Optional ``takeoff.cg_uncertainty``: 1-sigma uncertainty of this
+        flight's CG, shared by all its points, as a length [in] or in %MAC
+        (``"0.15 in"``, ``"0.3 %MAC"``); None for the profile's default.
     """
 
     source: str
@@ -91,6 +102,8 @@ class LoadingSheet:
     flap_deg: float | None
     stab_setting: str | None
     stab_incidence_deg: float | None
+    cg_uncertainty_in: float | None = None
+    cg_uncertainty_pct_mac: float | None = None
 
 
 def read_loading_sheet(
@@ -157,7 +170,13 @@ def read_loading_sheet(
         table["flight"] = str(flight)  # flight = 3 is the flight "3"
     # the flight label last, so that a malformed value is named before a missing label
     values = {spec.field: read_key(table, spec, fail) for spec in SHEET_KEYS[1:]
-              if spec.key != "takeoff.cg"}
+              if spec.key not in ("takeoff.cg", "takeoff.cg_uncertainty")}
+    sigma = table["takeoff"].get("cg_uncertainty")
+    values["cg_uncertainty_in"] = values["cg_uncertainty_pct_mac"] = None
+    if isinstance(sigma, str) and ("%" in sigma or "mac" in sigma.lower() or "pct" in sigma):
+        values["cg_uncertainty_pct_mac"] = read_key(table, _CG_SIGMA_PCT_MAC, fail)
+    elif sigma is not None:
+        values["cg_uncertainty_in"] = read_key(table, _BY_KEY["takeoff.cg_uncertainty"], fail)
     values["flight"] = read_key(table, SHEET_KEYS[0], fail)
     cg = table["takeoff"].get("cg")
     if cg is None:

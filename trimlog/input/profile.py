@@ -43,6 +43,10 @@ are strings with units (``"118 ft^2"``, ``"51 in"``, ``"25 deg"``).
     weight = "1600 lb"            # optional (default 90 % of max weight)
     cg = "72.5 in"                # optional (default mid-envelope)
 
+    [measurement]                 # optional: errors shared by every point of a flight, 1 sigma
+    cg_uncertainty = 0.3          # %MAC (default 0.3); a loading sheet may give its own
+    stick_force_zero_uncertainty = "0.3 lbf"   # force-gauge zero (default 0.3 lbf)
+
     [fuel]                        # optional, for fuel burn through a flight
     arm = "68 in"
     density = "6.0 lb/gal"        # avgas, US gallon
@@ -76,6 +80,13 @@ DEFAULT_MIN_STATIC_MARGIN_PCT_MAC = 5.0
 DEFAULT_CG_STEP_MAX_PCT_MAC = 2.0
 DEFAULT_ELEVATOR_RESERVE_DEG = 3.0
 DEFAULT_FUEL_DENSITY_LB_PER_GAL = 6.0
+#: Per-flight CG uncertainty, 1 sigma [%MAC]: weighing on platform scales (about 0.1 % of
+#: the reading each) and a fuel quantity known to about a gallon give 0.1-0.2 in on a light
+#: aircraft, about 0.3 %MAC of a 50 in chord.  # common practice, no source
+DEFAULT_CG_UNCERTAINTY_PCT_MAC = 0.3
+#: Per-flight stick-force gauge zero uncertainty, 1 sigma [lbf]: zeroed on the ground, it
+#: drifts with temperature and the pilot's hand position.  # common practice, no source
+DEFAULT_STICK_FORCE_ZERO_UNCERTAINTY_LBF = 0.3
 
 #: Band around the MAC [%MAC] inside which every CG station of the profile
 #: must lie (limits and cruise CG); outside it lemac, mac or the datum is wrong.
@@ -155,6 +166,14 @@ PROFILE_KEYS: tuple[Key, ...] = (
     Key("fuel.density", "quantity", "lb/gal", low=3.0, high=10.0,
         default=DEFAULT_FUEL_DENSITY_LB_PER_GAL, attr="fuel_density_lb_per_gal",
         description="fuel density (avgas 6.0 lb/US gal)"),
+    Key("measurement.cg_uncertainty", "number", "%MAC", low=0.0, high=10.0,
+        default=DEFAULT_CG_UNCERTAINTY_PCT_MAC, attr="cg_uncertainty_pct_mac",
+        description="1-sigma CG uncertainty of each flight, shared by all its points "
+                    "(default for flights whose loading sheet gives none)"),
+    Key("measurement.stick_force_zero_uncertainty", "quantity", "lbf", low=0.0, high=20.0,
+        default=DEFAULT_STICK_FORCE_ZERO_UNCERTAINTY_LBF,
+        attr="stick_force_zero_uncertainty_lbf",
+        description="1-sigma zero error of the stick-force gauge on each flight"),
     Key("airspeed_calibration.ias", "numbers", description="indicated airspeeds of the table"),
     Key("airspeed_calibration.cas", "numbers", description="calibrated airspeeds of the table"),
     Key("airspeed_calibration.unit", "text", default="kt",
@@ -210,6 +229,8 @@ class AircraftProfile:
     elevator_reserve_deg: float = DEFAULT_ELEVATOR_RESERVE_DEG
     fuel_arm_in: float | None = None
     fuel_density_lb_per_gal: float = DEFAULT_FUEL_DENSITY_LB_PER_GAL
+    cg_uncertainty_pct_mac: float = DEFAULT_CG_UNCERTAINTY_PCT_MAC
+    stick_force_zero_uncertainty_lbf: float = DEFAULT_STICK_FORCE_ZERO_UNCERTAINTY_LBF
     position_error_ias_kt: tuple[float, ...] | None = None
     position_error_cas_kt: tuple[float, ...] | None = None
     column_map: Mapping[str, str] = field(default_factory=dict)
@@ -376,6 +397,13 @@ def _fill_defaults(data: Mapping[str, Any], values: dict[str, Any], defaults: li
     if values["cruise_cg_in"] is None:
         values["cruise_cg_in"] = 0.5 * (values["cg_forward_in"] + values["cg_aft_in"])
         defaults.append(f"cruise CG {values['cruise_cg_in']:g} in (mid-envelope)")
+    measurement = data.get("measurement", {})
+    if "cg_uncertainty" not in measurement:
+        defaults.append(f"CG uncertainty {DEFAULT_CG_UNCERTAINTY_PCT_MAC:g} %MAC per flight "
+                        "(1 sigma; common practice)")
+    if "stick_force_zero_uncertainty" not in measurement:
+        defaults.append(f"stick-force zero uncertainty {DEFAULT_STICK_FORCE_ZERO_UNCERTAINTY_LBF:g}"
+                        " lbf per flight (1 sigma; common practice)")
     if "min_static_margin" not in data.get("limits", {}):
         defaults.append(
             f"minimum static margin {DEFAULT_MIN_STATIC_MARGIN_PCT_MAC:g} %MAC "

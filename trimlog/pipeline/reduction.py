@@ -201,6 +201,7 @@ def _weight_and_cg(
                 file=where["file"], line=where["line"], column="weight_lb",
             )
         idx = missing[missing].index
+        _sheet_cg_uncertainty(out, idx, sheet, profile)
         takeoff_cg_in = (
             sheet.takeoff_cg_in if sheet.takeoff_cg_in is not None
             else profile.station(sheet.takeoff_cg_pct_mac)
@@ -236,6 +237,20 @@ def _weight_and_cg(
         )
         out.loc[idx, "weight_lb"] = weight
         out.loc[idx, "cg_in"] = cg
+
+
+def _sheet_cg_uncertainty(out: pd.DataFrame, idx: pd.Index, sheet: FlightLoadingLike,
+                          profile: AircraftProfile) -> None:
+    """Column ``cg_uncertainty_pct_mac`` from the sheet's optional ``takeoff.cg_uncertainty``."""
+    sigma_in = getattr(sheet, "cg_uncertainty_in", None)
+    sigma_pct = getattr(sheet, "cg_uncertainty_pct_mac", None)
+    if sigma_in is not None:
+        sigma_pct = 100.0 * sigma_in / profile.mac_in
+    if sigma_pct is None:
+        return
+    if "cg_uncertainty_pct_mac" not in out:
+        out["cg_uncertainty_pct_mac"] = np.nan
+    out.loc[idx, "cg_uncertainty_pct_mac"] = float(sigma_pct)
 
 
 def _check_cg_plausible(out: pd.DataFrame, profile: AircraftProfile, warnings: list[str]) -> None:

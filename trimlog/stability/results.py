@@ -16,6 +16,7 @@ import pandas as pd
 
 from trimlog.errors import NotIdentifiableError
 from trimlog.statistics.fits import LinearFit
+from trimlog.statistics.flight_effects import FlightLevelFit
 
 
 @dataclass(frozen=True)
@@ -286,6 +287,14 @@ class PooledFit:
     intercept_check : InterceptCheck or None
         Stick-fixed only.
     warnings : tuple of str
+    independent_neutral_point : NeutralPoint or None
+        The neutral point of the ordinary pooled fit, which treats every
+        point as independent (kept for comparison; its interval is too short
+        when a flight's CG or force zero is off).  ``neutral_point`` is the
+        headline: the flight-level model of
+        :mod:`trimlog.statistics.flight_effects`.
+    flight_level : FlightLevelFit or None
+        That model's fit (None when it could not be fitted).
     """
 
     kind: str
@@ -305,6 +314,8 @@ class PooledFit:
     curvature: Curvature | None = None
     intercept_check: InterceptCheck | None = None
     warnings: tuple[str, ...] = ()
+    independent_neutral_point: NeutralPoint | None = None
+    flight_level: FlightLevelFit | None = None
 
     @property
     def params(self) -> pd.Series | None:

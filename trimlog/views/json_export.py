@@ -274,5 +274,9 @@ def neutral_point_dict(np_: NeutralPoint, fit: PooledFit | None = None) -> dict[
 def _method_text(np_: NeutralPoint) -> str:
     if np_.method == "two_stage":
         return "two-stage: gradients against CG (WLS), Fieller 95 % interval"
+    if np_.method == "flight_level":
+        by = "stabilizer setting" if np_.kind == "stick_fixed" else "flight, weighted by q^2"
+        return (f"pooled: intercept per {by}, random slope per flight for errors shared by a "
+                "flight (CG, force zero), Fieller 95 % interval")
     by = "stabilizer setting" if np_.kind == "stick_fixed" else "flight"
     return f"pooled: intercept per {by}, Fieller 95 % interval"
