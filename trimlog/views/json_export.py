@@ -7,11 +7,18 @@ scripts rely on: they are never renamed.  Other keys may be added.
 
 Every number is a finite float or ``null``; a ``null`` comes with a reason
 next to it.  No NaN or infinity is ever written.
+
+The whole shape is pinned by the JSON Schema shipped beside this module,
+``trimlog/views/result.schema.json`` (draft 2020-12; every key listed there is
+required and keeps its type, new keys may be added), and
+``tests/views/test_json_schema.py`` validates real results against it.  Every
+block is built from explicit keys here, never from ``dataclasses.asdict``.
+``findings`` carries ``{code, severity, subject, message, values}`` beside the
+``warnings`` strings.
 """
 
 from __future__ import annotations
 
-import dataclasses
 from typing import TYPE_CHECKING, Any
 
 import pandas as pd
@@ -30,6 +37,62 @@ POINT_EXTRAS = (
     "ias_kt", "tas_kt", "pressure_alt_ft", "oat_c", "nz_g", "q_psf", "fs_over_q_ft2",
     "cg_in", "duration_s", "vs_fpm", "stab_setting", "stab_incidence_deg", "config", "flags",
 )
+
+
+# Every block is built from these explicit keys, never from ``dataclasses.asdict``,
+# so renaming an internal field fails a test instead of changing a public key
+# (the schema, trimlog/views/result.schema.json, pins the whole contract).
+TAIL_KEYS = (
+    "aircraft_class", "htail_volume", "htail_volume_typical", "vtail_volume",
+    "vtail_volume_typical", "htail_aspect_ratio", "vtail_aspect_ratio", "wing_aspect_ratio",
+    "wing_lift_slope_per_rad", "tail_lift_slope_per_rad", "downwash_gradient",
+    "tail_efficiency", "predicted_neutral_point_pct_mac", "measured_neutral_point_pct_mac",
+    "measured_minus_predicted_pct_mac", "findings", "not_computed", "assumptions",
+)
+AUTHORITY_KEYS = (
+    "cases", "reserve_deg", "most_forward_cg_pct_mac", "most_forward_cg_conservative_pct_mac",
+    "most_forward_cg_station_in", "reason", "warnings",
+)
+AUTHORITY_CASE_KEYS = (
+    "case", "clmax", "cg_pct_mac", "setting", "elevator_deg", "ci95_deg", "pi95_deg",
+    "up_stop_deg", "margin_deg", "margin_conservative_deg", "extrapolated", "verdict", "notes",
+)
+CURVATURE_KEYS = ("tested", "cl2_coef", "p_value", "significant", "cl_max_linear", "note")
+NEXT_CG_KEYS = (
+    "cg_pct_mac", "station_in", "criterion", "current_se_pct_mac", "predicted_se_pct_mac",
+    "search_range_pct_mac", "reason",
+)
+NEXT_STEP_KEYS = (
+    "max_cg_pct_mac", "max_cg_station_in", "min_static_margin_pct_mac", "step_max_pct_mac",
+    "most_aft_flown_pct_mac", "limited_by", "reason",
+)
+TAU_CALIBRATION_KEYS = (
+    "tau", "ci95", "identifiable", "reason", "intercept_shift_deg", "shift_se_deg",
+    "incidence_change_deg", "incidence_change_se_deg", "df", "shift_t_ratio",
+)
+INCIDENCE_KEYS = (  # the issue's contract keys first, then the extras
+    "cruise_cl", "cruise_cg_pct_mac", "elevator_at_cruise_deg", "elevator_at_cruise_ci95_deg",
+    "tau", "tau_source", "change_deg", "change_ci95_deg", "shim_thickness_in",
+    "shim_thickness_mm", "shim_location", "tau_ci95", "tau_explanation", "change_method",
+    "shim_recommended", "shim_stock", "shim_stock_sheets", "shim_stock_thickness_in",
+    "shim_stock_thickness_mm", "shim_stock_change_deg", "residual_elevator_deg",
+    "current_incidence_deg", "new_incidence_deg", "words", "warnings", "cautions",
+)
+REQUIREMENT_KEYS = (
+    "control", "limit_load_factor_g", "force_to_limit_lbf", "per_g_23_155_lbf",
+    "per_g_common_practice_lbf", "minimum_per_g_lbf", "assumed",
+)
+
+
+def _record(obj: Any, keys: tuple[str, ...]) -> dict[str, Any] | None:
+    """``{key: obj.key}`` for the listed keys (tuples as lists); None for None."""
+    if obj is None:
+        return None
+    out = {}
+    for key in keys:
+        value = getattr(obj, key)
+        out[key] = list(value) if isinstance(value, tuple) else value
+    return out
 
 
 def analysis_to_dict(analysis: Analysis) -> dict[str, Any]:
@@ -69,9 +132,7 @@ def analysis_to_dict(analysis: Analysis) -> dict[str, Any]:
             {"configuration": other.config, **configuration_dict(other, analysis)}
             for other in analysis.others
         ],
-        "tail_geometry": (
-            None if analysis.tail is None else dataclasses.asdict(analysis.tail)
-        ),
+        "tail_geometry": _record(analysis.tail, TAIL_KEYS),
         "warnings": list(analysis.warnings),
         "findings": [f.to_dict() for f in analysis.findings],
         "cautions": list(analysis.cautions),
@@ -121,7 +182,7 @@ def maneuvering_dict(result: Any) -> dict[str, Any] | None:
                            "stick_free": point(result.stick_free)},
         "hm_minus_hn_pct_mac": result.hm_minus_hn_pct_mac,
         "hm_free_minus_hn_free_pct_mac": result.hm_free_minus_hn_free_pct_mac,
-        "requirement": dataclasses.asdict(req),
+        "requirement": _record(req, REQUIREMENT_KEYS),
         "aft_limit_stick_force_per_g_lbf": result.aft_limit_force_per_g_lbf,
         "aft_limit_stick_force_per_g_ci95_lbf": result.aft_limit_force_per_g_ci95_lbf,
         "aft_cg_pct_mac": result.aft_cg_pct_mac,
@@ -202,7 +263,10 @@ def configuration_dict(result: ConfigurationResult, analysis: Analysis) -> dict[
         ],
         "min_static_margin_pct_mac": analysis.profile.min_static_margin_pct_mac,
         "elevator_authority": (
-            None if s.authority is None else dataclasses.asdict(s.authority)
+            None if s.authority is None else {
+                **_record(s.authority, AUTHORITY_KEYS),
+                "cases": [_record(c, AUTHORITY_CASE_KEYS) for c in s.authority.cases],
+            }
         ),
         "fit_checks": {
             "outliers": [
@@ -215,25 +279,15 @@ def configuration_dict(result: ConfigurationResult, analysis: Analysis) -> dict[
             "robust_stick_fixed_pct_mac": (
                 None if s.stick_fixed.robust is None else s.stick_fixed.robust.pct_mac
             ),
-            "curvature": (
-                None if s.stick_fixed.curvature is None
-                else {k: v for k, v in dataclasses.asdict(s.stick_fixed.curvature).items()
-                      if k != "restricted"}
-            ),
+            "curvature": _record(s.stick_fixed.curvature, CURVATURE_KEYS),
             "stop_flags": _stop_flags(analysis.points, result.config),
             "n_excluded": s.n_excluded,
         },
-        "next_cg_for_precision": dataclasses.asdict(s.next_cg),
-        "next_step": None if s.next_step is None else dataclasses.asdict(s.next_step),
-        "incidence": (
-            None if result.incidence is None
-            else {**result.incidence.to_json()}
-        ),
+        "next_cg_for_precision": _record(s.next_cg, NEXT_CG_KEYS),
+        "next_step": _record(s.next_step, NEXT_STEP_KEYS),
+        "incidence": _record(result.incidence, INCIDENCE_KEYS),
         "incidence_reason": result.incidence_reason or None,
-        "tau_calibration": (
-            None if result.tau_calibration is None
-            else dataclasses.asdict(result.tau_calibration)
-        ),
+        "tau_calibration": _record(result.tau_calibration, TAU_CALIBRATION_KEYS),
     }
 
 
