@@ -25,6 +25,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 import pandas as pd
 
+from trimlog.demo import calibration
 from trimlog.demo.model import (
     _SHIM_DEG,
     DEFAULT_SEED,
@@ -34,6 +35,8 @@ from trimlog.demo.model import (
     HOLD_FORCE_SD_LBF,
     PROFILE_FILE,
     PROFILE_TOML,
+    TRUE_POSITION_ERROR_CAS_KT,
+    TRUE_POSITION_ERROR_IAS_KT,
     WINDUP_STEP_S,
     WINDUP_STEPS_G,
     DemoFlight,
@@ -43,6 +46,7 @@ from trimlog.demo.model import (
     _smooth_state,
     truth_points,
 )
+from trimlog.physics import airspeed, atmosphere
 
 if TYPE_CHECKING:
     from trimlog.input.profile import AircraftProfile
@@ -173,7 +177,8 @@ def time_series_csv(flight: DemoFlight, state: Mapping[str, np.ndarray],
     dt : float
         Sample interval [s].
     profile : AircraftProfile
-        The demo profile (its position-error table gives the logged IAS).
+        The demo profile (the true position error of the demo model gives the
+        logged IAS, whatever table the profile ships).
     rng : numpy.random.Generator
         The flight's noise generator.
     windup_rng : numpy.random.Generator, optional
@@ -216,7 +221,7 @@ def _noisy_channels(s: Mapping[str, np.ndarray], held: Mapping[str, np.ndarray],
     n = s["t"].size
     white = rng.standard_normal
     cas = s["cas"] + _ar1(rng, n, 0.3, 1.5, dt)
-    ias = np.interp(cas, p.position_error_cas_kt, p.position_error_ias_kt) + 0.15 * white(n)
+    ias = np.interp(cas, TRUE_POSITION_ERROR_CAS_KT, TRUE_POSITION_ERROR_IAS_KT) + 0.15 * white(n)
     channels = {
         "IAS (mph)": ias * KT_TO_MPH,
         "PALT (ft)": s["alt"] + _ar1(rng, n, 6.0, 5.0, dt) + 2.0 * white(n),
@@ -236,6 +241,59 @@ def _noisy_channels(s: Mapping[str, np.ndarray], held: Mapping[str, np.ndarray],
     for values in channels.values():
         _dropouts(rng, values, 1 / 150, dt)
     return channels
+
+
+def calibration_flight_csv(rng: np.random.Generator) -> str:
+    """Write the demo calibration flight's log (see the module notes).
+
+    Parameters
+    ----------
+    rng : numpy.random.Generator
+        The flight's noise generator.
+
+    Returns
+    -------
+    str
+        CSV text in the demo logger's units and channel names.
+    """
+    dt = 1.0 / calibration.RATE_HZ
+    s = calibration.plan(dt)
+    n = s["t"].size
+    white = rng.standard_normal
+    alt = calibration.ALTITUDE_FT + _ar1(rng, n, 6.0, 5.0, dt)
+    oat = (atmosphere.isa_temperature_k(calibration.ALTITUDE_FT) - atmosphere.KELVIN_OFFSET
+           + DEMO_TRUTH.isa_deviation_c)
+    ias_flown = s["ias"] + _ar1(rng, n, 0.3, 1.5, dt)
+    cas = np.interp(ias_flown, TRUE_POSITION_ERROR_IAS_KT, TRUE_POSITION_ERROR_CAS_KT)
+    tas = np.asarray(airspeed.cas_to_tas(cas, alt, np.full(n, oat)))
+    psi = np.radians(s["heading"])
+    towards = math.radians(calibration.WIND_FROM_DEG + 180.0)
+    gust_e, gust_n = _ar1(rng, n, 0.5, 5.0, dt), _ar1(rng, n, 0.5, 5.0, dt)
+    east = tas * np.sin(psi) + calibration.WIND_KT * math.sin(towards) + gust_e
+    north = tas * np.cos(psi) + calibration.WIND_KT * math.cos(towards) + gust_n
+    turn_rate = np.gradient(psi, dt)  # [rad/s]
+    bank = np.arctan(turn_rate * tas * 1852.0 / 3600.0 / atmosphere.G0_MPS2)
+    channels = {
+        "IAS (mph)": (ias_flown + 0.15 * white(n)) * KT_TO_MPH,
+        "PALT (ft)": alt + 2.0 * white(n),
+        "OAT (C)": oat + 0.1 * white(n),
+        "NZ (g)": 1.0 / np.cos(bank) + _ar1(rng, n, 0.02, 0.3, dt) + 0.005 * white(n),
+        "GPS_GS (kt)": np.hypot(east, north) + 0.1 * white(n),
+        "GPS_TRK (deg)": np.mod(np.degrees(np.arctan2(east, north)) + 0.3 * white(n), 360.0),
+    }
+    _spikes(rng, channels["IAS (mph)"], 1 / 60, dt, 12.0, 30.0)
+    for values in channels.values():
+        _dropouts(rng, values, 1 / 150, dt)
+    resolution = {"IAS (mph)": (1, None), "PALT (ft)": (0, 1.0), "OAT (C)": (1, None),
+                  "NZ (g)": (3, None), "GPS_GS (kt)": (1, None), "GPS_TRK (deg)": (1, None)}
+    columns = [_cells(s["t"], 1)]
+    columns += [_cells(values, *resolution[name]) for name, values in channels.items()]
+    preamble = [
+        "DEMO-LOG (invented logger) session export",
+        "aircraft: DEMO-1 Tinkerfinch TF-2 (invented); airspeed calibration, GPS legs; "
+        f"{calibration.RATE_HZ:g} Hz",
+    ]
+    return _table(["Time (s)", *channels], columns, preamble)
 
 
 def loading_sheet_toml(flight: DemoFlight) -> str:
@@ -390,6 +448,35 @@ truth, `trimlog.demo.model.truth_points(flight)` the noise-free points of each f
 """
 
 
+def calibration_readme(profile: AircraftProfile) -> str:
+    """The README section on the calibration flight: plan, truth, and the table shipped."""
+    c = calibration
+    true_rows = "\n".join(
+        f"| {i:g} | {v:g} | {v - i:+.1f} |"
+        for i, v in zip(TRUE_POSITION_ERROR_IAS_KT, TRUE_POSITION_ERROR_CAS_KT, strict=True))
+    shipped = ", ".join(f"{i:g} -> {v:g}" for i, v in zip(
+        profile.position_error_ias_kt or (), profile.position_error_cas_kt or (), strict=True))
+    return f"""
+## Airspeed calibration flight
+
+`{c.CALIBRATION_FILE}`: before the stability flights, GPS legs at
+{len(c.SPEEDS_KIAS)} indicated speeds ({c.SPEEDS_KIAS[0]:g}-{c.SPEEDS_KIAS[-1]:g} KIAS), four
+straight legs of {c.LEG_S:g} s per speed on headings
+{", ".join(f"{h:03.0f}" for h in c.HEADINGS_DEG)} joined by standard-rate turns, at
+{c.ALTITUDE_FT:g} ft in a wind of {c.WIND_KT:g} kt from {c.WIND_FROM_DEG:03.0f} deg,
+logged at {c.RATE_HZ:g} Hz (IAS in mph, pressure altitude, OAT, load factor, GPS ground speed
+`GPS_GS (kt)` and track `GPS_TRK (deg)`), with light turbulence and gusts, GPS noise,
+airspeed spikes and dropouts.  The true position error every demo flight was generated with:
+
+| IAS (kt) | CAS (kt) | ΔV (kt) |
+|---|---|---|
+{true_rows}
+
+`trimlog calibrate {c.CALIBRATION_FILE} --aircraft {PROFILE_FILE} --write-profile NEW.toml`
+finds the table that `{PROFILE_FILE}` ships (IAS -> CAS, kt): {shipped}.
+"""
+
+
 def write_demo(directory: Path, *, seed: int = DEFAULT_SEED) -> list[Path]:
     """Write the demo profile, flights, loading sheets and README into ``directory``.
 
@@ -405,7 +492,7 @@ def write_demo(directory: Path, *, seed: int = DEFAULT_SEED) -> list[Path]:
     -------
     list of pathlib.Path
         The files written: profile, then each flight's log (and loading
-        sheet), then ``README.md``.
+        sheet), the calibration flight (``calibration/``), then ``README.md``.
     """
     directory = Path(directory)
     directory.mkdir(parents=True, exist_ok=True)
@@ -422,12 +509,16 @@ def write_demo(directory: Path, *, seed: int = DEFAULT_SEED) -> list[Path]:
                 flight, _smooth_state(flight, dt, DEMO_TRUTH), _hold_error_series(flight, seed),
                 dt, DEMO_PROFILE, rng, np.random.default_rng([seed, flight.number, 2]))
             texts[flight.loading_file] = loading_sheet_toml(flight)
+    texts[calibration.CALIBRATION_FILE] = calibration_flight_csv(
+        np.random.default_rng([seed, 0]))
     texts["README.md"] = readme(
         seed, DEMO_TRUTH, DEMO_PROFILE, profile_file=PROFILE_FILE, shim_deg=_SHIM_DEG,
-        hold_elevator_sd_deg=HOLD_ELEVATOR_SD_DEG, hold_force_sd_lbf=HOLD_FORCE_SD_LBF)
+        hold_elevator_sd_deg=HOLD_ELEVATOR_SD_DEG, hold_force_sd_lbf=HOLD_FORCE_SD_LBF,
+    ) + calibration_readme(DEMO_PROFILE)
     written = []
     for name, text in texts.items():
         path = directory / name
+        path.parent.mkdir(parents=True, exist_ok=True)
         path.write_bytes(text.encode("utf-8"))
         written.append(path)
     return written

@@ -41,11 +41,11 @@ point ``hn'`` (stable: a pull is needed to fly slower than trim) [1]_ [3]_.
 
 *Flight condition.*  ``CL = n·W/(q·S)`` with ``q`` from EAS; EAS from CAS
 through the compressible relations of :mod:`trimlog.physics.airspeed` at the pressure
-altitude; IAS from CAS through the inverse of the profile's position-error
-table.  ``n = cos γ / cos φ`` (climb angle γ, bank angle φ).  Weight and CG
-follow the fuel burnt, at the profile's fuel arm and density.  Thrust,
-pitch-rate damping in turns and the tab's own pitching moment are left out:
-the model is a clean oracle, not a simulation.
+altitude; IAS from CAS through the inverse of the true position-error table
+:data:`TRUE_POSITION_ERROR_IAS_KT` / ``_CAS_KT``.  ``n = cos γ / cos φ`` (climb
+angle γ, bank angle φ).  Weight and CG follow the fuel burnt, at the profile's
+fuel arm and density.  Thrust, pitch-rate damping in turns and the tab's own
+pitching moment are left out: the model is a clean oracle, not a simulation.
 
 *Hold-level error.*  No hold is flown exactly at trim: the pilot keeps a
 small untrimmed pitch attitude or pitch rate, the air moves slowly, the
@@ -160,8 +160,9 @@ arm = "62 in"
 density = "6.0 lb/gal"
 
 [airspeed_calibration]
-ias = [50, 60, 70, 80, 90, 100, 110, 120, 130, 140]
-cas = [53.5, 62.0, 71.0, 80.5, 90.0, 99.5, 109.0, 118.5, 128.0, 137.5]
+# from `trimlog calibrate calibration/calibration_flight.csv` (GPS legs, see README.md)
+ias = [55, 65, 75, 85, 95, 105, 114.9, 124.9, 134.9]
+cas = [57.7, 66.6, 75.8, 85.1, 94.6, 104.2, 113.6, 123.2, 132.6]
 unit = "kt"
 
 [logger]
@@ -334,6 +335,12 @@ def _point_programme() -> tuple[Segment, ...]:
 
 
 DEMO_PROFILE: AircraftProfile = parse_profile(PROFILE_TOML, source=PROFILE_FILE)
+
+#: The demo aircraft's true position error, IAS -> CAS [kt], with which every demo
+#: flight is generated.  The profile ships the table that ``trimlog calibrate``
+#: finds from the demo's calibration flight (:mod:`trimlog.demo.calibration`).
+TRUE_POSITION_ERROR_IAS_KT = (50.0, 60.0, 70.0, 80.0, 90.0, 100.0, 110.0, 120.0, 130.0, 140.0)
+TRUE_POSITION_ERROR_CAS_KT = (53.5, 62.0, 71.0, 80.5, 90.0, 99.5, 109.0, 118.5, 128.0, 137.5)
 
 _RIGGED_DEG = -1.0
 _SHIM_DEG = -0.6
@@ -542,7 +549,7 @@ def _smooth_state(flight: DemoFlight, dt: float, truth: DemoTruth) -> dict[str, 
     s["cg"] = (zero_fuel_moment + fuel_now_lb * p.fuel_arm_in) / s["weight"]
     s["h"] = (s["cg"] - p.lemac_in) / p.mac_in
     s["cas"] = airspeed.ias_to_cas(
-        s["ias"], p.position_error_ias_kt, p.position_error_cas_kt
+        s["ias"], TRUE_POSITION_ERROR_IAS_KT, TRUE_POSITION_ERROR_CAS_KT
     ).cas_kt
     s["eas"] = airspeed.cas_to_eas(s["cas"], s["alt"])
     tas = airspeed.eas_to_tas(s["eas"], s["alt"], s["oat"])

@@ -21,9 +21,9 @@ The chain of ``trimlog calibrate``:
    the effect of an OAT error of :data:`OAT_UNCERTAINTY_95_C` (the probe's
    calibration is shared by every leg of the flight, so the residuals cannot
    see it).
-5. **Curve**: a polynomial in IAS through the ΔV of the speeds (quadratic
-   from four speeds, straight line from two), evaluated at the speeds flown:
-   the profile's ``[airspeed_calibration]`` table.
+5. **Curve**: a polynomial in IAS through the ΔV of the speeds (cubic from
+   six speeds, quadratic from four, straight line from two), evaluated at the
+   speeds flown: the profile's ``[airspeed_calibration]`` table.
 6. **Altimeter**: the static-source error as an altitude correction, under
    the usual assumption that the pitot (total-pressure) error is nil, so the
    whole ΔV comes from the static source.  Where that assumption fails (a
@@ -188,7 +188,7 @@ class CalibrationResult:
         The smooth curve at the speeds flown, for the profile (empty with
         fewer than two speeds).
     curve_coefficients : tuple of float
-        ΔV = c0 + c1·IAS + c2·IAS² [kt], as many terms as fitted.
+        ΔV = c0 + c1·IAS + c2·IAS² + c3·IAS³ [kt], as many terms as fitted.
     findings : tuple of Finding
         Warnings and notes, the log readers' included.
     sources : tuple of str
@@ -428,17 +428,17 @@ def _solve_speed(legs: pd.DataFrame, rows: np.ndarray, oat_logged: bool,
 
 
 def _curve(speeds: list[SpeedCalibration]) -> tuple[float, ...]:
-    """Least-squares polynomial ΔV(IAS): quadratic from 4 speeds, line from 2, constant for 1."""
+    """Least-squares polynomial ΔV(IAS) through the speeds' ΔV, equal weights.
+
+    Cubic from six distinct speeds, quadratic from four, a straight line from
+    two, a constant for one.  Equal weights: each speed's own interval rests on
+    as few as one degree of freedom, too noisy to weight by.
+    """
     x = np.array([s.ias_kt for s in speeds])
     y = np.array([s.delta_v_kt for s in speeds])
     distinct = len(np.unique(np.round(x, 1)))
-    degree = 2 if distinct >= 4 else min(1, distinct - 1)
-    halves = [s.delta_v_ci95_kt for s in speeds]
-    if all(h is not None for h in halves):
-        w = 1.0 / np.maximum(np.array([(h[1] - h[0]) / 2.0 for h in halves]), 1e-6)
-    else:
-        w = np.ones_like(x)
-    coef = np.polynomial.polynomial.polyfit(x, y, degree, w=w)
+    degree = 3 if distinct >= 6 else 2 if distinct >= 4 else min(1, distinct - 1)
+    coef = np.polynomial.polynomial.polyfit(x, y, degree)
     return tuple(float(c) for c in coef)
 
 

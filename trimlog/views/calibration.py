@@ -61,7 +61,7 @@ def calibration_to_dict(result: CalibrationResult) -> dict[str, Any]:
         "table": {"ias_kt": list(result.table_ias_kt), "cas_kt": list(result.table_cas_kt)},
         "curve": {
             "delta_v_coefficients_kt": list(result.curve_coefficients),
-            "form": "delta_v_kt = c0 + c1*ias_kt + c2*ias_kt^2 (as many terms as given)",
+            "form": "delta_v_kt = c0 + c1*ias_kt + c2*ias_kt^2 + c3*ias_kt^3 (terms as given)",
             "ias_range_kt": ([min(result.table_ias_kt), max(result.table_ias_kt)]
                              if result.table_ias_kt else None),
         },
