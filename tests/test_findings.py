@@ -142,3 +142,10 @@ def test_severity_order_and_lines():
     assert lines([note, note, warn]) == ("a.csv: no stabilized point found in this log",
                                         "no incidence recommendation: r")
     assert Severity("caution") is Severity.CAUTION
+
+
+def test_a_negative_value_that_rounds_to_zero_has_no_sign():
+    f = Finding("incidence.shim.residual", Severity.NOTE, values={"residual_elevator_deg": -0.003})
+    assert f.message == "Expected elevator at cruise after the shim: +0.00 deg."
+    f = Finding("incidence.shim.residual", Severity.NOTE, values={"residual_elevator_deg": -0.02})
+    assert "-0.02 deg" in f.message

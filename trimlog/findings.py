@@ -236,12 +236,20 @@ def template_fields(template: str) -> set[str]:
 
 
 class _Render(string.Formatter):
-    """``str.format`` that prints a missing number (None) as 'unknown' whatever the spec."""
+    """``str.format`` for findings: None as 'unknown', and no sign on a rounded zero.
+
+    A missing number prints 'unknown' whatever the spec; a negative number that
+    rounds to zero prints as zero (``+0.00``, not ``-0.00``).
+    """
 
     def format_field(self, value: object, format_spec: str) -> str:
         if value is None:
             return "unknown"
-        return super().format_field(value, format_spec)
+        text = super().format_field(value, format_spec)
+        if isinstance(value, float) and text.lstrip().startswith("-") and not any(
+                c in "123456789" for c in text.split("e")[0].split("E")[0]):
+            return super().format_field(0.0, format_spec)
+        return text
 
 
 @dataclass(frozen=True)
