@@ -89,6 +89,9 @@ def _build_parser() -> argparse.ArgumentParser:
     _add_log_inputs(p, with_db=True)
     p.add_argument("--json", metavar="OUT.json", help="write the machine-readable result")
     p.add_argument("--quiet", action="store_true", help="no terminal summary")
+    p.add_argument("--calibrate-from", action="append", default=[], metavar="CAL_LOG",
+                   help="airspeed-calibration log (GPS legs; repeatable): calibrate first and "
+                        "analyse with that position-error table instead of the profile's")
 
     p = command(
         "calibrate",
@@ -108,6 +111,9 @@ def _build_parser() -> argparse.ArgumentParser:
                         "filled (everything else byte for byte)")
     p.add_argument("--min-leg", type=float, metavar="SECONDS",
                    help="shortest steady leg in a time-series log (default 20 s)")
+    p.add_argument("--db", metavar="DB",
+                   help="also keep the calibration with the aircraft in this flight history "
+                        "(its profile's next version); later recomputes use it")
     p.add_argument("--quiet", action="store_true", help="no terminal summary")
 
     p = command(
@@ -320,6 +326,8 @@ def _load_inputs(  # -> (profile, flights)
 
     if profile is None:
         profile = analysis.load_profile(args.aircraft)
+    if getattr(args, "calibrate_from", None):
+        profile = _calibrated_profile(profile, args.calibrate_from)
     loading_overrides = _parse_pairs(args.loading, "--loading", "LOG=SHEET", "=")
     flights = []
     for log in args.logs:
@@ -333,6 +341,15 @@ def _load_inputs(  # -> (profile, flights)
             )
         )
     return profile, flights
+
+
+def _calibrated_profile(profile, logs: list[str]):
+    from trimlog.pipeline import calibration
+
+    _progress("calibrating airspeed from " + ", ".join(logs))
+    result = calibration.calibrate(
+        [calibration.read_calibration_log(log, profile) for log in logs])
+    return calibration.with_calibration(profile, result)
 
 
 def _parse_pairs(values: list[str], option: str, form: str, sep: str) -> dict[str, str]:
@@ -449,6 +466,17 @@ def _run_calibrate(args: argparse.Namespace) -> int:
                   "at least two calibrated speeds", file=sys.stderr)
             return EXIT_REFUSED
         _write_calibrated_profile(args.aircraft, args.write_profile, result)
+    if args.db:
+        if len(result.table_ias_kt) < 2:
+            print(f"trimlog: nothing stored in {args.db}: a position-error table needs at "
+                  "least two calibrated speeds", file=sys.stderr)
+            return EXIT_REFUSED
+        from trimlog.history.service import store_calibration
+
+        with _open_store(args.db) as store:
+            record = store_calibration(store, profile, result)
+        print(f"kept with '{record.name}' in {args.db} as profile version "
+              f"{record.profile_version}", file=sys.stderr)
     return EXIT_OK if result.determinable else EXIT_REFUSED
 
 

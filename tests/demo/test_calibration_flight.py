@@ -17,8 +17,8 @@ from trimlog.demo.model import (
     TRUE_POSITION_ERROR_IAS_KT,
 )
 from trimlog.input.profile import parse_profile
-from trimlog.pipeline import chain
 from trimlog.pipeline import calibration as cal
+from trimlog.pipeline import chain
 
 SAMPLES = Path(__file__).resolve().parent.parent.parent / "sample_logs"
 PROFILE = SAMPLES / "tinkerfinch_tf2.toml"

@@ -22,7 +22,7 @@ from trimlog.history.codec import clean
 from trimlog.history.store import AircraftRecord, FlightRecord, ImportOutcome, Store
 from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
 from trimlog.input.profile import AircraftProfile, parse_profile
-from trimlog.pipeline import chain
+from trimlog.pipeline import calibration, chain
 from trimlog.pipeline.reduction import reduce_points
 from trimlog.stability.critical import aft_flight_clearly_stable
 from trimlog.stability.trend import NextStep, TrendStep, neutral_point_sequence, plan_next_step
@@ -175,6 +175,38 @@ def import_log(
 
 
 # --------------------------------------------------------------------------- reading back
+
+
+def store_calibration(store: Store, profile: AircraftProfile,
+                      result: calibration.CalibrationResult) -> AircraftRecord:
+    """Keep an airspeed calibration with the aircraft: its profile with the new table.
+
+    The profile text with the ``[airspeed_calibration]`` section replaced (a
+    comment names the calibration logs) becomes the aircraft's next profile
+    version; earlier versions are kept.  Every later recompute of the history
+    (``trimlog report --db``, ``trimlog trend``, the dashboard) then reduces
+    the stored flights with it: re-analysing is that one command.
+
+    Parameters
+    ----------
+    store : Store
+    profile : AircraftProfile
+        The profile the calibration was run with.
+    result : CalibrationResult
+        With a table (two or more speeds).
+
+    Returns
+    -------
+    AircraftRecord
+        The aircraft with its new current profile version.
+
+    Raises
+    ------
+    NotIdentifiableError
+        The calibration gave no table.
+    """
+    calibrated = calibration.with_calibration(profile, result)
+    return store.upsert_aircraft(calibrated.name, calibrated.text)
 
 
 def _aircraft(store: Store, aircraft: str | None) -> AircraftRecord:

@@ -41,7 +41,7 @@ References
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
@@ -51,6 +51,7 @@ import pandas as pd
 from trimlog.errors import NotIdentifiableError, TrimlogError
 from trimlog.input.logs import LogRead, read_log
 from trimlog.input.profile import AircraftProfile
+from trimlog.input.profile_writer import replace_calibration
 from trimlog.physics import airspeed, atmosphere
 from trimlog.physics.wind_triangle import (
     GOOD_HEADING_ARC_DEG,
@@ -530,6 +531,38 @@ def calibrate(
         sources=tuple(log.source for log in logs))
 
 
+def with_calibration(profile: AircraftProfile, result: CalibrationResult) -> AircraftProfile:
+    """The profile with its position-error table replaced by the calibration's.
+
+    Parameters
+    ----------
+    profile : AircraftProfile
+        As loaded; its ``text`` is rewritten too (only the
+        ``[airspeed_calibration]`` section changes), so a history stores it as
+        a new profile version.
+    result : CalibrationResult
+        With a table (two or more speeds).
+
+    Returns
+    -------
+    AircraftProfile
+
+    Raises
+    ------
+    NotIdentifiableError
+        The calibration gave no table.
+    """
+    if len(result.table_ias_kt) < 2:
+        raise NotIdentifiableError(
+            "the calibration gave no position-error table (fewer than two speeds solved)")
+    names = ", ".join(Path(s).name for s in result.sources)
+    text = replace_calibration(
+        profile.text, result.table_ias_kt, result.table_cas_kt, source=profile.source,
+        comment=f"from trimlog calibrate of {names} (GPS legs, {len(result.speeds)} speeds)")
+    return replace(profile, position_error_ias_kt=result.table_ias_kt,
+                   position_error_cas_kt=result.table_cas_kt, text=text)
+
+
 def calibrate_files(
     paths: list[str | Path], profile: AircraftProfile, *, settings: LegSettings | None = None
 ) -> CalibrationResult:
@@ -541,5 +574,5 @@ def calibrate_files(
 __all__ = [
     "CalibrationResult", "Finding", "LegSettings", "SpeedCalibration",
     "altitude_correction_ft", "calibrate", "calibrate_files", "find_legs", "group_legs",
-    "read_calibration_log", "tas_to_cas",
+    "read_calibration_log", "tas_to_cas", "with_calibration",
 ]
