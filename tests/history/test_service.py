@@ -119,3 +119,19 @@ def test_a_file_with_several_flights_is_refused(tmp_path):
     with open_store(tmp_path / "h.sqlite") as store:
         with pytest.raises(InputFileError, match="one flight per file"):
             history.import_flight(store, raw, "two.csv", text)
+
+
+def test_a_zero_margin_or_step_is_a_choice_not_unset(tmp_path):
+    # a climb with no stabilized point: the plan says why, with the policy as given
+    rows = ["time_s,ias_kt,palt_ft,oat_c,elevator_deg,stick_force_lbf,weight_lb,cg_in"] + [
+        f"{t},{80 + t},{4500 + 30 * t},10,{-2 + 0.1 * t},0.5,1500,70" for t in range(60)]
+    log = tmp_path / "climb.csv"
+    log.write_text("\n".join(rows) + "\n")
+    with open_store(tmp_path / "h.sqlite") as store:
+        history.import_log(store, log, profile_text=PROFILE.read_text(),
+                           profile_source=str(PROFILE))
+        plan = history.trend(store, min_margin_pct_mac=0.0, max_step_pct_mac=0.0).next_step
+        default = history.trend(store).next_step
+    assert plan.max_cg_pct_mac is None and plan.limited_by == "none"
+    assert plan.min_static_margin_pct_mac == 0.0 and plan.step_max_pct_mac == 0.0
+    assert default.min_static_margin_pct_mac > 0.0  # the profile's policy when not given

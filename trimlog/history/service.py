@@ -411,9 +411,12 @@ def trend(
         steps = neutral_point_sequence(reduced.loc[reduced["config"] == config], order, profile)
     latest, latest_free = _latest_flight_level(reduced, config, profile) if steps else (None, None)
     if latest is None:
-        next_step = NextStep(None, None, min_margin_pct_mac or profile.min_static_margin_pct_mac,
-                             max_step_pct_mac or profile.cg_step_max_pct_mac, None, "none",
-                             "no flight with usable points yet")
+        # an explicit 0 is a choice, not "unset": compare with None
+        next_step = NextStep(
+            None, None,
+            profile.min_static_margin_pct_mac if min_margin_pct_mac is None else min_margin_pct_mac,
+            profile.cg_step_max_pct_mac if max_step_pct_mac is None else max_step_pct_mac,
+            None, "none", "no flight with usable points yet")
     else:
         next_step = plan_next_step(
             latest, list(cg_by_flight.values()), profile, min_margin_pct_mac=min_margin_pct_mac,
