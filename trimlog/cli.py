@@ -109,6 +109,9 @@ def _build_parser() -> argparse.ArgumentParser:
     p.add_argument("--write-profile", metavar="NEW.toml",
                    help="write a copy of the profile with the airspeed-calibration table "
                         "filled (everything else byte for byte)")
+    p.add_argument("--report", metavar="CAL.pdf",
+                   help="write the calibration report (PDF, or HTML for a .html name): the "
+                        "circle fit per speed and the position error against IAS")
     p.add_argument("--min-leg", type=float, metavar="SECONDS",
                    help="shortest steady leg in a time-series log (default 20 s)")
     p.add_argument("--db", metavar="DB",
@@ -460,6 +463,10 @@ def _run_calibrate(args: argparse.Namespace) -> int:
         _write_json(args.json, calibration_to_dict(result))
     if not args.quiet:
         print(render_calibration(result))
+    if args.report:
+        from trimlog.views.calibration_report import write_calibration_report
+
+        write_calibration_report(result, args.report, aircraft=profile.name)
     if args.write_profile:
         if len(result.table_ias_kt) < 2:
             print(f"trimlog: {args.write_profile} not written: a position-error table needs "
