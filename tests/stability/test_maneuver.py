@@ -172,3 +172,24 @@ def test_maneuver_point_intervals_cover_the_truth():
     fixed, free = _coverage(400)
     assert 0.93 <= fixed <= 0.97, fixed
     assert 0.93 <= free <= 0.97, free
+
+
+def test_the_next_cg_step_keeps_the_maneuvering_limits():
+    from trimlog.stability.critical import tighten_next_step
+    from trimlog.stability.results import NextStep
+
+    result = maneuver.analyze_maneuvering(_programme((0.20, 0.27, 0.33)), DEMO_PROFILE)
+    limits = result.next_step_limits()
+    assert set(limits) <= {"stick_fixed_mp", "stick_free_mp", "min_stick_force_per_g"}
+    assert min(v for v, _ in limits.values()) == result.aft_cg_pct_mac
+    wide = NextStep(40.0, None, 5.0, 3.0, 20.0, "aft_limit", "the neutral-point rule")
+    step = tighten_next_step(wide, limits, DEMO_PROFILE.station)
+    assert step.max_cg_pct_mac == pytest.approx(result.aft_cg_pct_mac)
+    assert step.limited_by in limits and "sets the limit" in step.reason
+    assert step.max_cg_station_in == pytest.approx(DEMO_PROFILE.station(step.max_cg_pct_mac))
+    # Not aft of what was flown: no step at all (never a number the data cannot support).
+    flown_aft = NextStep(40.0, None, 5.0, 3.0, result.aft_cg_pct_mac + 1.0, "aft_limit", "rule")
+    assert tighten_next_step(flown_aft, limits).max_cg_pct_mac is None
+    # A limit aft of the rule's step changes nothing.
+    tight = NextStep(15.0, None, 5.0, 3.0, 12.0, "stick_free_np", "rule")
+    assert tighten_next_step(tight, limits) is tight

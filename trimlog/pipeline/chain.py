@@ -11,6 +11,7 @@ read that one object, so they cannot disagree.
 
 from __future__ import annotations
 
+import dataclasses
 import hashlib
 import math
 from collections.abc import Iterable, Sequence
@@ -36,6 +37,7 @@ from trimlog.progress import SILENT, Progress
 from trimlog.stability import maneuver
 from trimlog.stability import neutral_points as stability
 from trimlog.stability import tail as tailgeometry
+from trimlog.stability.critical import tighten_next_step
 from trimlog.stability.results import StabilityResult
 
 LOADING_SHEET_SUFFIX = ".loading.toml"
@@ -371,6 +373,7 @@ def analyze(
     maneuvering = _analyze_maneuvers(flights, profile, loadings, primary,
                                      maneuver_exclusions, maneuver_inclusions)
     if maneuvering is not None:
+        primary = _with_maneuver_limits(primary, maneuvering, profile)
         # A light or lightening stick force per g is a warning; the rest are cautions.
         found += [_text("stability.maneuver.light_force", Severity.WARNING, w)
                   if ("below the minimum" in w or "lightens" in w)
@@ -386,6 +389,19 @@ def analyze(
         findings=tuple(found),
         maneuvering=maneuvering,
     )
+
+
+def _with_maneuver_limits(result: ConfigurationResult, maneuvering: maneuver.ManeuverResult,
+                          profile: AircraftProfile) -> ConfigurationResult:
+    """The next-CG step also keeps the maneuver margins and the minimum stick force per g."""
+    step = result.stability.next_step
+    if step is None:
+        return result
+    tighter = tighten_next_step(step, maneuvering.next_step_limits(), profile.station)
+    if tighter is step:
+        return result
+    return dataclasses.replace(result, stability=dataclasses.replace(result.stability,
+                                                                     next_step=tighter))
 
 
 def _analyze_maneuvers(

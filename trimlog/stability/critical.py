@@ -29,8 +29,9 @@ References
 
 from __future__ import annotations
 
+import dataclasses
 import math
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 
 from trimlog.stability.results import (
     CriticalNeutralPoint,
@@ -45,6 +46,7 @@ __all__ = [
     "critical_neutral_point",
     "margin_limit",
     "next_cg_limit",
+    "tighten_next_step",
 ]
 
 #: The ``limited_by`` code of each neutral point kind (JSON contract values).
@@ -185,6 +187,7 @@ def next_cg_limit(
     step_max_pct_mac: float,
     station=None,
     aft_gradient_clearly_stable: bool = False,
+    extra_limits: Mapping[str, tuple[float, str]] | None = None,
 ) -> NextStep:
     """Most aft CG for the next flight: the one next-CG rule of the package.
 
@@ -205,6 +208,10 @@ def next_cg_limit(
     aft_gradient_clearly_stable : bool
         See :func:`aft_flight_clearly_stable`; used only while neither
         neutral point is identifiable.
+    extra_limits : mapping of str to (float, str), optional
+        Further most-aft CGs [%MAC] by ``limited_by`` code, with their words
+        (the maneuvering limits of :mod:`trimlog.stability.maneuver`); see
+        :func:`tighten_next_step`.
 
     Returns
     -------
@@ -231,6 +238,70 @@ def next_cg_limit(
     >>> s.max_cg_pct_mac, s.limited_by
     (27.0, 'stick_free_np')
     """
+    result = _next_cg_limit(stick_fixed, stick_free, flown_cg_pct_mac,
+                            aft_limit_pct_mac=aft_limit_pct_mac,
+                            min_margin_pct_mac=min_margin_pct_mac,
+                            step_max_pct_mac=step_max_pct_mac, station=station,
+                            aft_gradient_clearly_stable=aft_gradient_clearly_stable)
+    return tighten_next_step(result, extra_limits or {}, station)
+
+
+def tighten_next_step(step: NextStep, limits: Mapping[str, tuple[float, str]],
+                      station=None) -> NextStep:
+    """The hook for further limits on the next CG (maneuver margins, stick force per g).
+
+    Parameters
+    ----------
+    step : NextStep
+        From the neutral-point rule.
+    limits : mapping of str to (float, str)
+        ``limited_by`` code -> (most aft CG it allows [%MAC], its words).
+    station : callable, optional
+        ``%MAC -> station [in]``.
+
+    Returns
+    -------
+    NextStep
+        The same step when no limit is more forward; else the most forward
+        limit, named in ``limited_by`` and the reason, or no step at all when
+        it is not aft of the most aft CG flown.
+
+    Examples
+    --------
+    >>> s = NextStep(27.0, None, 5.0, 3.0, 25.0, "stick_free_np", "the rule")
+    >>> t = tighten_next_step(s, {"min_stick_force_per_g": (26.0, "minimum stick force per g")})
+    >>> t.max_cg_pct_mac, t.limited_by
+    (26.0, 'min_stick_force_per_g')
+    """
+    if step.max_cg_pct_mac is None or not limits:
+        return step
+    code = min(limits, key=lambda k: limits[k][0])
+    value, words = float(limits[code][0]), limits[code][1]
+    if value >= step.max_cg_pct_mac:
+        return step
+    reason = f"{step.reason}; the {words} allows up to {value:.1f} %MAC and sets the limit"
+    most_aft = step.most_aft_flown_pct_mac
+    if most_aft is not None and value <= most_aft:
+        return dataclasses.replace(
+            step, max_cg_pct_mac=None, max_cg_station_in=None, limited_by=code,
+            reason=reason + ", which allows no step aft of the CGs already flown")
+    where = None if station is None else float(station(value))
+    return dataclasses.replace(step, max_cg_pct_mac=value, max_cg_station_in=where,
+                               limited_by=code, reason=reason)
+
+
+def _next_cg_limit(
+    stick_fixed: NeutralPoint | None,
+    stick_free: NeutralPoint | None,
+    flown_cg_pct_mac: Sequence[float | None],
+    *,
+    aft_limit_pct_mac: float,
+    min_margin_pct_mac: float,
+    step_max_pct_mac: float,
+    station=None,
+    aft_gradient_clearly_stable: bool = False,
+) -> NextStep:
+    """The neutral-point part of :func:`next_cg_limit` (see there)."""
     min_sm, step = float(min_margin_pct_mac), float(step_max_pct_mac)
     flown = [float(c) for c in flown_cg_pct_mac if c is not None and math.isfinite(c)]
 

@@ -34,7 +34,7 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
@@ -188,6 +188,9 @@ class ManeuverResult:
         What sets ``aft_cg_pct_mac``: ``"stick-fixed maneuver margin"``,
         ``"stick-free maneuver margin"`` or ``"minimum stick force per g"``.
     warnings : tuple of str
+    cg_limits : dict of str to float
+        Most aft CG [%MAC] each maneuvering limit allows, by ``limited_by``
+        code (``stick_fixed_mp``, ``stick_free_mp``, ``min_stick_force_per_g``).
     """
 
     points: pd.DataFrame
@@ -202,6 +205,11 @@ class ManeuverResult:
     aft_cg_pct_mac: float | None
     limited_by: str
     warnings: tuple[str, ...]
+    cg_limits: dict[str, float] = field(default_factory=dict)
+
+    def next_step_limits(self) -> dict[str, tuple[float, str]]:
+        """Limits for the next-CG hook, :func:`trimlog.stability.critical.tighten_next_step`."""
+        return {code: (value, LIMIT_WORDS[code]) for code, value in self.cg_limits.items()}
 
 
 # ------------------------------------------------------------------ per flight
@@ -527,7 +535,9 @@ def analyze_maneuvering(points: pd.DataFrame, profile: AircraftProfile, *,
                 f"{profile.cg_aft_pct_mac:.1f} %MAC and {light:.0f} lb: {aft_value:.1f} lbf/g "
                 f"(95 % {aft_ci[0]:.1f} to {aft_ci[1]:.1f}), below the minimum "
                 f"{minimum:.1f} lbf/g or not clearly above it")
-    aft_cg, limited_by = _aft_cg(gradients, fixed, free, profile, minimum, light)
+    limits = _aft_cg(gradients, fixed, free, profile, minimum, light)
+    code = min(limits, key=limits.get) if limits else ""
+    aft_cg, limited_by = (limits[code], LIMIT_WORDS[code]) if code else (None, "")
     for point, name in ((fixed, "stick-fixed"), (free, "stick-free")):
         if point is not None and not point.identifiable:
             warnings.append(f"maneuvering: {name} maneuver point cannot be said yet: "
@@ -538,7 +548,7 @@ def analyze_maneuvering(points: pd.DataFrame, profile: AircraftProfile, *,
         hm_free_minus_hn_free_pct_mac=_difference(free, neutral_free),
         requirement=requirement, aft_limit_force_per_g_lbf=aft_value,
         aft_limit_force_per_g_ci95_lbf=aft_ci, aft_cg_pct_mac=aft_cg, limited_by=limited_by,
-        warnings=tuple(warnings))
+        warnings=tuple(warnings), cg_limits=limits)
 
 
 def _minimum_words(r: StickForceRequirement) -> str:
@@ -554,16 +564,30 @@ def _difference(point: NeutralPoint | None, hn: NeutralPoint | None) -> float | 
     return float(point.pct_mac - hn.pct_mac)
 
 
+#: ``limited_by`` codes of the maneuvering limits on the next CG, and their words.
+LIMIT_WORDS = {
+    "stick_fixed_mp": "stick-fixed maneuver margin",
+    "stick_free_mp": "stick-free maneuver margin",
+    "min_stick_force_per_g": "minimum stick force per g",
+}
+
+
 def _aft_cg(gradients: tuple[ManeuverGradient, ...], fixed: NeutralPoint,
             free: NeutralPoint | None, profile: AircraftProfile, minimum: float,
-            weight_lb: float) -> tuple[float | None, str]:
-    """Most aft CG the maneuvering results allow, and what sets it (conservative side)."""
+            weight_lb: float) -> dict[str, float]:
+    """Most aft CG each maneuvering limit allows, by ``limited_by`` code (conservative side).
+
+    The policy minimum static margin is kept ahead of each maneuver point's
+    forward 95 % bound; the stick force per g must keep its lower 95 %
+    prediction bound at or above the minimum (on a 0.25 %MAC grid, the last
+    CG that does).
+    """
     margin = profile.min_static_margin_pct_mac
-    limits = []
+    limits: dict[str, float] = {}
     if fixed.identifiable:
-        limits.append((fixed.ci95_pct_mac[0] - margin, "stick-fixed maneuver margin"))
+        limits["stick_fixed_mp"] = float(fixed.ci95_pct_mac[0] - margin)
     if free is not None and free.identifiable:
-        limits.append((free.ci95_pct_mac[0] - margin, "stick-free maneuver margin"))
+        limits["stick_free_mp"] = float(free.ci95_pct_mac[0] - margin)
     # The CG where the lower 95 % bound of the predicted stick force per g meets the minimum.
     scale = weight_lb / profile.wing_area_ft2
     grid = np.arange(profile.cg_forward_pct_mac, profile.cg_aft_pct_mac + 1e-9, 0.25)
@@ -573,11 +597,8 @@ def _aft_cg(gradients: tuple[ManeuverGradient, ...], fixed: NeutralPoint,
         if not ok.all():
             first_bad = int(np.argmin(ok))
             cg = float(grid[first_bad - 1]) if first_bad > 0 else float(grid[0])
-            limits.append((cg, "minimum stick force per g"))
-    if not limits:
-        return None, ""
-    value, name = min(limits)
-    return float(value), name
+            limits["min_stick_force_per_g"] = cg
+    return limits
 
 
 def pull_up_maneuver_shift(cm_q_per_rad: float, mass_slug: float, density_slug_ft3: float,
@@ -614,8 +635,8 @@ def pull_up_maneuver_shift(cm_q_per_rad: float, mass_slug: float, density_slug_f
 
     Examples
     --------
-    >>> round(pull_up_maneuver_shift(-12.0, 51.0, 0.0020, 118.0, 4.25), 4)
-    0.0588
+    >>> round(pull_up_maneuver_shift(-12.0, 51.0, 0.0020, 118.0, 4.25), 3)
+    0.059
     """
     mu = 2.0 * mass_slug / (density_slug_ft3 * wing_area_ft2 * mac_ft)
     return -cm_q_per_rad / (2.0 * mu)

@@ -297,6 +297,9 @@ LIMITED_BY_WORDS = {
     "stick_fixed_np": "limited by the stick-fixed neutral point",
     "policy_step": "limited by the profile's policy step",
     "aft_limit": "limited by the aft CG limit",
+    "stick_fixed_mp": "limited by the stick-fixed maneuver margin",
+    "stick_free_mp": "limited by the stick-free maneuver margin",
+    "min_stick_force_per_g": "limited by the minimum stick force per g",
     "none": "",
 }
 
