@@ -145,9 +145,28 @@ _TEMPLATES: dict[str, str] = {
         "package's sign convention (map the header in [logger] columns if this is the "
         "logger's channel)"),
     "input.log.inverted_not_in_file": "'{quantity}' is declared inverted but is not in the file",
+    # ---- physics
+    "physics.airspeed.unconverted": "{text}",
     # ---- pipeline: the chain
     "pipeline.no_points_in_log": "no stabilized point found in this log",
-    "pipeline.reduction.unconverted": "{text}",
+    "pipeline.reduction.no_airspeed_calibration": (
+        "no airspeed calibration in the profile: CAS = IAS assumed (position error ignored); "
+        "add [airspeed_calibration] for calibrated results"),
+    "pipeline.reduction.isa_assumed": (
+        "outside air temperature not logged: ISA temperature assumed for TAS"),
+    "pipeline.reduction.nz_assumed": "normal load factor not logged: n = 1 assumed for CL",
+    "pipeline.reduction.no_fuel_burn": (
+        "flight {flight}: no fuel quantity logged: takeoff weight and CG used for every point "
+        "(fuel burn not applied)"),
+    "pipeline.reduction.cg_outside_limits": (
+        "flight {flight}: CG {min_pct_mac:.1f}..{max_pct_mac:.1f} %MAC lies outside the "
+        "profile's limits ({forward_pct_mac:.1f}..{aft_pct_mac:.1f} %MAC)"),
+    "pipeline.reduction.incidence_varies": (
+        "flight {flight}: stab_incidence_deg varies within the flight ({min_deg:g}..{max_deg:g} "
+        "deg); each point keeps its own value"),
+    "pipeline.reduction.flaps_assumed_clean": (
+        "flap setting not logged nor in a loading sheet for flight(s) {flights}: taken as clean "
+        "(flaps up)"),
     "pipeline.at_stop.included": (
         "flight '{flight}' point {point}: elevator {elevator_deg:+.1f} deg is at a stop, so the "
         "trim there is not free: included because you chose so"),

@@ -345,8 +345,7 @@ def analyze(
                             for w in profile.warnings]
     found += order_findings
     found += _reading_findings(flights)
-    found += [_text("pipeline.reduction.unconverted", Severity.CAUTION, w)
-              for w in reduced.warnings]
+    found += reduced.findings
     found += _stop_findings(table)
 
     results = []

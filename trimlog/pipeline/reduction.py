@@ -23,6 +23,7 @@ import numpy as np
 import pandas as pd
 
 from trimlog.errors import InputFileError
+from trimlog.findings import Finding, Severity, Subject, finding
 from trimlog.input.profile import AircraftProfile
 from trimlog.physics import airspeed
 from trimlog.physics import mass_balance as loading
@@ -50,7 +51,12 @@ class ReducedPoints:
     """Reduced points of one or more flights, and what the reduction had to assume."""
 
     points: pd.DataFrame
-    warnings: tuple[str, ...]
+    findings: tuple[Finding, ...]
+
+    @property
+    def warnings(self) -> tuple[str, ...]:
+        """The findings in words (from the catalogue)."""
+        return tuple(f.line() for f in self.findings)
 
 
 def reduce_points(
@@ -85,9 +91,9 @@ def reduce_points(
     """
     loadings = dict(loadings or {})
     out = points.copy()
-    warnings: list[str] = []
+    found: list[Finding] = []
 
-    out["cas_kt"] = _calibrated_airspeed(out, profile, warnings)
+    out["cas_kt"] = _calibrated_airspeed(out, profile, found)
     stopped = ~(out["cas_kt"] > 0.0)
     if stopped.any():
         where = _where(out, stopped)
@@ -101,20 +107,22 @@ def reduce_points(
         oat = out["oat_c"]
     else:
         oat = None
-        warnings.append("outside air temperature not logged: ISA temperature assumed for TAS")
+        found.append(finding("pipeline.reduction.isa_assumed", Severity.CAUTION,
+                             Subject(quantity="oat_c")))
     out["tas_kt"] = airspeed.eas_to_tas(out["eas_kt"], out["pressure_alt_ft"], oat)
     out["q_psf"] = airspeed.dynamic_pressure_psf(out["eas_kt"])
 
     out["nz_logged"] = "nz_g" in out and out["nz_g"].notna()
     if "nz_g" not in out:
         out["nz_g"] = 1.0
-        warnings.append("normal load factor not logged: n = 1 assumed for CL")
+        found.append(finding("pipeline.reduction.nz_assumed", Severity.CAUTION,
+                             Subject(quantity="nz_g")))
     out["nz_g"] = out["nz_g"].fillna(1.0)
 
-    _weight_and_cg(out, profile, loadings, warnings)
+    _weight_and_cg(out, profile, loadings, found)
     out["h"] = (out["cg_in"] - profile.lemac_in) / profile.mac_in
     out["cg_pct_mac"] = 100.0 * out["h"]
-    _check_cg_plausible(out, profile, warnings)
+    _check_cg_plausible(out, profile, found)
 
     out["cl"] = airspeed.lift_coefficient(
         out["weight_lb"], out["eas_kt"], profile.wing_area_ft2, out["nz_g"]
@@ -125,8 +133,8 @@ def reduce_points(
         out["stick_force_lbf"] = np.nan
         out["fs_over_q_ft2"] = np.nan
 
-    _incidence_and_configuration(out, loadings, warnings)
-    return ReducedPoints(points=out, warnings=tuple(warnings))
+    _incidence_and_configuration(out, loadings, found)
+    return ReducedPoints(points=out, findings=tuple(found))
 
 
 def _where(out: pd.DataFrame, mask: pd.Series | np.ndarray) -> dict[str, object]:
@@ -141,7 +149,7 @@ def _where(out: pd.DataFrame, mask: pd.Series | np.ndarray) -> dict[str, object]
 
 
 def _calibrated_airspeed(
-    out: pd.DataFrame, profile: AircraftProfile, warnings: list[str]
+    out: pd.DataFrame, profile: AircraftProfile, found: list[Finding]
 ) -> pd.Series:
     """CAS of every point, row by row: the logged ``cas_kt``, else ``ias_kt`` corrected.
 
@@ -157,10 +165,8 @@ def _calibrated_airspeed(
         raise InputFileError("no airspeed: expected a column ias_kt or cas_kt", column="ias_kt")
     ias = pd.to_numeric(out.loc[need, "ias_kt"], errors="coerce").astype(float)
     if profile.position_error_ias_kt is None:
-        warnings.append(
-            "no airspeed calibration in the profile: CAS = IAS assumed (position error "
-            "ignored); add [airspeed_calibration] for calibrated results"
-        )
+        found.append(finding("pipeline.reduction.no_airspeed_calibration", Severity.CAUTION,
+                             Subject(quantity="cas_kt")))
         corrected = ias
     else:
         result = airspeed.ias_to_cas(
@@ -169,7 +175,8 @@ def _calibrated_airspeed(
             profile.position_error_cas_kt,
             extrapolate="clamp",
         )
-        warnings.extend(result.warnings)
+        found += [finding("physics.airspeed.unconverted", Severity.CAUTION,
+                          Subject(quantity="cas_kt"), text=w) for w in result.warnings]
         corrected = pd.Series(np.asarray(result.cas_kt, dtype=float), index=ias.index)
     cas = cas.copy()
     cas.loc[need] = corrected.to_numpy(dtype=float)
@@ -180,7 +187,7 @@ def _weight_and_cg(
     out: pd.DataFrame,
     profile: AircraftProfile,
     loadings: Mapping[str, FlightLoadingLike],
-    warnings: list[str],
+    found: list[Finding],
 ) -> None:
     if "cg_in" not in out and "cg_pct_mac" in out:
         out["cg_in"] = profile.lemac_in + out["cg_pct_mac"] / 100.0 * profile.mac_in
@@ -210,10 +217,8 @@ def _weight_and_cg(
         if fuel is None or fuel.isna().all():
             out.loc[idx, "weight_lb"] = sheet.takeoff_weight_lb
             out.loc[idx, "cg_in"] = takeoff_cg_in
-            warnings.append(
-                f"flight {flight}: no fuel quantity logged: takeoff weight and CG used for "
-                "every point (fuel burn not applied)"
-            )
+            found.append(finding("pipeline.reduction.no_fuel_burn", Severity.CAUTION,
+                                 Subject(flight=str(flight), quantity="fuel_gal")))
             continue
         if profile.fuel_arm_in is None:
             raise InputFileError(
@@ -253,7 +258,7 @@ def _sheet_cg_uncertainty(out: pd.DataFrame, idx: pd.Index, sheet: FlightLoading
     out.loc[idx, "cg_uncertainty_pct_mac"] = float(sigma_pct)
 
 
-def _check_cg_plausible(out: pd.DataFrame, profile: AircraftProfile, warnings: list[str]) -> None:
+def _check_cg_plausible(out: pd.DataFrame, profile: AircraftProfile, found: list[Finding]) -> None:
     fwd, aft = profile.cg_forward_pct_mac, profile.cg_aft_pct_mac
     extremes = out.groupby("flight", sort=False)["cg_pct_mac"].agg(["min", "max"])
     far = (extremes["min"] < fwd - CG_IMPLAUSIBLE_BEYOND_LIMITS_PCT_MAC) | (
@@ -269,14 +274,14 @@ def _check_cg_plausible(out: pd.DataFrame, profile: AircraftProfile, warnings: l
         )
     outside = (extremes["min"] < fwd - 1e-9) | (extremes["max"] > aft + 1e-9)
     for flight, row in extremes.loc[outside].iterrows():
-        warnings.append(
-            f"flight {flight}: CG {row['min']:.1f}..{row['max']:.1f} %MAC lies outside the "
-            f"profile's limits ({fwd:.1f}..{aft:.1f} %MAC)"
-        )
+        found.append(finding("pipeline.reduction.cg_outside_limits", Severity.WARNING,
+                             Subject(flight=str(flight), quantity="cg_pct_mac"),
+                             min_pct_mac=float(row["min"]), max_pct_mac=float(row["max"]),
+                             forward_pct_mac=fwd, aft_pct_mac=aft))
 
 
 def _incidence_and_configuration(
-    out: pd.DataFrame, loadings: Mapping[str, FlightLoadingLike], warnings: list[str]
+    out: pd.DataFrame, loadings: Mapping[str, FlightLoadingLike], found: list[Finding]
 ) -> None:
     flights = out["flight"].astype(str)
     if "stab_incidence_deg" not in out:
@@ -286,10 +291,9 @@ def _incidence_and_configuration(
     spread = by_flight.max() - by_flight.min()
     for flight in spread.index[spread.to_numpy() > 0.01]:
         values = logged[flights == flight]
-        warnings.append(
-            f"flight {flight}: stab_incidence_deg varies within the flight "
-            f"({values.min():g}..{values.max():g} deg); each point keeps its own value"
-        )
+        found.append(finding("pipeline.reduction.incidence_varies", Severity.CAUTION,
+                             Subject(flight=str(flight), quantity="stab_incidence_deg"),
+                             min_deg=float(values.min()), max_deg=float(values.max())))
     has_logged = logged.notna().groupby(flights).transform("any")
     labels = logged.map(lambda v: f"{v:+.2f} deg", na_action="ignore").astype(object)
 
@@ -313,9 +317,7 @@ def _incidence_and_configuration(
     unknown = flap.isna()
     if unknown.any():
         names = ", ".join(dict.fromkeys(flights[unknown]))
-        warnings.append(
-            f"flap setting not logged nor in a loading sheet for flight(s) {names}: "
-            "taken as clean (flaps up)"
-        )
+        found.append(finding("pipeline.reduction.flaps_assumed_clean", Severity.CAUTION,
+                             Subject(quantity="flap_deg"), flights=names))
     rounded = flap.fillna(0.0).round(0)
     out["config"] = rounded.map(lambda v: "clean" if v == 0 else f"flaps {v:g} deg").astype(str)
