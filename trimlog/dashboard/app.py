@@ -8,7 +8,15 @@ checkout runs it too).
 
 import streamlit as st
 
-from trimlog.dashboard import aircraft, flights, history_page, points, results, session
+from trimlog.dashboard import (
+    aircraft,
+    calibration_page,
+    flights,
+    history_page,
+    points,
+    results,
+    session,
+)
 
 PAGES = {
     "Results": results.render,
@@ -16,6 +24,7 @@ PAGES = {
     "Flights": flights.render,
     "Points": points.render,
     "History": history_page.render,
+    "Calibration": calibration_page.render,
 }
 CAPTIONS = [
     "neutral points, margins, shim",
@@ -23,6 +32,7 @@ CAPTIONS = [
     "upload logs and loading sheets",
     "check the stabilized points",
     "saved flights, trend, next CG",
+    "airspeed from GPS legs",
 ]
 SCROLL_TO_TOP = (
     "<script>for (const e of document.querySelectorAll("
