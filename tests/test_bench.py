@@ -90,7 +90,7 @@ def test_chain_season_growth_print_their_figures() -> None:
     for stage in ("pandas read_csv", "read + validate", "detect points", "reduce",
                   "fit (stability)", "end to end"):
         assert re.search(rf"{re.escape(stage)}\s+-?[\d.]+ ms\s+-?[\d.]+ ms", text), stage
-    assert re.search(r"ratio (-?[\d.]+|inf) \(target <= 2.00\) (PASS|MISS)", text)
+    assert re.search(r"median (-?[\d.]+|inf) \(rounds .*; target <= 1.50\) (PASS|MISS)", text)
     assert "== 1b. season: 2 flights" in text
     assert re.search(r"fitted exponent \(log-log, all sizes\) -?[\d.]+", text)
     assert "== summary" in text
@@ -111,8 +111,17 @@ def test_dashboard_section_runs_the_app() -> None:
     text = _run(("dashboard",))
     assert "== 5. dashboard" in text
     if "skipped" not in text:
-        assert re.search(r"upload [\d.]+-min log -> results page\s+[\d.]+ ms", text)
+        assert re.search(r"upload [\d.]+-min log -> results \(median of 1\)\s+[\d.]+ ms", text)
+        assert re.search(r"page change on cached data \(median of 10\)\s+[\d.]+ ms", text)
+        assert re.search(r"tick a point, re-render \(median of 10\)\s+[\d.]+ ms", text)
         assert "Traceback" not in text
+
+
+@pytest.mark.slow
+def test_report_section_compares_report_with_analyze() -> None:
+    text = _run(("report",))
+    assert re.search(r"trimlog report \(PDF\)\s+[\d.]+ ms\s+ratio within each pair, median "
+                     r"[\d.]+ \([\d.]+-[\d.]+; target <= 2.50\) (PASS|MISS)", text)
 
 
 def test_unknown_section_is_refused() -> None:

@@ -15,8 +15,10 @@ from __future__ import annotations
 import io
 import json
 import tempfile
+import threading
 from pathlib import Path
 
+import numpy as np
 import pandas as pd
 import streamlit as st
 
@@ -83,9 +85,41 @@ def run_analysis(inputs: Inputs) -> Analysis:
                             inclusions=[i for i in inputs.inclusions if i in present])
 
 
+#: Keys of the inputs whose analysis this server process has computed (and caches).
+_analysed: set[str] = set()
+
+
+def analysis_with_status(inputs: Inputs) -> Analysis:
+    """:func:`run_analysis`, with a status box naming each stage while it computes.
+
+    Each log is read and its points found (one cached call per log), then
+    the fits run; the box names the file and the stage, and goes away when
+    the analysis is done.  On cached inputs nothing is shown.
+    """
+    if inputs.key in _analysed:
+        return run_analysis(inputs)
+    slot = st.empty()
+    n = len(inputs.logs)
+    with slot.status("Analysing the flights...", expanded=False) as box:
+        for k, (log, sheet) in enumerate(inputs.logs, start=1):
+            box.update(label=f"Reading {log.name} and finding its points ({k} of {n})")
+            flight_data(log, sheet, inputs.profile_text, inputs.profile_source,
+                        inputs.min_hold_s)
+        box.update(label="Fitting the trim lines, margins and shim")
+        a = run_analysis(inputs)
+        box.update(label="Analysed", state="complete")
+    slot.empty()
+    _analysed.add(inputs.key)
+    return a
+
+
+#: Resolution of the dashboard's figures [dots per inch].
+FIGURE_DPI = 110
+
+
 def _png(ax) -> bytes:
     buf = io.BytesIO()
-    ax.figure.savefig(buf, format="png", dpi=110)
+    ax.figure.savefig(buf, format="png", dpi=FIGURE_DPI)
     return buf.getvalue()
 
 
@@ -97,21 +131,82 @@ def figure(kind: str, inputs: Inputs) -> bytes:
     return _png(getattr(plots, kind)(run_analysis(inputs)))
 
 
+class LogCanvas:
+    """One flight's log drawn once; only the point windows are drawn again on a tick.
+
+    The traces, axes, tick labels, numbers and legend (and the constrained
+    layout that places them) are rendered once to an Agg buffer and kept; a
+    new set of choices restores that buffer and draws the two shading
+    collections over it (matplotlib's blitting), so that ticking a point on a
+    one-hour log costs a PNG encoding instead of a whole figure.  The shading
+    is drawn over the traces rather than under them (translucent, so the
+    traces still show).
+    """
+
+    def __init__(self, data: FlightData) -> None:
+        from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+        from trimlog.views import plots
+
+        self._plots = plots
+        self.axes = plots.log_overview(data, points=data.points)
+        fig = self.axes[0].figure
+        fig.set_dpi(FIGURE_DPI)
+        for ax in self.axes:  # the windows are drawn per choice, over the background
+            for collection in list(ax.collections):
+                collection.remove()
+        self.canvas = FigureCanvasAgg(fig)
+        self.canvas.draw()
+        fig.set_layout_engine("none")  # keep the layout just computed: no second pass
+        self.background = self.canvas.copy_from_bbox(fig.bbox)
+        self._lock = threading.Lock()  # sessions run in threads; one canvas each time
+
+    def png(self, points: pd.DataFrame) -> bytes:
+        """PNG of the log with ``points``' windows shaded (``included`` decides the kind)."""
+        from PIL import Image  # matplotlib's own PNG writer
+
+        with self._lock:
+            self.canvas.restore_region(self.background)
+            added = self._plots.shade_windows(self.axes, points)
+            for artist in added:
+                artist.axes.draw_artist(artist)
+            legend = self.axes[0].get_legend()
+            if legend is not None:
+                self.axes[0].draw_artist(legend)  # the key stays over the shading
+            pixels = np.asarray(self.canvas.buffer_rgba()).copy()
+            for artist in added:
+                artist.remove()
+        buf = io.BytesIO()
+        # fast zlib level: the image is sent to the browser, not archived
+        Image.fromarray(pixels[..., :3]).save(buf, format="png", compress_level=1,
+                                              dpi=(FIGURE_DPI, FIGURE_DPI))
+        return buf.getvalue()
+
+
+@st.cache_resource(max_entries=8, show_spinner=False, hash_funcs=_HASH)
+def _log_canvas(log: FileBytes, sheet: FileBytes | None, profile_text: str, profile_source: str,
+                min_hold_s: float | None, flight: str) -> LogCanvas:
+    data = next(f for f in flight_data(log, sheet, profile_text, profile_source, min_hold_s)
+                if f.flight == flight)
+    return LogCanvas(data)
+
+
 @st.cache_data(max_entries=64, show_spinner=False, hash_funcs=_HASH)
 def log_figure(
     log: FileBytes, sheet: FileBytes | None, inputs: Inputs, flight: str
 ) -> bytes:
     """PNG of one flight's log with its point windows (points left out hatched)."""
-    from trimlog.views import plots
-
-    data = next(f for f in flight_data(log, sheet, inputs.profile_text, inputs.profile_source,
-                                       inputs.min_hold_s) if f.flight == flight)
+    canvas = _log_canvas(log, sheet, inputs.profile_text, inputs.profile_source,
+                         inputs.min_hold_s, flight)
     try:
         table = run_analysis(inputs).points
         shaded = table.loc[table["flight"] == flight]
     except TrimlogError:
-        shaded = None  # no analysis yet: shade the points as found
-    return _png(plots.log_overview(data, points=shaded)[0])
+        # no analysis yet: shade the points as found
+        shaded = next(f for f in flight_data(log, sheet, inputs.profile_text,
+                                             inputs.profile_source, inputs.min_hold_s)
+                      if f.flight == flight).points
+    return canvas.png(shaded)
 
 
 @st.cache_data(max_entries=16, show_spinner=False, hash_funcs=_HASH)

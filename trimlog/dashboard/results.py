@@ -55,7 +55,7 @@ def render() -> None:
         common.caution_box(statement=False)
         return
     try:
-        a = compute.run_analysis(inputs)
+        a = compute.analysis_with_status(inputs)
     except TrimlogError as exc:
         common.show_error(exc, "No analysis")
         common.caution_box(statement=False)

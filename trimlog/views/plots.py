@@ -490,6 +490,36 @@ def _windows(points: pd.DataFrame) -> tuple[list[tuple[float, float]], list[tupl
     return used, left_out
 
 
+def shade_windows(axes: Sequence[Axes], points: pd.DataFrame) -> list[Any]:
+    """Shade the points' windows on each Axes: fitted ones filled, excluded ones hatched.
+
+    Parameters
+    ----------
+    axes : sequence of Axes
+        Time on the x axis [s].
+    points : DataFrame
+        ``t_start_s``, ``t_end_s`` [s] and ``included`` of each point.
+
+    Returns
+    -------
+    list of matplotlib artists
+        The collections added (the dashboard redraws only these when a point
+        is ticked).
+    """
+    used, left_out = _windows(points)
+    added = []
+    for ax in axes:
+        # One collection per kind, not one patch per point: a long log has many points.
+        if len(used):
+            added.append(ax.broken_barh(used, (0.0, 1.0), transform=ax.get_xaxis_transform(),
+                                        color=PALETTE[2], alpha=0.18, linewidth=0))
+        if len(left_out):
+            added.append(ax.broken_barh(left_out, (0.0, 1.0),
+                                        transform=ax.get_xaxis_transform(), facecolor="none",
+                                        edgecolor=GREY, hatch="///", linewidth=0.5))
+    return added
+
+
 def log_overview(flight_data: FlightData, axes: Sequence[Axes] | None = None, *,
                  points: pd.DataFrame | None = None) -> tuple[Axes, ...]:
     """Airspeed, elevator, stick force and load factor against time, point windows shaded.
@@ -536,20 +566,13 @@ def log_overview(flight_data: FlightData, axes: Sequence[Axes] | None = None, *,
                 ("nz_g", "load factor $n_z$ [g]"))
     pts = flight_data.points if points is None else points
     t = samples["time_s"]
-    used, left_out = _windows(pts)
+    shade_windows(axes, pts)
     for ax, (column, label) in zip(axes, channels, strict=True):
         if column in samples and samples[column].notna().any():
             ax.plot(*min_max_envelope(t.to_numpy(float), samples[column].to_numpy(float)),
                     color=PALETTE[0], linewidth=0.6)
         else:
             _note(ax, f"{label.split(' [')[0]} not logged")
-        # One collection per kind, not one patch per point: a long log has many points.
-        if len(used):
-            ax.broken_barh(used, (0.0, 1.0), transform=ax.get_xaxis_transform(),
-                           color=PALETTE[2], alpha=0.18, linewidth=0)
-        if len(left_out):
-            ax.broken_barh(left_out, (0.0, 1.0), transform=ax.get_xaxis_transform(),
-                           facecolor="none", edgecolor=GREY, hatch="///", linewidth=0.5)
         ax.set_ylabel(label, fontsize=TICK_SIZE)
         ax.tick_params(labelsize=TICK_SIZE)
         ax.grid(True, color="#d9d9d9", linewidth=0.6)
