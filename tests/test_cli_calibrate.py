@@ -71,7 +71,7 @@ def test_two_legs_only_exit_1_and_no_profile(tmp_path):
     assert code == EXIT_REFUSED
     data = json.loads(out.read_text())
     assert data["speeds"] == [] and data["table"] == {"ias_kt": [], "cas_kt": []}
-    assert "calibration.too_few_legs" in {f["code"] for f in data["findings"]}
+    assert "pipeline.calibration.too_few_legs" in {f["code"] for f in data["findings"]}
     assert not new.exists()
 
 

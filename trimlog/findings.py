@@ -102,6 +102,8 @@ _CUT = "Tilt the stabilizer leading edge {direction} by {change_abs_deg:.2f} deg
     ". Nearest stock: ")
 _CUT_END = " = {stock_in:.3f} in / {stock_mm:.2f} mm ({stock_change_abs_deg:.2f} deg)."
 
+_SPEED = "{ias_kt:.1f} KIAS at {pressure_alt_ft:.0f} ft: "
+
 #: Code -> message template (``str.format`` syntax).  A template may name any
 #: key of the finding's ``values`` and any field of its subject that is set.
 #: Keep one section per layer; add new codes at the end of your section.
@@ -225,6 +227,36 @@ _TEMPLATES: dict[str, str] = {
     "incidence.shim.thicker_than_stock": (
         "the shim ({thickness_in:.3f} in) is thicker than two stacked sheets of the largest "
         "stock: make the change in steps and re-fly between them"),
+    # ---- pipeline: airspeed calibration from GPS legs
+    "pipeline.calibration.too_few_legs": _SPEED + "not determinable: {reason}",
+    "pipeline.calibration.headings_not_spread": _SPEED + "not determinable: {reason}",
+    "pipeline.calibration.three_legs_exact": (
+        _SPEED + "three legs give an exact solution with no measure of its error (no interval, "
+        "no check of the wind); fly a fourth leg for both"),
+    "pipeline.calibration.headings_poorly_spread": (
+        _SPEED + "the legs' headings cover only {arc_deg:.0f} deg of the circle ({good_deg:g} "
+        "deg or more recommended); TAS and wind are sensitive to small errors"),
+    "pipeline.calibration.wind_changed": (
+        _SPEED + "the legs disagree by {residual_sd_kt:.2f} kt (RMS), more than the data's "
+        "noise explains (p = {p:.3f} > {level:g}); the wind probably changed between legs: "
+        "re-fly this speed with the legs closer together in time"),
+    "pipeline.calibration.no_oat": (
+        "no outside air temperature logged: ISA temperature is assumed, and the CAS intervals "
+        "allow ±{oat_uncertainty_c:g} degC for it"),
+    "pipeline.calibration.no_legs": (
+        "no steady leg found (constant IAS, altitude and track for at least the minimum leg "
+        "time)"),
+    "pipeline.calibration.legs_excluded": "{count} leg(s) left out: {legs}",
+    "pipeline.calibration.altimeter_assumption": (
+        "the altitude corrections assume the pitot (total pressure) has no error, so that all "
+        "of the position error comes from the static source; GPS legs cannot tell the two "
+        "apart"),
+    "pipeline.calibration.one_speed": (
+        "only one speed was solved: a position-error table needs at least two; fly the legs "
+        "at more speeds across the range of the stability flights"),
+    "pipeline.calibration.not_determinable": (
+        "no speed had three or more steady legs on spread headings: the position error "
+        "cannot be determined from these data"),
     # ---- history
     "history.programme.no_saved_flights": (
         "no flight of '{aircraft}' is saved in {database} yet: only the new flights are analysed"),

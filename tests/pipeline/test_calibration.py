@@ -67,38 +67,38 @@ def test_exact_recovery_of_known_wind_and_position_error():
     assert result.table_ias_kt == SPEEDS
     expected = [round(v + float(synth.true_delta_v(v)), 1) for v in SPEEDS]
     assert list(result.table_cas_kt) == pytest.approx(expected, abs=0.051)
-    assert "calibration.wind_changed" not in _codes(result)
+    assert "pipeline.calibration.wind_changed" not in _codes(result)
 
 
 def test_three_legs_are_exact_and_say_so():
     result = _calibrate(synth.legs((70.0, 100.0), (0.0, 120.0, 240.0)))
     assert all(s.cas_ci95_kt is None and s.fit.exact for s in result.speeds)
-    assert _codes(result).count("calibration.three_legs_exact") == 2
+    assert _codes(result).count("pipeline.calibration.three_legs_exact") == 2
     assert len(result.table_ias_kt) == 2
 
 
 def test_two_legs_only_is_not_determinable():
     result = _calibrate(synth.legs((70.0,), (0.0, 180.0)))
     assert not result.determinable
-    assert "calibration.too_few_legs" in _codes(result)
-    assert "calibration.not_determinable" in _codes(result)
+    assert "pipeline.calibration.too_few_legs" in _codes(result)
+    assert "pipeline.calibration.not_determinable" in _codes(result)
     assert result.table_ias_kt == ()
 
 
 def test_poorly_spread_headings_warn_and_too_narrow_ones_refuse():
     result = _calibrate(synth.legs((70.0, 100.0), (0.0, 30.0, 60.0, 90.0)))
-    assert _codes(result).count("calibration.headings_poorly_spread") == 2
+    assert _codes(result).count("pipeline.calibration.headings_poorly_spread") == 2
     narrow = _calibrate(synth.legs((70.0,), (0.0, 15.0, 30.0, 45.0)))
-    assert "calibration.headings_not_spread" in _codes(narrow) and not narrow.determinable
+    assert "pipeline.calibration.headings_not_spread" in _codes(narrow) and not narrow.determinable
 
 
 def test_wind_change_between_legs_warns():
     # the wind veers 10 deg from one leg to the next (synthetic)
     rows = synth.legs((80.0,), SIX, wind_veer_deg=10.0)
     result = _calibrate(rows)
-    assert "calibration.wind_changed" in _codes(result)
-    finding = next(f for f in result.findings if f.code == "calibration.wind_changed")
-    assert finding.ias_kt == pytest.approx(80.0)
+    assert "pipeline.calibration.wind_changed" in _codes(result)
+    finding = next(f for f in result.findings if f.code == "pipeline.calibration.wind_changed")
+    assert finding.values["ias_kt"] == pytest.approx(80.0)
 
 
 def test_missing_oat_assumes_isa_and_widens_the_interval():
@@ -106,7 +106,7 @@ def test_missing_oat_assumes_isa_and_widens_the_interval():
     rows = synth.legs((80.0, 110.0), SIX, rng=rng, ias_sd=0.3)
     with_oat = _calibrate(rows)
     without = _calibrate(rows, with_oat=False)
-    assert "calibration.no_oat" in _codes(without)
+    assert "pipeline.calibration.no_oat" in _codes(without)
     for a, b in zip(with_oat.speeds, without.speeds, strict=True):
         assert (b.cas_ci95_kt[1] - b.cas_ci95_kt[0]) > (a.cas_ci95_kt[1] - a.cas_ci95_kt[0])
 
@@ -114,7 +114,7 @@ def test_missing_oat_assumes_isa_and_widens_the_interval():
 def test_one_speed_gives_no_table():
     result = _calibrate(synth.legs((80.0,), SIX))
     assert result.determinable and result.table_ias_kt == ()
-    assert "calibration.one_speed" in _codes(result)
+    assert "pipeline.calibration.one_speed" in _codes(result)
 
 
 def test_legs_at_two_altitudes_are_two_speeds():

@@ -18,6 +18,7 @@ from trimlog import cautions
 from trimlog.dashboard import common, compute, session
 from trimlog.demo import calibration as democal
 from trimlog.errors import TrimlogError
+from trimlog.findings import Severity, by_severity
 from trimlog.input.profile_writer import replace_calibration
 from trimlog.pipeline import calibration as cal
 from trimlog.views.calibration_report import circle_fits, position_error_plot
@@ -110,8 +111,11 @@ def render() -> None:
         fig = Figure(figsize=(8.0, 2.8 * rows))
         circle_fits(result, fig, (0.02, 0.02, 0.96, 0.96))
         st.pyplot(fig)
-    for f in result.findings:
-        (common.warn if f.severity == "warning" else st.caption)(common.esc(f.message))
+    for f in by_severity(result.findings):
+        if f.severity.rank >= Severity.CAUTION.rank:
+            common.warn(f.line())
+        else:
+            st.caption(common.esc(f.line()))
     if result.table_ias_kt:
         st.subheader("Position-error table")
         st.dataframe(pd.DataFrame({"IAS kt": result.table_ias_kt,

@@ -49,6 +49,7 @@ import numpy as np
 import pandas as pd
 
 from trimlog.errors import NotIdentifiableError, TrimlogError
+from trimlog.findings import Finding, Severity, Subject, finding, lines
 from trimlog.input.logs import LogRead, read_log
 from trimlog.input.profile import AircraftProfile
 from trimlog.input.profile_writer import replace_calibration
@@ -107,28 +108,6 @@ class LegSettings:
             if not (isinstance(value, int | float) and np.isfinite(value) and value > 0):
                 raise TrimlogError(f"leg settings: {name} must be a positive number, "
                                    f"found {value!r}")
-
-
-@dataclass(frozen=True)
-class Finding:
-    """One warning or note of the calibration: a stable code, its words, its subject.
-
-    Attributes
-    ----------
-    code : str
-        Stable code, e.g. ``"calibration.wind_changed"``; tests and scripts use it.
-    message : str
-        Plain words.
-    ias_kt : float or None
-        The speed it is about, or None for the whole calibration.
-    severity : str
-        ``"warning"`` or ``"note"``.
-    """
-
-    code: str
-    message: str
-    ias_kt: float | None = None
-    severity: str = "warning"
 
 
 @dataclass(frozen=True)
@@ -211,8 +190,8 @@ class CalibrationResult:
 
     @property
     def warnings(self) -> tuple[str, ...]:
-        """The findings' words, for views that list plain text."""
-        return tuple(f.message for f in self.findings)
+        """The findings' words (from the catalogue), for views that list plain text."""
+        return lines(self.findings)
 
     def delta_v_at(self, ias_kt: float | np.ndarray) -> float | np.ndarray:
         """The smooth position-error curve ΔV [kt] at ``ias_kt`` (within the speeds flown)."""
@@ -384,14 +363,14 @@ def _solve_speed(legs: pd.DataFrame, rows: np.ndarray, oat_logged: bool,
     have_oat = oat_logged and np.isfinite(oat_values).any()
     oat = float(np.nanmean(oat_values)) if have_oat else float(
         atmosphere.isa_temperature_k(alt) - atmosphere.KELVIN_OFFSET)
-    subject = f"{ias:.1f} KIAS at {alt:.0f} ft"
+    at = {"ias_kt": ias, "pressure_alt_ft": alt}
     try:
         fit = fit_circle(part["gps_groundspeed_kt"].to_numpy(dtype=float),
                          part["gps_track_deg"].to_numpy(dtype=float))
     except NotIdentifiableError as exc:
-        code = ("calibration.too_few_legs" if len(rows) < 3
-                else "calibration.headings_not_spread")
-        findings.append(Finding(code, f"{subject}: not determinable: {exc}", ias))
+        code = ("pipeline.calibration.too_few_legs" if len(rows) < 3
+                else "pipeline.calibration.headings_not_spread")
+        findings.append(finding(code, Severity.WARNING, reason=str(exc), **at))
         return None
     cas = tas_to_cas(fit.tas_kt, alt, oat)
     ci = None
@@ -402,23 +381,14 @@ def _solve_speed(legs: pd.DataFrame, rows: np.ndarray, oat_logged: bool,
         half_lo, half_hi = np.hypot(cas - lo, oat_half), np.hypot(hi - cas, oat_half)
         ci = (cas - float(half_lo), cas + float(half_hi))
     else:
-        findings.append(Finding(
-            "calibration.three_legs_exact",
-            f"{subject}: three legs give an exact solution with no measure of its error "
-            "(no interval, no check of the wind); fly a fourth leg for both", ias, "note"))
+        findings.append(finding("pipeline.calibration.three_legs_exact", Severity.CAUTION, **at))
     if not fit.headings_well_spread:
-        findings.append(Finding(
-            "calibration.headings_poorly_spread",
-            f"{subject}: the legs' headings cover only {fit.heading_arc_deg:.0f} deg of the "
-            f"circle ({GOOD_HEADING_ARC_DEG:g} deg or more recommended); TAS and wind are "
-            "sensitive to small errors", ias))
+        findings.append(finding("pipeline.calibration.headings_poorly_spread", Severity.CAUTION,
+                                arc_deg=fit.heading_arc_deg, good_deg=GOOD_HEADING_ARC_DEG, **at))
     if fit.wind_changed:
-        findings.append(Finding(
-            "calibration.wind_changed",
-            f"{subject}: the legs disagree by {fit.residual_sd_kt:.2f} kt (RMS), more than "
-            f"the data's noise explains (p = {fit.wind_change_p:.3f} > {WIND_CHANGE_LEVEL:g}); "
-            "the wind probably changed between legs: re-fly this speed with the legs closer "
-            "together in time", ias))
+        findings.append(finding("pipeline.calibration.wind_changed", Severity.WARNING,
+                                residual_sd_kt=fit.residual_sd_kt, p=fit.wind_change_p,
+                                level=WIND_CHANGE_LEVEL, **at))
     return SpeedCalibration(
         ias_kt=ias, pressure_alt_ft=alt, oat_c=oat, fit=fit, cas_kt=cas, cas_ci95_kt=ci,
         delta_v_kt=cas - ias,
@@ -472,20 +442,17 @@ def calibrate(
     frames = []
     oat_logged = True
     for log in logs:
-        findings.extend(Finding("calibration.reading", f"{log.source}: {w}") for w in log.warnings)
+        findings.extend(log.findings)
         oat_logged &= "oat_c" in log.data
         legs = find_legs(log, settings)
         if not len(legs):
-            findings.append(Finding("calibration.no_legs",
-                                    f"{log.source}: no steady leg found (constant IAS, altitude "
-                                    "and track for at least the minimum leg time)"))
+            findings.append(finding("pipeline.calibration.no_legs", Severity.CAUTION,
+                                    Subject(source=log.source)))
         frames.append(legs)
     legs = pd.concat(frames, ignore_index=True) if frames else pd.DataFrame()
     if not oat_logged:
-        findings.append(Finding(
-            "calibration.no_oat",
-            "no outside air temperature logged: ISA temperature is assumed, and the CAS "
-            f"intervals allow ±{ISA_ASSUMED_UNCERTAINTY_95_C:g} degC for it"))
+        findings.append(finding("pipeline.calibration.no_oat", Severity.CAUTION,
+                                oat_uncertainty_c=ISA_ASSUMED_UNCERTAINTY_95_C))
     legs["speed"] = -1
     speeds: list[SpeedCalibration] = []
     for rows in group_legs(legs):
@@ -495,36 +462,24 @@ def calibrate(
             speeds.append(solved)
     excluded = legs.loc[~legs["included"].astype(bool)]
     if len(excluded):
-        findings.append(Finding(
-            "calibration.legs_excluded",
-            f"{len(excluded)} leg(s) left out: " + "; ".join(
-                f"{r.source} leg {r.leg} ({r.flags})" for r in excluded.itertuples()), None,
-            "note"))
+        findings.append(finding(
+            "pipeline.calibration.legs_excluded", Severity.NOTE, count=len(excluded),
+            legs="; ".join(f"{r.source} leg {r.leg} ({r.flags})" for r in excluded.itertuples())))
     coef: tuple[float, ...] = ()
     table_ias: tuple[float, ...] = ()
     table_cas: tuple[float, ...] = ()
     if speeds:
         coef = _curve(speeds)
-        findings.append(Finding(
-            "calibration.altimeter_assumption",
-            "the altitude corrections assume the pitot (total pressure) has no error, so that "
-            "all of the position error comes from the static source; GPS legs cannot tell the "
-            "two apart", None, "note"))
+        findings.append(finding("pipeline.calibration.altimeter_assumption", Severity.NOTE))
     if len(speeds) >= 2:
         x = sorted({round(s.ias_kt, 1) for s in speeds})
         table_ias = tuple(x)
         table_cas = tuple(round(v + float(np.polynomial.polynomial.polyval(v, coef)), 1)
                           for v in x)
     elif speeds:
-        findings.append(Finding(
-            "calibration.one_speed",
-            "only one speed was solved: a position-error table needs at least two; fly the "
-            "legs at more speeds across the range of the stability flights"))
+        findings.append(finding("pipeline.calibration.one_speed", Severity.CAUTION))
     if not speeds:
-        findings.append(Finding(
-            "calibration.not_determinable",
-            "no speed had three or more steady legs on spread headings: the position error "
-            "cannot be determined from these data"))
+        findings.append(finding("pipeline.calibration.not_determinable", Severity.WARNING))
     return CalibrationResult(
         legs=legs, speeds=tuple(speeds), table_ias_kt=table_ias, table_cas_kt=table_cas,
         curve_coefficients=coef, findings=tuple(findings),
@@ -572,7 +527,7 @@ def calibrate_files(
 
 
 __all__ = [
-    "CalibrationResult", "Finding", "LegSettings", "SpeedCalibration",
+    "CalibrationResult", "LegSettings", "SpeedCalibration",
     "altitude_correction_ft", "calibrate", "calibrate_files", "find_legs", "group_legs",
     "read_calibration_log", "tas_to_cas", "with_calibration",
 ]

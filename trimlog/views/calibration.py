@@ -17,6 +17,7 @@ from __future__ import annotations
 from typing import TYPE_CHECKING, Any
 
 from trimlog import __version__, cautions
+from trimlog.findings import by_severity
 from trimlog.history.codec import clean
 from trimlog.views.terminal import _bullets, _interval, table
 
@@ -66,8 +67,9 @@ def calibration_to_dict(result: CalibrationResult) -> dict[str, Any]:
                              if result.table_ias_kt else None),
         },
         "warnings": list(result.warnings),
-        "findings": [{"code": f.code, "severity": f.severity, "message": f.message,
-                      "ias_kt": f.ias_kt} for f in result.findings],
+        "findings": [{"code": f.code, "severity": f.severity.value, "message": f.line(),
+                      "ias_kt": f.values.get("ias_kt"), "values": dict(f.values)}
+                     for f in result.findings],
         "legs": records,
         "sources": list(result.sources),
         "cautions": [cautions.ESTIMATE_STATEMENT, *cautions.AIRSPEED_CALIBRATION],
@@ -98,7 +100,8 @@ def render_calibration(result: CalibrationResult) -> str:
     else:
         lines += ["", "No position-error table: cannot say yet (see the warnings)."]
     if result.findings:
-        lines += ["", "Warnings and notes:", _bullets([f.message for f in result.findings])]
+        lines += ["", "Warnings and notes:",
+                  _bullets([f.line() for f in by_severity(result.findings)])]
     lines += ["", "Cautions:", _bullets([cautions.ESTIMATE_STATEMENT,
                                          *cautions.AIRSPEED_CALIBRATION])]
     return "\n".join(lines)

@@ -25,6 +25,7 @@ from matplotlib.axes import Axes
 from matplotlib.figure import Figure
 
 from trimlog import __version__, cautions
+from trimlog.findings import by_severity
 from trimlog.views.pdf_layout import Heading, Para, Plot, Table, render_pdf, save_pdf
 from trimlog.views.plots import GREY, LABEL_SIZE, LEGEND_SIZE, MARKERS, PALETTE, TICK_SIZE
 from trimlog.views.report import _atomic_write, _check_target, _render_html
@@ -187,7 +188,8 @@ def calibration_blocks(result: CalibrationResult, aircraft: str, generated: str)
                  "profile."),
         ]
     blocks.append(Heading("Warnings and notes", 2))
-    blocks += [Para(f.message, "bullet") for f in result.findings] or [Para("None.")]
+    blocks += [Para(f.line(), "bullet") for f in by_severity(result.findings)] or [
+        Para("None.")]
     return blocks
 
 
