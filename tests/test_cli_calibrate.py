@@ -109,3 +109,22 @@ def test_ground_speed_synonyms_and_units(tmp_path, header):
                  "--quiet"]) == EXIT_OK
     speeds = json.loads(out.read_text())["speeds"]
     assert speeds[0]["delta_v_kt"] == pytest.approx(float(synth.true_delta_v(70.0)), abs=1e-3)
+
+
+def test_json_follows_its_schema(tmp_path):
+    # the contract pinned by trimlog/views/calibration.schema.json
+    from importlib import resources
+
+    import jsonschema
+
+    schema = json.loads(resources.files("trimlog.views").joinpath(
+        "calibration.schema.json").read_text("utf-8"))
+    jsonschema.Draft202012Validator.check_schema(schema)
+    cases = [synth.legs((60.0, 90.0, 120.0), SIX),          # intervals
+             synth.legs((60.0, 90.0), (0.0, 120.0, 240.0)),  # three legs: null intervals
+             synth.legs((70.0,), (0.0, 180.0))]              # not determinable
+    for k, rows in enumerate(cases):
+        out = tmp_path / f"cal{k}.json"
+        main(["calibrate", str(_legs_file(tmp_path, rows, f"legs{k}.csv")), "--aircraft",
+              str(PROFILE), "--json", str(out), "--quiet"])
+        jsonschema.validate(json.loads(out.read_text()), schema)
