@@ -414,3 +414,23 @@ def by_severity(findings: Iterable[Finding]) -> list[Finding]:
     ['warning', 'note']
     """
     return sorted(findings, key=lambda f: -f.severity.rank)
+
+
+def for_display(findings: Iterable[Finding], *, show_config: bool = False
+                ) -> tuple[tuple[str, ...], tuple[str, ...]]:
+    """Lines to show, split as views show them: (warnings and cautions, reading notes).
+
+    The first group is most severe first (warnings before cautions, in
+    order within each); reading notes (:attr:`Severity.NOTE`) come apart so a
+    view can show safety findings first.  Each text appears once.
+
+    >>> fs = [finding("pipeline.no_points_in_log", Severity.NOTE, Subject(source="a.csv")),
+    ...       finding("incidence.no_recommendation", Severity.CAUTION, reason="r")]
+    >>> for_display(fs)
+    (('no incidence recommendation: r',), ('a.csv: no stabilized point found in this log',))
+    """
+    ordered = by_severity(findings)
+    shown = [f for f in ordered if f.severity is not Severity.NOTE]
+    notes = [f for f in ordered if f.severity is Severity.NOTE]
+    return lines(shown, show_config=show_config), lines(notes, show_config=show_config)
+

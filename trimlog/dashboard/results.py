@@ -5,7 +5,7 @@ from __future__ import annotations
 import pandas as pd
 import streamlit as st
 
-from trimlog import cautions
+from trimlog import cautions, findings
 from trimlog.dashboard import common, compute, session
 from trimlog.dashboard.common import interval, num, with_interval
 from trimlog.errors import TrimlogError
@@ -239,9 +239,7 @@ def _authority(a: Analysis) -> None:
 
 
 def _warnings(a: Analysis) -> None:
-    sources = {f.source for f in a.flights}
-    reading = [w for w in a.warnings if w.split(": ", 1)[0] in sources]
-    other = [w for w in a.warnings if w not in reading]
+    other, reading = findings.for_display(a.findings, show_config=bool(a.others))
     st.subheader(f"Warnings ({len(other)})")
     for w in other:
         common.warn(w)

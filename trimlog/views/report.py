@@ -32,7 +32,7 @@ from typing import IO, TYPE_CHECKING, Any
 from matplotlib.axes import Axes
 from matplotlib.figure import Figure
 
-from trimlog import cautions
+from trimlog import cautions, findings
 from trimlog.errors import TrimlogError
 from trimlog.incidence.shim import shim_thickness_in
 from trimlog.progress import SILENT, Progress
@@ -427,10 +427,8 @@ def _stacked_axes(fig: Figure, rect: tuple[float, float, float, float]) -> list[
     return axes
 
 
-def _warning_blocks(d: dict[str, Any]) -> list[Any]:
-    sources = tuple(f"{f['source']}: " for f in d["flights"])
-    reading = [w for w in d["warnings"] if w.startswith(sources)]
-    found = [w for w in d["warnings"] if not w.startswith(sources)]
+def _warning_blocks(a: Analysis, d: dict[str, Any]) -> list[Any]:
+    found, reading = findings.for_display(a.findings, show_config=bool(a.others))
     blocks: list[Any] = [Heading("Warnings", 1)]
     blocks += [Para(w, "bullet") for w in found] or [Para("No warnings from the analysis.")]
     if reading:
@@ -452,7 +450,7 @@ def report_blocks(a: Analysis, trend: Sequence[Mapping[str, Any]] | None, genera
     """The report's content in reading order (shared by the PDF and the HTML writers)."""
     d = analysis_to_dict(a)
     return [*_title_blocks(a, d, generated), *_summary_blocks(a, d), *_loading_blocks(a, d),
-            *_points_blocks(d), *_figure_blocks(a, trend), *_warning_blocks(d),
+            *_points_blocks(d), *_figure_blocks(a, trend), *_warning_blocks(a, d),
             *_history_blocks(a)]
 
 
