@@ -159,3 +159,30 @@ def test_delta_v_interval_coverage_with_shared_oat_error():
             total += 1
     assert total == 200 * len(SPEEDS)
     assert 0.93 <= hits / total <= 0.97, hits / total
+
+
+def test_time_series_legs_across_north_and_turns_between():
+    # synthetic 5 Hz log: four 40 s legs at 80 KIAS on headings 0/90/180/270 (the first
+    # crosses 360/0 with track noise), joined by 30 s standard-rate turns; no wind
+    rng = np.random.default_rng(7)
+    dt, rows, t = 0.2, [], 0.0
+    for k, heading in enumerate((0.0, 90.0, 180.0, 270.0)):
+        for phase, seconds in (("leg", 40.0), ("turn", 30.0)):
+            for i in range(int(seconds / dt)):
+                psi = heading + (90.0 * i * dt / seconds if phase == "turn" else 0.0)
+                trk = (psi + rng.normal(0.0, 0.8)) % 360.0
+                rows.append(f"{t:.1f},{80 + rng.normal(0, 0.2):.2f},4500,10,"
+                            f"{85.0 + rng.normal(0, 0.1):.2f},{trk:.2f}")
+                t += dt
+    text = "time_s,ias_kt,pressure_alt_ft,oat_c,gps_groundspeed_kt,gps_track_deg\n"
+    log = cal.read_calibration_log((text + "\n".join(rows) + "\n").encode(), PROFILE,
+                                   name="ts.csv")
+    legs = cal.find_legs(log)
+    steady = legs[legs["included"]]
+    assert len(steady) == 4
+    tracks = np.sort(steady["gps_track_deg"].to_numpy())
+    assert min(tracks[0], 360.0 - tracks[-1]) < 2.0  # the northbound leg, not split
+    assert all(steady["duration_s"] > 30.0)
+    result = cal.calibrate([log])
+    assert result.speeds[0].fit.tas_kt == pytest.approx(85.0, abs=0.3)
+    assert result.speeds[0].fit.wind_kt < 0.5
