@@ -166,7 +166,7 @@ def test_time_series_legs_across_north_and_turns_between():
     # crosses 360/0 with track noise), joined by 30 s standard-rate turns; no wind
     rng = np.random.default_rng(7)
     dt, rows, t = 0.2, [], 0.0
-    for k, heading in enumerate((0.0, 90.0, 180.0, 270.0)):
+    for heading in (0.0, 90.0, 180.0, 270.0):
         for phase, seconds in (("leg", 40.0), ("turn", 30.0)):
             for i in range(int(seconds / dt)):
                 psi = heading + (90.0 * i * dt / seconds if phase == "turn" else 0.0)
