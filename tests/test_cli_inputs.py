@@ -19,7 +19,7 @@ PROFILE = str(SAMPLES / "tinkerfinch_tf2.toml")
 
 @pytest.fixture()
 def demo(tmp_path, monkeypatch):
-    for path in SAMPLES.iterdir():
+    for path in (p for p in SAMPLES.iterdir() if p.is_file()):
         shutil.copy(path, tmp_path / path.name)
     monkeypatch.chdir(tmp_path)
     return tmp_path

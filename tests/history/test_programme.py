@@ -17,7 +17,7 @@ NAMES = ("flight1_points.csv", "flight2.csv", "flight3.csv", "flight4.csv", "fli
 
 @pytest.fixture()
 def demo(tmp_path, monkeypatch):
-    for path in SAMPLES.iterdir():
+    for path in (p for p in SAMPLES.iterdir() if p.is_file()):
         shutil.copy(path, tmp_path / path.name)
     monkeypatch.chdir(tmp_path)  # bare file names: the JSON then names the same sources
     return tmp_path
