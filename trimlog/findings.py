@@ -185,6 +185,23 @@ _TEMPLATES: dict[str, str] = {
         "stabilizer setting a shim corrects from is the latest flight's"),
     # ---- stability
     "stability.unconverted": "{text}",
+    "stability.points_excluded": (
+        "{count} point(s) marked not included were left out of every fit (they stay in the "
+        "table)"),
+    "stability.np_not_identifiable": "{kind} neutral point not identifiable: {reason}",
+    "stability.no_stick_force": "no stick force logged: no stick-free neutral point",
+    "stability.points_without_force": (
+        "{count} included point(s) have no stick force and are left out of the stick-free fits"),
+    "stability.np_methods_disagree": (
+        "the pooled ({pooled_pct_mac:.1f} %MAC) and two-stage ({two_stage_pct_mac:.1f} %MAC) "
+        "stick-fixed neutral points disagree beyond their intervals: look for a flight that does "
+        "not fit"),
+    "stability.margin_below_minimum": (
+        "at the {where} ({cg_pct_mac:.1f} %MAC) the {kind} static margin may be below the "
+        "minimum of {min_pct_mac:g} %MAC (95 % lower bound {lower95_pct_mac:.1f} %MAC)"),
+    "stability.at_stop": (
+        "flight '{flight}' point {point}: elevator {elevator_deg:.1f} deg is at the {stop} stop, "
+        "so the trim there is not free; consider excluding it"),
     "stability.maneuver.unconverted": "{text}",
     "stability.maneuver.light_force": "{text}",
     # ---- incidence

@@ -115,6 +115,14 @@ def test_warnings_are_the_findings_in_words(result):
     assert all(f.code and f.severity for f in result.findings)
 
 
+def test_a_margin_that_may_be_short_is_a_warning_with_its_numbers(result):
+    # the demo's aft flights sit close to the stick-free neutral point (invented truth)
+    short = [f for f in result.findings if f.code == "stability.margin_below_minimum"]
+    assert short and all(f.severity == "warning" for f in short)
+    assert all(f.values["lower95_pct_mac"] < f.values["min_pct_mac"] for f in short)
+    assert {f.values["where"] for f in short} >= {"aft CG limit"}
+
+
 def test_exclusions_keep_the_point_and_change_the_fit(flights, result):
     excluded = analysis.analyze(flights, PROFILE, exclusions={("flight3", 4)})
     row = excluded.points.loc[(excluded.points["flight"] == "flight3")

@@ -365,7 +365,7 @@ def test_elevator_at_stop_is_flagged_not_dropped():
     r = analyze_stability(pts, profile(up=25.0))
     assert [(s.flight, s.point, s.stop) for s in r.stop_flags] == [("F1", 1, "up")]
     assert r.n_included == len(pts)
-    assert any("up stop" in w for w in r.warnings)
+    assert any(f.code == "stability.at_stop" and f.values["stop"] == "up" for f in r.findings)
 
 
 def test_no_stick_force():
@@ -375,7 +375,7 @@ def test_no_stick_force():
     assert all(g.stick_force_verdict == "not available: no stick force logged" for g in r.gradients)
     assert all(g.dfs_dv_lbf_per_kt is None for g in r.gradients)
     assert all(m.stick_free_pct_mac is None for m in r.margins)
-    assert "no stick force logged: no stick-free neutral point" in r.warnings
+    assert any(f.code == "stability.no_stick_force" for f in r.findings)
     assert r.stick_fixed.neutral_point.identifiable
     assert_no_nonfinite(r)
 
@@ -386,7 +386,8 @@ def test_partial_stick_force_is_counted():
     r = analyze_stability(pts)
     assert r.n_without_force == 2
     assert r.stick_free.n_points == len(pts) - 2
-    assert any("2 included point(s) have no stick force" in w for w in r.warnings)
+    assert any(f.code == "stability.points_without_force" and f.values["count"] == 2
+               for f in r.findings)
 
 
 def test_stick_force_without_trim_speed():
@@ -404,7 +405,8 @@ def test_excluded_points_are_counted_and_not_fitted():
     pts.loc[3, "included"] = False
     r = analyze_stability(pts)
     assert (r.n_points, r.n_included, r.n_excluded) == (18, 17, 1)
-    assert any("1 point(s) marked not included" in w for w in r.warnings)
+    assert any(f.code == "stability.points_excluded" and f.values["count"] == 1
+               for f in r.findings)
 
 
 # --------------------------------------------------------------------------- input errors

@@ -360,8 +360,7 @@ def analyze(
             primary=primary.config))
     for r in results:
         subject = Subject(config=r.config)
-        found += [_text("stability.unconverted", Severity.CAUTION, w, subject)
-                  for w in r.stability.warnings]
+        found += [f.about(config=r.config) for f in r.stability.findings]
         if r.incidence is not None:
             found += [f.about(config=r.config) for f in r.incidence.findings]
         elif r.incidence_reason:

@@ -46,12 +46,14 @@ References
 from __future__ import annotations
 
 import math
+from collections.abc import Iterable
 from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
 
 from trimlog.errors import TrimlogError
+from trimlog.findings import Finding, Severity, Subject, finding
 from trimlog.input.profile import (
     DEFAULT_CG_UNCERTAINTY_PCT_MAC,
     DEFAULT_STICK_FORCE_ZERO_UNCERTAINTY_LBF,
@@ -796,10 +798,13 @@ def analyze_stability(points: pd.DataFrame, profile: AircraftProfile | None = No
     frame = included_points(points)
     n_excluded = len(points) - len(frame)
     lemac, mac = (profile.lemac_in, profile.mac_in) if profile is not None else (None, None)
-    warnings: list[str] = []
+    found: list[Finding] = []
+
+    def text(lines: Iterable[str]) -> None:  # sentences still built by the fits below
+        found.extend(finding("stability.unconverted", Severity.CAUTION, text=w) for w in lines)
+
     if n_excluded:
-        warnings.append(f"{n_excluded} point(s) marked not included were left out of every fit "
-                        "(they stay in the table)")
+        found.append(finding("stability.points_excluded", Severity.NOTE, count=n_excluded))
     gradients = _flight_gradients(frame)
     errors = None if profile is None else (profile.cg_uncertainty_pct_mac,
                                            profile.stick_force_zero_uncertainty_lbf)
@@ -808,29 +813,32 @@ def analyze_stability(points: pd.DataFrame, profile: AircraftProfile | None = No
     free = _pooled_fit(frame, "stick_free", lemac, mac, errors)
     n_without_force = len(frame) - (0 if free is None else free.n_points)
     if not fixed.neutral_point.identifiable:
-        warnings.append("stick-fixed neutral point not identifiable: "
-                        + fixed.neutral_point.reason)
+        found.append(finding("stability.np_not_identifiable", Severity.WARNING,
+                             Subject(quantity="neutral_point.stick_fixed"), kind="stick-fixed",
+                             reason=fixed.neutral_point.reason))
     if free is None:
-        warnings.append("no stick force logged: no stick-free neutral point")
+        found.append(finding("stability.no_stick_force", Severity.CAUTION,
+                             Subject(quantity="neutral_point.stick_free")))
     else:
         if n_without_force:
-            warnings.append(f"{n_without_force} included point(s) have no stick force and are "
-                            "left out of the stick-free fits")
+            found.append(finding("stability.points_without_force", Severity.NOTE,
+                                 count=n_without_force))
         if not free.neutral_point.identifiable:
-            warnings.append("stick-free neutral point not identifiable: "
-                            + free.neutral_point.reason)
+            found.append(finding("stability.np_not_identifiable", Severity.WARNING,
+                                 Subject(quantity="neutral_point.stick_free"),
+                                 kind="stick-free", reason=free.neutral_point.reason))
     pooled_np, staged_np = fixed.neutral_point, two.neutral_point
     if pooled_np.identifiable and staged_np.identifiable and (
             pooled_np.ci95_pct_mac[1] < staged_np.ci95_pct_mac[0]
             or staged_np.ci95_pct_mac[1] < pooled_np.ci95_pct_mac[0]):
-        warnings.append(f"the pooled ({pooled_np.pct_mac:.1f} %MAC) and two-stage "
-                        f"({staged_np.pct_mac:.1f} %MAC) stick-fixed neutral points disagree "
-                        "beyond their intervals: look for a flight that does not fit")
-    warnings.extend(fixed.warnings)
+        found.append(finding("stability.np_methods_disagree", Severity.WARNING,
+                             Subject(quantity="neutral_point.stick_fixed"),
+                             pooled_pct_mac=pooled_np.pct_mac, two_stage_pct_mac=staged_np.pct_mac))
+    text(fixed.warnings)
     if free is not None:
-        warnings.extend(free.warnings)
+        text(free.warnings)
     for g in gradients:
-        warnings.extend(f"flight '{g.flight}': {w}" for w in g.warnings)
+        text(f"flight '{g.flight}': {w}" for w in g.warnings)
     cgs = [(g.flight, g.flight, g.cg_pct_mac) for g in gradients]
     min_sm = None
     if profile is not None:
@@ -844,9 +852,11 @@ def analyze_stability(points: pd.DataFrame, profile: AircraftProfile | None = No
             kind = "stick-free" if m.limited_by == "stick_free_np" else "stick-fixed"
             low = (m.stick_free_lower95_pct_mac if m.limited_by == "stick_free_np"
                    else m.stick_fixed_lower95_pct_mac)
-            warnings.append(f"at the {m.label if m.flight is None else 'CG of flight ' + m.label} "
-                            f"({m.cg_pct_mac:.1f} %MAC) the {kind} static margin may be below "
-                            f"the minimum of {min_sm:g} %MAC (95 % lower bound {low:.1f} %MAC)")
+            found.append(finding(
+                "stability.margin_below_minimum", Severity.WARNING,
+                Subject(flight=m.flight, quantity="static_margin"),
+                where=m.label if m.flight is None else "CG of flight " + m.label,
+                cg_pct_mac=m.cg_pct_mac, kind=kind, min_pct_mac=min_sm, lower95_pct_mac=low))
     critical = critical_neutral_point(pooled_np, free_np)
     next_step = None
     if profile is not None:
@@ -859,12 +869,13 @@ def analyze_stability(points: pd.DataFrame, profile: AircraftProfile | None = No
     authority = stops = None
     if profile is not None:
         authority = elevator_authority(fixed, profile, setting=setting, flap_config=flap_config)
-        warnings.extend(authority.warnings)
+        text(authority.warnings)
         stops = elevator_stop_flags(points, profile.elevator_up_stop_deg,
                                     profile.elevator_down_stop_deg)
-        warnings.extend(f"flight '{s.flight}' point {s.point}: elevator {s.elevator_deg:.1f} deg "
-                        f"is at the {s.stop} stop, so the trim there is not free; consider "
-                        "excluding it" for s in stops)
+        found += [finding("stability.at_stop", Severity.WARNING,
+                          Subject(flight=str(s.flight), point=int(s.point),
+                                  quantity="elevator_deg"),
+                          elevator_deg=s.elevator_deg, stop=s.stop) for s in stops]
     config = None
     if "config" in points.columns and points["config"].notna().any():
         config = str(points["config"].dropna().iloc[0])
@@ -874,6 +885,6 @@ def analyze_stability(points: pd.DataFrame, profile: AircraftProfile | None = No
         stick_fixed_two_stage=two, stick_free=free, margins=margins, authority=authority,
         next_cg=plan_next_cg(points, fixed, profile, None if next_step is None
                              else next_step.max_cg_pct_mac),
-        stop_flags=stops or (), warnings=tuple(dict.fromkeys(warnings)),
+        stop_flags=stops or (), findings=tuple(found),
         critical=critical, next_step=next_step,
     )

@@ -15,6 +15,7 @@ from dataclasses import dataclass
 import pandas as pd
 
 from trimlog.errors import NotIdentifiableError
+from trimlog.findings import Finding
 from trimlog.statistics.fits import LinearFit
 from trimlog.statistics.flight_effects import FlightLevelFit
 
@@ -634,7 +635,8 @@ class StabilityResult:
         None without a profile.
     next_cg : NextCg
     stop_flags : tuple of StopFlag
-    warnings : tuple of str
+    findings : tuple of Finding
+        Coded (``stability.*``); ``warnings`` gives them in words.
     critical : CriticalNeutralPoint or None
         The limiting neutral point; None when neither is identifiable.
     next_step : NextStep or None
@@ -655,6 +657,11 @@ class StabilityResult:
     authority: ElevatorAuthority | None
     next_cg: NextCg
     stop_flags: tuple[StopFlag, ...]
-    warnings: tuple[str, ...]
+    findings: tuple[Finding, ...]
     critical: CriticalNeutralPoint | None = None
     next_step: NextStep | None = None
+
+    @property
+    def warnings(self) -> tuple[str, ...]:
+        """The findings in words (from the catalogue), each once."""
+        return tuple(dict.fromkeys(f.line() for f in self.findings))
