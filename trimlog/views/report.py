@@ -36,7 +36,7 @@ from trimlog import cautions, findings
 from trimlog.errors import TrimlogError
 from trimlog.incidence.shim import shim_thickness_in
 from trimlog.progress import SILENT, Progress
-from trimlog.views import plots
+from trimlog.views import maneuver_plots, plots
 from trimlog.views.json_export import analysis_to_dict
 from trimlog.views.pdf_layout import Break, Heading, Para, Plot, Table, render_pdf, save_pdf
 
@@ -335,6 +335,48 @@ def _loading_blocks(a: Analysis, d: dict[str, Any]) -> list[Any]:
     ]
 
 
+def _maneuver_blocks(d: dict[str, Any]) -> list[Any]:
+    """Gradients per g per flight, the maneuver points, hm - hn and the 23.155 minimum."""
+    m = d.get("maneuvering")
+    if m is None:
+        return []
+    rows = tuple(
+        (g["flight"], _f(g["cg_pct_mac"]), str(g["n_points"]),
+         f"{g['nz_range'][0]:.2f}-{g['nz_range'][1]:.2f}",
+         _with_ci(g["elevator_per_g_deg"], g["elevator_per_g_ci95_deg"], ".2f"),
+         _with_ci(g["stick_force_per_g_lbf"], g["stick_force_per_g_ci95_lbf"]),
+         "lightens" if g["lightening"] else (g["reason"] or DASH))
+        for g in m["per_flight"])
+    mp, req = m["maneuver_point"], m["requirement"]
+    lines = [f"Stick-fixed maneuver point hm: {neutral_point_text(mp['stick_fixed'])}",
+             f"Stick-free maneuver point hm': {neutral_point_text(mp['stick_free'])}"]
+    if m["hm_minus_hn_pct_mac"] is not None:
+        lines.append(f"Measured hm - hn = {m['hm_minus_hn_pct_mac']:+.1f} %MAC"
+                     + (f", hm' - hn' = {m['hm_free_minus_hn_free_pct_mac']:+.1f} %MAC"
+                        if m["hm_free_minus_hn_free_pct_mac"] is not None else "")
+                     + "; in a steady pull-up theory gives hm - hn = -Cmq/(2 mu), in a level "
+                       "turn (1 + 1/n^2) times that (Etkin and Reid, ch. 3; see the "
+                       "contributor guide).")
+    lines.append(
+        f"Minimum stick force per g {req['minimum_per_g_lbf']:.1f} lbf/g: 14 CFR 23.155(a) "
+        f"(pre-2017 text) asks {req['force_to_limit_lbf']:.0f} lbf to reach "
+        f"{req['limit_load_factor_g']:.2f} g with a {req['control']} "
+        f"({req['per_g_23_155_lbf']:.1f} lbf/g); common practice, no source: "
+        f"{req['per_g_common_practice_lbf']:.1f} lbf/g.")
+    if m["aft_limit_stick_force_per_g_lbf"] is not None:
+        aft = _with_ci(m["aft_limit_stick_force_per_g_lbf"],
+                       m["aft_limit_stick_force_per_g_ci95_lbf"])
+        lines.append(f"Stick force per g predicted at the aft CG limit: {aft} lbf/g.")
+    if m["aft_cg_pct_mac"] is not None:
+        lines.append(f"Most aft CG the maneuvering results allow: {m['aft_cg_pct_mac']:.1f} %MAC "
+                     f"(limited by the {m['limited_by']}).")
+    return [
+        Heading("Maneuvering: elevator and stick force per g (95 % interval)", 2),
+        Table(("flight", "CG %MAC", "points", "n g", "dde/dn deg/g", "dFs/dn lbf/g", ""), rows),
+        *[Para(line) for line in lines],
+    ]
+
+
 def _points_blocks(d: dict[str, Any]) -> list[Any]:
     rows = []
     for p in d["points"]:
@@ -388,6 +430,20 @@ def _figure_blocks(a: Analysis, trend: Sequence[Mapping[str, Any]] | None) -> li
               "gradient there. A stable aircraft needs a pull to fly slower than trim and a "
               "push to fly faster: the curves slope down through the trim speed."),
     ]
+    if a.maneuvering is not None:
+        blocks += [
+            Plot("Stick force against load factor", one(maneuver_plots.stick_force_vs_n),
+                 "Stick force against load factor at each flight's turn speed (steady turns "
+                 "and the steps of a wind-up turn). The slope is the stick force per g; it "
+                 "falls as the CG moves aft. A slope that flattens at high load factor is a "
+                 "lightening stick force per g. Dashed: the minimum stick force per g."),
+            Plot("Gradients per g against CG", one(maneuver_plots.maneuver_gradients_vs_cg),
+                 "Elevator per g over the 1-g lift coefficient (left) and stick force per g "
+                 "over the wing loading (right), against CG, extrapolated to zero: the "
+                 "stick-fixed and stick-free maneuver points hm and hm' (filled), with the "
+                 "neutral points hn and hn' (open), each with its 95 % interval. Pitch "
+                 "damping puts the maneuver points aft of the neutral points."),
+        ]
     if trend:
         blocks.append(Plot(
             "Neutral point after each flight",
@@ -450,8 +506,8 @@ def report_blocks(a: Analysis, trend: Sequence[Mapping[str, Any]] | None, genera
     """The report's content in reading order (shared by the PDF and the HTML writers)."""
     d = analysis_to_dict(a)
     return [*_title_blocks(a, d, generated), *_summary_blocks(a, d), *_loading_blocks(a, d),
-            *_points_blocks(d), *_figure_blocks(a, trend), *_warning_blocks(a, d),
-            *_history_blocks(a)]
+            *_points_blocks(d), *_maneuver_blocks(d), *_figure_blocks(a, trend),
+            *_warning_blocks(a, d), *_history_blocks(a)]
 
 
 
