@@ -179,7 +179,8 @@ def test_html_report_is_self_contained(one_flight, tmp_path):
     path = report.write_report(one_flight, tmp_path / "one.html")
     page = path.read_text(encoding="utf-8")
     assert page.startswith("<!DOCTYPE html>")
-    assert page.count("data:image/png;base64,") == 4
+    # four stability figures, and two of maneuvering (the flight ends with a wind-up turn)
+    assert page.count("data:image/png;base64,") == 6
     assert "http://" not in page and "https://" not in page
     assert "not identifiable" in page
     assert cautions.ESTIMATE_STATEMENT.replace("'", "&#x27;") in page
