@@ -9,17 +9,58 @@ from trimlog.demo import model as demo
 from trimlog.errors import TrimlogError
 
 
-def _try_use(text: str, source: str) -> None:
-    """Take a profile if it reads; otherwise keep the old one and remember why not."""
+def _try_use(text: str, source: str, *, keep: bool = True) -> None:
+    """Take a profile if it reads; otherwise keep the old one and remember why not.
+
+    A profile taken is kept with its aircraft in the history (``keep``), so
+    that a reload or a new session opens on it, not on the demo.
+    """
     ss = st.session_state
     try:
-        compute.profile(text, source)
+        p = compute.profile(text, source)
     except TrimlogError as exc:
         ss.profile_error = str(exc)
         return
     ss.profile_error = ""
     ss.profile_text, ss.profile_source = text, source
     ss.profile_editor = text
+    if keep:
+        try:
+            compute.store_profile(p.name, text)
+        except TrimlogError as exc:
+            ss.profile_error = f"the profile is used but could not be kept in the history: {exc}"
+
+
+def restore_saved_aircraft() -> None:
+    """On a new session: open on the aircraft kept last in the history (the demo only when none).
+
+    Run once per session, after :func:`trimlog.dashboard.session.init`.
+    """
+    ss = st.session_state
+    if ss.get("restore_checked"):
+        return
+    ss.restore_checked = True
+    records = compute.stored_aircraft()
+    if not records:
+        return
+    latest = max(records, key=lambda r: r.profile_imported_at)
+    _use_stored(latest)
+
+
+def _use_stored(record) -> None:
+    ss = st.session_state
+    _try_use(record.profile_text, f"history: {record.name}", keep=False)
+    if not ss.profile_error and record.name != compute.profile(
+            demo.PROFILE_TOML, session.DEMO_SOURCE).name:
+        ss.use_demo = False
+
+
+def _switch_aircraft() -> None:
+    name = st.session_state.get("stored_aircraft_choice")
+    record = next((r for r in compute.stored_aircraft() if r.name == name), None)
+    if record is not None:
+        _use_stored(record)
+        compute.store_profile(record.name, record.profile_text)
 
 
 def _apply_upload() -> None:
@@ -47,7 +88,7 @@ def _apply_edit() -> None:
 
 
 def _back_to_demo() -> None:
-    _try_use(demo.PROFILE_TOML, session.DEMO_SOURCE)
+    _try_use(demo.PROFILE_TOML, session.DEMO_SOURCE, keep=False)
     st.session_state.use_demo = bool(st.session_state.demo_logs)
 
 
@@ -78,6 +119,13 @@ def render() -> None:
         st.info(common.esc("Assumed because the profile does not say: "
                            + "; ".join(p.defaults_used)))
 
+    stored = compute.stored_aircraft()
+    if stored:
+        names = [r.name for r in stored]
+        left, right = st.columns([3, 1])
+        left.selectbox("Aircraft kept in the history", names, key="stored_aircraft_choice",
+                       index=names.index(p.name) if p.name in names else 0)
+        right.button("Use this aircraft", on_click=_switch_aircraft)
     st.file_uploader("Upload a profile (TOML)", type=["toml"], key="profile_upload")
     st.button("Use the uploaded profile", on_click=_apply_upload,
               disabled=ss.get("profile_upload") is None)

@@ -42,6 +42,7 @@ SCROLL_TO_TOP = (
 
 st.set_page_config(page_title="trimlog", page_icon=":material/flight:", layout="wide")
 session.init()
+aircraft.restore_saved_aircraft()
 st.session_state.setdefault("page", "Results")
 with st.sidebar:
     st.markdown("### trimlog")

@@ -79,6 +79,14 @@ def run_analysis(inputs: Inputs) -> Analysis:
     minimum hold changed) are not passed on.
     """
     flights = flights_of(inputs)
+    if inputs.programme is not None:
+        from trimlog.history import programme
+
+        with open_history() as store:
+            return programme.analyze_programme(
+                store, flights, profile=profile(inputs.profile_text, inputs.profile_source),
+                exclusions=inputs.exclusions, inclusions=inputs.inclusions,
+                min_hold_s=inputs.min_hold_s, drop_unknown_choices=True)
     present = {(f.flight, int(p)) for f in flights for p in f.points.get("point", [])}
     return analysis.analyze(flights, profile(inputs.profile_text, inputs.profile_source),
                             exclusions=[e for e in inputs.exclusions if e in present],
@@ -264,6 +272,57 @@ def _db_token() -> tuple:
         else:
             out.append((stat.st_mtime_ns, stat.st_size))
     return (str(db), *out)
+
+
+@st.cache_data(max_entries=16, show_spinner=False)
+def _saved_count(aircraft: str, token: tuple) -> int:
+    with open_history() as store:
+        record = store.find_aircraft(aircraft)
+        return 0 if record is None else len(store.flights(record.id))
+
+
+def programme_state(aircraft: str) -> tuple | None:
+    """The database's state when the history holds flights of the aircraft, else None.
+
+    A database that does not exist is not created here.
+    """
+    if not history_path().exists():
+        return None
+    token = _db_token()
+    try:
+        return (aircraft, *token) if _saved_count(aircraft, token) else None
+    except TrimlogError:
+        return None
+
+
+def stored_aircraft() -> list:
+    """Every aircraft of the history with its current profile (none when there is no database)."""
+    if not history_path().exists():
+        return []
+    try:
+        with open_history() as store:
+            return store.aircraft_list()
+    except TrimlogError:
+        return []
+
+
+def store_profile(name: str, text: str) -> None:
+    """Keep the profile with the aircraft in the history (a new version when it changed)."""
+    with open_history() as store:
+        store.upsert_aircraft(name, text)
+
+
+@st.cache_resource(max_entries=4, show_spinner="Recomputing the saved flights...")
+def _history_analysis(aircraft: str, token: tuple):
+    from trimlog.history import service as history
+
+    with open_history() as store:
+        return history.analyze_history(store, aircraft)
+
+
+def history_analysis(aircraft: str) -> Analysis:
+    """The analysis of every saved flight of the aircraft (re-done when the database changes)."""
+    return _history_analysis(aircraft, _db_token())
 
 
 def import_flight(store, log: FileBytes, sheet: FileBytes | None, inputs: Inputs,

@@ -21,13 +21,15 @@ def _remove(name: str) -> None:
     session.remove_upload(name)
 
 
-def _set_sheet(log_name: str) -> None:
-    value = st.session_state[f"sheet_{log_name}"]
-    st.session_state.sheet_for[log_name] = None if value == NO_SHEET else value
+def _set_sheet(digest: str) -> None:
+    value = st.session_state[f"sheet_{digest}"]
+    st.session_state.sheet_for[digest] = None if value == NO_SHEET else value
 
 
-def _set_text(store: str, log_name: str) -> None:
-    st.session_state[store][log_name] = st.session_state[f"{store}_{log_name}"]
+def _set_text(store: str, digest: str) -> None:
+    # Everything a flight owns is keyed by its content (SHA-256), never by its file name:
+    # a file of your own named like a demo file must not take the demo flight's words.
+    st.session_state[store][digest] = st.session_state[f"{store}_{digest}"]
 
 
 def render() -> None:
@@ -92,7 +94,8 @@ def _log_card(name: str, log: session.FileBytes, sheets: dict, p) -> None:
         options = [NO_SHEET, *sheets]
         sheet_col.selectbox("Loading sheet", options,
                             index=options.index(chosen) if chosen else 0,
-                            key=f"sheet_{name}", on_change=_set_sheet, args=(name,))
+                            key=f"sheet_{log.digest}", on_change=_set_sheet,
+                            args=(log.digest,))
         try:
             found = compute.flight_data(log, sheets.get(chosen) if chosen else None,
                                         ss.profile_text, ss.profile_source, ss.min_hold_s)
@@ -101,12 +104,12 @@ def _log_card(name: str, log: session.FileBytes, sheets: dict, p) -> None:
             return
         sheet = found[0].loading
         for col, store, label in ((label_col, "labels", "Label"), (notes_col, "notes", "Notes")):
-            default = ss[store].get(name)
+            default = ss[store].get(log.digest)
             if default is None and sheet is not None:
                 default = sheet.label if store == "labels" else sheet.notes
-            ss[store].setdefault(name, default or "")
-            col.text_input(label, value=ss[store][name], key=f"{store}_{name}",
-                           on_change=_set_text, args=(store, name),
+            ss[store].setdefault(log.digest, default or "")
+            col.text_input(label, value=ss[store][log.digest], key=f"{store}_{log.digest}",
+                           on_change=_set_text, args=(store, log.digest),
                            help="Kept with the flight when you save it to the history")
         first = found[0]
         kind = "time-series log" if first.log.kind == "time_series" else "point table"

@@ -8,12 +8,12 @@ import pandas as pd
 import streamlit as st
 
 from trimlog import cautions
-from trimlog.dashboard import common, compute, session
+from trimlog.dashboard import blocks, common, compute, session
 from trimlog.dashboard.common import interval, num
 from trimlog.errors import TrimlogError
 
 
-def _save() -> None:
+def save_flights() -> None:
     """Import every readable flight in use, then apply this session's point choices to them."""
     ss = st.session_state
     inputs = session.inputs()
@@ -23,8 +23,8 @@ def _save() -> None:
             for log, sheet in inputs.logs:
                 try:
                     outcome = compute.import_flight(store, log, sheet, inputs,
-                                                    ss.labels.get(log.name) or None,
-                                                    ss.notes.get(log.name) or None)
+                                                    ss.labels.get(log.digest) or None,
+                                                    ss.notes.get(log.digest) or None)
                 except TrimlogError as exc:
                     messages.append(("error", str(exc)))
                     continue
@@ -68,7 +68,7 @@ def render() -> None:
         return
     n_logs = len(session.logs())
     st.button(f"Save the {n_logs} flight(s) in use to the history of {p.name}",
-              type="primary", on_click=_save, disabled=not n_logs)
+              type="primary", on_click=save_flights, disabled=not n_logs)
     for kind, text in ss.pop("history_messages", []):
         {"ok": st.success, "info": st.info, "error": st.error}[kind](common.esc(text))
 
@@ -81,6 +81,19 @@ def render() -> None:
     common.caution_box(key="_history")
     _listing(listing)
     _trend(p)
+    _current_shim(p)
+
+
+def _current_shim(p) -> None:
+    """The shim recommendation from every saved flight, beside the trend."""
+    try:
+        a = compute.history_analysis(p.name)
+    except TrimlogError as exc:
+        common.show_error(exc, "No shim recommendation from the saved flights")
+        return
+    st.caption("From every saved flight, the latest stabilizer setting by date being the "
+               "one the shim corrects from.")
+    blocks.shim_block(a)
 
 
 def _listing(listing: list[dict]) -> None:

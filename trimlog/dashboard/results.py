@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
+import dataclasses
+
 import pandas as pd
 import streamlit as st
 
 from trimlog import cautions, findings
-from trimlog.dashboard import common, compute, session
+from trimlog.dashboard import blocks, common, compute, session
 from trimlog.dashboard.common import interval, num, with_interval
 from trimlog.errors import TrimlogError
 from trimlog.pipeline.chain import Analysis
@@ -37,21 +39,24 @@ def render() -> None:
     st.header("Results")
     common.estimate_note()
     everything = session.inputs()
-    if not everything.logs:
+    try:
+        aircraft = compute.profile(everything.profile_text, everything.profile_source).name
+    except TrimlogError as exc:
+        common.show_error(exc, "The aircraft profile has a problem (see Aircraft)")
+        return
+    saved = compute.programme_state(aircraft)
+    if not everything.logs and saved is None:
         st.info("No flights yet. Add logs on the Flights page (or switch the demo flights on).")
         st.button("Go to Flights", on_click=common.go_to, args=("Flights",))
         common.caution_box(statement=False)
-        return
-    try:
-        compute.profile(everything.profile_text, everything.profile_source)
-    except TrimlogError as exc:
-        common.show_error(exc, "The aircraft profile has a problem (see Aircraft)")
         return
     ok, bad = _readable(everything)
     for name, exc in bad:
         common.show_error(exc, f"{name} is left out of the analysis")
     inputs = session.inputs(readable=ok)
-    if not inputs.logs:
+    # Saved flights of this aircraft join the flights in use: the programme's result.
+    inputs = dataclasses.replace(inputs, programme=saved)
+    if not inputs.logs and inputs.programme is None:
         common.caution_box(statement=False)
         return
     try:
@@ -62,8 +67,9 @@ def render() -> None:
         return
     _banner(a)
     _neutral_points(a)
-    _shim(a)
+    blocks.shim_block(a)
     common.caution_box(statement=False)
+    _next_step(a)
     _margins(a)
     _stick_forces(a)
     _authority(a)
@@ -74,13 +80,36 @@ def render() -> None:
 
 
 def _banner(a: Analysis) -> None:
+    ss = st.session_state
     s = a.primary.stability
-    demo = any(f.source not in st.session_state.user_logs for f in a.flights)
+    demo_digests = {f.digest for f in ss.demo_logs.values()} if ss.use_demo else set()
+    demo = any(f.sha256 in demo_digests for f in a.flights)
     st.markdown(
         f"**{common.esc(a.profile.name)}**: {len(a.flights)} flight(s), {s.n_included} points used"
         + (f", {s.n_excluded} left out" if s.n_excluded else "")
-        + f"; configuration '{a.primary.config}'."
+        + f"; configuration '{a.primary.config}'. Flights in the order flown: "
+        + common.esc(", ".join(f"{f.flight} ({f.when.iso() or 'no date'})" for f in a.flights))
+        + "."
     )
+    prog = a.programme
+    new = list(prog.new) if prog is not None else [f.flight for f in a.flights]
+    with st.container(border=True, key="programme"):
+        if prog is not None:
+            st.markdown(
+                f"**The programme's result**: {len(prog.saved)} saved flight(s) from the history "
+                f"({common.esc(', '.join(f for f, _ in prog.saved))}) and {len(new)} new "
+                f"({common.esc(', '.join(new) or 'none')}).")
+        else:
+            st.markdown("Nothing of this aircraft is saved in the history yet: these are the "
+                        "flights in use only.")
+        if new:
+            from trimlog.dashboard import history_page
+
+            st.button(f"Save the new flight(s) to the history of {a.profile.name}",
+                      key="save_from_results", on_click=history_page.save_flights,
+                      type="primary")
+        for kind, text in ss.pop("history_messages", []):
+            {"ok": st.success, "info": st.info, "error": st.error}[kind](common.esc(text))
     if demo:
         st.info("Showing the invented demo aircraft and its demo flights. To analyse your "
                 "own: set up the airplane on **Aircraft**, then upload logs on **Flights**.")
@@ -123,45 +152,21 @@ def _neutral_points(a: Analysis) -> None:
                     f"over {s.stick_fixed.neutral_point.n_flights} flight(s).")
 
 
-def _shim(a: Analysis) -> None:
-    st.subheader("Stabilizer incidence and shim")
-    rec = a.primary.incidence
-    with st.container(border=True, key="shim"):
-        if rec is None:
-            st.markdown("**No shim recommendation yet.** "
-                        + common.esc(a.primary.incidence_reason or ""))
+def _next_step(a: Analysis) -> None:
+    nxt = a.primary.stability.next_step
+    if nxt is None:
+        return
+    st.subheader("Next flight: how far aft")
+    with st.container(border=True, key="next_step_results"):
+        if nxt.max_cg_pct_mac is None:
+            st.markdown("**No step aft is supported yet.**")
         else:
-            if rec.shim_recommended:
-                from trimlog.views import report
-
-                st.markdown(f"**Shim: {rec.shim_thickness_in:.3f} in "
-                            f"({rec.shim_thickness_mm:.2f} mm) under the {rec.shim_location}.**")
-            else:
-                st.markdown("**No shim recommended from these data** (the reason is below).")
-            cols = st.columns(4)
-            cols[0].metric("Elevator at cruise", f"{rec.elevator_at_cruise_deg:+.2f} deg",
-                           help="trailing edge down positive")
-            cols[0].caption(f"95 %: {interval(rec.elevator_at_cruise_ci95_deg, '+.2f')} deg")
-            cols[1].metric("Incidence change", f"{rec.change_deg:+.2f} deg",
-                           help="leading edge up positive")
-            cols[1].caption(f"95 %: {interval(rec.change_ci95_deg, '+.2f')} deg")
-            if rec.shim_recommended:
-                cols[2].metric("Nearest shim stock", f"{rec.shim_stock_thickness_in:.3f} in",
-                               help=f"{rec.shim_stock} stock")
-                cols[2].caption(" + ".join(f"{t:.3f}" for t in rec.shim_stock_sheets)
-                                + f" in = {rec.shim_stock_thickness_mm:.2f} mm")
-            cols[3].metric("Elevator effectiveness tau", f"{rec.tau:.2f}")
-            cols[3].caption(f"{rec.tau_source}; 95 %: {interval(rec.tau_ci95, '.2f')}")
-            st.markdown(rec.words)
-            if rec.shim_recommended:
-                from trimlog.views import report
-
-                st.markdown("Shim with its uncertainty: " + report.shim_text(
-                    rec.to_json(), a.profile.stabilizer_attach_spacing_in) + ".")
-            st.caption(rec.tau_explanation + ". " + rec.change_method + ".")
-            for w in rec.warnings:
-                common.warn(w)
-        common.caution_list(cautions.INCIDENCE)
+            cols = st.columns(3)
+            cols[0].metric("Most aft CG for the next flight", f"{nxt.max_cg_pct_mac:.1f} %MAC")
+            cols[1].metric("As a station", num(nxt.max_cg_station_in, ".1f", "in"))
+            cols[2].metric("Limited by", nxt.limited_by)
+        st.markdown(common.esc(nxt.reason))
+        common.caution_list(cautions.CG_EXPANSION)
 
 
 def _margins(a: Analysis) -> None:

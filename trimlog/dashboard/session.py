@@ -49,13 +49,16 @@ class Inputs:
     min_hold_s: float | None
     exclusions: tuple[tuple[str, int], ...]
     inclusions: tuple[tuple[str, int], ...] = ()
+    #: The history database's state when the analysis is of the programme (saved flights
+    #: plus these), None for these flights alone.
+    programme: tuple | None = None
 
     @property
     def key(self) -> str:
         """Digest of every input."""
         h = hashlib.sha256()
         for part in (self.profile_text, self.profile_source, repr(self.min_hold_s),
-                     repr(self.exclusions), repr(self.inclusions)):
+                     repr(self.exclusions), repr(self.inclusions), repr(self.programme)):
             h.update(part.encode("utf-8") + b"\0")
         for log, sheet in self.logs:
             h.update(f"{log.name}\0{log.digest}\0".encode())
@@ -96,6 +99,7 @@ def init() -> None:
     ss.use_demo = bool(ss.demo_logs)
     ss.user_logs = {}
     ss.user_sheets = {}
+    # Keyed by the log's SHA-256 (the flight itself), never by its file name.
     ss.sheet_for = {}
     ss.labels = {}
     ss.notes = {}
@@ -125,9 +129,10 @@ def add_uploads(files: list[tuple[str, bytes]]) -> list[str]:
 def remove_upload(name: str) -> None:
     """Forget an uploaded file and the choices tied to it."""
     ss = st.session_state
-    ss.user_logs.pop(name, None)
+    log = ss.user_logs.pop(name, None)
     ss.user_sheets.pop(name, None)
-    ss.sheet_for.pop(name, None)
+    if log is not None:
+        ss.sheet_for.pop(log.digest, None)
 
 
 def logs() -> dict[str, FileBytes]:
@@ -150,8 +155,9 @@ def sheet_choice(log_name: str) -> str | None:
     """The loading sheet chosen for a log: the user's pick, else the one named like it."""
     ss = st.session_state
     available = sheets()
-    if log_name in ss.sheet_for:
-        chosen = ss.sheet_for[log_name]
+    log = logs().get(log_name)
+    if log is not None and log.digest in ss.sheet_for:
+        chosen = ss.sheet_for[log.digest]
         return chosen if chosen in available else None
     stem = log_name.split(".")[0]
     matches = [n for n, f in available.items() if f.stem == stem]

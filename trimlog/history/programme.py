@@ -201,20 +201,29 @@ def analyze_programme(
     profile: AircraftProfile | None = None,
     aircraft: str | None = None,
     exclusions: Iterable[tuple[str, int]] = (),
+    inclusions: Iterable[tuple[str, int]] = (),
     min_hold_s: float | None = None,
     progress: Progress = SILENT,
+    drop_unknown_choices: bool = False,
 ) -> chain.Analysis:
     """Analyse the saved flights with their choices plus the new ones.
 
-    See :func:`programme_flights` for how the flights are gathered.
-
-    The result's ``programme`` says which flights went in.
+    See :func:`programme_flights` for how the flights are gathered.  The
+    result's ``programme`` says which flights went in.  ``exclusions`` and
+    ``inclusions`` are the user's choices now, on top of the saved ones;
+    with ``drop_unknown_choices`` a choice naming no point is dropped (the
+    dashboard keeps choices of logs since removed) instead of refused.
     """
     prog = programme_flights(store, new_flights, profile=profile, aircraft=aircraft,
                              min_hold_s=min_hold_s)
+    exclusions, inclusions = list(exclusions), list(inclusions)
+    if drop_unknown_choices:
+        present = {(f.flight, int(p)) for f in prog.flights for p in f.points.get("point", [])}
+        exclusions = [c for c in exclusions if c in present]
+        inclusions = [c for c in inclusions if c in present]
     result = chain.analyze(list(prog.flights), prog.profile,
                            exclusions=[*prog.exclusions, *exclusions],
-                           inclusions=prog.inclusions, progress=progress)
+                           inclusions=[*prog.inclusions, *inclusions], progress=progress)
     return replace(result, findings=(*prog.findings, *result.findings), programme=prog.inputs)
 
 
