@@ -252,6 +252,9 @@ def _build_parser() -> argparse.ArgumentParser:
         "trimlog bench --quick",
     )
     p.add_argument("--quick", action="store_true", help="smaller sizes, for a first look")
+    p.add_argument("--section", action="append", default=[], metavar="NAME",
+                   help="run only this section (repeatable): chain, season, startup, report, "
+                        "growth, history, dashboard, browser, memory")
     return parser
 
 
@@ -702,7 +705,7 @@ def _run_bench(args: argparse.Namespace) -> int:
     sys.path.insert(0, str(bench_dir))
     import bench  # the harness of the source checkout, outside the package
 
-    return bench.run(quick=args.quick)
+    return bench.run(quick=args.quick, sections=tuple(args.section) or None)
 
 
 def _use_color() -> bool:
