@@ -127,3 +127,24 @@ def test_a_flights_facts_are_keyed_by_its_content_not_its_name():
     values = [t.value for t in at.text_input]
     assert demo_label not in values
     assert not any("invented demo flight" in v for v in values)
+
+
+def test_an_installed_wheel_without_sample_logs_still_opens_on_the_demo(tmp_path, monkeypatch):
+    # an installed wheel has no sample_logs/ beside the package: the demo files are written
+    from trimlog.dashboard import session
+
+    monkeypatch.setattr(session, "DEMO_DIR", tmp_path / "no-such-folder")
+    at = _app()
+    assert sorted(at.session_state["demo_logs"]) == sorted(
+        p.name for p in SAMPLES.glob("flight*.csv"))
+    assert "Stick-fixed neutral point" in _metrics(at)
+
+
+def test_declared_dependencies_and_floors():
+    import tomllib
+
+    project = tomllib.loads((ROOT / "pyproject.toml").read_text())["project"]
+    deps = {re.split(r"[<>=]", d)[0]: d for d in project["dependencies"]}
+    assert "scipy" in deps  # imported by statistics/ (scipy.special, scipy.stats lazily)
+    # st.html(unsafe_allow_javascript=...) first appears in streamlit 1.52.0 (absent in 1.51.0)
+    assert deps["streamlit"] == "streamlit>=1.52"

@@ -71,13 +71,31 @@ def is_loading_sheet(name: str) -> bool:
     return name.lower().endswith(".toml")
 
 
+@st.cache_resource(show_spinner="Writing the demo flights...")
+def _generated_demo() -> dict[str, bytes]:
+    """The demo files, written by :func:`trimlog.demo.files.write_demo`.
+
+    Used where no ``sample_logs`` folder sits beside the package (an installed wheel).
+    """
+    import tempfile
+
+    from trimlog.demo.files import write_demo
+
+    with tempfile.TemporaryDirectory(prefix="trimlog-demo-") as tmp:
+        return {p.name: p.read_bytes() for p in write_demo(Path(tmp)) if p.is_file()}
+
+
 def _demo_files() -> tuple[dict[str, FileBytes], dict[str, FileBytes]]:
     logs, sheets = {}, {}
     if DEMO_DIR.is_dir():
-        for path in sorted(DEMO_DIR.glob("flight*.csv")):
-            logs[path.name] = FileBytes.of(path.name, path.read_bytes())
-        for path in sorted(DEMO_DIR.glob(f"*{LOADING_SHEET_SUFFIX}")):
-            sheets[path.name] = FileBytes.of(path.name, path.read_bytes())
+        files = {p.name: p.read_bytes() for p in sorted(DEMO_DIR.iterdir()) if p.is_file()}
+    else:
+        files = _generated_demo()
+    for name in sorted(files):
+        if name.startswith("flight") and name.endswith(".csv"):
+            logs[name] = FileBytes.of(name, files[name])
+        elif name.endswith(LOADING_SHEET_SUFFIX):
+            sheets[name] = FileBytes.of(name, files[name])
     return logs, sheets
 
 
