@@ -362,3 +362,15 @@ def test_two_sessions_saving_at_once_lose_nothing(tmp_path):
         (aircraft,) = st_.aircraft_list()
         stored = sorted(f.filename for f in st_.flights(aircraft.id))
     assert stored == ["flight2.csv", "flight3.csv"]
+
+
+def test_results_show_the_maneuver_points(demo_analysis):
+    _, _, a = demo_analysis
+    m = a.maneuvering
+    at = _app()
+    shown = _metrics(at)
+    assert shown["Stick-fixed maneuver point hm"] == f"{m.stick_fixed.pct_mac:.1f} %MAC"
+    assert shown["Stick-free maneuver point hm'"] == f"{m.stick_free.pct_mac:.1f} %MAC"
+    table = _table(at, "stick force per g [lbf/g]")
+    assert list(table["Flight"]) == [g.flight for g in m.gradients]
+    assert "23.155" in _texts(at)

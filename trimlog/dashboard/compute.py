@@ -133,10 +133,11 @@ def _png(ax) -> bytes:
 
 @st.cache_data(max_entries=64, show_spinner=False, hash_funcs=_HASH)
 def figure(kind: str, inputs: Inputs) -> bytes:
-    """PNG of a figure of :mod:`trimlog.views.plots` for the analysis."""
-    from trimlog.views import plots
+    """PNG of a figure of :mod:`trimlog.views.plots` (or its maneuvering figures)."""
+    from trimlog.views import maneuver_plots, plots
 
-    return _png(getattr(plots, kind)(run_analysis(inputs)))
+    module = plots if hasattr(plots, kind) else maneuver_plots
+    return _png(getattr(module, kind)(run_analysis(inputs)))
 
 
 class LogCanvas:

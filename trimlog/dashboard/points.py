@@ -87,6 +87,7 @@ def render() -> None:
     else:
         st.caption("A typed point table: one row per point, no time history to show.")
 
+    _maneuvering_points(data)
     if not len(data.points):
         st.warning("No stabilized point in this flight.")
         return
@@ -127,3 +128,24 @@ def render() -> None:
         st.caption("Flags: " + "; ".join(f"**{f}**: {common.esc(FLAG_TEXT.get(f, f))}"
                                          for f in present))
     st.button("See the results", type="primary", on_click=common.go_to, args=("Results",))
+
+
+#: Columns of the maneuvering points shown (read only: choose them with the analysis).
+MANEUVER_SHOWN = {"point": "point", "nz_g": "n [g]", "eas_kt": "EAS [kt]",
+                  "ias_kt": "IAS [kt]", "cas_kt": "CAS [kt]", "elevator_deg": "elevator [deg]",
+                  "stick_force_lbf": "stick force [lbf]", "t_start_s": "from [s]",
+                  "t_end_s": "to [s]", "flags": "flags"}
+
+
+def _maneuvering_points(data) -> None:
+    """The flight's maneuvering points (steady turns at 1.1 g or more): never trim points."""
+    found = data.maneuvering_points()
+    if not len(found):
+        return
+    with st.expander(f"Maneuvering points of this flight ({len(found)}): steady turns at "
+                     "1.1 g or more, used for stick force per g, never as trim points"):
+        shown = found[[c for c in MANEUVER_SHOWN if c in found.columns]]
+        st.dataframe(shown.rename(columns=MANEUVER_SHOWN), hide_index=True, width="stretch")
+        st.caption("They are numbered on their own. Points away from the flight's turn "
+                   "speed are left out of its gradients (flag off_speed); see Results.")
+

@@ -18,6 +18,8 @@ FIGURES = (
     ("gradient_vs_cg", "Trim gradient against CG: where it reaches zero is the neutral point"),
     ("stick_force_per_q", "Fs/q against CL (stick-free)"),
     ("stick_force_vs_speed", "Stick force against airspeed"),
+    ("stick_force_vs_n", "Stick force against load factor (maneuvering points)"),
+    ("maneuver_gradients_vs_cg", "Gradients per g against CG: maneuver and neutral points"),
 )
 
 
@@ -72,6 +74,7 @@ def render() -> None:
     _next_step(a)
     _margins(a)
     _stick_forces(a)
+    _maneuvering(a)
     _authority(a)
     _warnings(a)
     _figures(inputs)
@@ -215,6 +218,43 @@ def _stick_forces(a: Analysis) -> None:
         for g in s.gradients
     ]
     st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
+
+
+def _maneuvering(a: Analysis) -> None:
+    m = a.maneuvering
+    st.subheader("Maneuvering: stick force per g and the maneuver points")
+    if m is None:
+        st.info("No maneuvering point: no steady turn at 1.1 g or more was found (log the "
+                "load factor and hold each step of a wind-up turn for 10 s or more).")
+        return
+    cols = st.columns(2)
+    _np_metric(cols[0], "Stick-fixed maneuver point hm", m.stick_fixed,
+               "Elevator per g (over the 1-g CL) against CG, extrapolated to zero.")
+    if m.stick_free is None:
+        cols[1].metric("Stick-free maneuver point hm'", "no stick force logged")
+    else:
+        _np_metric(cols[1], "Stick-free maneuver point hm'", m.stick_free,
+                   "Stick force per g (over the wing loading) against CG, extrapolated to zero.")
+    rows = [{"Flight": g.flight, "CG [%MAC]": num(g.cg_pct_mac), "Points": g.n_points,
+             "n [g]": f"{g.nz_range[0]:.2f}-{g.nz_range[1]:.2f}",
+             "elevator per g [deg/g]": with_interval(g.elevator_per_g_deg,
+                                                     g.elevator_per_g_ci95_deg, ".2f"),
+             "stick force per g [lbf/g]": with_interval(g.stick_force_per_g_lbf,
+                                                        g.stick_force_per_g_ci95_lbf, ".1f"),
+             "note": "lightens at high n" if g.lightening else g.reason}
+            for g in m.gradients]
+    st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
+    r = m.requirement
+    text = (f"Minimum stick force per g {r.minimum_per_g_lbf:.1f} lbf/g: 14 CFR 23.155(a) "
+            f"(pre-2017 text) {r.force_to_limit_lbf:.0f} lbf to {r.limit_load_factor_g:.2f} g "
+            f"with a {r.control}; common practice (no source) {r.per_g_common_practice_lbf:.1f}"
+            " lbf/g.")
+    if m.hm_minus_hn_pct_mac is not None:
+        text += f" Measured hm - hn = {m.hm_minus_hn_pct_mac:+.1f} %MAC (pitch damping)."
+    if m.aft_cg_pct_mac is not None:
+        text += (f" Most aft CG the maneuvering results allow: {m.aft_cg_pct_mac:.1f} %MAC "
+                 f"(limited by the {m.limited_by}).")
+    st.caption(common.esc(text))
 
 
 def _authority(a: Analysis) -> None:
