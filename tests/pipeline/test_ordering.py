@@ -103,3 +103,21 @@ def test_analysis_object_keeps_date_order():
     assert result.primary.stability.stick_fixed.latest_group == "shim 0.6 deg LE down"
     undated = [f for f in result.findings if f.code == "pipeline.order.undated"]
     assert [f.values["flights"] for f in undated] == ["'flight1_points'"]
+
+
+def test_loading_sheet_date_time_orders_flights_of_one_day():
+    from trimlog.input.loading_sheet import read_loading_sheet
+
+    def sheet(flight, date):
+        return read_loading_sheet(
+            f'flight = "{flight}"\ndate = {date}\n[takeoff]\nweight = "1500 lb"\n'
+            f'cg = "70 in"\nfuel = "20 gal"\n'.encode(), name=f"{flight}.loading.toml")
+
+    afternoon = sheet("b", "2026-05-16T14:30:00Z")
+    morning = sheet("a", "2026-05-16T11:00:00+02:00")  # 09:00 UTC
+    assert afternoon.date == dt.date(2026, 5, 16)
+    flights = [NS(flight=s.flight, source=s.source, loading=s, log=None)
+               for s in (afternoon, morning)]
+    ordered, _ = ordering.order_by_date(flights)
+    assert [f.flight for f in ordered] == ["a", "b"]
+    assert ordering.flight_when(morning, None).iso() == "2026-05-16T09:00:00"

@@ -104,6 +104,9 @@ class LoadingSheet:
     stab_incidence_deg: float | None
     cg_uncertainty_in: float | None = None
     cg_uncertainty_pct_mac: float | None = None
+    #: The date and time flown, when ``date`` is a TOML date-time (``2026-06-14T09:30:00Z``);
+    #: ``date`` then holds its day. Flights of one day are ordered by it.
+    flown_at: dt.datetime | None = None
 
 
 def read_loading_sheet(
@@ -114,7 +117,7 @@ def read_loading_sheet(
     The format, one file per flight; quantities are strings with a unit::
 
         flight = "3"                 # the log's flight label
-        date = 2026-06-14            # optional (TOML date)
+        date = 2026-06-14            # optional (TOML date, or date-time 2026-06-14T09:30:00Z)
         label = "aft CG, original stab"   # optional
         notes = "calm air, 2 on board"    # optional
 
@@ -194,4 +197,6 @@ def read_loading_sheet(
         values["takeoff_cg_in"] = read_key(table, _BY_KEY["takeoff.cg"], fail)
         values["takeoff_cg_pct_mac"] = None
     values["stab_setting"] = values["stab_setting"] or None
+    when = table.get("date")
+    values["flown_at"] = when if isinstance(when, dt.datetime) else None
     return LoadingSheet(source=label, **values)
