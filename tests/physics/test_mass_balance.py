@@ -211,3 +211,28 @@ def test_fuel_from_flow_error_names_series_label():
 
 def test_docstring_examples_run():
     assert doctest.testmod(ld, raise_on_error=False).failed == 0
+
+
+def test_weighing_on_three_wheels_matches_the_faa_worked_example():
+    # FAA weight-and-balance worked example (nosewheel airplane, datum at the main-wheel
+    # weighing points): nosewheel F = 340 lb at L = -78 in, total W = 2,006 lb ->
+    # CG = -13.2 in, i.e. 13.2 in ahead of the main wheels. FAA Pilot's Handbook of
+    # Aeronautical Knowledge / FAA-H-8083-1 weight-and-balance chapter, "Electronic
+    # calculator", figure "Weight and balance data of a typical nosewheel airplane"
+    # (figure numbers from memory; values as reproduced at flight-study.com, 2021);
+    # printed to 0.1 in.
+    mains = (2006.0 - 340.0) / 2.0
+    w = ld.weighed_loading([(340.0, 0.0, -78.0), (mains + 5.0, 5.0, 0.0), (mains, 0.0, 0.0)])
+    assert w.empty.weight_lb == pytest.approx(2006.0)
+    assert w.empty.cg_in == pytest.approx(-13.2, abs=0.05)
+    # items on top: the basic equation (FAA-H-8083-1B ch. 2), checked by hand:
+    # (2006 * -13.22 + 170 * 10 + 120 * 20) / 2296
+    loaded = ld.weighed_loading([(340.0, 0.0, -78.0), (mains, 0.0, 0.0), (mains, 0.0, 0.0)],
+                                [(170.0, 10.0), (120.0, 20.0)]).loaded
+    assert loaded.weight_lb == pytest.approx(2296.0)
+    assert loaded.cg_in == pytest.approx((340.0 * -78.0 + 1700.0 + 2400.0) / 2296.0)
+
+
+def test_weighing_refuses_a_tare_above_its_reading():
+    with pytest.raises(TrimlogError, match="tare 400 lb"):
+        ld.weighed_loading([(340.0, 400.0, -78.0), (800.0, 0.0, 0.0)])

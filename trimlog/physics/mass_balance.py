@@ -450,3 +450,81 @@ def fuel_from_flow(time_s: Numeric, fuel_flow_gph: Numeric, start_fuel_gal: floa
     if template is not None:
         return pd.Series(fuel, index=template.index, name="fuel_gal")
     return fuel
+
+
+@dataclass(frozen=True)
+class Weighing:
+    """Empty weight and CG from scale readings, and the loaded weight and CG with the items.
+
+    Attributes
+    ----------
+    empty : Loading
+        As weighed: the wheel readings less their tares.
+    loaded : Loading
+        With the items added (pilot, passenger, fuel, baggage, ballast).
+    """
+
+    empty: Loading
+    loaded: Loading
+
+
+def weighed_loading(
+    wheels: Iterable[tuple[float, float, float]],
+    items: Iterable[tuple[float, float]] = (),
+) -> Weighing:
+    """Weight and CG from weighing on the wheels (usually three), plus the items loaded.
+
+    Parameters
+    ----------
+    wheels : iterable of (reading_lb, tare_lb, arm_in)
+        Each scale's reading [lb], its tare (chocks, blocks) [lb] and the
+        wheel's weighing-point arm [in aft of datum; negative ahead of it].
+    items : iterable of (weight_lb, arm_in)
+        Items not on board when weighed [lb, in aft of datum]; a negative
+        weight removes one (e.g. undrained fuel).
+
+    Returns
+    -------
+    Weighing
+
+    Raises
+    ------
+    TrimlogError
+        A tare larger than its reading, no wheel, a non-numeric value, or a
+        total weight that is not positive.
+
+    Notes
+    -----
+    Net weight per wheel = reading - tare; then the basic equation of
+    :func:`weight_and_cg` (moment = Σ wᵢ·armᵢ, CG = moment / Σ wᵢ).
+
+    References
+    ----------
+    FAA-H-8083-1B, *Aircraft Weight and Balance Handbook* (2016), ch. 3
+    (weighing the aircraft, empty-weight CG) and ch. 2 (the basic equation).
+
+    Examples
+    --------
+    >>> w = weighed_loading([(340.0, 0.0, -78.0), (833.0, 0.0, 0.0), (833.0, 0.0, 0.0)])
+    >>> round(w.empty.cg_in, 1)
+    -13.2
+    """
+    net = []
+    for number, wheel in enumerate(list(wheels), start=1):
+        if np.ndim(wheel) != 1 or len(wheel) != 3:
+            raise TrimlogError(
+                f"wheel {number}: expected (reading_lb, tare_lb, arm_in), found {wheel!r}")
+        reading, tare, arm = (float(v) for v in wheel)
+        if not (np.isfinite(reading) and np.isfinite(tare) and np.isfinite(arm)):
+            raise TrimlogError(f"wheel {number}: expected numbers, found {wheel!r}")
+        if tare < 0.0 or tare > reading:
+            raise TrimlogError(
+                f"wheel {number}: tare {tare:g} lb must be between 0 and the reading "
+                f"{reading:g} lb")
+        net.append((reading - tare, arm))
+    if not net:
+        raise TrimlogError("weighing: expected the readings of the wheels, found none")
+    empty = weight_and_cg(net)
+    extra = list(items)
+    loaded = weight_and_cg([*net, *extra]) if extra else empty
+    return Weighing(empty=empty, loaded=loaded)
