@@ -607,9 +607,23 @@ def test_authority_with_noise_is_conservative_and_warns_on_unusual_stops():
 
 def test_forward_limit_beyond_elevator_authority():
     pts = make_points(TRUTH, sigma_elev_deg=0.05, seed=15)
-    a = analyze_stability(pts, profile(up=20.0, fwd=62.0)).authority  # 3.9 %MAC
+    a = analyze_stability(pts, profile(up=15.0, fwd=64.5)).authority  # 8.8 %MAC
     assert a.cases[0].margin_deg < 0
     assert "up stop is reached" in a.cases[0].verdict
+
+
+def test_authority_far_beyond_the_cgs_flown_is_cannot_say_yet():
+    # flights at 15-29 %MAC; a forward limit at 3.9 %MAC is 11 %MAC beyond them (issue 12 §4)
+    pts = make_points(TRUTH, sigma_elev_deg=0.05, seed=15)
+    a = analyze_stability(pts, profile(up=20.0, fwd=62.0)).authority
+    assert a.cases == () and a.reason.startswith("cannot say yet")
+    assert "would settle it" in a.reason
+
+
+def test_one_cg_gives_no_authority_number():
+    pts = make_points(TRUTH, cgs_pct_mac=(22.0,), sigma_elev_deg=0.1, seed=2)
+    a = analyze_stability(pts, profile()).authority
+    assert a.cases == () and "only one CG" in a.reason
 
 
 def test_next_cg_stays_within_the_step_and_reduces_the_variance():

@@ -34,7 +34,7 @@ from trimlog.pipeline.maneuvers import maneuvers_from_log
 from trimlog.pipeline.points import PointSettings, points_from_log
 from trimlog.pipeline.reduction import reduce_points
 from trimlog.progress import SILENT, Progress
-from trimlog.stability import maneuver
+from trimlog.stability import maneuver, margins
 from trimlog.stability import neutral_points as stability
 from trimlog.stability import tail as tailgeometry
 from trimlog.stability.critical import tighten_next_step
@@ -564,6 +564,13 @@ def _recommend(
         return None, str(exc)
     if prediction.ci95_deg is None:
         return None, "the elevator at cruise has no interval"
+    why_not = margins.cannot_say_yet(fit, 100.0 * h_cruise, "the cruise CG")
+    half = 0.5 * (prediction.ci95_deg[1] - prediction.ci95_deg[0])
+    if not why_not and half > margins.MAX_CRUISE_ELEVATOR_HALF_WIDTH_DEG:
+        why_not = (f"cannot say yet: the elevator at cruise is known only to +-{half:.1f} deg "
+                   "(95 %); more cruise-speed trim points near the cruise CG would settle it")
+    if why_not:
+        return None, why_not
     recommendation = incidence.recommend_incidence(
         cruise_cl=cruise_cl,
         cruise_cg_pct_mac=100.0 * h_cruise,

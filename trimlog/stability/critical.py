@@ -42,6 +42,7 @@ from trimlog.stability.results import (
 
 __all__ = [
     "KIND_CODE",
+    "MIN_CG_SPREAD_PCT_MAC",
     "aft_flight_clearly_stable",
     "critical_neutral_point",
     "margin_limit",
@@ -49,6 +50,10 @@ __all__ = [
     "tighten_next_step",
 ]
 
+#: Smallest spread of CG over the flights for a neutral point [%MAC].  With
+#: less, the extrapolation to zero gradient multiplies the scatter of the
+#: gradients by (distance to hn)/(CG spread) and the estimate is mostly noise.
+MIN_CG_SPREAD_PCT_MAC = 3.0
 #: The ``limited_by`` code of each neutral point kind (JSON contract values).
 KIND_CODE = {"stick_fixed": "stick_fixed_np", "stick_free": "stick_free_np"}
 _WORDS = {"stick_fixed": "stick-fixed", "stick_free": "stick-free"}

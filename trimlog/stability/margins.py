@@ -24,7 +24,7 @@ import pandas as pd
 from trimlog import cautions
 from trimlog.errors import TrimlogError
 from trimlog.input.profile import AircraftProfile
-from trimlog.stability.critical import margin_limit
+from trimlog.stability.critical import MIN_CG_SPREAD_PCT_MAC, margin_limit
 from trimlog.stability.results import (
     AuthorityCase,
     ElevatorAuthority,
@@ -45,6 +45,54 @@ TYPICAL_UP_STOP_DEG = (20.0, 25.0)
 TYPICAL_DOWN_STOP_DEG = (15.0, 20.0)
 #: Step of the candidate CGs searched for the next flight [%MAC].
 NEXT_CG_STEP_PCT_MAC = 0.25
+
+#: Widest half of a 95 % interval of a predicted elevator still shown as a number [deg]:
+#: beyond it the number cannot be acted on.  # common practice, no source
+MAX_AUTHORITY_HALF_WIDTH_DEG = 5.0
+MAX_CRUISE_ELEVATOR_HALF_WIDTH_DEG = 1.5
+#: Farthest a prediction may reach beyond the CGs flown, as a fraction of their spread.
+MAX_CG_EXTRAPOLATION_FRACTION = 0.5
+
+
+def cannot_say_yet(fit: PooledFit, cg_pct_mac: float, what: str) -> str:
+    """Why a prediction from the stick-fixed model at a CG cannot be acted on yet ("" if it can).
+
+    Parameters
+    ----------
+    fit : PooledFit
+        The stick-fixed pooled fit.
+    cg_pct_mac : float
+        Where the prediction is wanted [%MAC].
+    what : str
+        What is predicted, for the words ("the elevator at CLmax at the forward CG limit").
+
+    Returns
+    -------
+    str
+        The reason and the flight that would settle it, or "".
+
+    Notes
+    -----
+    Cannot say yet when the CG effect is not identified and the CG wanted is
+    more than 1 %MAC from the CG flown, or when it lies beyond the CGs flown by
+    more than :data:`MAX_CG_EXTRAPOLATION_FRACTION` of their spread.
+    """
+    if fit.linear is None or fit.cg_range_pct_mac is None:
+        return f"cannot say yet: no trim model ({fit.neutral_point.reason})"
+    lo, hi = fit.cg_range_pct_mac
+    cg_effect_known = fit.has_cg_term and hi - lo >= MIN_CG_SPREAD_PCT_MAC
+    if not cg_effect_known and abs(cg_pct_mac - 0.5 * (lo + hi)) > 1.0:
+        return (f"cannot say yet: {what} is at {cg_pct_mac:.1f} %MAC, but only one CG "
+                f"({0.5 * (lo + hi):.1f} %MAC) has been flown, so the effect of the CG is not "
+                "known; a flight over the same range of speeds at a CG at least 3 %MAC from "
+                f"it, towards {cg_pct_mac:.1f} %MAC, would settle it")
+    reach = MAX_CG_EXTRAPOLATION_FRACTION * (hi - lo)
+    if not lo - reach <= cg_pct_mac <= hi + reach:
+        return (f"cannot say yet: {what} is at {cg_pct_mac:.1f} %MAC, far beyond the CGs flown "
+                f"({lo:.1f}-{hi:.1f} %MAC); a flight nearer {cg_pct_mac:.1f} %MAC would "
+                "settle it")
+    return ""
+
 
 #: The ground-effect caution every authority result carries (text owned by cautions.py).
 GROUND_EFFECT_NOTE = cautions.AUTHORITY[0]
@@ -297,9 +345,19 @@ def elevator_authority(fit: PooledFit, profile: AircraftProfile, *, setting: str
                        " / clmax_landing)")
     up = -profile.elevator_up_stop_deg
     h_fwd = profile.cg_forward_pct_mac / 100.0
+    why_not = cannot_say_yet(fit, 100.0 * h_fwd, "the forward CG limit")
+    if why_not:
+        return ElevatorAuthority((), reserve, None, None, None, why_not, tuple(warnings))
     cases = []
     for case, clmax, other_config, notes in specs:
         pred = predict_elevator(fit, clmax, h_fwd, setting)
+        if pred.pi95_deg is None or (
+                pred.pi95_deg[1] - pred.pi95_deg[0]) > 2.0 * MAX_AUTHORITY_HALF_WIDTH_DEG:
+            reasons.append(f"{case}: cannot say yet: the elevator at CLmax {clmax:g} is known "
+                           f"only to within more than +-{MAX_AUTHORITY_HALF_WIDTH_DEG:g} deg; "
+                           "trim points nearer CLmax (slow, with altitude for recovery) at a "
+                           "forward CG would settle it")
+            continue
         margin = pred.elevator_deg - up
         cons = None if pred.pi95_deg is None else pred.pi95_deg[0] - up
         check = margin if cons is None else cons
@@ -317,7 +375,7 @@ def elevator_authority(fit: PooledFit, profile: AircraftProfile, *, setting: str
                                    pred.ci95_deg, pred.pi95_deg, up, margin, finite(cons),
                                    extrapolated, verdict, notes + pred.warnings))
     h_est = h_cons = None
-    if specs:
+    if cases:
         h_est, h_cons = _most_forward_cg(fit, specs[0][1], up + reserve, setting)
         if h_est is None:
             reasons.append("the most forward CG needs the elevator power (CG effect) identified")

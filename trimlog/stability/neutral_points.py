@@ -61,6 +61,7 @@ from trimlog.input.profile import (
 )
 from trimlog.stability.checks import CURVATURE_P, curvature_check, intercept_check, robust_check
 from trimlog.stability.critical import (
+    MIN_CG_SPREAD_PCT_MAC,
     aft_flight_clearly_stable,
     critical_neutral_point,
     next_cg_limit,
@@ -117,10 +118,6 @@ MIN_POINTS_PER_FLIGHT = 3
 #: Smallest range of CL that makes a trim gradient: below it the points are
 #: all at nearly one speed.
 MIN_CL_SPREAD = 0.05
-#: Smallest spread of CG over the flights for a neutral point [%MAC].  With
-#: less, the extrapolation to zero gradient multiplies the scatter of the
-#: gradients by (distance to hn)/(CG spread) and the estimate is mostly noise.
-MIN_CG_SPREAD_PCT_MAC = 3.0
 #: Fewest flights that must each cover a range of speeds (CL spread of at
 #: least MIN_CL_SPREAD) for a pooled neutral point: the stabilized-trim method
 #: measures a trim gradient at each CG; single points at different CGs and
