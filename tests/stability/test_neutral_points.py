@@ -726,3 +726,26 @@ def test_demo_truth_points_are_recovered_exactly():
     # the two-stage method places each flight at its mean CG: close, not exact
     assert r.stick_fixed_two_stage.neutral_point.pct_mac == pytest.approx(
         100 * t.neutral_point_fixed, abs=0.3)
+
+
+def test_demo_plan_after_flights_1_to_4_is_limited_by_the_stick_free_point():
+    # the invented demo aircraft (trimlog.demo.model: hn 38, hn' 34 %MAC); issue 12 §1: the
+    # plan used to offer 31.1 %MAC by the stick-fixed point alone, where the stick-free margin
+    # is about 3 %MAC
+    from pathlib import Path
+
+    from trimlog.pipeline import chain
+
+    samples = Path(__file__).resolve().parents[2] / "sample_logs"
+    prof = chain.load_profile(samples / "tinkerfinch_tf2.toml")
+    flights = []
+    for name in ("flight1_points.csv", "flight2.csv", "flight3.csv", "flight4.csv"):
+        flights.extend(chain.load_flight_file(samples / name, prof))
+    st = chain.analyze(flights, prof).primary.stability
+    assert st.critical.kind == "stick_free"
+    assert st.next_step.limited_by == "stick_free_np"
+    assert "stick-free neutral point" in st.next_step.reason
+    free = st.stick_free.neutral_point
+    assert free.ci95_pct_mac[0] <= 34.0 <= free.ci95_pct_mac[1]  # the demo's truth
+    aft = next(m for m in st.margins if m.label == "aft CG limit")
+    assert aft.meets_minimum is False and aft.limited_by == "stick_free_np"
