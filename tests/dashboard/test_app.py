@@ -113,7 +113,7 @@ def test_results_show_the_package_numbers(demo_analysis):
     assert shown["Elevator at cruise"] == f"{rec.elevator_at_cruise_deg:+.2f} deg"
     text = _texts(at)
     lo, hi = s.stick_fixed.neutral_point.ci95_pct_mac
-    assert f"95 %: {lo:.1f} to {hi:.1f} %MAC" in text
+    assert f"95 %: [{lo:.1f}, {hi:.1f}] %MAC" in text  # the one interval style
     assert rec.words in text
     assert f"{rec.shim_thickness_in:.3f} in" in text
     # Every caution of the analysis is on the results page itself, not behind a click.

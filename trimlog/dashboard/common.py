@@ -10,6 +10,10 @@ import streamlit as st
 from trimlog import cautions
 from trimlog.errors import TrimlogError
 
+# The pages' number formatting is the views' one (re-exported here).
+from trimlog.views.formatting import interval, with_interval  # noqa: F401
+from trimlog.views.formatting import number as num  # noqa: F401
+
 _MARKUP = re.compile(r"([\\`*_\[\]<>$~|#])")
 
 
@@ -50,30 +54,6 @@ def caution_box(extra: Sequence[str] = (), *, key: str = "", statement: bool = T
 def caution_list(texts: Iterable[str]) -> None:
     """Cautions that belong to one result, next to it."""
     st.caption("\n".join(f"- {c}" for c in texts))
-
-
-def num(value: float | None, fmt: str = ".1f", unit: str = "") -> str:
-    """A number with its unit, or a dash when there is none."""
-    if value is None:
-        return "-"
-    return f"{value:{fmt}}{(' ' + unit) if unit else ''}"
-
-
-def interval(ci: Sequence[float] | None, fmt: str = ".1f", unit: str = "") -> str:
-    """A 95 % interval as text."""
-    if ci is None:
-        return "-"
-    return f"{ci[0]:{fmt}} to {ci[1]:{fmt}}{(' ' + unit) if unit else ''}"
-
-
-def with_interval(value: float | None, ci: Sequence[float] | None, fmt: str = ".1f",
-                  unit: str = "") -> str:
-    """A value followed by its 95 % interval in brackets."""
-    if value is None:
-        return "-"
-    if ci is None:
-        return num(value, fmt, unit)
-    return f"{value:{fmt}} [{ci[0]:{fmt}}, {ci[1]:{fmt}}]{(' ' + unit) if unit else ''}"
 
 
 def go_to(page: str) -> None:

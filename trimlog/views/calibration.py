@@ -19,7 +19,8 @@ from typing import TYPE_CHECKING, Any
 from trimlog import __version__, cautions
 from trimlog.findings import by_severity
 from trimlog.history.codec import clean
-from trimlog.views.terminal import _bullets, _interval, table
+from trimlog.views.formatting import interval
+from trimlog.views.terminal import _bullets, table
 
 if TYPE_CHECKING:
     from trimlog.pipeline.calibration import CalibrationResult, SpeedCalibration
@@ -88,7 +89,7 @@ def render_calibration(result: CalibrationResult) -> str:
             [f"{s.ias_kt:.1f}", f"{s.pressure_alt_ft:.0f}", str(s.fit.n_legs),
              f"{s.fit.tas_kt:.1f}",
              f"{s.fit.wind_kt:.1f}/{s.fit.wind_from_deg:03.0f}", f"{s.cas_kt:.1f}",
-             _interval(s.cas_ci95_kt), f"{s.delta_v_kt:+.1f}", f"{s.altitude_correction_ft:+.0f}"]
+             interval(s.cas_ci95_kt), f"{s.delta_v_kt:+.1f}", f"{s.altitude_correction_ft:+.0f}"]
             for s in result.speeds
         ]
         lines += ["", table(["KIAS", "Hp ft", "legs", "KTAS", "wind kt/from", "KCAS",

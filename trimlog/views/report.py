@@ -37,6 +37,7 @@ from trimlog.errors import TrimlogError
 from trimlog.incidence.shim import shim_thickness_in
 from trimlog.progress import SILENT, Progress
 from trimlog.views import maneuver_plots, plots
+from trimlog.views.formatting import interval, number, with_interval
 from trimlog.views.json_export import analysis_to_dict
 from trimlog.views.pdf_layout import Break, Heading, Para, Plot, Table, render_pdf, save_pdf
 
@@ -47,25 +48,6 @@ DASH = "-"
 
 
 # --------------------------------------------------------------------------- formatting
-
-
-def _f(value: float | None, spec: str = ".1f", unit: str = "") -> str:
-    if value is None:
-        return DASH
-    text = f"{value:{spec}}"
-    if float(text) == 0.0:  # no "-0.0" for a value that rounds to zero
-        text = f"{0.0:{spec}}"
-    return text + (f" {unit}" if unit else "")
-
-
-def _ci(pair: Sequence[float] | None, spec: str = ".1f") -> str:
-    return DASH if pair is None else f"[{pair[0]:{spec}}, {pair[1]:{spec}}]"
-
-
-def _with_ci(value: float | None, pair: Sequence[float] | None, spec: str = ".1f") -> str:
-    if value is None:
-        return DASH
-    return f"{value:{spec}} {_ci(pair, spec)}" if pair is not None else f"{value:{spec}}"
 
 
 def _sentence(text: str) -> str:
@@ -90,7 +72,7 @@ def neutral_point_text(np_: Mapping[str, Any] | None) -> str:
         return "not available: no stick force was logged"
     if not np_["identifiable"]:
         return f"not identifiable: {np_['reason']}"
-    return f"{np_['pct_mac']:.1f} %MAC, 95 % interval {_ci(np_['ci95_pct_mac'])} %MAC"
+    return f"{np_['pct_mac']:.1f} %MAC, 95 % interval {interval(np_['ci95_pct_mac'])} %MAC"
 
 
 def shim_text(inc: Mapping[str, Any], spacing_in: float) -> str:
@@ -141,7 +123,7 @@ def _shim_headline(a: Analysis, d: dict[str, Any]) -> str:
         return "no recommendation: " + (d["incidence_reason"] or "no trim model")
     if not inc["shim_recommended"]:
         return (f"none recommended (computed change {inc['change_deg']:+.2f} deg, 95 % "
-                f"interval {_ci(inc['change_ci95_deg'], '+.2f')} deg)")
+                f"interval {interval(inc['change_ci95_deg'], '+.2f')} deg)")
     return (f"{shim_text(inc, a.profile.stabilizer_attach_spacing_in)} at the "
             f"{inc['shim_location']}, for an incidence change of {inc['change_deg']:+.2f} deg")
 
@@ -156,9 +138,9 @@ def _neutral_blocks(d: dict[str, Any]) -> list[Any]:
         if np_ is None:
             rows.append((name, "no stick force logged", DASH, DASH))
         elif np_["identifiable"]:
-            rows.append((name, _f(np_["pct_mac"], ".1f", "%MAC"),
-                         _ci(np_["ci95_pct_mac"]) + " %MAC",
-                         _f(np_["station_in"], ".2f", "in")))
+            rows.append((name, number(np_["pct_mac"], ".1f", "%MAC"),
+                         interval(np_["ci95_pct_mac"]) + " %MAC",
+                         number(np_["station_in"], ".2f", "in")))
         else:
             rows.append((name, "not identifiable", DASH, DASH))
     blocks: list[Any] = [Heading("Neutral points", 2),
@@ -173,7 +155,7 @@ def _neutral_blocks(d: dict[str, Any]) -> list[Any]:
     if d["elevator_power_per_rad"] is not None:
         blocks.append(Para(
             "Elevator power Cm_de: "
-            f"{_with_ci(d['elevator_power_per_rad'], d['elevator_power_ci95_per_rad'], '.2f')}"
+            f"{with_interval(d['elevator_power_per_rad'], d['elevator_power_ci95_per_rad'], '.2f')}"
             " per rad (95 % interval)."))
     return blocks
 
@@ -183,9 +165,9 @@ def _margin_blocks(d: dict[str, Any]) -> list[Any]:
     rows = []
     for m in d["static_margin"]:
         meets = {True: "yes", False: "NO", None: DASH}[m["meets_minimum"]]
-        rows.append((m["label"], _f(m["cg_pct_mac"]),
-                     _with_ci(m["stick_fixed_pct_mac"], m["stick_fixed_ci95_pct_mac"]),
-                     _with_ci(m["stick_free_pct_mac"], m["stick_free_ci95_pct_mac"]),
+        rows.append((m["label"], number(m["cg_pct_mac"]),
+                     with_interval(m["stick_fixed_pct_mac"], m["stick_fixed_ci95_pct_mac"]),
+                     with_interval(m["stick_free_pct_mac"], m["stick_free_ci95_pct_mac"]),
                      _LIMITS.get(m.get("limited_by"), DASH), meets))
     critical = d["neutral_point"].get("critical")
     return [
@@ -201,14 +183,14 @@ _LIMITS = {"stick_fixed_np": "stick-fixed", "stick_free_np": "stick-free"}
 
 def _gradient_blocks(d: dict[str, Any]) -> list[Any]:
     elevator = tuple(
-        (g["flight"], _f(g["cg_pct_mac"]), str(g["n_points"]),
-         _with_ci(g["delev_dcl_deg"], g["delev_dcl_ci95_deg"], ".2f"), g["elevator_verdict"])
+        (g["flight"], number(g["cg_pct_mac"]), str(g["n_points"]),
+         with_interval(g["delev_dcl_deg"], g["delev_dcl_ci95_deg"], ".2f"), g["elevator_verdict"])
         for g in d["gradients"])
     force = tuple(
-        (g["flight"], _f(g["cg_pct_mac"]),
-         _with_ci(g["dfsq_dcl_ft2"], g["dfsq_dcl_ci95_ft2"], ".2f"),
-         _f(g["trim_eas_kt"], ".1f"),
-         _with_ci(g["dfs_dv_lbf_per_kt"], g["dfs_dv_ci95_lbf_per_kt"], ".3f"),
+        (g["flight"], number(g["cg_pct_mac"]),
+         with_interval(g["dfsq_dcl_ft2"], g["dfsq_dcl_ci95_ft2"], ".2f"),
+         number(g["trim_eas_kt"], ".1f"),
+         with_interval(g["dfs_dv_lbf_per_kt"], g["dfs_dv_ci95_lbf_per_kt"], ".3f"),
          g["stick_force_verdict"])
         for g in d["gradients"])
     return [
@@ -225,9 +207,10 @@ def _authority_blocks(d: dict[str, Any]) -> list[Any]:
     blocks: list[Any] = [Heading("Elevator authority at the forward CG limit", 2)]
     if auth is None:
         return blocks + [Para("not assessed (no aircraft profile)")]
-    rows = [(c["case"], f"{c['clmax']:g}", _f(c["cg_pct_mac"]),
-             _with_ci(c["elevator_deg"], c["pi95_deg"], "+.1f"), _f(c["up_stop_deg"], "+.1f"),
-             _f(c["margin_conservative_deg"], ".1f"), c["verdict"]) for c in auth["cases"]]
+    rows = [(c["case"], f"{c['clmax']:g}", number(c["cg_pct_mac"]),
+             with_interval(c["elevator_deg"], c["pi95_deg"], "+.1f"),
+             number(c["up_stop_deg"], "+.1f"),
+             number(c["margin_conservative_deg"], ".1f"), c["verdict"]) for c in auth["cases"]]
     if rows:
         blocks.append(Table(("case", "CLmax", "CG %MAC", "elevator deg [95 % PI]",
                               "up stop deg", "up left deg (cons.)", "verdict"), tuple(rows)))
@@ -235,7 +218,7 @@ def _authority_blocks(d: dict[str, Any]) -> list[Any]:
         blocks.append(Para(
             f"Most forward CG that keeps {auth['reserve_deg']:g} deg of up elevator in reserve "
             f"at CLmax (clean): {auth['most_forward_cg_conservative_pct_mac']:.1f} %MAC "
-            f"({_f(auth['most_forward_cg_station_in'], '.2f', 'in')}), from the conservative "
+            f"({number(auth['most_forward_cg_station_in'], '.2f', 'in')}), from the conservative "
             "end of the prediction interval."))
     if auth["reason"]:
         blocks.append(Para(_sentence(auth["reason"])))
@@ -251,13 +234,13 @@ def _incidence_blocks(a: Analysis, d: dict[str, Any]) -> list[Any]:
                                + _sentence(d["incidence_reason"] or "no trim model"))]
     if inc["shim_recommended"]:
         head = (f"Recommended shim: {_shim_headline(a, d)}; 95 % interval of the change "
-                f"{_ci(inc['change_ci95_deg'], '+.2f')} deg.")
+                f"{interval(inc['change_ci95_deg'], '+.2f')} deg.")
     else:
         head = f"Shim: {_shim_headline(a, d)}."
     return blocks + [
         Para(head, "box"),
         Para(inc["words"]),
-        Para(f"Elevator effectiveness tau: {inc['tau']:.2f} {_ci(inc['tau_ci95'], '.2f')} "
+        Para(f"Elevator effectiveness tau: {inc['tau']:.2f} {interval(inc['tau_ci95'], '.2f')} "
               f"({inc['tau_source']}): {inc['tau_explanation']}. Interval method: "
               f"{inc['change_method']}.", "small"),
     ]
@@ -278,7 +261,7 @@ def _next_cg_blocks(d: dict[str, Any]) -> list[Any]:
     if nxt["cg_pct_mac"] is None:
         return out
     text = (f"To tighten the neutral point most, fly the next flight near "
-            f"{nxt['cg_pct_mac']:.1f} %MAC ({_f(nxt['station_in'], '.2f', 'in')}), chosen by "
+            f"{nxt['cg_pct_mac']:.1f} %MAC ({number(nxt['station_in'], '.2f', 'in')}), chosen by "
             f"the {nxt['criterion']}")
     if nxt["current_se_pct_mac"] is not None and nxt["predicted_se_pct_mac"] is not None:
         text += (f": standard error {nxt['current_se_pct_mac']:.2f} now, about "
@@ -318,9 +301,9 @@ def _loading_blocks(a: Analysis, d: dict[str, Any]) -> list[Any]:
             f.flight, Path(f.source).name, "log" if f.log.kind == "time_series" else "table",
             DASH if sheet is None or sheet.date is None else sheet.date.isoformat(),
             DASH if sheet is None else f"{sheet.takeoff_weight_lb:.0f}",
-            DASH if sheet is None else (_f(sheet.takeoff_cg_in, ".1f", "in")
+            DASH if sheet is None else (number(sheet.takeoff_cg_in, ".1f", "in")
                                         if sheet.takeoff_cg_in is not None
-                                        else _f(sheet.takeoff_cg_pct_mac, ".1f", "%MAC")),
+                                        else number(sheet.takeoff_cg_pct_mac, ".1f", "%MAC")),
             f"{min(weights):.0f}-{max(weights):.0f}" if weights else DASH,
             f"{min(cgs):.1f}-{max(cgs):.1f}" if cgs else DASH,
             str(mine[0]["stab_setting"]) if mine else DASH,
@@ -341,10 +324,10 @@ def _maneuver_blocks(d: dict[str, Any]) -> list[Any]:
     if m is None:
         return []
     rows = tuple(
-        (g["flight"], _f(g["cg_pct_mac"]), str(g["n_points"]),
+        (g["flight"], number(g["cg_pct_mac"]), str(g["n_points"]),
          f"{g['nz_range'][0]:.2f}-{g['nz_range'][1]:.2f}",
-         _with_ci(g["elevator_per_g_deg"], g["elevator_per_g_ci95_deg"], ".2f"),
-         _with_ci(g["stick_force_per_g_lbf"], g["stick_force_per_g_ci95_lbf"]),
+         with_interval(g["elevator_per_g_deg"], g["elevator_per_g_ci95_deg"], ".2f"),
+         with_interval(g["stick_force_per_g_lbf"], g["stick_force_per_g_ci95_lbf"]),
          "lightens" if g["lightening"] else (g["reason"] or DASH))
         for g in m["per_flight"])
     mp, req = m["maneuver_point"], m["requirement"]
@@ -364,7 +347,7 @@ def _maneuver_blocks(d: dict[str, Any]) -> list[Any]:
         f"({req['per_g_23_155_lbf']:.1f} lbf/g); common practice, no source: "
         f"{req['per_g_common_practice_lbf']:.1f} lbf/g.")
     if m["aft_limit_stick_force_per_g_lbf"] is not None:
-        aft = _with_ci(m["aft_limit_stick_force_per_g_lbf"],
+        aft = with_interval(m["aft_limit_stick_force_per_g_lbf"],
                        m["aft_limit_stick_force_per_g_ci95_lbf"])
         lines.append(f"Stick force per g predicted at the aft CG limit: {aft} lbf/g.")
     if m["aft_cg_pct_mac"] is not None:
@@ -383,11 +366,11 @@ def _points_blocks(d: dict[str, Any]) -> list[Any]:
         window = (DASH if p["t_start_s"] is None
                   else f"{p['t_start_s']:.0f}-{p['t_end_s']:.0f}")
         rows.append((
-            p["flight"], str(p["point"]), window, _f(p.get("ias_kt")), _f(p["eas_kt"]),
-            _f(p.get("pressure_alt_ft"), ".0f"), _f(p["elevator_deg"], "+.2f"),
-            _f(p["stick_force_lbf"], "+.1f"), _f(p.get("nz_g"), ".2f"),
-            _f(p["weight_lb"], ".0f"), _f(p["cg_pct_mac"]), _f(p["cl"], ".3f"),
-            _f(p.get("fs_over_q_ft2"), "+.3f"), "yes" if p["included"] else "NO",
+            p["flight"], str(p["point"]), window, number(p.get("ias_kt")), number(p["eas_kt"]),
+            number(p.get("pressure_alt_ft"), ".0f"), number(p["elevator_deg"], "+.2f"),
+            number(p["stick_force_lbf"], "+.1f"), number(p.get("nz_g"), ".2f"),
+            number(p["weight_lb"], ".0f"), number(p["cg_pct_mac"]), number(p["cl"], ".3f"),
+            number(p.get("fs_over_q_ft2"), "+.3f"), "yes" if p["included"] else "NO",
             p.get("flags") or "",
         ))
     return [

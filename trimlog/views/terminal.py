@@ -13,6 +13,7 @@ from collections.abc import Sequence
 from typing import TYPE_CHECKING, Any
 
 from trimlog import cautions
+from trimlog.views.formatting import interval, number
 
 if TYPE_CHECKING:
     from trimlog.history.service import Trend
@@ -37,14 +38,6 @@ class _Style:
 
     def bad(self, text: str) -> str:
         return self._wrap("31", text)
-
-
-def _fmt(value: float | None, spec: str = ".1f", missing: str = "-") -> str:
-    return missing if value is None else format(value, spec)
-
-
-def _interval(pair: Sequence[float] | None, spec: str = ".1f") -> str:
-    return "-" if pair is None else f"[{pair[0]:{spec}}, {pair[1]:{spec}}]"
 
 
 def table(headers: Sequence[str], rows: Sequence[Sequence[str]]) -> str:
@@ -88,7 +81,7 @@ def neutral_point_line(name: str, np_: NeutralPoint | None) -> str:
     station = f", station {np_.station_in:.2f} in" if np_.station_in is not None else ""
     return (
         f"{name}: {np_.pct_mac:.1f} %MAC, 95 % interval "
-        f"{_interval(np_.ci95_pct_mac)} %MAC{station}"
+        f"{interval(np_.ci95_pct_mac)} %MAC{station}"
     )
 
 
@@ -115,10 +108,10 @@ def _maneuvering_block(m: Any, s: _Style) -> str:
     """Gradients per g per flight, the maneuver points, hm - hn and the 23.155 minimum."""
     used = int(m.points["included"].astype(bool).sum())
     lines = [s.head(f"Maneuvering ({len(m.points)} maneuvering points, {used} used)")]
-    rows = [[g.flight, _fmt(g.cg_pct_mac), str(g.n_points),
-             f"{g.nz_range[0]:.2f}-{g.nz_range[1]:.2f}", _fmt(g.elevator_per_g_deg, ".2f"),
-             _interval(g.elevator_per_g_ci95_deg, ".2f"), _fmt(g.stick_force_per_g_lbf),
-             _interval(g.stick_force_per_g_ci95_lbf), "lightens" if g.lightening else ""]
+    rows = [[g.flight, number(g.cg_pct_mac), str(g.n_points),
+             f"{g.nz_range[0]:.2f}-{g.nz_range[1]:.2f}", number(g.elevator_per_g_deg, ".2f"),
+             interval(g.elevator_per_g_ci95_deg, ".2f"), number(g.stick_force_per_g_lbf),
+             interval(g.stick_force_per_g_ci95_lbf), "lightens" if g.lightening else ""]
             for g in m.gradients]
     lines.append(table(["flight", "CG %MAC", "pts", "n (g)", "de/dn deg/g", "95 %",
                         "Fs/n lbf/g", "95 %", ""], rows))
@@ -136,7 +129,7 @@ def _maneuvering_block(m: Any, s: _Style) -> str:
         "lbf/g (no source)")
     if m.aft_limit_force_per_g_lbf is not None:
         lines.append(f"  predicted at the aft CG limit: {m.aft_limit_force_per_g_lbf:.1f} lbf/g, "
-                     f"95 % {_interval(m.aft_limit_force_per_g_ci95_lbf)}")
+                     f"95 % {interval(m.aft_limit_force_per_g_ci95_lbf)}")
     if m.aft_cg_pct_mac is not None:
         lines.append(f"  most aft CG the maneuvering results allow: {m.aft_cg_pct_mac:.1f} %MAC "
                      f"(limited by the {m.limited_by})")
@@ -154,7 +147,7 @@ def _flights_block(analysis: Analysis) -> str:
             "log" if f.log.kind == "time_series" else "table",
             str(len(mine)),
             str(int(mine["included"].sum())) if len(mine) else "0",
-            _fmt(cg),
+            number(cg),
             str(mine["stab_setting"].iloc[0]) if len(mine) else "-",
         ])
     return table(["flight", "kind", "points", "used", "CG %MAC", "stabilizer setting"], rows)
@@ -171,18 +164,18 @@ def _configuration_block(result: ConfigurationResult, analysis: Analysis, s: _St
     if st.stick_fixed.neutral_point.identifiable and st.stick_fixed.elevator_power_per_rad:
         lines.append(
             f"  elevator power Cm_de: {st.stick_fixed.elevator_power_per_rad:.2f} per rad "
-            f"{_interval(st.stick_fixed.elevator_power_ci95_per_rad, '.2f')}"
+            f"{interval(st.stick_fixed.elevator_power_ci95_per_rad, '.2f')}"
         )
     blocks = ["\n".join(lines)]
 
     rows = [
         [
             g.flight,
-            _fmt(g.cg_pct_mac),
+            number(g.cg_pct_mac),
             str(g.n_points),
-            _fmt(g.delev_dcl_deg, ".2f"),
-            _interval(g.delev_dcl_ci95_deg, ".2f"),
-            _fmt(g.dfs_dv_lbf_per_kt, ".2f"),
+            number(g.delev_dcl_deg, ".2f"),
+            interval(g.delev_dcl_ci95_deg, ".2f"),
+            number(g.dfs_dv_lbf_per_kt, ".2f"),
             g.stick_force_verdict,
         ]
         for g in st.gradients
@@ -197,9 +190,9 @@ def _configuration_block(result: ConfigurationResult, analysis: Analysis, s: _St
     for m in st.margins:
         flag = "" if m.meets_minimum is not False else s.bad(f"below {min_sm:g} %MAC?")
         margin_rows.append([
-            m.label, _fmt(m.cg_pct_mac), _fmt(m.stick_fixed_pct_mac),
-            _interval(m.stick_fixed_ci95_pct_mac), _fmt(m.stick_free_pct_mac),
-            _interval(m.stick_free_ci95_pct_mac), limiting.get(m.limited_by, "-"), flag,
+            m.label, number(m.cg_pct_mac), number(m.stick_fixed_pct_mac),
+            interval(m.stick_fixed_ci95_pct_mac), number(m.stick_free_pct_mac),
+            interval(m.stick_free_ci95_pct_mac), limiting.get(m.limited_by, "-"), flag,
         ])
     margin_block = s.head(f"Static margins (%MAC; policy minimum {min_sm:g} %MAC)") + "\n" + table(
         ["at", "CG", "stick-fixed", "95 %", "stick-free", "95 %", "limits", ""], margin_rows)
@@ -213,7 +206,7 @@ def _configuration_block(result: ConfigurationResult, analysis: Analysis, s: _St
         for case in st.authority.cases:
             auth.append(textwrap.fill(
                 f"{case.case}: CLmax {case.clmax:g} needs {case.elevator_deg:+.1f} deg elevator "
-                f"{_interval(case.pi95_deg)} against the up stop {case.up_stop_deg:+.1f} deg: "
+                f"{interval(case.pi95_deg)} against the up stop {case.up_stop_deg:+.1f} deg: "
                 f"{case.verdict}", WIDTH, initial_indent="  ", subsequent_indent="    "))
         if st.authority.most_forward_cg_conservative_pct_mac is not None:
             auth.append(
@@ -230,7 +223,7 @@ def _configuration_block(result: ConfigurationResult, analysis: Analysis, s: _St
     if st.next_cg.cg_pct_mac is not None:
         blocks.append(s.head("To tighten the estimate") + "\n" + textwrap.fill(
             f"fly the next flight near {st.next_cg.cg_pct_mac:.1f} %MAC "
-            f"({_fmt(st.next_cg.station_in, '.2f')} in), chosen by the {st.next_cg.criterion}"
+            f"({number(st.next_cg.station_in, '.2f')} in), chosen by the {st.next_cg.criterion}"
             f"{': ' + st.next_cg.reason if st.next_cg.reason else ''}", WIDTH,
             initial_indent="  ", subsequent_indent="  "))
     return "\n\n".join(blocks)
@@ -244,10 +237,10 @@ def _incidence_block(result: ConfigurationResult, s: _Style) -> str:
     lines = [
         f"  elevator at cruise (CL {rec.cruise_cl:.3f}, CG {rec.cruise_cg_pct_mac:.1f} %MAC): "
         f"{rec.elevator_at_cruise_deg:+.2f} deg "
-        f"{_interval(rec.elevator_at_cruise_ci95_deg, '+.2f')}",
+        f"{interval(rec.elevator_at_cruise_ci95_deg, '+.2f')}",
         f"  tau {rec.tau:.3f} ({rec.tau_source})",
         f"  incidence change {rec.change_deg:+.2f} deg "
-        f"{_interval(rec.change_ci95_deg, '+.2f')} (leading edge up positive)",
+        f"{interval(rec.change_ci95_deg, '+.2f')} (leading edge up positive)",
     ]
     lines.append(textwrap.fill(rec.words, WIDTH, initial_indent="  ", subsequent_indent="  "))
     return head + "\n" + "\n".join(lines)
@@ -259,7 +252,7 @@ def render_flights(listing: list[dict[str, Any]]) -> str:
         return "no flights in the history yet: add some with 'trimlog import'"
     rows = [
         [str(f["id"]), str(f.get("label") or ""), str(f.get("date") or ""),
-         _fmt(f.get("cg_pct_mac")), str(f["n_points"]), str(f.get("stab_setting") or ""),
+         number(f.get("cg_pct_mac")), str(f["n_points"]), str(f.get("stab_setting") or ""),
          f["sha256"][:12]]
         for f in listing
     ]
@@ -271,9 +264,9 @@ def render_trend(trend: Trend, *, color: bool = False) -> str:
     s = _Style(color)
     data = trend.to_dict()
     rows = [
-        [str(step["n_flights"]), str(step.get("label") or ""), _fmt(step.get("cg_pct_mac")),
-         _fmt(step["stick_fixed_pct_mac"]), _interval(step["ci95_pct_mac"]),
-         _fmt(step.get("stick_free_pct_mac")), _interval(step.get("stick_free_ci95_pct_mac"))]
+        [str(step["n_flights"]), str(step.get("label") or ""), number(step.get("cg_pct_mac")),
+         number(step["stick_fixed_pct_mac"]), interval(step["ci95_pct_mac"]),
+         number(step.get("stick_free_pct_mac")), interval(step.get("stick_free_ci95_pct_mac"))]
         for step in data["trend"]
     ]
     out = [s.head("Neutral point after each flight (%MAC)"), table(
