@@ -46,6 +46,8 @@ SUBPROCESS_ALLOWED = {
     ("benchmarks/bench.py", "once"),
     ("benchmarks/bench.py", "_importtime"),  # python -X importtime
     ("benchmarks/bench.py", "_peak_rss"),  # python -c <benchmark code>
+    ("benchmarks/bench.py", "bench_report"),  # trimlog demo / analyze / report, timed
+    ("benchmarks/bench.py", "bench_browser"),  # streamlit run, for the first-page time
 }
 FORBIDDEN_MODULES = {"pickle", "cPickle", "dill", "shelve", "marshal", "yaml", "toml", "tomli",
                      "cloudpickle", "joblib"}
