@@ -148,3 +148,32 @@ def test_declared_dependencies_and_floors():
     assert "scipy" in deps  # imported by statistics/ (scipy.special, scipy.stats lazily)
     # st.html(unsafe_allow_javascript=...) first appears in streamlit 1.52.0 (absent in 1.51.0)
     assert deps["streamlit"] == "streamlit>=1.52"
+
+
+def test_a_loading_sheet_made_on_the_page_is_read_like_a_file(tmp_path):
+    import datetime as dt
+
+    from trimlog.dashboard.loading_form import sheet_text
+    from trimlog.input.loading_sheet import read_loading_sheet
+
+    text = sheet_text("2", date=dt.date(2026, 5, 16), weight_lb=1585.0, cg="66.3 in",
+                      fuel_gal=24.0, stab_setting="as rigged", stab_incidence_deg=-1.0,
+                      cg_uncertainty="0.3 %MAC")
+    sheet = read_loading_sheet(text.encode(), name="form")
+    assert (sheet.date, sheet.takeoff_weight_lb, sheet.takeoff_cg_in) == (
+        dt.date(2026, 5, 16), 1585.0, 66.3)
+    assert (sheet.stab_setting, sheet.stab_incidence_deg, sheet.cg_uncertainty_pct_mac) == (
+        "as rigged", -1.0, 0.3)
+    at = _upload(_go(_app(), "Flights"), ["flight2.csv"])  # a log without its sheet
+    digest = at.session_state["user_logs"]["flight2.csv"].digest
+    at.date_input(key=f"sf_date_{digest}").set_value(dt.date(2026, 5, 16))
+    at.number_input(key=f"sf_w_{digest}").set_value(1585.0)
+    at.text_input(key=f"sf_cg_{digest}").set_value("66.3 in")
+    at.number_input(key=f"sf_f_{digest}").set_value(24.0)
+    at.text_input(key=f"sf_s_{digest}").set_value("as rigged")
+    next(b for b in at.button if b.label == "Use this loading sheet").click()
+    at.run()
+    assert not at.exception, at.exception
+    assert at.session_state["sheet_for"][digest] == "flight2.loading.toml"
+    made = read_loading_sheet(at.session_state["user_sheets"]["flight2.loading.toml"].raw)
+    assert made.date == dt.date(2026, 5, 16) and made.takeoff_cg_in == 66.3
