@@ -6,6 +6,8 @@ from trimlog.errors import InputFileError, StoreError
 from trimlog.history import service as history
 from trimlog.history.store import open_store
 
+from pg_server import make_location
+
 SAMPLES = Path(__file__).resolve().parents[2] / "sample_logs"
 PROFILE = SAMPLES / "tinkerfinch_tf2.toml"
 LOGS = sorted(SAMPLES.glob("flight*.csv"))
@@ -18,8 +20,8 @@ def _import_all(store, logs=LOGS):
 
 
 @pytest.fixture(scope="module")
-def filled(tmp_path_factory):
-    db = tmp_path_factory.mktemp("hist") / "history.sqlite"
+def filled(engine, tmp_path_factory, request):
+    db = make_location(engine, tmp_path_factory.mktemp("hist"), request)
     with open_store(db) as store:
         outcomes = _import_all(store)
     return db, outcomes
@@ -80,8 +82,8 @@ def test_trend_json_contract(filled):
                                       "min_static_margin_pct_mac", "reason"}
 
 
-def test_exclusions_are_kept_and_change_the_result(tmp_path):
-    with open_store(tmp_path / "h.sqlite") as store:
+def test_exclusions_are_kept_and_change_the_result(new_location):
+    with open_store(new_location()) as store:
         outcomes = _import_all(store)
         before = history.trend(store).steps[-1].stick_fixed.pct_mac
         store.set_point_included(outcomes[3].flight_id, 2, False)
@@ -92,19 +94,19 @@ def test_exclusions_are_kept_and_change_the_result(tmp_path):
     assert len(excluded) == 1 and int(excluded["point"].iloc[0]) == 2
 
 
-def test_export_and_restore_reproduce_the_neutral_point_exactly(filled, tmp_path):
+def test_export_and_restore_reproduce_the_neutral_point_exactly(filled, new_location, tmp_path):
     db, _ = filled
     with open_store(db) as store:
         original = history.trend(store).to_dict()["trend"]
         store.export(tmp_path / "export")
-    with open_store(tmp_path / "restored.sqlite") as store:
+    with open_store(new_location()) as store:
         store.import_export(tmp_path / "export")
         restored = history.trend(store).to_dict()["trend"]
     assert restored == original
 
 
-def test_empty_history_and_unknown_aircraft_are_clear(tmp_path):
-    with open_store(tmp_path / "empty.sqlite") as store:
+def test_empty_history_and_unknown_aircraft_are_clear(new_location):
+    with open_store(new_location()) as store:
         with pytest.raises(StoreError, match="history is empty"):
             history.trend(store)
         _import_all(store, LOGS[:1])
@@ -112,11 +114,11 @@ def test_empty_history_and_unknown_aircraft_are_clear(tmp_path):
             history.trend(store, "nope")
 
 
-def test_a_file_with_several_flights_is_refused(tmp_path):
+def test_a_file_with_several_flights_is_refused(new_location):
     text = PROFILE.read_text()
     raw = (b"flight,ias_kt,pressure_alt_ft,ELEV_POS,weight_lb,cg_in\n"
            b"a,100,5000,3,1500,68\na,90,5000,4,1500,68\nb,100,5000,3,1500,70\n")
-    with open_store(tmp_path / "h.sqlite") as store:
+    with open_store(new_location()) as store:
         with pytest.raises(InputFileError, match="one flight per file"):
             history.import_flight(store, raw, "two.csv", text)
 

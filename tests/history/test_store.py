@@ -12,6 +12,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import pytest
+import sqlalchemy as sa
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -52,18 +53,27 @@ def make_points(n: int = 4, flight: str = "F1", seed: int = 0) -> pd.DataFrame:
 
 @pytest.fixture
 def db(tmp_path: Path) -> Path:
+    """An SQLite file (for the tests of SQLite's own behaviour)."""
     return tmp_path / "history.sqlite"
 
 
 @pytest.fixture
-def store(db: Path):
-    with open_store(db) as s:
+def store(location):
+    """A new empty store, on each engine (``location`` is in conftest.py)."""
+    with open_store(location) as s:
         yield s
 
 
 @pytest.fixture
 def aircraft(store):
     return store.upsert_aircraft("Demo two-seater", PROFILE)
+
+
+def profiles_of(store, aircraft_id: int) -> list[dict]:
+    """Every stored profile version of an aircraft, read through the export document."""
+    with store.reading():
+        doc = store._export_document()
+    return next(a["profiles"] for a in doc["aircraft"] if a["id"] == aircraft_id)
 
 
 def sha(path: Path) -> str:
@@ -80,12 +90,15 @@ def run_script(code: str, *args: str, **kw) -> subprocess.Popen:
 # -- opening --------------------------------------------------------------------
 
 
-def test_new_database_is_wal_with_foreign_keys_and_current_schema(store, db):
-    assert store.schema_version == store_mod.SCHEMA_VERSION
-    assert store._conn.execute("PRAGMA journal_mode").fetchone()[0] == "wal"
-    assert store._conn.execute("PRAGMA foreign_keys").fetchone()[0] == 1
-    assert store._conn.execute("PRAGMA busy_timeout").fetchone()[0] == 30000
-    assert store._conn.execute("PRAGMA application_id").fetchone()[0] == store_mod.APPLICATION_ID
+def test_new_database_is_wal_with_foreign_keys_and_current_schema(db):
+    with open_store(db) as store:
+        assert store.schema_version == store_mod.SCHEMA_VERSION
+        pragma = lambda name: store._conn.exec_driver_sql(f"PRAGMA {name}").scalar_one()  # noqa: E731
+        assert pragma("journal_mode") == "wal"
+        assert pragma("foreign_keys") == 1
+        assert pragma("busy_timeout") == 30000
+        assert pragma("application_id") == store_mod.APPLICATION_ID
+        store._conn.rollback()
 
 
 def test_creates_missing_parent_folders(tmp_path):
@@ -125,9 +138,9 @@ def test_profile_text_change_makes_a_new_version_and_keeps_old(store, aircraft):
     changed = PROFILE + 'mac = "51 in"\n'
     again = store.upsert_aircraft("Demo two-seater", changed)
     assert (again.id, again.profile_version, again.profile_text) == (aircraft.id, 2, changed)
-    versions = store.profile_versions(aircraft.id)
-    assert [(v.version, v.text) for v in versions] == [(1, PROFILE), (2, changed)]
-    assert versions[0].sha256 == hashlib.sha256(PROFILE.encode()).hexdigest()
+    versions = profiles_of(store, aircraft.id)
+    assert [(v["version"], v["text"]) for v in versions] == [(1, PROFILE), (2, changed)]
+    assert versions[0]["sha256"] == hashlib.sha256(PROFILE.encode()).hexdigest()
     assert store.find_aircraft("Demo two-seater") == again
     assert store.find_aircraft("Nobody") is None
     assert [a.name for a in store.aircraft_list()] == ["Demo two-seater"]
@@ -345,32 +358,6 @@ def test_all_points_in_flight_order_with_flight_id(store, aircraft):
     assert store.all_points(999).empty
 
 
-# -- analyses -----------------------------------------------------------------------
-
-
-def test_save_and_read_latest_analysis(store, aircraft):
-    fid = store.import_flight(aircraft.id, b"x", "x.csv", make_points()).flight_id
-    assert store.latest_analysis(aircraft.id) is None
-    store.save_analysis(aircraft.id, [fid], {"hn": 0.30})
-    aid = store.save_analysis(
-        aircraft.id, [fid], {"hn": np.float64(0.31), "ci": np.array([0.28, 0.34]), "sm": None}
-    )
-    rec = store.latest_analysis(aircraft.id)
-    assert rec.id == aid and rec.flight_ids == (fid,)
-    assert rec.result == {"hn": 0.31, "ci": [0.28, 0.34], "sm": None}
-    assert rec.software_version == trimlog.__version__ and rec.profile_version == 1
-
-
-def test_analysis_refuses_nan_and_foreign_flights(store, aircraft):
-    fid = store.import_flight(aircraft.id, b"x", "x.csv", make_points()).flight_id
-    with pytest.raises(StoreError, match=r"analysis result\.np\.hn: nan"):
-        store.save_analysis(aircraft.id, [fid], {"np": {"hn": float("nan")}})
-    other = store.upsert_aircraft("Other", PROFILE)
-    with pytest.raises(StoreError, match=r"flights \[1\] are not flights of aircraft 2"):
-        store.save_analysis(other.id, [fid], {"hn": 0.3})
-    assert store.latest_analysis(aircraft.id) is None
-
-
 # -- faults ---------------------------------------------------------------------------
 
 
@@ -385,11 +372,12 @@ STALLING_IMPORT = """
             self._conn = conn
         def __getattr__(self, name):
             return getattr(self._conn, name)
-        def executemany(self, sql, rows):
-            cursor = self._conn.executemany(sql, rows)
-            print("inside the transaction", flush=True)
-            time.sleep(120)
-            return cursor
+        def execute(self, statement, *args):
+            result = self._conn.execute(statement, *args)
+            if str(statement).startswith("INSERT INTO points"):
+                print("inside the transaction", flush=True)
+                time.sleep(120)
+            return result
 
     store = open_store(sys.argv[1])
     aircraft = store.upsert_aircraft("Demo two-seater", "x")
@@ -553,6 +541,7 @@ def test_read_only_database_gives_clear_error(tmp_path, monkeypatch):
         return real_connect(f"file:{db}?mode=ro", uri=True, **kw)
 
     monkeypatch.setattr(sqlite3, "connect", read_only)
+    monkeypatch.setattr(sqlite3.dbapi2, "connect", read_only)  # what SQLAlchemy calls
     with pytest.raises(StoreError, match=r"h\.sqlite: the history database cannot be written "
                                          r"\(attempt to write a readonly database.*TRIMLOG_DB"):
         open_store(path)
@@ -586,22 +575,30 @@ def test_read_only_folder_and_file_give_clear_error(tmp_path):
 # -- migrations ---------------------------------------------------------------------
 
 
-def test_older_schema_is_migrated_keeping_data(db):
-    conn = sqlite3.connect(db, isolation_level=None)
-    conn.execute("PRAGMA journal_mode = WAL")
-    conn.execute("BEGIN")
-    store_mod._migrate(conn, 0, 1)
-    conn.execute("COMMIT")
-    old = store_mod.Store(db, conn)  # a version-1 database as an earlier trimlog left it
-    a = old.upsert_aircraft("Demo two-seater", PROFILE)
-    old.import_flight(a.id, b"log", "log.csv", make_points())
-    assert old.schema_version == 1
-    old.close()
-    with open_store(db) as s:
-        assert s.schema_version == store_mod.SCHEMA_VERSION
+def older_database(location, version: int):
+    """A database of schema ``version`` as an earlier trimlog left it, with one flight."""
+    real = store_mod._MIGRATIONS
+    store_mod._MIGRATIONS = real[:version]
+    store_mod.SCHEMA_VERSION = version
+    try:
+        with open_store(location) as old:
+            a = old.upsert_aircraft("Demo two-seater", PROFILE)
+            old.import_flight(a.id, b"log", "log.csv", make_points())
+            assert old.schema_version == version
+    finally:
+        store_mod._MIGRATIONS = real
+        store_mod.SCHEMA_VERSION = len(real)
+    return a
+
+
+@pytest.mark.parametrize("version", [1, 2])
+def test_older_schema_is_migrated_keeping_data(location, version):
+    a = older_database(location, version)
+    with open_store(location) as s:
+        assert s.schema_version == store_mod.SCHEMA_VERSION == 3
+        assert "analyses" not in sa.inspect(s._conn).get_table_names()
         assert [f.filename for f in s.flights(a.id)] == ["log.csv"]
         pd.testing.assert_frame_equal(s.flight_points(1), make_points())
-        s.save_analysis(a.id, [1], {"hn": 0.3})
         assert s.check() == []
 
 
@@ -619,7 +616,7 @@ def test_newer_schema_is_refused(db):
 
 def test_trimlog_file_missing_tables_is_damaged(db):
     with open_store(db) as s:
-        s._conn.execute("DROP TABLE points")
+        s._conn.exec_driver_sql("DROP TABLE points")
     with pytest.raises(StoreError, match=r"damaged trimlog database.*\['points'\]"):
         open_store(db)
 
@@ -638,16 +635,14 @@ def fill(store) -> None:
                             incidence_label="shim 0", incidence_deg=-1.0)
     store.import_flight(b.id, b"other", "o.csv", make_points(2, "O"), notes="=SUM(A1:A9)")
     store.set_point_included(2, 3, False)
-    store.save_analysis(a.id, [1, 2, 3], {"hn": 0.31, "ci": [0.29, 0.33]})
 
 
 def snapshot(store) -> dict:
     out = {"aircraft": store.aircraft_list()}
     for a in out["aircraft"]:
         out[a.name] = {
-            "profiles": store.profile_versions(a.id),
+            "profiles": profiles_of(store, a.id),
             "flights": store.flights(a.id),
-            "analysis": store.latest_analysis(a.id),
             "raw": [store.raw_bytes(f.id) for f in store.flights(a.id)],
             "points": [store.flight_points(f.id) for f in store.flights(a.id)],
         }
@@ -660,20 +655,20 @@ def assert_same(x: dict, y: dict) -> None:
         if key == "aircraft":
             assert x[key] == y[key]
             continue
-        for part in ("profiles", "flights", "analysis", "raw"):
+        for part in ("profiles", "flights", "raw"):
             assert x[key][part] == y[key][part]
         for p, q in zip(x[key]["points"], y[key]["points"], strict=True):
             pd.testing.assert_frame_equal(p, q)
 
 
-def test_export_then_restore_reproduces_everything(store, tmp_path):
+def test_export_then_restore_reproduces_everything(store, tmp_path, new_location):
     fill(store)
     files = store.export(tmp_path / "export")
     assert sorted(f.name for f in files) == sorted(
         ["trimlog-history.json", "aircraft.csv", "flights.csv", "points.csv", "analyses.csv"])
-    with open_store(tmp_path / "restored.sqlite") as fresh:
+    with open_store(new_location()) as fresh:
         summary = fresh.import_export(tmp_path / "export")
-        assert summary == store_mod.RestoreSummary(2, 4, 14, 1)
+        assert summary == store_mod.RestoreSummary(2, 4, 14, 0)
         assert_same(snapshot(store), snapshot(fresh))
         assert fresh.check() == []
         fresh.export(tmp_path / "again")
@@ -683,7 +678,7 @@ def test_export_then_restore_reproduces_everything(store, tmp_path):
     assert first == second
 
 
-def test_restore_refuses_non_empty_database_and_damaged_export(store, tmp_path):
+def test_restore_refuses_non_empty_database_and_damaged_export(store, tmp_path, new_location):
     fill(store)
     store.export(tmp_path / "export")
     with pytest.raises(StoreError, match="already holds aircraft"):
@@ -692,7 +687,7 @@ def test_restore_refuses_non_empty_database_and_damaged_export(store, tmp_path):
     doc = json.loads(doc_path.read_text())
     doc["flights"][1]["raw_base64"] = "AAAA"
     doc_path.write_text(json.dumps(doc))
-    with open_store(tmp_path / "restored.sqlite") as fresh:
+    with open_store(new_location()) as fresh:
         with pytest.raises(StoreError, match="flight 2: the log bytes do not match"):
             fresh.import_export(tmp_path / "export")
         assert fresh.aircraft_list() == []

@@ -251,11 +251,13 @@ class _Stored:
 
 
 def _load(store: Store, aircraft: str | None) -> _Stored:
-    record = _aircraft(store, aircraft)
+    # One snapshot: a flight another user imports meanwhile is seen whole or not at all.
+    with store.reading():
+        record = _aircraft(store, aircraft)
+        records = store.flights(record.id)
+        points = store.all_points(record.id)
     profile = parse_profile(record.profile_text, source=f"history: {record.name}")
-    records = store.flights(record.id)
     names = _flight_names(records)
-    points = store.all_points(record.id)
     if len(points):
         points["flight"] = points["flight_id"].map(names)
         points = points.drop(columns=["flight_id"])
@@ -265,13 +267,15 @@ def _load(store: Store, aircraft: str | None) -> _Stored:
 
 def analyze_history(store: Store, aircraft: str | None = None) -> chain.Analysis:
     """Recompute the full analysis of every stored flight (the user's exclusions kept)."""
-    stored = _load(store, aircraft)
+    with store.reading():
+        stored = _load(store, aircraft)
+        raw = {r.id: store.raw_bytes(r.id) for r in stored.records}
     if not stored.records:
         raise StoreError(f"no flights stored for '{stored.aircraft.name}' yet")
     flights = []
     for r in stored.records:
         name = stored.names[r.id]
-        read = chain.load_flight_bytes(store.raw_bytes(r.id), r.filename, stored.profile,
+        read = chain.load_flight_bytes(raw[r.id], r.filename, stored.profile,
                                        loading=stored.sheets.get(name))[0]
         mine = stored.points.loc[stored.points["flight"] == name].reset_index(drop=True)
         flights.append(chain.FlightData(name, r.filename, read.sha256, read.log, mine,

@@ -1,38 +1,55 @@
 """The flight-history store: every SQL statement of trimlog lives here.
 
-One SQLite file per user keeps, for each aircraft, the profile text as
-imported (a new version each time the text changes, old versions kept), each
-flight with its raw log bytes exactly as uploaded and their SHA-256, the
-stabilized points with the user's include/exclude choices, and each analysis
-result with the software version that made it.  An analysis can always be
-recomputed from what is kept.
+One database keeps, for each aircraft, the profile text as imported (a new
+version each time the text changes, old versions kept), each flight with its
+raw log bytes exactly as uploaded and their SHA-256, and the stabilized
+points with the user's include/exclude choices.  Any analysis is recomputed
+from what is kept.
+
+Two engines, one schema and one set of statements (SQLAlchemy Core):
+
+* **SQLite** (the default): one file, nothing to install.
+* **PostgreSQL**: a server database shared by a test team, named by a URL
+  ``postgresql://user@host:port/dbname``.  The password never appears in
+  trimlog's files or arguments: libpq finds it (``PGPASSWORD``,
+  ``~/.pgpass``, a service file named by ``PGSERVICE`` or ``?service=``).
 
 The rest of the package talks to :class:`Store` only; nothing else writes
-SQL, so a shared server database could later sit behind the same methods.
-The record types, the checks of given values, the points' JSON and the
+SQL.  The record types, the checks of given values, the points' JSON and the
 export file formats are in :mod:`trimlog.history.codec` (no SQL there).
 
 Guarantees
 ----------
 * Importing the same bytes twice for one aircraft gives one flight, and the
-  outcome says so.
-* Every write is one ``BEGIN IMMEDIATE`` transaction: a write interrupted at
-  any moment leaves the database as it was before.
-* Several processes may write at once (WAL journal, 30 s busy timeout).
+  outcome says so: ``UNIQUE (aircraft_id, sha256)`` with an insert that does
+  nothing on conflict, so two importers at once still make one flight.
+* Every write is one transaction: interrupted at any moment, it leaves the
+  database as it was.  SQLite: ``BEGIN IMMEDIATE`` (writers queue, 30 s busy
+  timeout, WAL journal).  PostgreSQL: READ COMMITTED, and an import or
+  profile change first locks its aircraft row, so imports of one aircraft
+  queue (flight order stays gap-free and in commit order).
+* Reads of several tables (a trend, a listing, an export) run in one snapshot
+  (:meth:`Store.reading`): SQLite's WAL read transaction, PostgreSQL's
+  REPEATABLE READ READ ONLY.  A flight being imported is seen whole or not.
 * A file that is not a trimlog database (not SQLite, or SQLite holding other
-  tables) is reported and never modified.
+  tables), and a PostgreSQL database holding another program's tables, are
+  reported and never modified.
+* A role without write rights reads; its writes are refused with a clear
+  message.
 
-Location: the path given to :func:`open_store` (the command line's
+Location: the path or URL given to :func:`open_store` (the command line's
 ``--db``), else the ``TRIMLOG_DB`` environment variable, else
 ``history.sqlite`` in ``platformdirs.user_data_dir("trimlog")``.
 
-A :class:`Store` holds one SQLite connection and is meant for one thread;
-opening another is cheap.
+A :class:`Store` holds one connection and is meant for one thread; opening
+another is cheap.
 
 References
 ----------
 SQLite documentation: "Write-Ahead Logging", "Atomic Commit In SQLite",
 "The SQLite Online Backup API" (https://sqlite.org/docs.html).
+PostgreSQL 15 documentation, 13.2 "Transaction Isolation" and INSERT
+"ON CONFLICT Clause" (https://www.postgresql.org/docs/15/).
 """
 
 from __future__ import annotations
@@ -40,8 +57,9 @@ from __future__ import annotations
 import datetime as dt
 import json
 import os
+import re
 import sqlite3
-from collections.abc import Iterator, Mapping, Sequence
+from collections.abc import Callable, Iterator, Mapping, Sequence
 from contextlib import contextmanager
 from pathlib import Path
 from typing import Any, Final, Literal
@@ -49,6 +67,10 @@ from typing import Any, Final, Literal
 import numpy as np
 import pandas as pd
 import platformdirs
+import sqlalchemy as sa
+from sqlalchemy.dialects import postgresql as pg_dialect
+from sqlalchemy.dialects import sqlite as sqlite_dialect
+from sqlalchemy.pool import NullPool
 
 import trimlog
 from trimlog.errors import StoreError
@@ -58,18 +80,14 @@ from trimlog.history.codec import (
     EXPORT_JSON,  # noqa: F401
     KEEP,
     AircraftRecord,
-    AnalysisRecord,
     FlightRecord,
     ImportOutcome,
     Keep,
-    ProfileVersion,
     RestoreSummary,
-    analysis_record,
     check_export_folder,
     check_log,
     decode_points,
     decode_raw,
-    dumps_json,
     encode_details,
     encode_points,
     export_document,
@@ -86,82 +104,156 @@ BUSY_TIMEOUT_S: Final = 30.0
 # "TRML": marks the file as trimlog's, so a foreign SQLite file is never taken for ours.
 APPLICATION_ID: Final = 0x54524D4C
 _SQLITE_MAGIC: Final = b"SQLite format 3\x00"
+_URL_SCHEME: Final = re.compile(r"^([A-Za-z][A-Za-z0-9+.\-]*)://")
+_PG_SCHEMES: Final = ("postgresql", "postgres", "postgresql+psycopg")
+# On PostgreSQL the schema version sits in this table (SQLite uses its header).
+_PG_VERSION_TABLE: Final = "trimlog_schema"
+_PG_MIGRATION_LOCK: Final = APPLICATION_ID  # pg_advisory_xact_lock key
+_PERMISSION_DENIED: Final = "42501"  # SQLSTATE insufficient_privilege
 
-# Forward migrations: step k (1-based) takes a database from schema version k-1
-# to k.  Steps are only ever appended; a released step is never edited.
-_MIGRATIONS: Final[tuple[tuple[str, ...], ...]] = (
-    (
-        """CREATE TABLE aircraft (
-            id INTEGER PRIMARY KEY,
-            name TEXT NOT NULL UNIQUE,
-            created_at TEXT NOT NULL)""",
-        """CREATE TABLE aircraft_profiles (
-            aircraft_id INTEGER NOT NULL REFERENCES aircraft(id),
-            version INTEGER NOT NULL,
-            profile_text TEXT NOT NULL,
-            sha256 TEXT NOT NULL,
-            imported_at TEXT NOT NULL,
-            PRIMARY KEY (aircraft_id, version))""",
-        """CREATE TABLE flights (
-            id INTEGER PRIMARY KEY,
-            aircraft_id INTEGER NOT NULL REFERENCES aircraft(id),
-            flight_order INTEGER NOT NULL,
-            sha256 TEXT NOT NULL,
-            filename TEXT NOT NULL,
-            size_bytes INTEGER NOT NULL,
-            flight_date TEXT,
-            label TEXT,
-            notes TEXT,
-            loading_json TEXT,
-            incidence_label TEXT,
-            incidence_deg REAL,
-            config TEXT,
-            profile_version INTEGER NOT NULL,
-            points_columns TEXT NOT NULL,
-            imported_at TEXT NOT NULL,
-            UNIQUE (aircraft_id, sha256))""",
-        "CREATE INDEX flights_in_order ON flights (aircraft_id, flight_order, id)",
-        # Raw bytes apart from the flight rows, so listing flights never reads them.
-        """CREATE TABLE raw_logs (
-            flight_id INTEGER PRIMARY KEY REFERENCES flights(id),
-            raw BLOB NOT NULL)""",
-        """CREATE TABLE points (
-            flight_id INTEGER NOT NULL REFERENCES flights(id),
-            point INTEGER NOT NULL,
-            included INTEGER NOT NULL CHECK (included IN (0, 1)),
-            values_json TEXT NOT NULL,
-            PRIMARY KEY (flight_id, point)) WITHOUT ROWID""",
-    ),
-    (
-        """CREATE TABLE analyses (
-            id INTEGER PRIMARY KEY,
-            aircraft_id INTEGER NOT NULL REFERENCES aircraft(id),
-            created_at TEXT NOT NULL,
-            software_version TEXT NOT NULL,
-            profile_version INTEGER NOT NULL,
-            flight_ids_json TEXT NOT NULL,
-            result_json TEXT NOT NULL)""",
-        "CREATE INDEX analyses_by_aircraft ON analyses (aircraft_id, id)",
-    ),
+# -- schema -------------------------------------------------------------------------
+
+_meta = sa.MetaData()
+aircraft_t = sa.Table(
+    "aircraft", _meta,
+    sa.Column("id", sa.Integer, primary_key=True),
+    sa.Column("name", sa.Text, nullable=False, unique=True),
+    sa.Column("created_at", sa.Text, nullable=False),
+)
+profiles_t = sa.Table(
+    "aircraft_profiles", _meta,
+    sa.Column("aircraft_id", sa.Integer, sa.ForeignKey("aircraft.id"), primary_key=True),
+    sa.Column("version", sa.Integer, primary_key=True, autoincrement=False),
+    sa.Column("profile_text", sa.Text, nullable=False),
+    sa.Column("sha256", sa.Text, nullable=False),
+    sa.Column("imported_at", sa.Text, nullable=False),
+)
+flights_t = sa.Table(
+    "flights", _meta,
+    sa.Column("id", sa.Integer, primary_key=True),
+    sa.Column("aircraft_id", sa.Integer, sa.ForeignKey("aircraft.id"), nullable=False),
+    sa.Column("flight_order", sa.Integer, nullable=False),
+    sa.Column("sha256", sa.Text, nullable=False),
+    sa.Column("filename", sa.Text, nullable=False),
+    sa.Column("size_bytes", sa.Integer, nullable=False),
+    sa.Column("flight_date", sa.Text),
+    sa.Column("label", sa.Text),
+    sa.Column("notes", sa.Text),
+    sa.Column("loading_json", sa.Text),
+    sa.Column("incidence_label", sa.Text),
+    sa.Column("incidence_deg", sa.Float(precision=53)),
+    sa.Column("config", sa.Text),
+    sa.Column("profile_version", sa.Integer, nullable=False),
+    sa.Column("points_columns", sa.Text, nullable=False),
+    sa.Column("imported_at", sa.Text, nullable=False),
+    sa.UniqueConstraint("aircraft_id", "sha256"),
+    sa.Index("flights_in_order", "aircraft_id", "flight_order", "id"),
+)
+# Raw bytes apart from the flight rows, so listing flights never reads them.
+raw_logs_t = sa.Table(
+    "raw_logs", _meta,
+    sa.Column("flight_id", sa.Integer, sa.ForeignKey("flights.id"), primary_key=True,
+              autoincrement=False),
+    sa.Column("raw", sa.LargeBinary, nullable=False),
+)
+points_t = sa.Table(
+    "points", _meta,
+    sa.Column("flight_id", sa.Integer, sa.ForeignKey("flights.id"), primary_key=True,
+              autoincrement=False),
+    sa.Column("point", sa.Integer, primary_key=True, autoincrement=False),
+    sa.Column("included", sa.Integer, sa.CheckConstraint("included IN (0, 1)"), nullable=False),
+    sa.Column("values_json", sa.Text, nullable=False),
+    sqlite_with_rowid=False,
+)
+# Schema version 2 kept analysis results that nothing read back; version 3 drops them.
+_legacy = sa.MetaData()
+_analyses_v2 = sa.Table(
+    "analyses", _legacy,
+    sa.Column("id", sa.Integer, primary_key=True),
+    sa.Column("aircraft_id", sa.Integer, nullable=False),
+    sa.Column("created_at", sa.Text, nullable=False),
+    sa.Column("software_version", sa.Text, nullable=False),
+    sa.Column("profile_version", sa.Integer, nullable=False),
+    sa.Column("flight_ids_json", sa.Text, nullable=False),
+    sa.Column("result_json", sa.Text, nullable=False),
+    sa.Index("analyses_by_aircraft", "aircraft_id", "id"),
+)
+
+# Forward migrations: step k (1-based) takes a database from schema version k-1 to k:
+# (tables created, tables dropped).  Steps are only ever appended, never edited.
+_V1_TABLES: Final = (aircraft_t, profiles_t, flights_t, raw_logs_t, points_t)
+_MIGRATIONS: Final[tuple[tuple[tuple[sa.Table, ...], tuple[sa.Table, ...]], ...]] = (
+    (_V1_TABLES, ()),
+    ((_analyses_v2,), ()),
+    ((), (_analyses_v2,)),
 )
 SCHEMA_VERSION: Final = len(_MIGRATIONS)
 
+_FLIGHT_COLUMNS: Final = tuple(c.name for c in flights_t.columns)
 
-def default_path() -> Path:
-    """Return where the history database lives when no path is given.
+
+def _tables_at(version: int) -> set[str]:
+    """The table names a database of schema ``version`` holds."""
+    names: set[str] = set()
+    for created, dropped in _MIGRATIONS[:version]:
+        names |= {t.name for t in created}
+        names -= {t.name for t in dropped}
+    return names
+
+
+# -- locations ------------------------------------------------------------------------
+
+
+def default_location() -> Path | str:
+    """Return the history location used when none is given.
 
     Returns
     -------
-    Path
-        ``$TRIMLOG_DB`` when that environment variable is set and not empty,
-        else ``history.sqlite`` in the per-user data directory
+    Path or str
+        ``$TRIMLOG_DB`` when that environment variable is set and not empty
+        (a file path, or a ``postgresql://`` URL as text), else
+        ``history.sqlite`` in the per-user data directory
         (``platformdirs.user_data_dir("trimlog")``, e.g.
         ``~/.local/share/trimlog`` on Linux).
     """
     env = os.environ.get(ENV_VAR, "").strip()
     if env:
-        return Path(env).expanduser()
+        return env if _URL_SCHEME.match(env) else Path(env).expanduser()
     return Path(platformdirs.user_data_dir("trimlog")) / "history.sqlite"
+
+
+def default_path() -> Path | str:
+    """Same as :func:`default_location` (the older name)."""
+    return default_location()
+
+
+def is_server_url(location: str | Path | None) -> bool:
+    """Whether ``location`` names a database server by URL (not a file)."""
+    return isinstance(location, str) and bool(_URL_SCHEME.match(location.strip()))
+
+
+def _server_url(text: str) -> sa.URL:
+    """Check a server URL: PostgreSQL, no password; return it for the psycopg driver."""
+    scheme = _URL_SCHEME.match(text).group(1).lower()
+    if scheme not in _PG_SCHEMES:
+        raise StoreError(
+            f"{text}: unknown kind of database {scheme!r}; give a file path (SQLite) or "
+            "postgresql://user@host:port/dbname")
+    try:
+        url = sa.make_url(text)
+    except (sa.exc.ArgumentError, ValueError) as exc:
+        raise StoreError(f"{_no_password(text)}: not a valid database URL ({exc})") from None
+    if url.password is not None:
+        raise StoreError(
+            f"{_no_password(text)}: the URL holds a password; never put it in the URL (it lands "
+            "in shell history and process lists). Give postgresql://user@host:port/dbname and let "
+            "libpq find the password: the PGPASSWORD environment variable, ~/.pgpass, or a "
+            "service file (PGSERVICE)")
+    return url.set(drivername="postgresql+psycopg")
+
+
+def _no_password(text: str) -> str:
+    return re.sub(r"(://[^:/@]*:)[^@/]*@", r"\1***@", text)
 
 
 def open_store(path: str | Path | None = None) -> Store:
@@ -170,9 +262,11 @@ def open_store(path: str | Path | None = None) -> Store:
     Parameters
     ----------
     path : str or Path, optional
-        The database file.  When not given: the environment variable
-        ``TRIMLOG_DB``, else ``history.sqlite`` in the per-user data directory
-        (see :func:`default_path`).  Missing parent folders are created.
+        A database file (SQLite; missing parent folders are created), or a
+        server URL ``postgresql://user@host:port/dbname`` (text; no password
+        in it).  When not given: the environment variable ``TRIMLOG_DB``,
+        else ``history.sqlite`` in the per-user data directory (see
+        :func:`default_location`).
 
     Returns
     -------
@@ -185,9 +279,16 @@ def open_store(path: str | Path | None = None) -> Store:
         The path is a folder; the file is not SQLite, is damaged, or is an
         SQLite database of another program (it is then left untouched); the
         database was written by a newer trimlog; the location is read-only or
-        permission is denied.
+        permission is denied; the URL holds a password or the server cannot
+        be reached; the server database holds another program's tables.
     """
-    db = Path(path).expanduser() if path is not None else default_path()
+    where = path if path is not None else default_location()
+    if is_server_url(where):
+        return _open_server(str(where).strip())
+    return _open_file(Path(where).expanduser())
+
+
+def _open_file(db: Path) -> Store:
     hint = f"choose another location (the --db option or the {ENV_VAR} environment variable)"
     if db.is_dir():
         raise StoreError(f"{db}: is a folder, expected a history database file; {hint}")
@@ -199,21 +300,60 @@ def open_store(path: str | Path | None = None) -> Store:
             f"({exc.strerror or exc}); {hint}"
         ) from exc
     _check_header(db, hint)
+    engine = sa.create_engine(
+        f"sqlite:///{db}", poolclass=NullPool,
+        # Transactions are explicit (BEGIN IMMEDIATE for writes), so the driver's own is off.
+        connect_args={"timeout": BUSY_TIMEOUT_S, "isolation_level": None},
+    )
+    store = _connect(engine, db, str(db), "sqlite", hint)
     try:
-        conn = sqlite3.connect(db, timeout=BUSY_TIMEOUT_S, isolation_level=None)
-    except sqlite3.Error as exc:
-        raise StoreError(f"{db}: cannot open the history database ({exc}); {hint}") from exc
-    try:
-        conn.execute(f"PRAGMA busy_timeout = {int(BUSY_TIMEOUT_S * 1000)}")
-        conn.execute("PRAGMA foreign_keys = ON")
-        app_id, version, tables = _inspect(conn, db)
+        c = store._conn
+        c.exec_driver_sql(f"PRAGMA busy_timeout = {int(BUSY_TIMEOUT_S * 1000)}")
+        c.exec_driver_sql("PRAGMA foreign_keys = ON")
+        app_id, version = store._inspect()
+        c.rollback()  # ends SQLAlchemy's implicit transaction (nothing was written)
         if app_id != APPLICATION_ID or version != SCHEMA_VERSION:
-            _initialise_or_migrate(conn, db, hint)
-        _check_writable(conn, db, hint)
+            c.exec_driver_sql("PRAGMA journal_mode = WAL")
+            c.rollback()
+            store._initialise_or_migrate()
+        store._check_writable(hint)
     except BaseException:
-        conn.close()
+        store.close()
         raise
-    return Store(db, conn)
+    return store
+
+
+def _open_server(text: str) -> Store:
+    url = _server_url(text)
+    shown = url.render_as_string(hide_password=True).replace("postgresql+psycopg", "postgresql")
+    hint = ("check the server, the database name and the role; the password comes from "
+            "PGPASSWORD, ~/.pgpass or a service file")
+    engine = sa.create_engine(url, poolclass=NullPool)
+    store = _connect(engine, shown, shown, "postgresql", hint)
+    try:
+        _, version = store._inspect()
+        store._conn.rollback()
+        if version != SCHEMA_VERSION:
+            store._initialise_or_migrate()
+    except BaseException:
+        store.close()
+        raise
+    return store
+
+
+def _connect(engine: sa.Engine, path: Path | str, shown: str, kind: str, hint: str) -> Store:
+    try:
+        conn = engine.connect()
+    except sa.exc.DBAPIError as exc:
+        engine.dispose()
+        raise StoreError(
+            f"{shown}: cannot open the history database ({_reason(exc)}); {hint}") from None
+    return Store(path, conn, kind=kind)
+
+
+def _reason(exc: sa.exc.DBAPIError) -> str:
+    """The driver's own message, on one line."""
+    return " ".join(str(exc.orig).split()) or type(exc.orig).__name__
 
 
 def _check_header(db: Path, hint: str) -> None:
@@ -232,137 +372,59 @@ def _check_header(db: Path, hint: str) -> None:
         )
 
 
-def _inspect(conn: sqlite3.Connection, db: Path) -> tuple[int, int, set[str]]:
-    """Read the application id, schema version and table names, writing nothing."""
-    try:
-        app_id = conn.execute("PRAGMA application_id").fetchone()[0]
-        version = conn.execute("PRAGMA user_version").fetchone()[0]
-        tables = {
-            r[0]
-            for r in conn.execute(
-                "SELECT name FROM sqlite_master WHERE type = 'table' AND name NOT LIKE 'sqlite_%'"
-            )
-        }
-    except sqlite3.DatabaseError as exc:
-        raise StoreError(
-            f"{db}: damaged or not an SQLite database ({exc}); the file was left untouched"
-        ) from exc
-    if app_id == APPLICATION_ID:
-        if version > SCHEMA_VERSION:
-            raise StoreError(
-                f"{db}: written by a newer trimlog (schema version {version}; this trimlog "
-                f"{trimlog.__version__} reads up to {SCHEMA_VERSION}); upgrade trimlog"
-            )
-        expected = set().union(*(_tables_of(s) for s in _MIGRATIONS[:version]))
-        if not expected <= tables:
-            raise StoreError(
-                f"{db}: damaged trimlog database: schema version {version} but tables "
-                f"{sorted(expected - tables)} are missing; the file was left untouched"
-            )
-    elif tables or version or app_id:
-        shown = ", ".join(sorted(tables)[:8]) + (", ..." if len(tables) > 8 else "")
-        raise StoreError(
-            f"{db}: an SQLite database of another program (tables: {shown or 'none'}; "
-            f"application id {app_id:#x}, user version {version}), not a trimlog history; "
-            "the file was left untouched"
-        )
-    return app_id, version, tables
-
-
-def _tables_of(step: Sequence[str]) -> set[str]:
-    return {s.split()[2] for s in step if s.startswith("CREATE TABLE")}
-
-
-def _initialise_or_migrate(conn: sqlite3.Connection, db: Path, hint: str) -> None:
-    """Create a new database or bring an older one to :data:`SCHEMA_VERSION`."""
-    try:
-        conn.execute("PRAGMA journal_mode = WAL")
-        conn.execute("BEGIN IMMEDIATE")
-    except sqlite3.Error as exc:
-        raise StoreError(f"{db}: cannot write to the history database ({exc}); {hint}") from exc
-    try:
-        # Another process may have initialised or migrated it meanwhile: look again.
-        _, version, _ = _inspect(conn, db)
-        _migrate(conn, version, SCHEMA_VERSION)
-        conn.execute("COMMIT")
-    except BaseException as exc:
-        if conn.in_transaction:
-            conn.execute("ROLLBACK")
-        if isinstance(exc, sqlite3.Error):
-            raise StoreError(f"{db}: migration of the history database failed ({exc})") from exc
-        raise
-
-
-def _migrate(conn: sqlite3.Connection, start: int, target: int) -> None:
-    """Apply migration steps ``start+1 .. target`` inside the caller's transaction."""
-    for step in _MIGRATIONS[start:target]:
-        for statement in step:
-            conn.execute(statement)
-    conn.execute(f"PRAGMA application_id = {APPLICATION_ID}")
-    conn.execute(f"PRAGMA user_version = {int(target)}")
-
-
-def _check_writable(conn: sqlite3.Connection, db: Path, hint: str) -> None:
-    """Fail now, not at the first import, when the file cannot be written."""
-    # BEGIN IMMEDIATE alone succeeds on a read-only file; a rolled-back header write does not.
-    try:
-        conn.execute("BEGIN IMMEDIATE")
-        conn.execute(f"PRAGMA user_version = {SCHEMA_VERSION}")
-        conn.execute("ROLLBACK")
-    except sqlite3.Error as exc:
-        if conn.in_transaction:
-            conn.execute("ROLLBACK")
-        raise StoreError(
-            f"{db}: the history database cannot be written ({exc}: read-only location or "
-            f"permission denied); {hint}"
-        ) from exc
-
-
 def _now() -> str:
     return dt.datetime.now(dt.UTC).isoformat(timespec="seconds")
 
 
-_AIRCRAFT_SELECT: Final = """
-    SELECT a.id, a.name, a.created_at, p.version, p.profile_text, p.sha256, p.imported_at
-    FROM aircraft a JOIN aircraft_profiles p ON p.aircraft_id = a.id
-    WHERE p.version = (SELECT MAX(version) FROM aircraft_profiles WHERE aircraft_id = a.id)"""
+def _latest_profile() -> sa.ColumnElement[bool]:
+    inner = profiles_t.alias("newer")
+    return profiles_t.c.version == (
+        sa.select(sa.func.max(inner.c.version))
+        .where(inner.c.aircraft_id == aircraft_t.c.id).scalar_subquery()
+    )
 
-_FLIGHT_SELECT: Final = """
-    SELECT f.id, f.aircraft_id, f.flight_order, f.sha256, f.filename, f.size_bytes,
-           f.flight_date, f.label, f.notes, f.loading_json, f.incidence_label,
-           f.incidence_deg, f.config, f.profile_version,
-           COUNT(p.point), COALESCE(SUM(p.included), 0), f.imported_at
-    FROM flights f LEFT JOIN points p ON p.flight_id = f.id"""
 
-_FLIGHT_COLUMNS: Final = (
-    "id", "aircraft_id", "flight_order", "sha256", "filename", "size_bytes", "flight_date",
-    "label", "notes", "loading_json", "incidence_label", "incidence_deg", "config",
-    "profile_version", "points_columns", "imported_at",
+_AIRCRAFT_SELECT: Final = (
+    sa.select(aircraft_t.c.id, aircraft_t.c.name, aircraft_t.c.created_at, profiles_t.c.version,
+              profiles_t.c.profile_text, profiles_t.c.sha256, profiles_t.c.imported_at)
+    .join(profiles_t, profiles_t.c.aircraft_id == aircraft_t.c.id)
+    .where(_latest_profile())
 )
 
-_INSERT_FLIGHT: Final = (
-    f"INSERT INTO flights ({', '.join(_FLIGHT_COLUMNS)}) "
-    f"VALUES ({', '.join(':' + c for c in _FLIGHT_COLUMNS)})"
+_FLIGHT_SELECT: Final = (
+    sa.select(
+        *(flights_t.c[k] for k in _FLIGHT_COLUMNS if k not in ("points_columns", "imported_at")),
+        sa.func.count(points_t.c.point),
+        sa.func.coalesce(sa.func.sum(points_t.c.included), 0),
+        flights_t.c.imported_at,
+    )
+    .select_from(flights_t.outerjoin(points_t, points_t.c.flight_id == flights_t.c.id))
+    .group_by(flights_t.c.id)
 )
 
-_INSERT_POINT: Final = (
-    "INSERT INTO points (flight_id, point, included, values_json) VALUES (?, ?, ?, ?)"
-)
+_POINT_COLUMNS: Final = (
+    points_t.c.flight_id, points_t.c.point, points_t.c.included, points_t.c.values_json)
+
 
 class Store:
     """The open flight-history database; get one from :func:`open_store`.
 
     Parameters
     ----------
-    path : Path
-        The database file.
-    conn : sqlite3.Connection
-        An open connection in autocommit mode (transactions are explicit).
+    path : Path or str
+        The database file, or the server URL (without password).
+    conn : sqlalchemy.Connection
+        An open connection; transactions are explicit.
+    kind : {"sqlite", "postgresql"}
+        The engine.
     """
 
-    def __init__(self, path: Path, conn: sqlite3.Connection) -> None:
+    def __init__(self, path: Path | str, conn: sa.Connection, *, kind: str = "sqlite") -> None:
         self.path = path
+        self.kind = kind
         self._conn = conn
+        self._insert: Callable[..., Any] = (
+            pg_dialect.insert if kind == "postgresql" else sqlite_dialect.insert)
 
     def __repr__(self) -> str:
         return f"Store({str(self.path)!r})"
@@ -375,50 +437,198 @@ class Store:
 
     def close(self) -> None:
         """Close the connection (the database stays as last committed)."""
+        engine = self._conn.engine
         self._conn.close()
+        engine.dispose()
+
+    @property
+    def location(self) -> str:
+        """Which store this is, for people: ``SQLite file ...`` or ``PostgreSQL database ...``."""
+        if self.kind == "sqlite":
+            return f"SQLite file {self.path}"
+        url = sa.make_url(str(self.path))
+        server = f"{url.host or 'local socket'}" + (f":{url.port}" if url.port else "")
+        who = f" as {url.username}" if url.username else ""
+        return f"PostgreSQL database {url.database or '(default)'} on {server}{who}"
 
     @property
     def schema_version(self) -> int:
         """Schema version of the open database (always :data:`SCHEMA_VERSION`)."""
-        return int(self._conn.execute("PRAGMA user_version").fetchone()[0])
+        with self._read("read the schema version"):
+            return self._inspect()[1]
+
+    # -- opening, migrating ------------------------------------------------------
+
+    def _inspect(self) -> tuple[int, int]:
+        """Read the application id (SQLite) and schema version, writing nothing.
+
+        Refuses a database of another program, a damaged one and a newer one.
+        """
+        c = self._conn
+        try:
+            tables = set(sa.inspect(c).get_table_names()) - {_PG_VERSION_TABLE}
+            if self.kind == "sqlite":
+                app_id = c.exec_driver_sql("PRAGMA application_id").scalar_one()
+                version = c.exec_driver_sql("PRAGMA user_version").scalar_one()
+                tables = {t for t in tables if not t.startswith("sqlite_")}
+            else:
+                app_id, version = self._pg_version(c)
+        except sa.exc.DBAPIError as exc:
+            if c.in_transaction():
+                c.rollback()
+            what = "an SQLite database" if self.kind == "sqlite" else "a trimlog database"
+            raise StoreError(
+                f"{self.path}: damaged or not {what} ({_reason(exc)}); it was left untouched"
+            ) from None
+        if app_id == APPLICATION_ID:
+            if version > SCHEMA_VERSION:
+                raise StoreError(
+                    f"{self.path}: written by a newer trimlog (schema version {version}; this "
+                    f"trimlog {trimlog.__version__} reads up to {SCHEMA_VERSION}); upgrade trimlog"
+                )
+            if missing := _tables_at(version) - tables:
+                raise StoreError(
+                    f"{self.path}: damaged trimlog database: schema version {version} but tables "
+                    f"{sorted(missing)} are missing; it was left untouched"
+                )
+        elif tables or version or app_id:
+            shown = ", ".join(sorted(tables)[:8]) + (", ..." if len(tables) > 8 else "")
+            what = "an SQLite database" if self.kind == "sqlite" else "a database"
+            raise StoreError(
+                f"{self.path}: {what} of another program (tables: {shown or 'none'}; "
+                f"application id {app_id:#x}, user version {version}), not a trimlog history; "
+                "it was left untouched"
+            )
+        return app_id, version
+
+    @staticmethod
+    def _pg_version(c: sa.Connection) -> tuple[int, int]:
+        if not sa.inspect(c).has_table(_PG_VERSION_TABLE):
+            return 0, 0
+        row = c.execute(sa.text(f"SELECT application, version FROM {_PG_VERSION_TABLE}")).first()
+        if row is None:
+            return 0, 0
+        return (APPLICATION_ID if row[0] == "trimlog" else -1), int(row[1])
+
+    def _initialise_or_migrate(self) -> None:
+        """Create a new database or bring an older one to :data:`SCHEMA_VERSION`."""
+        with self._write("create or migrate the history database") as c:
+            if self.kind == "postgresql":
+                c.execute(sa.text("SELECT pg_advisory_xact_lock(:k)"), {"k": _PG_MIGRATION_LOCK})
+            # Another process may have initialised or migrated it meanwhile: look again.
+            _, version = self._inspect()
+            for created, dropped in _MIGRATIONS[version:SCHEMA_VERSION]:
+                for table in created:
+                    table.create(c)
+                for table in dropped:
+                    table.drop(c)
+            if self.kind == "sqlite":
+                c.exec_driver_sql(f"PRAGMA application_id = {APPLICATION_ID}")
+                c.exec_driver_sql(f"PRAGMA user_version = {SCHEMA_VERSION}")
+            else:
+                c.execute(sa.text(f"CREATE TABLE IF NOT EXISTS {_PG_VERSION_TABLE} "
+                                  "(application TEXT NOT NULL, version INTEGER NOT NULL)"))
+                c.execute(sa.text(f"DELETE FROM {_PG_VERSION_TABLE}"))
+                c.execute(sa.text(f"INSERT INTO {_PG_VERSION_TABLE} VALUES ('trimlog', :v)"),
+                          {"v": SCHEMA_VERSION})
+
+    def _check_writable(self, hint: str) -> None:
+        """SQLite: fail now, not at the first import, when the file cannot be written."""
+        # BEGIN IMMEDIATE alone succeeds on a read-only file; a rolled-back header write does not.
+        c = self._conn
+        try:
+            c.exec_driver_sql("BEGIN IMMEDIATE")
+            c.exec_driver_sql(f"PRAGMA user_version = {SCHEMA_VERSION}")
+            c.rollback()
+        except sa.exc.DBAPIError as exc:
+            c.rollback()
+            raise StoreError(
+                f"{self.path}: the history database cannot be written ({_reason(exc)}: read-only "
+                f"location or permission denied); {hint}"
+            ) from None
+
+    # -- transactions -------------------------------------------------------------
+
+    def _failure(self, exc: sa.exc.SQLAlchemyError, what: str, *, wrote: bool) -> StoreError:
+        orig = getattr(exc, "orig", None)
+        if getattr(orig, "sqlstate", None) == _PERMISSION_DENIED:
+            user = sa.make_url(str(self.path)).username if self.kind == "postgresql" else None
+            return StoreError(
+                f"{self.location}: permission denied: the role {user or '(default)'} may read "
+                f"this history but not {what} (importing, excluding points and restoring need a "
+                "role with write rights; see 'Roles' in DEVELOPERS.md); nothing changed")
+        reason = _reason(exc) if isinstance(exc, sa.exc.DBAPIError) else str(exc)
+        tail = "; nothing changed" if wrote else ""
+        return StoreError(f"{self.path}: failed to {what} ({reason}){tail}")
 
     @contextmanager
-    def _write(self, what: str) -> Iterator[sqlite3.Connection]:
-        """One ``BEGIN IMMEDIATE`` transaction: all of it is committed, or none."""
+    def _write(self, what: str) -> Iterator[sa.Connection]:
+        """One write transaction: all of it is committed, or none."""
+        c = self._conn
+        if c.in_transaction():
+            raise StoreError(f"{self.path}: cannot {what} inside a read snapshot")
         try:
-            self._conn.execute("BEGIN IMMEDIATE")
-        except sqlite3.Error as exc:
-            raise StoreError(f"{self.path}: cannot start to {what} ({exc})") from exc
+            if self.kind == "sqlite":
+                c.exec_driver_sql("BEGIN IMMEDIATE")
+            else:
+                c.begin()
+        except sa.exc.DBAPIError as exc:
+            c.rollback()
+            raise StoreError(f"{self.path}: cannot start to {what} ({_reason(exc)})") from None
         try:
-            yield self._conn
-            self._conn.execute("COMMIT")
+            yield c
+            c.commit()
         except BaseException as exc:
-            if self._conn.in_transaction:
-                self._conn.execute("ROLLBACK")
-            if isinstance(exc, sqlite3.Error):
-                raise StoreError(f"{self.path}: failed to {what} ({exc}); nothing changed") from exc
+            c.rollback()
+            if isinstance(exc, sa.exc.SQLAlchemyError):
+                raise self._failure(exc, what, wrote=True) from None
             raise
 
     @contextmanager
-    def _read(self, what: str) -> Iterator[sqlite3.Connection]:
-        """Run several queries in one read transaction (or in the one already open)."""
-        outer = self._conn.in_transaction
+    def reading(self, what: str = "read the history") -> Iterator[Store]:
+        """Run several reads in one consistent snapshot (or in the transaction already open).
+
+        A flight committed by another process while the block runs is not
+        seen in it, so a trend or listing never sees part of an import.
+
+        Examples
+        --------
+        >>> with open_store(":memory:") as s, s.reading():   # doctest: +SKIP
+        ...     flights, points = s.flights(1), s.all_points(1)
+        """
+        with self._read(what):
+            yield self
+
+    @contextmanager
+    def _read(self, what: str) -> Iterator[sa.Connection]:
+        c = self._conn
+        if c.in_transaction():
+            yield c
+            return
         try:
-            if not outer:
-                self._conn.execute("BEGIN")
-            yield self._conn
+            if self.kind == "sqlite":
+                c.exec_driver_sql("BEGIN")
+            else:
+                c.exec_driver_sql("SET TRANSACTION ISOLATION LEVEL REPEATABLE READ, READ ONLY")
+            yield c
         except BaseException as exc:
-            if not outer and self._conn.in_transaction:
-                self._conn.rollback()
-            if isinstance(exc, sqlite3.Error):
-                raise StoreError(f"{self.path}: failed to {what} ({exc})") from exc
+            c.rollback()
+            if isinstance(exc, sa.exc.SQLAlchemyError):
+                raise self._failure(exc, what, wrote=False) from None
             raise
         else:
-            if not outer and self._conn.in_transaction:
-                try:
-                    self._conn.execute("COMMIT")
-                except sqlite3.Error as exc:
-                    raise StoreError(f"{self.path}: failed to {what} ({exc})") from exc
+            try:
+                c.commit()
+            except sa.exc.SQLAlchemyError as exc:
+                raise self._failure(exc, what, wrote=False) from None
+
+    def _lock_aircraft(self, c: sa.Connection, aircraft_id: int) -> None:
+        """Queue writers of one aircraft (PostgreSQL row lock; SQLite's writers queue anyway)."""
+        row = c.execute(
+            sa.select(aircraft_t.c.id).where(aircraft_t.c.id == aircraft_id).with_for_update()
+        ).first()
+        if row is None:
+            raise StoreError(f"{self.path}: no aircraft with id {aircraft_id!r}")
 
     # -- aircraft ---------------------------------------------------------------
 
@@ -444,56 +654,42 @@ class Store:
             raise StoreError(f"profile of '{name}': expected TOML text, found None")
         digest = sha256_hex(profile_text)
         with self._write(f"store the profile of '{name}'") as c:
-            row = c.execute("SELECT id FROM aircraft WHERE name = ?", (name,)).fetchone()
             now = _now()
-            if row is None:
-                aircraft_id = c.execute(
-                    "INSERT INTO aircraft (name, created_at) VALUES (?, ?)", (name, now)
-                ).lastrowid
-                latest = (0, None)
-            else:
-                aircraft_id = row[0]
-                latest = c.execute(
-                    "SELECT version, sha256 FROM aircraft_profiles WHERE aircraft_id = ? "
-                    "ORDER BY version DESC LIMIT 1", (aircraft_id,),
-                ).fetchone()
+            c.execute(self._insert(aircraft_t).values(name=name, created_at=now)
+                      .on_conflict_do_nothing(index_elements=["name"]))
+            aircraft_id = c.execute(
+                sa.select(aircraft_t.c.id).where(aircraft_t.c.name == name).with_for_update()
+            ).scalar_one()
+            latest = c.execute(
+                sa.select(profiles_t.c.version, profiles_t.c.sha256)
+                .where(profiles_t.c.aircraft_id == aircraft_id)
+                .order_by(profiles_t.c.version.desc()).limit(1)
+            ).first() or (0, None)
             if latest[1] != digest:
-                c.execute(
-                    "INSERT INTO aircraft_profiles (aircraft_id, version, profile_text, sha256, "
-                    "imported_at) VALUES (?, ?, ?, ?, ?)",
-                    (aircraft_id, latest[0] + 1, profile_text, digest, now),
-                )
+                c.execute(sa.insert(profiles_t).values(
+                    aircraft_id=aircraft_id, version=latest[0] + 1, profile_text=profile_text,
+                    sha256=digest, imported_at=now))
         return self.get_aircraft(aircraft_id)
 
     def aircraft_list(self) -> list[AircraftRecord]:
         """Return every aircraft with its current profile, by name."""
         with self._read("list the aircraft") as c:
-            rows = c.execute(_AIRCRAFT_SELECT + " ORDER BY a.name").fetchall()
+            rows = c.execute(_AIRCRAFT_SELECT.order_by(aircraft_t.c.name)).all()
         return [AircraftRecord(*r) for r in rows]
 
     def find_aircraft(self, name: str) -> AircraftRecord | None:
         """Return the aircraft of this name, or None."""
         with self._read(f"find aircraft '{name}'") as c:
-            row = c.execute(_AIRCRAFT_SELECT + " AND a.name = ?", (name,)).fetchone()
+            row = c.execute(_AIRCRAFT_SELECT.where(aircraft_t.c.name == name)).first()
         return AircraftRecord(*row) if row else None
 
     def get_aircraft(self, aircraft_id: int) -> AircraftRecord:
         """Return aircraft ``aircraft_id``; StoreError if there is none."""
         with self._read(f"read aircraft {aircraft_id}") as c:
-            row = c.execute(_AIRCRAFT_SELECT + " AND a.id = ?", (aircraft_id,)).fetchone()
+            row = c.execute(_AIRCRAFT_SELECT.where(aircraft_t.c.id == aircraft_id)).first()
         if row is None:
             raise StoreError(f"{self.path}: no aircraft with id {aircraft_id!r}")
         return AircraftRecord(*row)
-
-    def profile_versions(self, aircraft_id: int) -> list[ProfileVersion]:
-        """Return every stored profile version of an aircraft, oldest first."""
-        self.get_aircraft(aircraft_id)
-        with self._read(f"read the profiles of aircraft {aircraft_id}") as c:
-            rows = c.execute(
-                "SELECT aircraft_id, version, profile_text, sha256, imported_at "
-                "FROM aircraft_profiles WHERE aircraft_id = ? ORDER BY version", (aircraft_id,),
-            ).fetchall()
-        return [ProfileVersion(*r) for r in rows]
 
     # -- flights ----------------------------------------------------------------
 
@@ -515,9 +711,11 @@ class Store:
         """Store one flight: its raw log bytes, its points and what is known of it.
 
         Idempotent: bytes already stored for this aircraft (same SHA-256) are
-        not stored again; the outcome names the flight that holds them.  The
-        import is one transaction: interrupted at any moment, it leaves the
-        database as it was.
+        not stored again; the outcome names the flight that holds them.  Two
+        processes importing the same bytes at once make one flight (a unique
+        constraint and an insert that does nothing on conflict).  The import
+        is one transaction: interrupted at any moment, it leaves the database
+        as it was.
 
         Parameters
         ----------
@@ -550,7 +748,8 @@ class Store:
         Raises
         ------
         StoreError
-            Unknown aircraft, empty bytes, points or details that cannot be stored.
+            Unknown aircraft, empty bytes, points or details that cannot be
+            stored, a role without write rights.
         """
         raw = check_log(raw, filename)
         schema, rows = encode_points(points, f"{filename}, points")
@@ -561,35 +760,30 @@ class Store:
         values = encode_details(details, filename)
         digest = sha256_hex(raw)
         aircraft = self.get_aircraft(aircraft_id)
+        f = flights_t.c
         with self._write(f"import {filename}") as c:
-            old = c.execute(
-                "SELECT id, filename, imported_at FROM flights "
-                "WHERE aircraft_id = ? AND sha256 = ?",
-                (aircraft_id, digest),
-            ).fetchone()
-            if old is None:
-                version = c.execute(
-                    "SELECT MAX(version) FROM aircraft_profiles WHERE aircraft_id = ?",
-                    (aircraft_id,),
-                ).fetchone()[0]
-                order = c.execute(
-                    "SELECT COALESCE(MAX(flight_order), 0) + 1 FROM flights WHERE aircraft_id = ?",
-                    (aircraft_id,),
-                ).fetchone()[0]
-                flight_id = c.execute(
-                    _INSERT_FLIGHT,
-                    {
-                        "id": None, "aircraft_id": aircraft_id, "flight_order": order,
-                        "sha256": digest, "filename": filename, "size_bytes": len(raw), **values,
-                        "profile_version": version, "points_columns": json.dumps(schema),
-                        "imported_at": _now(),
-                    },
-                ).lastrowid
-                c.execute("INSERT INTO raw_logs (flight_id, raw) VALUES (?, ?)", (flight_id, raw))
-                c.executemany(
-                    _INSERT_POINT, [(flight_id, *r) for r in rows],
-                )
-        if old is not None:
+            self._lock_aircraft(c, aircraft_id)
+            version = c.execute(sa.select(sa.func.max(profiles_t.c.version))
+                                .where(profiles_t.c.aircraft_id == aircraft_id)).scalar_one()
+            order = c.execute(sa.select(sa.func.coalesce(sa.func.max(f.flight_order), 0) + 1)
+                              .where(f.aircraft_id == aircraft_id)).scalar_one()
+            flight_id = c.execute(
+                self._insert(flights_t).values(
+                    aircraft_id=aircraft_id, flight_order=order, sha256=digest,
+                    filename=filename, size_bytes=len(raw), **values, profile_version=version,
+                    points_columns=json.dumps(schema), imported_at=_now(),
+                ).on_conflict_do_nothing(index_elements=["aircraft_id", "sha256"]).returning(f.id)
+            ).scalar_one_or_none()
+            if flight_id is None:
+                old = c.execute(sa.select(f.id, f.filename, f.imported_at).where(
+                    f.aircraft_id == aircraft_id, f.sha256 == digest)).one()
+            else:
+                c.execute(sa.insert(raw_logs_t).values(flight_id=flight_id, raw=raw))
+                if rows:
+                    c.execute(sa.insert(points_t), [
+                        {"flight_id": flight_id, "point": p, "included": inc, "values_json": v}
+                        for p, inc, v in rows])
+        if flight_id is None:
             given = [k for k, v in details.items() if v is not None]
             ignored = (
                 f"; the details given now ({', '.join(given)}) were not applied: "
@@ -609,8 +803,7 @@ class Store:
     def flight(self, flight_id: int) -> FlightRecord:
         """Return flight ``flight_id``; StoreError if there is none."""
         with self._read(f"read flight {flight_id}") as c:
-            row = c.execute(f"{_FLIGHT_SELECT} WHERE f.id = ? GROUP BY f.id", (flight_id,))
-            row = row.fetchone()
+            row = c.execute(_FLIGHT_SELECT.where(flights_t.c.id == flight_id)).first()
         if row is None:
             raise StoreError(f"{self.path}: no flight with id {flight_id!r}")
         return flight_record(row)
@@ -619,10 +812,9 @@ class Store:
         """Return the flights of an aircraft in flight order (one query)."""
         with self._read(f"list the flights of aircraft {aircraft_id}") as c:
             rows = c.execute(
-                f"{_FLIGHT_SELECT} WHERE f.aircraft_id = ? "
-                "GROUP BY f.id ORDER BY f.flight_order, f.id",
-                (aircraft_id,),
-            ).fetchall()
+                _FLIGHT_SELECT.where(flights_t.c.aircraft_id == aircraft_id)
+                .order_by(flights_t.c.flight_order, flights_t.c.id)
+            ).all()
         return [flight_record(r) for r in rows]
 
     def flight_points(self, flight_id: int) -> pd.DataFrame:
@@ -633,16 +825,13 @@ class Store:
         fresh RangeIndex.
         """
         with self._read(f"read the points of flight {flight_id}") as c:
-            row = c.execute(
-                "SELECT points_columns FROM flights WHERE id = ?", (flight_id,)
-            ).fetchone()
-            if row is None:
+            cols = c.execute(sa.select(flights_t.c.points_columns)
+                             .where(flights_t.c.id == flight_id)).scalar_one_or_none()
+            if cols is None:
                 raise StoreError(f"{self.path}: no flight with id {flight_id!r}")
-            rows = c.execute(
-                "SELECT flight_id, point, included, values_json FROM points WHERE flight_id = ? "
-                "ORDER BY point", (flight_id,),
-            ).fetchall()
-        return decode_points({flight_id: json.loads(row[0])}, rows, with_flight_id=False)
+            rows = c.execute(sa.select(*_POINT_COLUMNS).where(points_t.c.flight_id == flight_id)
+                             .order_by(points_t.c.point)).all()
+        return decode_points({flight_id: json.loads(cols)}, rows, with_flight_id=False)
 
     def all_points(self, aircraft_id: int) -> pd.DataFrame:
         """Return the points of every flight of an aircraft, in flight order.
@@ -650,28 +839,28 @@ class Store:
         A ``flight_id`` column comes first.  A column some flights lack is
         missing (NaN/NA) there, and whole numbers then become floats.
         """
+        f = flights_t.c
         with self._read(f"read the points of aircraft {aircraft_id}") as c:
             schemas = {
-                fid: json.loads(cols)
-                for fid, cols in c.execute(
-                    "SELECT id, points_columns FROM flights WHERE aircraft_id = ?", (aircraft_id,)
-                )
+                fid: json.loads(cols) for fid, cols in c.execute(
+                    sa.select(f.id, f.points_columns).where(f.aircraft_id == aircraft_id))
             }
             rows = c.execute(
-                "SELECT p.flight_id, p.point, p.included, p.values_json "
-                "FROM points p JOIN flights f ON f.id = p.flight_id WHERE f.aircraft_id = ? "
-                "ORDER BY f.flight_order, f.id, p.point", (aircraft_id,),
-            ).fetchall()
+                sa.select(*_POINT_COLUMNS).join(flights_t, f.id == points_t.c.flight_id)
+                .where(f.aircraft_id == aircraft_id)
+                .order_by(f.flight_order, f.id, points_t.c.point)
+            ).all()
         return decode_points(schemas, rows, with_flight_id=True)
 
     def set_point_included(self, flight_id: int, point: int, included: bool) -> None:
         """Record the user's choice to include or exclude one point (kept, never deleted)."""
         if not isinstance(included, bool | np.bool_):
             raise StoreError(f"flight {flight_id}, point {point}: included must be True or False")
-        with self._write(f"change point {point} of flight {flight_id}") as c:
+        state = "include" if included else "exclude"
+        with self._write(f"{state} point {point} of flight {flight_id}") as c:
             n = c.execute(
-                "UPDATE points SET included = ? WHERE flight_id = ? AND point = ?",
-                (int(included), flight_id, point),
+                sa.update(points_t).values(included=int(included))
+                .where(points_t.c.flight_id == flight_id, points_t.c.point == point)
             ).rowcount
             if n == 0:
                 raise StoreError(f"{self.path}: flight {flight_id!r} has no point {point!r}")
@@ -679,10 +868,11 @@ class Store:
     def raw_bytes(self, flight_id: int) -> bytes:
         """Return the log of a flight exactly as uploaded."""
         with self._read(f"read the log of flight {flight_id}") as c:
-            row = c.execute("SELECT raw FROM raw_logs WHERE flight_id = ?", (flight_id,)).fetchone()
-        if row is None:
+            raw = c.execute(sa.select(raw_logs_t.c.raw)
+                            .where(raw_logs_t.c.flight_id == flight_id)).scalar_one_or_none()
+        if raw is None:
             raise StoreError(f"{self.path}: no flight with id {flight_id!r}")
-        return bytes(row[0])
+        return bytes(raw)
 
     def update_flight(
         self,
@@ -720,65 +910,12 @@ class Store:
             changes["flight_order"] = int(flight_order)
         if changes:
             # Column names come from FLIGHT_FIELDS, never from the caller.
-            assignments = ", ".join(f"{col} = :{col}" for col in changes)
             with self._write(f"update {where}") as c:
-                n = c.execute(
-                    f"UPDATE flights SET {assignments} WHERE id = :flight_id",
-                    {**changes, "flight_id": flight_id},
-                ).rowcount
+                n = c.execute(sa.update(flights_t).values(**changes)
+                              .where(flights_t.c.id == flight_id)).rowcount
                 if n == 0:
                     raise StoreError(f"{self.path}: no flight with id {flight_id!r}")
         return self.flight(flight_id)
-
-    # -- analyses ---------------------------------------------------------------
-
-    def save_analysis(
-        self, aircraft_id: int, flight_ids: Sequence[int], result: Mapping[str, Any]
-    ) -> int:
-        """Keep an analysis result with the software and profile version that made it.
-
-        Parameters
-        ----------
-        aircraft_id : int
-            The aircraft analysed.
-        flight_ids : sequence of int
-            The stored flights used, all of this aircraft.
-        result : mapping
-            JSON-serialisable result (numpy scalars and arrays are accepted);
-            NaN or infinity is refused (give None for a missing number).
-
-        Returns
-        -------
-        int
-            The id of the saved analysis.
-        """
-        ids = [int(i) for i in flight_ids]
-        if not isinstance(result, Mapping):
-            raise StoreError(f"analysis result: expected a mapping, found {type(result).__name__}")
-        text = dumps_json(result, "analysis result")
-        version = self.get_aircraft(aircraft_id).profile_version
-        with self._write(f"save an analysis of aircraft {aircraft_id}") as c:
-            known = {r[0] for r in c.execute("SELECT id FROM flights WHERE aircraft_id = ?",
-                                             (aircraft_id,))}
-            if foreign := sorted(set(ids) - known):
-                raise StoreError(
-                    f"{self.path}: flights {foreign} are not flights of aircraft {aircraft_id}"
-                )
-            return c.execute(
-                "INSERT INTO analyses (aircraft_id, created_at, software_version, profile_version, "
-                "flight_ids_json, result_json) VALUES (?, ?, ?, ?, ?, ?)",
-                (aircraft_id, _now(), trimlog.__version__, version, json.dumps(ids), text),
-            ).lastrowid
-
-    def latest_analysis(self, aircraft_id: int) -> AnalysisRecord | None:
-        """Return the most recently saved analysis of an aircraft, or None."""
-        with self._read(f"read the analyses of aircraft {aircraft_id}") as c:
-            row = c.execute(
-                "SELECT id, aircraft_id, created_at, software_version, profile_version, "
-                "flight_ids_json, result_json FROM analyses WHERE aircraft_id = ? "
-                "ORDER BY id DESC LIMIT 1", (aircraft_id,),
-            ).fetchone()
-        return analysis_record(row) if row else None
 
     # -- export, restore, backup ------------------------------------------------
 
@@ -786,12 +923,14 @@ class Store:
         """Write everything as CSV (for people and spreadsheets) and JSON (lossless).
 
         Files: ``trimlog-history.json`` (all aircraft with every profile
-        version, flights with their raw bytes in base64, points, analyses;
-        what :meth:`import_export` reads), and ``aircraft.csv``,
-        ``flights.csv``, ``points.csv``, ``analyses.csv``.  Text cells of the
+        version, flights with their raw bytes in base64, points; what
+        :meth:`import_export` reads), and ``aircraft.csv``, ``flights.csv``,
+        ``points.csv``, ``analyses.csv`` (empty: results are recomputed, not
+        stored; kept for scripts reading the export).  Text cells of the
         CSVs starting with ``=``, ``+``, ``-``, ``@``, tab or carriage return
         get a leading apostrophe so a spreadsheet shows them instead of
-        running them; numbers are written as numbers.
+        running them; numbers are written as numbers.  The same on both
+        engines, from one snapshot.
 
         Parameters
         ----------
@@ -805,39 +944,37 @@ class Store:
         """
         out = Path(directory)
         check_export_folder(out)
-        with self._read("read the history for export") as c:
-            doc = self._export_document(c)
+        with self._read("read the history for export"):
+            doc = self._export_document()
             aircraft = self.aircraft_list()
             flights = [f for a in aircraft for f in self.flights(a.id)]
             points = [self.all_points(a.id) for a in aircraft]
         return write_export(out, doc, export_tables(aircraft, flights, points, doc["analyses"]))
 
-    def _export_document(self, c: sqlite3.Connection) -> dict[str, Any]:
-        """Everything in the database as one JSON-ready dict."""
+    def _export_document(self) -> dict[str, Any]:
+        """Everything in the database as one JSON-ready dict (inside a read transaction)."""
+        c, p, f = self._conn, profiles_t.c, flights_t.c
         return export_document(
-            aircraft=c.execute("SELECT id, name, created_at FROM aircraft ORDER BY id"),
-            profiles=c.execute(
-                "SELECT aircraft_id, version, profile_text, sha256, imported_at "
-                "FROM aircraft_profiles ORDER BY aircraft_id, version"),
+            aircraft=c.execute(sa.select(aircraft_t).order_by(aircraft_t.c.id)),
+            profiles=c.execute(sa.select(p.aircraft_id, p.version, p.profile_text, p.sha256,
+                                         p.imported_at).order_by(p.aircraft_id, p.version)),
             flights=c.execute(
-                f"SELECT {', '.join('f.' + k for k in _FLIGHT_COLUMNS)}, r.raw "
-                "FROM flights f JOIN raw_logs r ON r.flight_id = f.id ORDER BY f.id"),
-            points=c.execute(
-                "SELECT flight_id, point, included, values_json FROM points "
-                "ORDER BY flight_id, point"),
-            analyses=map(analysis_record, c.execute(
-                "SELECT id, aircraft_id, created_at, software_version, profile_version, "
-                "flight_ids_json, result_json FROM analyses ORDER BY id")),
-            flight_columns=_FLIGHT_COLUMNS, schema_version=SCHEMA_VERSION,
+                sa.select(*(f[k] for k in _FLIGHT_COLUMNS), raw_logs_t.c.raw)
+                .join(raw_logs_t, raw_logs_t.c.flight_id == f.id).order_by(f.id)),
+            points=c.execute(sa.select(*_POINT_COLUMNS)
+                             .order_by(points_t.c.flight_id, points_t.c.point)),
+            analyses=(), flight_columns=_FLIGHT_COLUMNS, schema_version=SCHEMA_VERSION,
             software_version=trimlog.__version__, exported_at=_now(),
         )
 
     def import_export(self, directory: str | Path) -> RestoreSummary:
         """Bring an :meth:`export` into this database, which must be empty.
 
-        Ids, profile versions, raw bytes, points with their choices, analyses
-        and timestamps come back exactly; each log's SHA-256 is checked
-        against its bytes.  All in one transaction.
+        Ids, profile versions, raw bytes, points with their choices and
+        timestamps come back exactly, on either engine; each log's SHA-256
+        is checked against its bytes.  All in one transaction.  Analysis
+        results of older exports are not restored (results are recomputed
+        from the flights); their number is reported in ``n_analyses``.
 
         Parameters
         ----------
@@ -849,57 +986,58 @@ class Store:
         RestoreSummary
         """
         src, doc = read_export(directory)
+        return self._restore(doc, src)
+
+    def _restore(self, doc: Mapping[str, Any], src: Path | str) -> RestoreSummary:
         n_points = 0
         with self._write(f"restore {src}") as c:
-            if c.execute("SELECT COUNT(*) FROM aircraft").fetchone()[0]:
+            if c.execute(sa.select(sa.func.count()).select_from(aircraft_t)).scalar_one():
                 raise StoreError(
                     f"{self.path}: already holds aircraft; restore {src} into an empty database")
             try:
                 for a in doc["aircraft"]:
-                    c.execute("INSERT INTO aircraft (id, name, created_at) VALUES (?, ?, ?)",
-                              (a["id"], a["name"], a["created_at"]))
-                    c.executemany(
-                        "INSERT INTO aircraft_profiles (aircraft_id, version, profile_text, "
-                        "sha256, imported_at) VALUES (?, ?, ?, ?, ?)",
-                        [(a["id"], p["version"], p["text"], p["sha256"], p["imported_at"])
-                         for p in a["profiles"]],
-                    )
+                    c.execute(sa.insert(aircraft_t).values(
+                        id=a["id"], name=a["name"], created_at=a["created_at"]))
+                    c.execute(sa.insert(profiles_t), [
+                        {"aircraft_id": a["id"], "version": p["version"],
+                         "profile_text": p["text"], "sha256": p["sha256"],
+                         "imported_at": p["imported_at"]} for p in a["profiles"]])
                 for f in doc["flights"]:
                     raw = decode_raw(f, src)
                     loading = f["loading_json"]
-                    c.execute(_INSERT_FLIGHT, {
+                    c.execute(sa.insert(flights_t).values({
                         **{k: f[k] for k in _FLIGHT_COLUMNS},
                         "points_columns": json.dumps(f["points_columns"]),
                         "loading_json": None if loading is None else json.dumps(loading),
-                    })
-                    c.execute("INSERT INTO raw_logs (flight_id, raw) VALUES (?, ?)", (f["id"], raw))
-                    c.executemany(
-                        _INSERT_POINT,
-                        [(f["id"], p, int(bool(inc)), json.dumps(v))
-                         for p, inc, v in f["points"]],
-                    )
+                    }))
+                    c.execute(sa.insert(raw_logs_t).values(flight_id=f["id"], raw=raw))
+                    if f["points"]:
+                        c.execute(sa.insert(points_t), [
+                            {"flight_id": f["id"], "point": p, "included": int(bool(inc)),
+                             "values_json": json.dumps(v)} for p, inc, v in f["points"]])
                     n_points += len(f["points"])
-                c.executemany(
-                    "INSERT INTO analyses (id, aircraft_id, created_at, software_version, "
-                    "profile_version, flight_ids_json, result_json) VALUES (?, ?, ?, ?, ?, ?, ?)",
-                    [(a["id"], a["aircraft_id"], a["created_at"], a["software_version"],
-                      a["profile_version"], json.dumps(a["flight_ids"]),
-                      json.dumps(a["result"]))
-                     for a in doc["analyses"]],
-                )
+                n_analyses = len(doc.get("analyses") or ())
             except (KeyError, TypeError, ValueError) as exc:
                 if isinstance(exc, StoreError):
                     raise
                 raise StoreError(
                     f"{src}: malformed export ({type(exc).__name__}: {exc}); nothing was restored"
                 ) from exc
-        return RestoreSummary(
-            len(doc["aircraft"]), len(doc["flights"]), n_points, len(doc["analyses"]))
+            if self.kind == "postgresql":
+                # Explicit ids do not move the id sequences: bring them past the restored ids.
+                for table in ("aircraft", "flights"):
+                    c.execute(sa.text(
+                        f"SELECT setval(pg_get_serial_sequence('{table}', 'id'), "
+                        f"COALESCE(MAX(id), 0) + 1, false) FROM {table}"))
+        return RestoreSummary(len(doc["aircraft"]), len(doc["flights"]), n_points, n_analyses)
 
     def backup(self, dest: str | Path) -> Path:
-        """Copy the whole database to a new file with SQLite's online backup.
+        """Copy the whole history to a new SQLite file.
 
-        Safe while other processes write; the copy is a complete database
+        SQLite: the online backup API (safe while other processes write).
+        PostgreSQL: everything, read in one snapshot, written into a new
+        trimlog SQLite file (the server's own ``pg_dump`` remains the
+        administrator's tool).  Either way the copy is a complete database
         that :func:`open_store` opens.
 
         Parameters
@@ -914,13 +1052,25 @@ class Store:
         target = Path(dest)
         if target.exists():
             raise StoreError(f"{target}: already exists; a backup never overwrites a file")
+        if self.kind == "postgresql":
+            with self._read("read the history for backup"):
+                doc = self._export_document()
+            try:
+                with _open_file(target) as copy:
+                    copy._restore(doc, str(self.path))
+            except BaseException:
+                for leftover in (target, *(target.with_name(target.name + s)
+                                           for s in ("-wal", "-shm"))):
+                    leftover.unlink(missing_ok=True)
+                raise
+            return target
         try:
             target.parent.mkdir(parents=True, exist_ok=True)
             copy = sqlite3.connect(target)
         except (OSError, sqlite3.Error) as exc:
             raise StoreError(f"{target}: cannot create the backup ({exc})") from exc
         try:
-            self._conn.backup(copy)
+            self._conn.connection.dbapi_connection.backup(copy)
         except sqlite3.Error as exc:
             copy.close()
             target.unlink(missing_ok=True)
@@ -929,11 +1079,23 @@ class Store:
         return target
 
     def check(self) -> list[str]:
-        """Run SQLite's integrity and foreign-key checks; return the problems (none: [])."""
+        """Check the database; return the problems (none: []).
+
+        Every stored log is checked against its SHA-256 and size; on SQLite
+        also the integrity and foreign-key checks (PostgreSQL enforces its
+        foreign keys itself).
+        """
+        problems: list[str] = []
         with self._read("check the database") as c:
-            problems = [r[0] for r in c.execute("PRAGMA integrity_check") if r[0] != "ok"]
-            problems += [
-                f"table {r[0]} row {r[1]} refers to a missing {r[2]} row"
-                for r in c.execute("PRAGMA foreign_key_check")
-            ]
+            if self.kind == "sqlite":
+                problems += [r[0] for r in c.exec_driver_sql("PRAGMA integrity_check")
+                             if r[0] != "ok"]
+                problems += [f"table {r[0]} row {r[1]} refers to a missing {r[2]} row"
+                             for r in c.exec_driver_sql("PRAGMA foreign_key_check")]
+            f = flights_t.c
+            for fid, digest, size, raw in c.execute(
+                    sa.select(f.id, f.sha256, f.size_bytes, raw_logs_t.c.raw)
+                    .join(raw_logs_t, raw_logs_t.c.flight_id == f.id)):
+                if sha256_hex(bytes(raw)) != digest or len(raw) != size:
+                    problems.append(f"flight {fid}: the stored log does not match its SHA-256")
         return problems
