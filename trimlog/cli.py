@@ -301,7 +301,9 @@ def _add_db(p: argparse.ArgumentParser, *, choose_aircraft: bool = False) -> Non
     p.add_argument(
         "--db",
         metavar="DB",
-        help="history database (default: $TRIMLOG_DB, else the user data directory)",
+        help="history database: a file (SQLite), or postgresql://user@host:port/dbname for a "
+        "shared server (password from PGPASSWORD, ~/.pgpass or a service file, never here); "
+        "default: $TRIMLOG_DB, else the user data directory",
     )
     if choose_aircraft:
         p.add_argument(
@@ -604,8 +606,10 @@ def _run_flights(args: argparse.Namespace) -> int:
 
     with _open_store(args.db, must_exist=True) as st:
         listing = history.flight_listing(st, args.aircraft_name)
+        where = st.location
     if args.json:
         _write_json(args.json, listing)
+    print(f"history: {where}")
     print(summary.render_flights(listing))
     return EXIT_OK
 
@@ -652,8 +656,13 @@ def _run_export(args: argparse.Namespace) -> int:
 
 def _run_restore(args: argparse.Namespace) -> int:
     with _open_store(args.db) as st:
-        st.import_export(Path(args.directory))
-    print(f"restored {args.directory}")
+        done = st.import_export(Path(args.directory))
+        where = st.location
+    print(f"restored {args.directory} into {where}: {done.n_aircraft} aircraft, "
+          f"{done.n_flights} flights, {done.n_points} points")
+    if done.n_analyses:
+        print(f"note: {done.n_analyses} saved analysis result(s) of the export were not restored; "
+              "trimlog recomputes results from the flights")
     return EXIT_OK
 
 

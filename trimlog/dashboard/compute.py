@@ -16,6 +16,7 @@ import io
 import json
 import tempfile
 import threading
+import time
 from pathlib import Path
 
 import numpy as np
@@ -247,11 +248,18 @@ def report_pdf(inputs: Inputs) -> bytes:
 # --------------------------------------------------------------------------- history
 
 
-def history_path() -> Path:
-    """The history database: ``$TRIMLOG_DB``, else the store's per-user default."""
-    from trimlog.history.store import default_path
+def history_path() -> Path | str:
+    """The history database: ``$TRIMLOG_DB`` (a file or a server URL), else the per-user default."""
+    from trimlog.history.store import default_location
 
-    return default_path()
+    return default_location()
+
+
+def history_description() -> str:
+    """Which store the dashboard uses, for people (an SQLite file or a PostgreSQL database)."""
+    from trimlog.history.store import describe_location
+
+    return describe_location(history_path())
 
 
 def open_history():
@@ -264,6 +272,10 @@ def open_history():
 def _db_token() -> tuple:
     """Changes whenever the database is written (by this tab, another tab or the CLI)."""
     db = history_path()
+    if not isinstance(db, Path):
+        # A server database: ask it (counts), and look again at least every 30 s.
+        with open_history() as store:
+            return (str(db), int(time.time() // 30), *store.change_token())
     out = []
     for path in (db, db.with_name(db.name + "-wal")):
         try:

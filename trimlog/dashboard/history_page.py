@@ -58,8 +58,8 @@ def render() -> None:
     ss = st.session_state
     st.header("History")
     st.caption(
-        "Saved flights stay on this computer (raw logs byte for byte, your point choices). "
-        f"Database: {compute.history_path()}"
+        "Saved flights keep their raw logs byte for byte and your point choices. "
+        f"History in use: {compute.history_description()}"
     )
     try:
         p = compute.profile(ss.profile_text, ss.profile_source)

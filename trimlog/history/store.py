@@ -252,6 +252,28 @@ def _server_url(text: str) -> sa.URL:
     return url.set(drivername="postgresql+psycopg")
 
 
+def describe_location(location: str | Path | None = None) -> str:
+    """Say which store a location names, for people (nothing is opened).
+
+    Examples
+    --------
+    >>> describe_location("postgresql://pilot@db.example:5432/flighttest")
+    'PostgreSQL database flighttest on db.example:5432 as pilot'
+    >>> describe_location("history.sqlite")
+    'SQLite file history.sqlite'
+    """
+    where = location if location is not None else default_location()
+    if not is_server_url(where):
+        return f"SQLite file {Path(where).expanduser()}"
+    try:
+        url = sa.make_url(str(where).strip())
+    except (sa.exc.ArgumentError, ValueError):
+        return f"database server {_no_password(str(where))}"
+    server = (url.host or "local socket") + (f":{url.port}" if url.port else "")
+    who = f" as {url.username}" if url.username else ""
+    return f"PostgreSQL database {url.database or '(default)'} on {server}{who}"
+
+
 def _no_password(text: str) -> str:
     return re.sub(r"(://[^:/@]*:)[^@/]*@", r"\1***@", text)
 
@@ -444,12 +466,7 @@ class Store:
     @property
     def location(self) -> str:
         """Which store this is, for people: ``SQLite file ...`` or ``PostgreSQL database ...``."""
-        if self.kind == "sqlite":
-            return f"SQLite file {self.path}"
-        url = sa.make_url(str(self.path))
-        server = f"{url.host or 'local socket'}" + (f":{url.port}" if url.port else "")
-        who = f" as {url.username}" if url.username else ""
-        return f"PostgreSQL database {url.database or '(default)'} on {server}{who}"
+        return describe_location(self.path)
 
     @property
     def schema_version(self) -> int:
@@ -916,6 +933,19 @@ class Store:
                 if n == 0:
                     raise StoreError(f"{self.path}: no flight with id {flight_id!r}")
         return self.flight(flight_id)
+
+    def change_token(self) -> tuple:
+        """A cheap value that changes when flights, points choices or profiles change.
+
+        For caches (the dashboard): counts and sums, not a full read.  Edits of
+        a flight's details alone do not change it.
+        """
+        with self._read("look for changes") as c:
+            flights = c.execute(sa.select(sa.func.count(), sa.func.max(flights_t.c.id),
+                                          sa.func.sum(flights_t.c.flight_order))).one()
+            points = c.execute(sa.select(sa.func.count(), sa.func.sum(points_t.c.included))).one()
+            profiles = c.execute(sa.select(sa.func.count()).select_from(profiles_t)).scalar_one()
+        return (*flights, *points, profiles)
 
     # -- export, restore, backup ------------------------------------------------
 
