@@ -1,12 +1,11 @@
 from pathlib import Path
 
 import pytest
+from pg_server import make_location
 
 from trimlog.errors import InputFileError, StoreError
 from trimlog.history import service as history
 from trimlog.history.store import open_store
-
-from pg_server import make_location
 
 SAMPLES = Path(__file__).resolve().parents[2] / "sample_logs"
 PROFILE = SAMPLES / "tinkerfinch_tf2.toml"

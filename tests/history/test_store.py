@@ -16,7 +16,6 @@ import sqlalchemy as sa
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-import trimlog
 from trimlog.errors import StoreError, TrimlogError
 from trimlog.history import store as store_mod
 from trimlog.history.store import KEEP, open_store
