@@ -106,7 +106,7 @@ def _as_postgres() -> list[str]:
     try:
         pwd.getpwnam("postgres")
     except KeyError:
-        raise RuntimeError("running as root but there is no postgres user to run the server") from None
+        raise RuntimeError("running as root, but no postgres user to run the server") from None
     return ["runuser", "-u", "postgres", "--"]
 
 
