@@ -118,8 +118,9 @@ def test_bad_input_exits_2_with_a_message(argv, message, tmp_path, capsys):
     assert "Traceback" not in err
 
 
-def test_history_commands_end_to_end(tmp_path, capsys):
-    db = str(tmp_path / "h.sqlite")
+def test_history_commands_end_to_end(tmp_path, capsys, new_location):
+    # On both engines (new_location: an SQLite file or a PostgreSQL URL, see conftest.py).
+    db = str(new_location())
     assert main(["import", *LOGS[:3], "--aircraft", PROFILE, "--db", db]) == EXIT_OK
     assert main(["import", LOGS[1], "--aircraft", PROFILE, "--db", db]) == EXIT_OK
     assert "already stored" in capsys.readouterr().out
@@ -136,7 +137,7 @@ def test_history_commands_end_to_end(tmp_path, capsys):
     assert main(["exclude", "--db", db, "--flight", "2", "--point", "1"]) == EXIT_OK
     assert main(["exclude", "--db", db, "--flight", "2", "--point", "1", "--include"]) == EXIT_OK
     assert main(["export", "--db", db, str(tmp_path / "exp")]) == EXIT_OK
-    assert main(["restore", str(tmp_path / "exp"), "--db", str(tmp_path / "r.sqlite")]) == 0
+    assert main(["restore", str(tmp_path / "exp"), "--db", str(new_location())]) == 0
     assert main(["backup", "--db", db, str(tmp_path / "b.sqlite")]) == EXIT_OK
     assert main(["trend", "--db", str(tmp_path / "b.sqlite"), "--json",
                  str(tmp_path / "t2.json")]) == EXIT_OK
