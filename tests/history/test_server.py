@@ -18,7 +18,6 @@ import pytest
 
 from trimlog.cli import EXIT_BAD_INPUT, EXIT_OK, main
 from trimlog.errors import StoreError
-from trimlog.history import service as history
 from trimlog.history.store import describe_location, open_store
 
 SAMPLES = Path(__file__).resolve().parents[2] / "sample_logs"
