@@ -293,7 +293,13 @@ GRANT CONNECT ON DATABASE {db} TO {reader};
 GRANT USAGE ON SCHEMA {schema} TO {reader};
 GRANT SELECT ON ALL TABLES IN SCHEMA {schema} TO {reader};
 CREATE ROLE {inspector} LOGIN IN ROLE {reader};
-"""
+CREATE ROLE {writer} NOLOGIN;
+GRANT CONNECT ON DATABASE {db} TO {writer};
+GRANT USAGE ON SCHEMA {schema} TO {writer};
+GRANT SELECT, INSERT, UPDATE ON ALL TABLES IN SCHEMA {schema} TO {writer};
+GRANT USAGE, UPDATE ON ALL SEQUENCES IN SCHEMA {schema} TO {writer};
+CREATE ROLE {pilot} LOGIN IN ROLE {writer};
+"""  # the SQL of DEVELOPERS.md, "The history on a PostgreSQL server"
 
 
 @pytestmark_pg
@@ -304,11 +310,12 @@ def test_a_read_only_role_reads_everything_and_writes_nothing(pg_server, pg_url,
     open_store(empty).close()  # the owner creates the tables; the reader may only read them
     tag = uuid.uuid4().hex[:8]
     reader, inspector = f"reader_{tag}", f"inspector_{tag}"
+    writer, pilot = f"writer_{tag}", f"pilot_{tag}"
     db = pg_url.split("/")[-1].split("?")[0]
     for where in (pg_url, empty):
         schema = where.rsplit("%3D", 1)[1]
-        for statement in ROLES_SQL.format(reader=reader, inspector=inspector, db=db,
-                                          schema=schema).strip().splitlines():
+        for statement in ROLES_SQL.format(reader=reader, inspector=inspector, writer=writer,
+                                          pilot=pilot, db=db, schema=schema).strip().splitlines():
             if "CREATE ROLE" in statement and where is empty:
                 continue
             pg_server.admin(statement, db)
@@ -344,4 +351,13 @@ def test_a_read_only_role_reads_everything_and_writes_nothing(pg_server, pg_url,
         assert s.flight_points(2)["included"].all()
     with open_store(empty) as s:
         assert s.aircraft_list() == []
+    # The writer role of the same SQL imports, excludes and restores.
+    as_pilot = pg_url.replace("postgresql://postgres@", f"postgresql://{pilot}@")
+    assert main(writes[1][:-1] + [as_pilot]) == EXIT_OK
+    assert main(["exclude", "--db", as_pilot, "--flight", "2", "--point", "1"]) == EXIT_OK
+    assert main(["restore", str(tmp_path / "exp"), "--db",
+                 empty.replace("postgresql://postgres@", f"postgresql://{pilot}@")]) == EXIT_OK
+    with open_store(pg_url) as s:
+        assert len(s.flights(1)) == len(LOGS) + 1
+        assert not s.flight_points(2)["included"].iloc[0]
     pg_server.drop_location(empty)
