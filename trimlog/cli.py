@@ -545,8 +545,9 @@ def _open_store(db: str | None, *, must_exist: bool = False):
     from trimlog.history import store
 
     if must_exist:
-        path = Path(db).expanduser() if db is not None else store.default_path()
-        if "://" not in str(db or "") and not path.exists():
+        where = db if db is not None else store.default_location()
+        path = where if store.is_server_url(where) else Path(where).expanduser()
+        if isinstance(path, Path) and not path.exists():
             raise TrimlogError(
                 f"{path}: no such history database (this command only reads one): check the "
                 "path, or create it by saving flights with 'trimlog import'")

@@ -121,11 +121,15 @@ def test_a_database_of_another_program_is_refused_and_untouched(pg_server, pg_ur
 
 
 @pytestmark_pg
-def test_flights_names_the_server_in_use(pg_url, capsys):
+def test_flights_names_the_server_in_use(pg_url, capsys, monkeypatch):
     assert main(["import", LOGS[1], "--aircraft", str(PROFILE), "--db", pg_url]) == EXIT_OK
     assert main(["flights", "--db", pg_url]) == EXIT_OK
     out = capsys.readouterr().out
     assert "history: PostgreSQL database" in out and "as postgres" in out
+    monkeypatch.setenv("TRIMLOG_DB", pg_url)  # the one-line way of the README
+    assert main(["flights"]) == EXIT_OK
+    assert "history: PostgreSQL database" in capsys.readouterr().out
+    assert main(["trend"]) in (0, 1)
 
 
 @pytestmark_pg

@@ -202,7 +202,7 @@ def test_points_round_trip_keeps_dtypes(store, aircraft):
           suppress_health_check=[HealthCheck.function_scoped_fixture])
 @given(
     floats=st.lists(st.floats(allow_infinity=False, width=64), min_size=1, max_size=6),
-    text=st.text(max_size=8),
+    text=st.text(st.characters(blacklist_characters="\x00"), max_size=8),
     data=st.data(),
 )
 def test_points_round_trip_any_values(store, aircraft, floats, text, data):
@@ -221,6 +221,18 @@ def test_points_round_trip_any_values(store, aircraft, floats, text, data):
     expected = pts.sort_values("point", ignore_index=True)
     pd.testing.assert_frame_equal(back, expected)
     assert store.flight(out.flight_id).filename == text
+
+
+def test_nul_in_text_is_refused_on_both_engines(store, aircraft):
+    # Inside points it is JSON-escaped and kept; as a name, label or note it is refused.
+    with pytest.raises(StoreError, match=r"label: .* holds a NUL character"):
+        store.import_flight(aircraft.id, b"x", "x.csv", make_points(), label="a\x00b")
+    with pytest.raises(StoreError, match="file name: .* holds a NUL"):
+        store.import_flight(aircraft.id, b"x", "x\x00.csv", make_points())
+    pts = make_points()
+    pts["flags"] = ["nul\x00inside"] + [""] * 3
+    out = store.import_flight(aircraft.id, b"x", "x.csv", pts)
+    assert store.flight_points(out.flight_id)["flags"][0] == "nul\x00inside"
 
 
 def test_undecodable_text_is_refused_not_a_traceback(store, aircraft):

@@ -182,6 +182,10 @@ def opt_text(value: Any, key: str) -> str | None:
         value.encode("utf-8")
     except UnicodeEncodeError:
         raise StoreError(f"{key}: {value!r} is not valid Unicode text") from None
+    if "\x00" in value:
+        # PostgreSQL text cannot hold NUL; refused on both engines so both keep the same things.
+        raise StoreError(f"{key}: {value!r} holds a NUL character (\\x00), which the history "
+                         "cannot keep; remove it")
     return value
 
 

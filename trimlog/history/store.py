@@ -44,6 +44,9 @@ Location: the path or URL given to :func:`open_store` (the command line's
 A :class:`Store` holds one connection and is meant for one thread; opening
 another is cheap.
 
+This module is longer than the others on purpose: every SQL statement of
+trimlog stays in it (issue 18), so it is kept whole rather than split.
+
 References
 ----------
 SQLite documentation: "Write-Ahead Logging", "Atomic Commit In SQLite",
