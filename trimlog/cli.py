@@ -2,8 +2,10 @@
 
 Every subcommand reads its inputs, calls the package and prints or writes the
 result.  Exit status: 0 results, 1 analysis refused (e.g. a neutral point the
-data cannot identify yet), 2 bad input.  A :class:`~trimlog.errors.TrimlogError`
-becomes one clear message on stderr, never a traceback.
+data cannot identify yet), 2 bad input, 3 internal error (a bug in trimlog).
+A :class:`~trimlog.errors.TrimlogError` becomes one clear message on stderr,
+never a traceback; any other error is reported in one paragraph as a bug
+(``TRIMLOG_DEBUG=1`` prints its traceback too).
 
 Heavy libraries load only inside the subcommand that needs them:
 ``trimlog analyze --json`` imports neither matplotlib nor streamlit.
@@ -17,12 +19,13 @@ import os
 import sys
 from collections.abc import Callable, Sequence
 from pathlib import Path
+from typing import Any, TextIO
 
 from trimlog import __version__
 from trimlog.errors import TrimlogError
 from trimlog.progress import SILENT, Progress, TerminalProgress
 
-EXIT_OK, EXIT_REFUSED, EXIT_BAD_INPUT = 0, 1, 2
+EXIT_OK, EXIT_REFUSED, EXIT_BAD_INPUT, EXIT_INTERNAL = 0, 1, 2, 3
 
 _EPILOG_EXAMPLE = "example:\n  {0}\n"
 
@@ -37,13 +40,41 @@ def main(argv: Sequence[str] | None = None) -> int:
     try:
         return args.run(args)
     except TrimlogError as exc:
-        print(f"trimlog: error: {exc}", file=sys.stderr)
+        _print(f"trimlog: error: {exc}", file=sys.stderr)
         return EXIT_BAD_INPUT
     except KeyboardInterrupt:
-        print("trimlog: interrupted", file=sys.stderr)
+        _print("trimlog: interrupted", file=sys.stderr)
         return 130
     except BrokenPipeError:
         return EXIT_OK
+    except Exception as exc:  # noqa: BLE001 - the one place an unforeseen error is reported
+        return _internal_error(exc)
+
+
+def _print(*parts: object, file: TextIO | None = None, flush: bool = False,
+           colour: bool = False) -> None:
+    """Print without control characters or escape sequences from the user's files."""
+    from trimlog.terminal_text import printable
+
+    print(printable(" ".join(str(p) for p in parts), keep_colour=colour),
+          file=sys.stdout if file is None else file, flush=flush)
+
+
+def _internal_error(exc: BaseException) -> int:
+    """Report a bug in trimlog in one paragraph (the traceback only with TRIMLOG_DEBUG=1)."""
+    if os.environ.get("TRIMLOG_DEBUG"):
+        import traceback
+
+        traceback.print_exception(exc, file=sys.stderr)
+    text = str(exc).splitlines()[0][:300] if str(exc) else ""
+    _print(
+        f"trimlog: internal error ({type(exc).__name__}{': ' + text if text else ''}). "
+        "This is a bug in trimlog, not a problem with your files as far as trimlog can tell; "
+        "no file was changed by the failed step. Please report it with the command you ran "
+        "(run again with TRIMLOG_DEBUG=1 to see the details).",
+        file=sys.stderr,
+    )
+    return EXIT_INTERNAL
 
 
 def _build_parser() -> argparse.ArgumentParser:
@@ -197,8 +228,10 @@ def _build_parser() -> argparse.ArgumentParser:
         "trimlog exclude --db history.sqlite --flight 3 --point 5",
     )
     _add_db(p)
-    p.add_argument("--flight", type=int, required=True, help="flight id (see 'trimlog flights')")
-    p.add_argument("--point", type=int, required=True, help="point number within the flight")
+    p.add_argument("--flight", type=_record_id, required=True,
+                   help="flight id (see 'trimlog flights')")
+    p.add_argument("--point", type=_record_id, required=True,
+                   help="point number within the flight")
     p.add_argument("--include", action="store_true", help="include the point again")
 
     p = command(
@@ -256,6 +289,19 @@ def _build_parser() -> argparse.ArgumentParser:
                    help="run only this section (repeatable): chain, season, startup, report, "
                         "growth, history, dashboard, browser, memory")
     return parser
+
+
+def _record_id(text: str) -> int:
+    """A flight id or point number: a whole number 1..2**63-1 (what the database can hold)."""
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a whole number, found {text!r}") from None
+    if not 1 <= value <= 2**63 - 1:
+        raise argparse.ArgumentTypeError(
+            f"expected a number from 1 to {2**63 - 1}, found {text[:40]!r}"
+            f"{'...' if len(text) > 40 else ''}")
+    return value
 
 
 def _add_log_inputs(p: argparse.ArgumentParser, *, with_db: bool = False) -> None:
@@ -316,15 +362,14 @@ def _add_db(p: argparse.ArgumentParser, *, choose_aircraft: bool = False) -> Non
 def _progress(message: str) -> None:
     """Progress on stderr when it is a terminal; quiet in pipes and CI logs."""
     if sys.stderr.isatty():
-        print(message, file=sys.stderr, flush=True)
+        _print(message, file=sys.stderr, flush=True)
 
 
 def _write_json(path: str, payload: object) -> None:
-    target = Path(path)
-    try:
-        target.write_text(json.dumps(payload, indent=2, allow_nan=False) + "\n", encoding="utf-8")
-    except OSError as exc:
-        raise TrimlogError(f"{path}: cannot write the JSON result: {exc.strerror}") from None
+    from trimlog.files import write_atomically
+
+    text = json.dumps(payload, indent=2, allow_nan=False) + "\n"
+    write_atomically(path, text, what="JSON result")
 
 
 def _load_inputs(  # -> (profile, flights)
@@ -336,7 +381,7 @@ def _load_inputs(  # -> (profile, flights)
         profile = analysis.load_profile(args.aircraft)
     if getattr(args, "calibrate_from", None):
         profile = _calibrated_profile(profile, args.calibrate_from)
-    loading_overrides = _parse_pairs(args.loading, "--loading", "LOG=SHEET", "=")
+    loading_overrides = _loading_sheets(args.logs, args.loading)
     flights = []
     for log in args.logs:
         flights.extend(
@@ -360,14 +405,26 @@ def _calibrated_profile(profile, logs: list[str]):
     return calibration.with_calibration(profile, result)
 
 
-def _parse_pairs(values: list[str], option: str, form: str, sep: str) -> dict[str, str]:
-    pairs = {}
+def _loading_sheets(logs: Sequence[str], values: list[str]) -> dict[str, str]:
+    """``--loading LOG=SHEET`` by log as typed; LOG matched by resolved path, never ignored."""
+    by_path: dict[Path, str] = {}
+    for log in logs:
+        by_path.setdefault(Path(log).resolve(), log)
+    out: dict[str, str] = {}
     for value in values:
-        left, found, right = value.rpartition(sep)
+        left, found, right = value.rpartition("=")
         if not found or not left or not right:
-            raise TrimlogError(f"{option}: expected {form}, found {value!r}")
-        pairs[left] = right
-    return pairs
+            raise TrimlogError(f"--loading: expected LOG=SHEET, found {value!r}")
+        log = by_path.get(Path(left).resolve())
+        if log is None:
+            raise TrimlogError(
+                f"--loading {value}: {left} is none of the logs given "
+                f"({', '.join(logs)}); name the log as one of them")
+        if log in out and out[log] != right:
+            raise TrimlogError(f"--loading: two loading sheets for {log} ({out[log]} and "
+                               f"{right}); give one")
+        out[log] = right
+    return out
 
 
 def _exclusions(values: list[str]) -> list[tuple[str, int]]:
@@ -446,8 +503,9 @@ def _run_analyze(args: argparse.Namespace) -> int:
         _write_json(args.json, analysis_to_dict(result))
     if not args.quiet:
         if result.programme is not None:
-            print(result.programme.describe() + "\n")
-        print(summary.render(result, color=_use_color()))
+            _print(result.programme.describe() + "\n")
+        colour = _use_color()
+        _print(summary.render(result, color=colour), colour=colour)
     return EXIT_OK if result.identifiable else EXIT_REFUSED
 
 
@@ -467,27 +525,27 @@ def _run_calibrate(args: argparse.Namespace) -> int:
     if args.json:
         _write_json(args.json, calibration_to_dict(result))
     if not args.quiet:
-        print(render_calibration(result))
+        _print(render_calibration(result))
     if args.report:
         from trimlog.views.calibration_report import write_calibration_report
 
         write_calibration_report(result, args.report, aircraft=profile.name)
     if args.write_profile:
         if len(result.table_ias_kt) < 2:
-            print(f"trimlog: {args.write_profile} not written: a position-error table needs "
+            _print(f"trimlog: {args.write_profile} not written: a position-error table needs "
                   "at least two calibrated speeds", file=sys.stderr)
             return EXIT_REFUSED
         _write_calibrated_profile(args.aircraft, args.write_profile, result)
     if args.db:
         if len(result.table_ias_kt) < 2:
-            print(f"trimlog: nothing stored in {args.db}: a position-error table needs at "
+            _print(f"trimlog: nothing stored in {args.db}: a position-error table needs at "
                   "least two calibrated speeds", file=sys.stderr)
             return EXIT_REFUSED
         from trimlog.history.service import store_calibration
 
         with _open_store(args.db) as store:
             record = store_calibration(store, profile, result)
-        print(f"kept with '{record.name}' in {args.db} as profile version "
+        _print(f"kept with '{record.name}' in {args.db} as profile version "
               f"{record.profile_version}", file=sys.stderr)
     return EXIT_OK if result.determinable else EXIT_REFUSED
 
@@ -495,9 +553,10 @@ def _run_calibrate(args: argparse.Namespace) -> int:
 def _write_calibrated_profile(source: str, target: str, result) -> None:
     from datetime import UTC, datetime
 
+    from trimlog.files import read_regular_file, write_atomically
     from trimlog.input.profile_writer import replace_calibration
 
-    raw = Path(source).read_bytes()
+    raw = read_regular_file(source, "aircraft profile")
     bom = raw.startswith(b"\xef\xbb\xbf")
     text = raw.decode("utf-8-sig")
     stamp = datetime.now(UTC).strftime("%Y-%m-%d")
@@ -507,14 +566,7 @@ def _write_calibrated_profile(source: str, target: str, result) -> None:
     new = replace_calibration(text, result.table_ias_kt, result.table_cas_kt,
                               comment=comment, source=source)
     data = (b"\xef\xbb\xbf" if bom else b"") + new.encode("utf-8")
-    path = Path(target)
-    tmp = path.with_name(f".{path.name}.tmp{os.getpid()}")
-    try:
-        tmp.write_bytes(data)
-        os.replace(tmp, path)
-    except OSError as exc:
-        tmp.unlink(missing_ok=True)
-        raise TrimlogError(f"{target}: cannot write the profile: {exc.strerror}") from None
+    write_atomically(target, data, what="aircraft profile")
 
 
 def _run_report(args: argparse.Namespace) -> int:
@@ -536,14 +588,19 @@ def _run_report(args: argparse.Namespace) -> int:
                                       progress=progress)
             trend = None
         path = report.write_report(result, args.output, trend=trend, progress=progress)
-    print(f"report written to {path}")
+    _print(f"report written to {path}")
     return EXIT_OK if result.identifiable else EXIT_REFUSED
 
 
 def _open_store(db: str | None, *, must_exist: bool = False):
     """Open the history; a command that only reads refuses a database that does not exist."""
+    from trimlog.files import check_input_file
     from trimlog.history import store
 
+    if "://" not in str(db or ""):
+        # A named pipe or device as the database would block or be damaged: regular files only.
+        check_input_file(Path(db).expanduser() if db else store.default_path(),
+                         "history database", missing_ok=True)
     if must_exist:
         where = db if db is not None else store.default_location()
         path = where if store.is_server_url(where) else Path(where).expanduser()
@@ -569,7 +626,7 @@ def _run_import(args: argparse.Namespace) -> int:
     from trimlog.input.profile import load_profile
 
     profile_text = load_profile(args.aircraft).text
-    loading_overrides = _parse_pairs(args.loading, "--loading", "LOG=SHEET", "=")
+    loading_overrides = _loading_sheets(args.logs, args.loading)
     exclusions = _exclusions(args.exclude)
     with _open_store(args.db) as st:
         saved = []
@@ -586,9 +643,9 @@ def _run_import(args: argparse.Namespace) -> int:
                 min_hold_s=args.min_hold,
             )
             saved.append(outcome.flight_id)
-            print(outcome.message)
+            _print(outcome.message)
         for line in history.apply_exclusions(st, saved, exclusions):
-            print(line)
+            _print(line)
     return EXIT_OK
 
 
@@ -596,7 +653,7 @@ def _run_edit(args: argparse.Namespace) -> int:
     from trimlog.history import service as history
 
     with _open_store(args.db, must_exist=True) as st:
-        print(history.edit_flight(st, args.flight, label=args.label, notes=args.notes,
+        _print(history.edit_flight(st, args.flight, label=args.label, notes=args.notes,
                                   date=args.date))
     return EXIT_OK
 
@@ -610,8 +667,8 @@ def _run_flights(args: argparse.Namespace) -> int:
         where = st.location
     if args.json:
         _write_json(args.json, listing)
-    print(f"history: {where}")
-    print(summary.render_flights(listing))
+    _print(f"history: {where}")
+    _print(summary.render_flights(listing))
     return EXIT_OK
 
 
@@ -623,20 +680,27 @@ def _run_trend(args: argparse.Namespace) -> int:
         trend = history.trend(st, args.aircraft_name)
     if args.json:
         _write_json(args.json, trend.to_dict())
-    print(summary.render_trend(trend, color=_use_color()))
+    colour = _use_color()
+    _print(summary.render_trend(trend, color=colour), colour=colour)
     return EXIT_OK if trend.identifiable else EXIT_REFUSED
 
 
 def _run_plan(args: argparse.Namespace) -> int:
     from trimlog.history import service as history
+    from trimlog.input.profile import check_policy
     from trimlog.views import terminal as summary
 
+    if args.min_margin is not None:
+        check_policy("limits.min_static_margin", args.min_margin, source="--min-margin")
+    if args.max_step is not None:
+        check_policy("limits.cg_step_max", args.max_step, source="--max-step")
     with _open_store(args.db, must_exist=True) as st:
         trend = history.trend(st, args.aircraft_name, min_margin_pct_mac=args.min_margin,
                               max_step_pct_mac=args.max_step)
     if args.json:
         _write_json(args.json, trend.to_dict()["next_step"])
-    print(summary.render_plan(trend, color=_use_color()))
+    colour = _use_color()
+    _print(summary.render_plan(trend, color=colour), colour=colour)
     return EXIT_OK if trend.identifiable else EXIT_REFUSED
 
 
@@ -644,14 +708,14 @@ def _run_exclude(args: argparse.Namespace) -> int:
     with _open_store(args.db, must_exist=True) as st:
         st.set_point_included(args.flight, args.point, args.include)
     state = "included" if args.include else "excluded"
-    print(f"flight {args.flight} point {args.point}: {state}")
+    _print(f"flight {args.flight} point {args.point}: {state}")
     return EXIT_OK
 
 
 def _run_export(args: argparse.Namespace) -> int:
     with _open_store(args.db, must_exist=True) as st:
         written = st.export(Path(args.directory))
-    print(f"{len(written)} files written to {args.directory}")
+    _print(f"{len(written)} files written to {args.directory}")
     return EXIT_OK
 
 
@@ -659,10 +723,10 @@ def _run_restore(args: argparse.Namespace) -> int:
     with _open_store(args.db) as st:
         done = st.import_export(Path(args.directory))
         where = st.location
-    print(f"restored {args.directory} into {where}: {done.n_aircraft} aircraft, "
+    _print(f"restored {args.directory} into {where}: {done.n_aircraft} aircraft, "
           f"{done.n_flights} flights, {done.n_points} points")
     if done.n_analyses:
-        print(f"note: {done.n_analyses} saved analysis result(s) of the export were not restored; "
+        _print(f"note: {done.n_analyses} saved analysis result(s) of the export were not restored; "
               "trimlog recomputes results from the flights")
     return EXIT_OK
 
@@ -670,7 +734,7 @@ def _run_restore(args: argparse.Namespace) -> int:
 def _run_backup(args: argparse.Namespace) -> int:
     with _open_store(args.db, must_exist=True) as st:
         st.backup(Path(args.destination))
-    print(f"backup written to {args.destination}")
+    _print(f"backup written to {args.destination}")
     return EXIT_OK
 
 
@@ -684,7 +748,7 @@ def _run_demo(args: argparse.Namespace) -> int:
             f"{args.directory}: cannot write the demo files: {exc.strerror or exc}"
         ) from None
     for path in written:
-        print(path)
+        _print(path)
     return EXIT_OK
 
 
@@ -700,9 +764,38 @@ def _run_dashboard(args: argparse.Namespace) -> int:
         "--server.maxUploadSize", "200",
         "--browser.gatherUsageStats", "false",
         "--client.toolbarMode", "viewer",
+        "--client.showErrorDetails", "none",
     ]
-    print(f"trimlog dashboard on http://{args.address}:{args.port} (Ctrl-C to stop)")
-    return subprocess.call(command)
+    _print(f"trimlog dashboard on http://{args.address}:{args.port} (Ctrl-C to stop)")
+    return _run_child(subprocess.Popen(command))
+
+
+def _run_child(child: Any) -> int:
+    """Wait for the server, forwarding SIGTERM/SIGINT/SIGHUP to it: no server is left behind."""
+    import signal
+
+    def forward(signum: int, _frame: object) -> None:
+        try:
+            child.send_signal(signum)
+        except (OSError, ProcessLookupError):
+            pass  # already gone
+
+    previous = {}
+    for name in ("SIGTERM", "SIGINT", "SIGHUP"):
+        if hasattr(signal, name):
+            sig = getattr(signal, name)
+            previous[sig] = signal.signal(sig, forward)
+    try:
+        while True:
+            try:
+                code = child.wait()
+                break
+            except KeyboardInterrupt:
+                continue  # forwarded; wait for the server to stop
+    finally:
+        for sig, handler in previous.items():
+            signal.signal(sig, handler)
+    return 0 if code in (0, -2, -15) else code
 
 
 def _run_bench(args: argparse.Namespace) -> int:

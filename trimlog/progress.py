@@ -15,6 +15,8 @@ from __future__ import annotations
 import sys
 from typing import IO, Any
 
+from trimlog.terminal_text import printable
+
 #: The stages, in the order a command meets them.
 STAGES = ("reading", "points", "fits", "figures", "pages")
 
@@ -88,7 +90,8 @@ class TerminalProgress(Progress):
         elif self._started:
             self._bar.update(1)
         self._started = True
-        self._bar.set_description_str(f"{stage} {detail}".strip(), refresh=True)
+        # file names come from the user: no escape sequences reach the terminal
+        self._bar.set_description_str(printable(f"{stage} {detail}".strip()), refresh=True)
 
     def close(self) -> None:
         """Count the last step done and clear the bar (it leaves no line behind)."""

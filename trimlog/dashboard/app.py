@@ -11,12 +11,14 @@ import streamlit as st
 from trimlog.dashboard import (
     aircraft,
     calibration_page,
+    common,
     flights,
     history_page,
     points,
     results,
     session,
 )
+from trimlog.errors import TrimlogError
 
 PAGES = {
     "Results": results.render,
@@ -41,6 +43,8 @@ SCROLL_TO_TOP = (
 )
 
 st.set_page_config(page_title="trimlog", page_icon=":material/flight:", layout="wide")
+# Never a traceback in the page, whichever way the app was started (issue 19).
+st.set_option("client.showErrorDetails", "none")
 session.init()
 aircraft.restore_saved_aircraft()
 st.session_state.setdefault("page", "Results")
@@ -53,4 +57,12 @@ if st.session_state.get("page_shown") != st.session_state.page:
     # headline numbers and the estimate statement are, not where the last one was scrolled.
     st.session_state.page_shown = st.session_state.page
     st.html(SCROLL_TO_TOP, unsafe_allow_javascript=True)
-PAGES[st.session_state.page]()
+try:
+    PAGES[st.session_state.page]()
+except TrimlogError as exc:  # a page that did not catch a user's mistake itself
+    common.show_error(exc, "This input cannot be used")
+except Exception as exc:  # noqa: BLE001 - the page shows a clear message, not a traceback
+    st.error(
+        f"Internal error in trimlog ({type(exc).__name__}). This is a bug in trimlog, not a "
+        "problem with your files as far as trimlog can tell; nothing was saved by the failed "
+        "step. Please report it with the files you used.", icon=":material/error:")

@@ -22,6 +22,11 @@ def esc(text: object) -> str:
     return _MARKUP.sub(r"\\\1", str(text))
 
 
+def esc_label(text: object) -> str:
+    """Text shown literally in a widget label: also no emoji or colour shortcodes (``:red[``)."""
+    return esc(text).replace(":", "\\:")
+
+
 def show_error(exc: TrimlogError | str, what: str = "") -> None:
     """A user's mistake, in the package's own words (never a traceback)."""
     st.error(esc(f"{what}{': ' if what else ''}{exc}"), icon=":material/error:")

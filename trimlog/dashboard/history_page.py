@@ -11,6 +11,7 @@ from trimlog import cautions
 from trimlog.dashboard import blocks, common, compute, session
 from trimlog.dashboard.common import interval, num
 from trimlog.errors import TrimlogError
+from trimlog.input.profile import profile_key
 
 
 def save_flights() -> None:
@@ -67,7 +68,7 @@ def render() -> None:
         common.show_error(exc, "The aircraft profile has a problem (see Aircraft)")
         return
     n_logs = len(session.logs())
-    st.button(f"Save the {n_logs} flight(s) in use to the history of {p.name}",
+    st.button(f"Save the {n_logs} flight(s) in use to the history of {common.esc_label(p.name)}",
               type="primary", on_click=save_flights, disabled=not n_logs)
     for kind, text in ss.pop("history_messages", []):
         {"ok": st.success, "info": st.info, "error": st.error}[kind](common.esc(text))
@@ -126,12 +127,14 @@ def _listing(listing: list[dict]) -> None:
 def _trend(p) -> None:
     st.subheader("Neutral point, flight by flight")
     c1, c2 = st.columns(2)
+    # the same ranges as the profile's keys (trimlog.input.profile.PROFILE_KEYS)
+    m_key, s_key = profile_key("limits.min_static_margin"), profile_key("limits.cg_step_max")
     margin = c1.number_input("Minimum static margin for the next flight [%MAC]",
-                             min_value=0.0, max_value=30.0,
+                             min_value=m_key.low, max_value=m_key.high,
                              value=float(p.min_static_margin_pct_mac), step=0.5,
                              key="policy_margin")
     step = c2.number_input("Largest step aft of the most aft CG flown [%MAC]",
-                           min_value=0.1, max_value=10.0, value=float(p.cg_step_max_pct_mac),
+                           min_value=0.1, max_value=s_key.high, value=float(p.cg_step_max_pct_mac),
                            step=0.5, key="policy_step")
     try:
         trend = compute.trend(p.name, margin, step)

@@ -46,6 +46,8 @@ from trimlog.demo.model import (
     _smooth_state,
     truth_points,
 )
+from trimlog.errors import TrimlogError
+from trimlog.files import write_files_atomically
 from trimlog.physics import airspeed, atmosphere
 
 if TYPE_CHECKING:
@@ -515,13 +517,11 @@ def write_demo(directory: Path, *, seed: int = DEFAULT_SEED) -> list[Path]:
         seed, DEMO_TRUTH, DEMO_PROFILE, profile_file=PROFILE_FILE, shim_deg=_SHIM_DEG,
         hold_elevator_sd_deg=HOLD_ELEVATOR_SD_DEG, hold_force_sd_lbf=HOLD_FORCE_SD_LBF,
     ) + calibration_readme(DEMO_PROFILE)
-    written = []
-    for name, text in texts.items():
-        path = directory / name
-        path.parent.mkdir(parents=True, exist_ok=True)
-        path.write_bytes(text.encode("utf-8"))
-        written.append(path)
-    return written
+    for name in texts:
+        (directory / name).parent.mkdir(parents=True, exist_ok=True)
+    return write_files_atomically(
+        [(directory / name, text.encode("utf-8")) for name, text in texts.items()],
+        what="demo files")
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -537,6 +537,9 @@ def main(argv: list[str] | None = None) -> int:
         written = write_demo(args.directory, seed=args.seed)
     except OSError as exc:
         print(f"{args.directory}: cannot write the demo files: {exc.strerror}", file=sys.stderr)
+        return 2
+    except TrimlogError as exc:
+        print(f"trimlog: error: {exc}", file=sys.stderr)
         return 2
     for path in written:
         print(path)

@@ -20,11 +20,13 @@ OWASP, "CSV Injection" (https://owasp.org/www-community/attacks/CSV_Injection).
 from __future__ import annotations
 
 import base64
+import csv
 import datetime as dt
 import enum
 import hashlib
 import json
 import math
+import re
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import asdict, dataclass
 from pathlib import Path
@@ -34,6 +36,7 @@ import numpy as np
 import pandas as pd
 
 from trimlog.errors import StoreError
+from trimlog.files import os_reason, write_files_atomically
 
 EXPORT_JSON: Final = "trimlog-history.json"
 EXPORT_FORMAT: Final = "trimlog-history-export"
@@ -386,6 +389,9 @@ def decode_points(
 _FORMULA_STARTS: Final = ("=", "+", "-", "@", "\t", "\r")
 
 
+_AFTER_SEPARATOR = re.compile(r"([;,\t|])([=+\-@\t\r])")
+
+
 def neutralise(frame: pd.DataFrame) -> pd.DataFrame:
     """Prefix text cells a spreadsheet would run as a formula with an apostrophe.
 
@@ -399,18 +405,36 @@ def neutralise(frame: pd.DataFrame) -> pd.DataFrame:
     for name in out.columns:
         col = out[name]
         if isinstance(col.dtype, pd.StringDtype) or col.dtype == object:
-            out[name] = col.map(
-                lambda v: "'" + v if isinstance(v, str) and v[:1] in _FORMULA_STARTS else v
-            ).astype(object)
+            out[name] = col.map(_neutral_cell).astype(object)
     return out
+
+
+def _neutral_cell(value: Any) -> Any:
+    """One text cell made inert, also where a separator inside it starts a field.
+
+    A spreadsheet that splits the file on ``;`` (or tabs) sees ``x;=1+2`` as
+    two fields, the second a formula: every part after a separator gets the
+    apostrophe too (``x;'=1+2``).
+    """
+    if not isinstance(value, str):
+        return value
+    if value[:1] in _FORMULA_STARTS:
+        value = "'" + value
+    return _AFTER_SEPARATOR.sub(r"\1'\2", value)
 
 
 # -- export files -----------------------------------------------------------------
 
 
 def check_export_folder(out: Path) -> None:
-    """Refuse a folder that already holds export files (an export never overwrites)."""
-    if clash := [n for n in EXPORT_FILES if (out / n).exists()]:
+    """Refuse a folder that already holds an export (an export never overwrites one).
+
+    The export's JSON document is renamed into place last, so a folder without
+    it holds at most the CSV tables of an export that did not finish; those
+    are replaced.
+    """
+    if (out / EXPORT_JSON).exists() or (out / EXPORT_JSON).is_symlink():
+        clash = [n for n in EXPORT_FILES if (out / n).exists()]
         raise StoreError(f"{out}: already holds {', '.join(clash)}; export to an empty folder")
 
 
@@ -543,15 +567,18 @@ def write_export(out: Path, doc: Mapping[str, Any], tables: Mapping[str, pd.Data
     """
     try:
         out.mkdir(parents=True, exist_ok=True)
-        written = [out / EXPORT_JSON]
-        written[0].write_text(json.dumps(doc, indent=1), encoding="utf-8")
-        for name, frame in tables.items():
-            neutralise(frame).to_csv(
-                out / name, index=False, encoding="utf-8", errors="backslashreplace")
-            written.append(out / name)
     except OSError as exc:
-        raise StoreError(f"{out}: cannot write the export ({exc.strerror or exc})") from exc
-    return written
+        raise StoreError(f"{out}: cannot write the export ({os_reason(exc)})") from exc
+    items: list[tuple[Path, bytes | str]] = []
+    for name, frame in tables.items():
+        # Every text cell quoted: a spreadsheet splitting on ';' (or tabs) cannot see a
+        # formula inside a cell such as "x;=1+2"; numbers stay unquoted numbers.
+        text = neutralise(frame).to_csv(None, index=False, quoting=csv.QUOTE_NONNUMERIC)
+        items.append((out / name, text.encode("utf-8", errors="backslashreplace")))
+    # The JSON document last: a folder holding it holds a complete export.
+    items.append((out / EXPORT_JSON, json.dumps(doc, indent=1)))
+    written = write_files_atomically(items, what="export")
+    return [written[-1], *written[:-1]]
 
 
 def read_export(directory: str | Path) -> tuple[Path, dict[str, Any]]:

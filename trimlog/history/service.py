@@ -9,6 +9,7 @@ analysis result; everything here can be recomputed from those.
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
@@ -21,7 +22,8 @@ from trimlog.history import programme
 from trimlog.history.codec import clean
 from trimlog.history.store import AircraftRecord, FlightRecord, ImportOutcome, Store
 from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
-from trimlog.input.profile import AircraftProfile, parse_profile
+from trimlog.input.logs import load_source
+from trimlog.input.profile import AircraftProfile, check_policy, parse_profile
 from trimlog.pipeline import calibration, chain
 from trimlog.pipeline.reduction import reduce_points
 from trimlog.stability.critical import aft_flight_clearly_stable
@@ -154,19 +156,11 @@ def import_log(
 ) -> ImportOutcome:
     """:func:`import_flight` for a file on disk, its loading sheet found beside it."""
     path = Path(path)
-    try:
-        raw = path.read_bytes()
-    except OSError as exc:
-        raise InputFileError(f"cannot read the file: {exc.strerror}", file=str(path)) from None
+    raw, _ = load_source(path, str(path))  # regular files only: a named pipe would block
     sheet_path = Path(loading_path) if loading_path else chain.sibling_sheet(path)
     loading_raw = None
     if sheet_path is not None:
-        try:
-            loading_raw = sheet_path.read_bytes()
-        except OSError as exc:
-            raise InputFileError(
-                f"cannot read the loading sheet: {exc.strerror}", file=str(sheet_path)
-            ) from None
+        loading_raw, _ = load_source(sheet_path, str(sheet_path))
     return import_flight(
         store, raw, path.name, profile_text, profile_source=profile_source,
         loading_raw=loading_raw, loading_name=None if sheet_path is None else sheet_path.name,
@@ -345,10 +339,22 @@ class Trend:
 
 
 def flight_listing(store: Store, aircraft: str | None = None) -> list[dict[str, Any]]:
-    """The stored flights with their mean CG and point counts."""
-    stored = _load(store, aircraft)
-    reduced, _, config = _reduce(stored)
-    return list(_listing(stored, _cg_by_flight(reduced, config)))
+    """The stored flights with their mean CG and point counts.
+
+    Listing never depends on analysing: when the stored profile or a flight
+    cannot be reduced, the flights are still listed (their CG left empty), so
+    the ids needed to fix or exclude them can be seen.
+    """
+    record = _aircraft(store, aircraft)
+    records = store.flights(record.id)
+    names = _flight_names(records)
+    try:
+        stored = _load(store, aircraft)
+        reduced, _, config = _reduce(stored)
+        cg_by_flight = _cg_by_flight(reduced, config)
+    except TrimlogError:
+        cg_by_flight = {}
+    return list(_listing_rows(records, names, cg_by_flight))
 
 
 def _reduce(stored: _Stored) -> tuple[pd.DataFrame | None, list[str], str]:
@@ -376,20 +382,25 @@ def _cg_by_flight(reduced: pd.DataFrame | None, config: str) -> dict[str, float]
 
 
 def _listing(stored: _Stored, cg_by_flight: dict[str, float]) -> tuple[dict[str, Any], ...]:
+    return _listing_rows(stored.records, stored.names, cg_by_flight)
+
+
+def _listing_rows(records: Sequence[FlightRecord], names: Mapping[int, str],
+                  cg_by_flight: Mapping[str, float]) -> tuple[dict[str, Any], ...]:
     return tuple(
         {
             "id": r.id,
-            "label": r.label or stored.names[r.id],
-            "name": stored.names[r.id],
+            "label": r.label or names[r.id],
+            "name": names[r.id],
             "filename": r.filename,
             "sha256": r.sha256,
             "date": None if r.date is None else r.date.isoformat(),
-            "cg_pct_mac": _finite_or_none(cg_by_flight.get(stored.names[r.id])),
+            "cg_pct_mac": _finite_or_none(cg_by_flight.get(names[r.id])),
             "n_points": r.n_points,
             "n_included": r.n_included,
             "stab_setting": r.incidence_label,
         }
-        for r in stored.records
+        for r in records
     )
 
 
@@ -405,6 +416,13 @@ def trend(
     The trend uses the primary configuration (the one with most included
     points, clean first), as the full analysis does.
     """
+    # A policy typed anywhere obeys the profile's rule for it (0 is a value, not "not given").
+    if min_margin_pct_mac is not None:
+        min_margin_pct_mac = check_policy("limits.min_static_margin", min_margin_pct_mac,
+                                          source="minimum static margin")
+    if max_step_pct_mac is not None:
+        max_step_pct_mac = check_policy("limits.cg_step_max", max_step_pct_mac,
+                                        source="largest CG step")
     stored = _load(store, aircraft)
     profile = stored.profile
     reduced, warnings, config = _reduce(stored)

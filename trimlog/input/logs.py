@@ -71,6 +71,7 @@ import numpy as np
 import pandas as pd
 
 from trimlog.errors import InputFileError, TrimlogError
+from trimlog.files import read_regular_file
 from trimlog.findings import Finding, Severity
 from trimlog.input.headers import (
     NA_TOKENS,
@@ -211,14 +212,14 @@ def load_source(source: Any, name: str | None) -> tuple[bytes, str]:
     if isinstance(source, str | Path):
         path = Path(source)
         label = name or path.name
+        if path.is_dir():
+            raise InputFileError("expected a CSV file, found a folder", file=str(source))
+        if not path.exists() and not path.is_symlink():
+            raise InputFileError("cannot read the file: file not found", file=str(source))
         try:
-            return path.read_bytes(), label
-        except FileNotFoundError as exc:
-            raise InputFileError("file not found", file=str(source)) from exc
-        except IsADirectoryError as exc:
-            raise InputFileError("expected a CSV file, found a folder", file=str(source)) from exc
-        except OSError as exc:
-            raise InputFileError(f"cannot read the file: {exc.strerror}", file=str(source)) from exc
+            return read_regular_file(path, "input file"), label
+        except TrimlogError as exc:
+            raise InputFileError(str(exc).removeprefix(f"{path}: "), file=str(source)) from None
     raise InputFileError(
         f"expected a file path or the file's bytes, found {type(source).__name__}",
         file=name,

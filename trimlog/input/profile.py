@@ -70,6 +70,7 @@ from pathlib import Path
 from typing import Any
 
 from trimlog.errors import ProfileError, TrimlogError
+from trimlog.files import read_regular_file
 from trimlog.input.schema import Key, check_keys, check_range, load_toml, read_key
 from trimlog.input.units import is_compatible, parse_unit, unit_factor
 from trimlog.physics.mass_balance import pct_mac_to_station, station_to_pct_mac
@@ -430,9 +431,9 @@ def load_profile(path: str | Path) -> AircraftProfile:
     """Read and validate a profile TOML file (see :func:`parse_profile`)."""
     path = Path(path)
     try:
-        raw = path.read_bytes()
-    except OSError as exc:
-        raise ProfileError(f"{path}: cannot read the aircraft profile: {exc.strerror}") from None
+        raw = read_regular_file(path, "aircraft profile")
+    except TrimlogError as exc:
+        raise ProfileError(f"cannot read the aircraft profile: {exc}") from None
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError:

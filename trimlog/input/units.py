@@ -9,21 +9,53 @@ the package.
 from __future__ import annotations
 
 import math
+import os
 import re
+import stat
+from pathlib import Path
 
 import pint
 
 from trimlog.errors import UnitError
 
 
-def _registry() -> pint.UnitRegistry:
-    # pint parses its definitions file on every start (~0.3 s); its on-disk cache in the
-    # user cache folder cuts that to a few tens of ms. A cache that cannot be written or
-    # read (read-only home, a half-written file from a concurrent start) means no cache.
+def cache_folder() -> Path | None:
+    """The folder of pint's definition cache (trimlog's own), or None when it is not safe.
+
+    pint's cache holds pickles, which run code when loaded, so the folder must
+    belong to this user and be writable by nobody else: it is created with
+    mode 0700 under the per-user cache directory, and a folder owned by
+    another user, or writable by group or others, is not used.
+    """
+    if os.environ.get("TRIMLOG_NO_UNIT_CACHE"):
+        return None
+    import platformdirs
+
+    folder = Path(platformdirs.user_cache_dir("trimlog")) / "pint"
     try:
-        return pint.UnitRegistry(autoconvert_offset_to_baseunit=True, cache_folder=":auto:")
-    except Exception:  # noqa: BLE001 - any cache failure falls back to parsing
-        return pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+        folder.mkdir(mode=0o700, parents=True, exist_ok=True)
+        info = folder.lstat()
+    except OSError:
+        return None
+    getuid = getattr(os, "getuid", None)
+    if stat.S_ISLNK(info.st_mode) or not stat.S_ISDIR(info.st_mode):
+        return None
+    if getuid is not None and (info.st_uid != getuid() or info.st_mode & 0o022):
+        return None
+    return folder
+
+
+def _registry() -> pint.UnitRegistry:
+    # pint parses its definitions file on every start (~0.3 s); its on-disk cache cuts that
+    # to a few tens of ms. A cache that is unsafe (see cache_folder), cannot be written or
+    # read (read-only home, a half-written file from a concurrent start) means no cache.
+    folder = cache_folder()
+    if folder is not None:
+        try:
+            return pint.UnitRegistry(autoconvert_offset_to_baseunit=True, cache_folder=folder)
+        except Exception:  # noqa: BLE001 - any cache failure falls back to parsing
+            pass
+    return pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
 
 
 ureg = _registry()

@@ -26,7 +26,7 @@ from trimlog.findings import Finding, Severity, Subject, finding, lines
 from trimlog.incidence import shim as incidence
 from trimlog.incidence import tau
 from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
-from trimlog.input.logs import LogRead, read_log
+from trimlog.input.logs import LogRead, load_source, read_log
 from trimlog.input.profile import AircraftProfile
 from trimlog.input.profile import load_profile as load_profile
 from trimlog.pipeline import ordering
@@ -263,10 +263,7 @@ def load_flight_file(
     the log with ``.loading.toml`` in place of its extension, when present.
     """
     path = Path(path)
-    try:
-        raw = path.read_bytes()
-    except OSError as exc:
-        raise InputFileError(f"cannot read the file: {exc.strerror}", file=str(path)) from None
+    raw, _ = load_source(path, str(path))  # regular files only: a named pipe would block
     sheet_path = Path(loading_path) if loading_path else sibling_sheet(path)
     sheet = read_loading_sheet(sheet_path) if sheet_path is not None else None
     return load_flight_bytes(raw, str(path), profile, loading=sheet, min_hold_s=min_hold_s,

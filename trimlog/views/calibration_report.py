@@ -25,10 +25,12 @@ from matplotlib.axes import Axes
 from matplotlib.figure import Figure
 
 from trimlog import __version__, cautions
+from trimlog.errors import TrimlogError
+from trimlog.files import check_output_target, write_atomically
 from trimlog.findings import by_severity
 from trimlog.views.pdf_layout import Heading, Para, Plot, Table, render_pdf, save_pdf
 from trimlog.views.plots import GREY, LABEL_SIZE, LEGEND_SIZE, MARKERS, PALETTE, TICK_SIZE
-from trimlog.views.report import _atomic_write, _check_target, _render_html
+from trimlog.views.report import _render_html
 
 if TYPE_CHECKING:
     from trimlog.pipeline.calibration import CalibrationResult
@@ -214,15 +216,18 @@ def write_calibration_report(result: CalibrationResult, path: str | os.PathLike[
         The file cannot be written; no partial file is left behind.
     """
     path = Path(path)
-    _check_target(path)
+    if path.is_dir():
+        raise TrimlogError(f"cannot write the report to {path}: it is a folder; give a file "
+                           "name such as calibration.pdf")
+    check_output_target(path, "report")
     generated = dt.datetime.now(dt.UTC).strftime("%Y-%m-%d %H:%M UTC")
     blocks = calibration_blocks(result, aircraft, generated)
     title = f"trimlog airspeed calibration: {aircraft}"
     footer = f"trimlog {__version__} | {aircraft} | airspeed calibration | generated {generated}"
     if path.suffix.lower() in (".html", ".htm"):
         data = _render_html(blocks, title, footer).encode("utf-8")
-        _atomic_write(path, lambda fh: fh.write(data))
+        write_atomically(path, data, what="report")
     else:
         pages = render_pdf(blocks, footer)
-        _atomic_write(path, lambda fh: save_pdf(pages, fh, title))
+        write_atomically(path, lambda fh: save_pdf(pages, fh, title), what="report")
     return path

@@ -20,20 +20,19 @@ from __future__ import annotations
 import base64
 import dataclasses
 import datetime as dt
-import errno
 import html
 import io
 import os
-import secrets
 from collections.abc import Callable, Mapping, Sequence
 from pathlib import Path
-from typing import IO, TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, Any
 
 from matplotlib.axes import Axes
 from matplotlib.figure import Figure
 
 from trimlog import cautions, findings
 from trimlog.errors import TrimlogError
+from trimlog.files import check_output_target, write_atomically
 from trimlog.incidence.shim import shim_thickness_in
 from trimlog.progress import SILENT, Progress
 from trimlog.views import maneuver_plots, plots
@@ -547,50 +546,6 @@ def _render_html(blocks: Sequence[Any], title: str, footer: str) -> str:
 # --------------------------------------------------------------------------- writing
 
 
-def _os_reason(exc: OSError) -> str:
-    reasons = {errno.ENOSPC: "the disk is full", errno.EDQUOT: "the disk quota is exceeded",
-               errno.EACCES: "permission denied", errno.EPERM: "permission denied",
-               errno.EROFS: "the file system is read-only",
-               errno.ENOENT: "the folder does not exist"}
-    return reasons.get(exc.errno, exc.strerror or str(exc))
-
-
-def _atomic_write(path: Path, write: Callable[[IO[bytes]], None]) -> None:
-    """Write through a temporary file in the same folder, renamed into place when complete."""
-    tmp = path.with_name(f".{path.name}.{os.getpid()}.{secrets.token_hex(4)}.tmp")
-    try:
-        with open(tmp, "xb") as fh:
-            write(fh)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    except OSError as exc:
-        _remove(tmp)
-        raise TrimlogError(f"cannot write the report to {path}: {_os_reason(exc)}; no report "
-                           "was written (choose another file with -o, or free some space)"
-                           ) from None
-    except BaseException:
-        _remove(tmp)
-        raise
-
-
-def _remove(tmp: Path) -> None:
-    try:
-        tmp.unlink(missing_ok=True)
-    except OSError:
-        pass  # the original error is the one to report
-
-
-def _check_target(path: Path) -> None:
-    """Refuse a target that cannot be written before spending time on drawing."""
-    if path.is_dir():
-        raise TrimlogError(f"cannot write the report to {path}: it is a folder; give a file "
-                           "name such as report.pdf")
-    if not path.parent.is_dir():
-        raise TrimlogError(f"cannot write the report to {path}: the folder {path.parent} does "
-                           "not exist")
-
-
 def _announcing(blocks: list[Any], progress: Progress) -> list[Any]:
     """The blocks, each figure telling ``progress`` as it is drawn."""
     plots_ = [b for b in blocks if isinstance(b, Plot)]
@@ -635,7 +590,10 @@ def write_report(analysis: Analysis, path: str | os.PathLike[str], *,
         no partial file is left behind.
     """
     path = Path(path)
-    _check_target(path)
+    if path.is_dir():
+        raise TrimlogError(f"cannot write the report to {path}: it is a folder; give a file "
+                           "name such as report.pdf")
+    check_output_target(path, "report")  # before spending time on drawing
     records = trend.records() if hasattr(trend, "records") else trend
     now = dt.datetime.now(dt.UTC)
     generated = now.strftime("%Y-%m-%d %H:%M UTC")
@@ -646,9 +604,9 @@ def write_report(analysis: Analysis, path: str | os.PathLike[str], *,
     if path.suffix.lower() in (".html", ".htm"):
         data = _render_html(blocks, title, footer).encode("utf-8")
         progress.step("pages", path.name)
-        _atomic_write(path, lambda fh: fh.write(data))
+        write_atomically(path, data, what="report")
     else:
         pages = render_pdf(blocks, footer)
         progress.step("pages", f"{len(pages)} pages")
-        _atomic_write(path, lambda fh: save_pdf(pages, fh, title))
+        write_atomically(path, lambda fh: save_pdf(pages, fh, title), what="report")
     return path
