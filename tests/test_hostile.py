@@ -294,7 +294,7 @@ def history_db(work, capsys):
 @pytest.mark.parametrize(("option", "value"), [
     ("--min-margin", "-10"), ("--min-margin", "nan"), ("--min-margin", "1e308"),
     ("--min-margin", "inf"), ("--min-margin", "41"), ("--max-step", "inf"),
-    ("--max-step", "-3"), ("--max-step", "0"), ("--max-step", "nan"),
+    ("--max-step", "-3"), ("--max-step", "21"), ("--max-step", "nan"),
 ])
 def test_plan_policies_are_finite_and_in_range(option, value, history_db, capsys):
     err = assert_refused(["plan", "--db", str(history_db), f"{option}={value}"], capsys,

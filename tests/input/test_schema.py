@@ -117,7 +117,7 @@ def test_huge_integers_in_the_profile_are_clear_errors(old, new, key):
     ("min_static_margin = 5.0", "min_static_margin = nan", r"limits.min_static_margin"),
     ("min_static_margin = 5.0", "min_static_margin = inf", r"limits.min_static_margin"),
     ("min_static_margin = 5.0", "min_static_margin = true", r"found the boolean true"),
-    ("cg_step_max = 2.0", "cg_step_max = 0", r"limits.cg_step_max"),
+    ("cg_step_max = 2.0", "cg_step_max = -0.5", r"limits.cg_step_max"),
     ('weight = "1600 lb"', 'weight = "1600 kg"',
      r"cruise.weight: 3527.4 lb is more than 1.25 x .*kg against lb"),
     ('cas = "120 kt"', 'cas = "120000 kt"', r"cruise.cas"),
@@ -188,7 +188,7 @@ def test_policies_typed_elsewhere_use_the_profile_rule():
     for bad in (-10.0, float("nan"), 1e308, float("inf"), 40.5):
         with pytest.raises(ProfileError, match="--min-margin: limits.min_static_margin"):
             check_policy("limits.min_static_margin", bad, source="--min-margin")
-    for bad in (float("inf"), -3.0, 0.0):
+    for bad in (float("inf"), -3.0, 20.5):
         with pytest.raises(ProfileError, match="limits.cg_step_max"):
             check_policy("limits.cg_step_max", bad)
     profile = with_policy(parse_profile(PROFILE, "p.toml"), min_static_margin_pct_mac=0.0)

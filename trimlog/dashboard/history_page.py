@@ -134,7 +134,8 @@ def _trend(p) -> None:
                              value=float(p.min_static_margin_pct_mac), step=0.5,
                              key="policy_margin")
     step = c2.number_input("Largest step aft of the most aft CG flown [%MAC]",
-                           min_value=0.1, max_value=s_key.high, value=float(p.cg_step_max_pct_mac),
+                           min_value=s_key.low, max_value=s_key.high,
+                           value=float(p.cg_step_max_pct_mac),
                            step=0.5, key="policy_step")
     try:
         trend = compute.trend(p.name, margin, step)

@@ -148,7 +148,7 @@ PROFILE_KEYS: tuple[Key, ...] = (
     Key("limits.min_static_margin", "number", "%MAC", low=0.0, high=40.0,
         default=DEFAULT_MIN_STATIC_MARGIN_PCT_MAC, attr="min_static_margin_pct_mac",
         description="minimum static margin to keep, a policy choice"),
-    Key("limits.cg_step_max", "number", "%MAC", low=0.0, high=20.0, low_open=True,
+    Key("limits.cg_step_max", "number", "%MAC", low=0.0, high=20.0,
         default=DEFAULT_CG_STEP_MAX_PCT_MAC, attr="cg_step_max_pct_mac",
         description="largest CG step beyond the most aft CG flown"),
     Key("limits.elevator_reserve", "quantity", "deg", low=0.0, high=30.0,
