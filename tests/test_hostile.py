@@ -464,3 +464,50 @@ def test_unit_cache_is_private_to_the_user(tmp_path, monkeypatch):
     assert (folder.stat().st_mode & 0o777) == 0o700
     os.chmod(folder, 0o777)
     assert units.cache_folder() is None, "a world-writable cache folder must not be used"
+
+
+# --------------------------------------------------------------------------- disk full
+
+
+def _limited(args: list[str], cwd: Path, blocks: int) -> subprocess.CompletedProcess:
+    """The command line with a file-size limit of ``blocks`` x 512 bytes (a full disk)."""
+    env = {**os.environ, "PYTHONPATH": str(ROOT), "NO_COLOR": "1",
+           "TRIMLOG_DB": str(cwd / "default.sqlite")}
+    command = " ".join(["ulimit -f", str(blocks), ";", "exec", sys.executable, "-m",
+                        "trimlog.cli", *[f"'{a}'" for a in args]])
+    return subprocess.run(["bash", "-c", command], capture_output=True, text=True, env=env,
+                          cwd=cwd, timeout=240)
+
+
+@pytest.mark.slow  # interpreters under a file-size limit
+def test_disk_full_during_json_and_report_keeps_the_previous_files(work):
+    result = work / "result.json"
+    result.write_text('{"previous": true}\n')
+    report = work / "report.pdf"
+    report.write_bytes(b"%PDF previous")
+    base = ["analyze", str(work / "flight1_points.csv"), "--aircraft",
+            str(work / "tinkerfinch_tf2.toml"), "--quiet", "--json", str(result)]
+    done = _limited(base, work, 8)
+    assert done.returncode == EXIT_BAD_INPUT, done.stderr[-1500:]
+    assert "Traceback" not in done.stderr and "file-size limit" in done.stderr
+    assert json.loads(result.read_text()) == {"previous": True}
+    done = _limited(["report", str(work / "flight1_points.csv"), "--aircraft",
+                     str(work / "tinkerfinch_tf2.toml"), "-o", str(report)], work, 8)
+    assert done.returncode == EXIT_BAD_INPUT, done.stderr[-1500:]
+    assert "Traceback" not in done.stderr
+    assert report.read_bytes() == b"%PDF previous"
+    assert sorted(p.name for p in work.iterdir() if p.name.startswith(".")) == []
+
+
+@pytest.mark.slow  # interpreters under a file-size limit
+def test_disk_full_during_export_leaves_no_export_and_the_next_one_works(history_db):
+    out = history_db.parent / "exported"
+    # 200 blocks: room for SQLite's 32 KB shared-memory file, not for the 600 KB export
+    done = _limited(["export", "--db", str(history_db), str(out)], history_db.parent, 200)
+    assert done.returncode == EXIT_BAD_INPUT, done.stderr[-1500:]
+    assert "Traceback" not in done.stderr
+    assert not (out / "trimlog-history.json").exists()
+    done = _limited(["export", "--db", str(history_db), str(out)], history_db.parent,
+                    1_000_000)
+    assert done.returncode == EXIT_OK, done.stderr[-1500:]
+    assert (out / "trimlog-history.json").exists()
