@@ -83,6 +83,11 @@ def test_one_new_upload_gives_the_programme_result(tmp_path):
         in text
     rec = expected.primary.incidence
     assert _metrics(at)["Incidence change"] == f"{rec.change_deg:+.2f} deg"
+    from trimlog.views.formatting import elevator_words, incidence_words
+
+    # the sign in words beside the headline angles
+    assert incidence_words(rec.change_deg) in text
+    assert elevator_words(rec.elevator_at_cruise_deg) in text
     assert "Stabilizer incidence and shim" in [s.value for s in at.subheader]
     assert "Static margins" in [s.value for s in at.subheader]
     # one click saves the new flight

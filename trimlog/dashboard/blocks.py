@@ -8,6 +8,7 @@ from trimlog import cautions
 from trimlog.dashboard import common
 from trimlog.dashboard.common import interval
 from trimlog.pipeline.chain import Analysis
+from trimlog.views.formatting import elevator_words, incidence_words
 
 
 def shim_block(a: Analysis) -> None:
@@ -29,10 +30,12 @@ def shim_block(a: Analysis) -> None:
             cols = st.columns(4)
             cols[0].metric("Elevator at cruise", f"{rec.elevator_at_cruise_deg:+.2f} deg",
                            help="trailing edge down positive")
-            cols[0].caption(f"95 %: {interval(rec.elevator_at_cruise_ci95_deg, '+.2f')} deg")
+            cols[0].caption(f"**{elevator_words(rec.elevator_at_cruise_deg)}**; 95 %: "
+                            f"{interval(rec.elevator_at_cruise_ci95_deg, '+.2f')} deg")
             cols[1].metric("Incidence change", f"{rec.change_deg:+.2f} deg",
                            help="leading edge up positive")
-            cols[1].caption(f"95 %: {interval(rec.change_ci95_deg, '+.2f')} deg")
+            cols[1].caption(f"**{incidence_words(rec.change_deg)}**; 95 %: "
+                            f"{interval(rec.change_ci95_deg, '+.2f')} deg")
             if rec.shim_recommended:
                 cols[2].metric("Nearest shim stock", f"{rec.shim_stock_thickness_in:.3f} in",
                                help=f"{rec.shim_stock} stock")
