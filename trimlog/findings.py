@@ -234,6 +234,16 @@ _TEMPLATES: dict[str, str] = {
         "No change recommended: the computed change ({change_deg:+.2f} deg, "
         "{thickness_in:.3f} in / {thickness_mm:.2f} mm) is thinner than half the thinnest "
         "practical shim."),
+    "incidence.shim.none.step_too_thin": (
+        "No cut yet: the first step that cannot overshoot ({change_deg:+.2f} deg, "
+        "{thickness_in:.3f} in / {thickness_mm:.2f} mm) is thinner than the thinnest stock; "
+        "calibrate tau in flight (cruise trim points before and after a known shim) first."),
+    "incidence.shim.first_step": (
+        "tau is not flight-calibrated ({tau_source}, range {tau_lo:.2f} to {tau_hi:.2f}), so "
+        "the full change ({change_deg:+.2f} deg) may overshoot: cut a first step of "
+        "{step_deg:+.2f} deg, the near end of its 95 % interval, rounded down to stock. Then "
+        "re-fly cruise trim points to calibrate tau from the shift of the elevator, and cut "
+        "the rest from that."),
     "incidence.shim.new_incidence": (
         "Stabilizer incidence {new_incidence_deg:+.2f} deg to the waterline."),
     "incidence.shim.unusual_incidence": (

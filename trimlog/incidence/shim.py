@@ -249,6 +249,7 @@ def shim(
     tau: float | None = None,
     current_incidence_deg: float | None = None,
     stock: Literal["inch", "metric"] = "inch",
+    round_down: bool = False,
 ) -> ShimResult:
     """Size the shim for an incidence change, rounded to practical stock.
 
@@ -269,6 +270,9 @@ def shim(
     stock : {"inch", "metric"}
         Which stock list to round to (:data:`INCH_STOCK_IN` or
         :data:`METRIC_STOCK_MM`); up to two sheets stacked.
+    round_down : bool
+        Round to the thickest stack not thicker than the exact shim (for a
+        first step that must not overshoot) instead of the nearest.
 
     Returns
     -------
@@ -293,7 +297,10 @@ def shim(
     exact_in = shim_thickness_in(change, spacing_in)
     spacing = float(spacing_in)
     found: list[Finding] = []
-    sheets, stock_in = min(_stock_choices(stock), key=lambda item: abs(item[1] - exact_in))
+    if round_down:
+        sheets, stock_in = [c for c in _stock_choices(stock) if c[1] <= exact_in + 1e-12][-1]
+    else:
+        sheets, stock_in = min(_stock_choices(stock), key=lambda item: abs(item[1] - exact_in))
     interval_has_zero = False
     if change_ci95_deg is not None:
         lo, hi = _interval("change_ci95_deg", change_ci95_deg, change)
@@ -340,7 +347,8 @@ def shim(
         code = "incidence.shim.none.interval_has_zero" + ("" if location else ".no_shim")
         verdict = [finding(code, Severity.CAUTION, change_deg=change, **move)]
     else:
-        verdict = [finding("incidence.shim.none.too_thin", Severity.NOTE, change_deg=change,
+        code = "incidence.shim.none." + ("step_too_thin" if round_down else "too_thin")
+        verdict = [finding(code, Severity.NOTE, change_deg=change,
                            thickness_in=exact_in, thickness_mm=exact_mm)]
     if new_incidence is not None:
         verdict.append(finding("incidence.shim.new_incidence", Severity.NOTE,
@@ -414,6 +422,11 @@ class IncidenceRecommendation:
     verdict: tuple[Finding, ...]
     findings: tuple[Finding, ...]
     cautions: tuple[str, ...]
+    #: The change the shim above makes now [deg]: the estimate when tau is
+    #: flight-calibrated, else the near end of ``change_ci95_deg``.
+    step_change_deg: float | None = None
+    #: "full change" or "first step" (tau not flight-calibrated).
+    step_basis: str = "full change"
 
     @property
     def words(self) -> str:
@@ -486,6 +499,15 @@ def recommend_incidence(
     A recommendation after a shim is flown is a residual, not a repeat,
     provided the elevator at cruise is that of the latest setting.
 
+    When tau is not flight-calibrated (a profile value or the chord-ratio
+    estimate) the shim is sized for a first step that cannot overshoot: the
+    near end (smaller magnitude) of the change's 95 % interval, rounded down
+    to stock.  The words say so and ask for a re-fly, whose intercept shift
+    calibrates tau (:func:`trimlog.incidence.tau.calibrate_tau`) and sizes the
+    rest.  A shim too thick by the error of an uncalibrated tau would leave the
+    elevator trimmed the other way and need a second, corrective cut; an
+    undersized first step only costs one more flight.
+
     References
     ----------
     See :func:`incidence_change` and :func:`shim`.
@@ -495,11 +517,18 @@ def recommend_incidence(
     de = _finite("elevator_cruise_deg", elevator_cruise_deg)
     de_ci = _interval("elevator_ci95_deg", elevator_ci95_deg, de)
     change = incidence_change(de, de_ci, tau.tau, tau.ci95)
+    step, basis = first_step(change, tau)
     cut = shim(
-        change.change_deg, spacing_in, change_ci95_deg=change.ci95_deg,
+        step, spacing_in, change_ci95_deg=change.ci95_deg,
         elevator_cruise_deg=de, tau=tau.tau, current_incidence_deg=current_incidence_deg,
-        stock=stock,
+        stock=stock, round_down=basis == "first step",
     )
+    step_words: tuple[Finding, ...] = ()
+    if basis == "first step" and cut.recommended:
+        step_words = (finding(
+            "incidence.shim.first_step", Severity.CAUTION, tau_source=tau.tau_source,
+            tau_lo=tau.ci95[0], tau_hi=tau.ci95[1], change_deg=change.change_deg,
+            step_deg=step),)
     found = [finding("incidence.tau.unconverted", Severity.CAUTION, text=n) for n in tau.notes]
     found += cut.findings
     if abs(de) > LINEAR_DEFLECTION_LIMIT_DEG:
@@ -531,6 +560,42 @@ def recommend_incidence(
             cut.residual_elevator_deg if cut.residual_elevator_deg is not None else de
         ),
         current_incidence_deg=current_incidence_deg, new_incidence_deg=cut.new_incidence_deg,
-        verdict=(summary, *cut.verdict), findings=tuple(found),
+        verdict=(summary, *cut.verdict, *step_words), findings=tuple(found),
         cautions=(cautions.ESTIMATE_STATEMENT, *cautions.INCIDENCE),
+        step_change_deg=step, step_basis=basis,
     )
+
+
+def first_step(change: IncidenceChange, tau: TauChoice) -> tuple[float, str]:
+    """The incidence change to make now: all of it, or a first step that cannot overshoot.
+
+    Parameters
+    ----------
+    change : IncidenceChange
+        From :func:`incidence_change`.
+    tau : TauChoice
+        Where tau came from.
+
+    Returns
+    -------
+    (float, str)
+        The change to make now [deg] and ``"full change"`` (tau
+        flight-calibrated) or ``"first step"`` (otherwise: the end of the
+        95 % interval nearer zero; the estimate itself when the interval
+        straddles zero, where :func:`shim` recommends nothing).
+
+    Examples
+    --------
+    >>> from trimlog.incidence.tau import TauChoice
+    >>> c = IncidenceChange(-1.3, (-1.5, -0.9), "")
+    >>> first_step(c, TauChoice(0.55, (0.39, 0.57), "chord-ratio estimate", ""))
+    (-0.9, 'first step')
+    >>> first_step(c, TauChoice(0.45, (0.40, 0.50), "flight-calibrated", ""))
+    (-1.3, 'full change')
+    """
+    if tau.tau_source == "flight-calibrated":
+        return change.change_deg, "full change"
+    lo, hi = change.ci95_deg
+    if lo <= 0.0 <= hi:
+        return change.change_deg, "first step"
+    return (hi if hi < 0.0 else lo), "first step"

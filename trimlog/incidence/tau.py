@@ -61,6 +61,34 @@ _CHART_CHORD_RATIO = (0.05, 0.10, 0.15, 0.20, 0.25, 0.30, 0.35, 0.40, 0.45, 0.50
 _CHART_TAU = (0.16, 0.26, 0.35, 0.41, 0.47, 0.52, 0.56, 0.60, 0.64, 0.67, 0.71, 0.74, 0.80)
 CHART_READING_PRECISION = 0.02
 
+# What the chord-ratio methods leave out, each a fraction by which the elevator
+# of a real light-aircraft tail can be LESS effective than the 2-D estimate.
+# The methods assume a full-span, sealed, unbalanced plain flap; a profile does
+# not say which of these hold, so the near end of the range allows for all
+# three.  None of them makes an elevator more effective than the estimate, so
+# the far end is unchanged.
+#: Elevator short of the full tail span (rudder cut-out, tips, a hinge-line
+#: fairing): tau scales with about the spanned fraction of the tail, 0.85-0.95 on
+#: light aircraft (DATCOM sec. 6.1.4.1 span factor K_b; values from memory).
+SPAN_RATIO_ALLOWANCE = 0.10
+#: Unsealed hinge gap: flow through the gap costs roughly 10-20 % of the plain
+#: flap's effectiveness (NACA wind-tunnel tests of sealed and unsealed
+#: control-surface gaps, summarised in Hoerner, *Fluid-Dynamic Lift*, 1985,
+#: ch. 5; from memory).
+UNSEALED_GAP_ALLOWANCE = 0.15
+#: Horn or overhang balance: the unshielded horn area carries less than its share
+#: of the elevator's lift, about 5 % of tau (Hoerner, *Fluid-Dynamic Lift*,
+#: ch. 5; from memory).
+HORN_BALANCE_ALLOWANCE = 0.05
+#: Flight-calibrated tau of light aircraft are often this much or more below
+#: handbook chord-ratio estimates (common practice, no source); the three
+#: allowances above, compounded, give about this.
+REAL_TAIL_ALLOWANCES = (
+    ("elevator span ratio", SPAN_RATIO_ALLOWANCE),
+    ("hinge gap or seal", UNSEALED_GAP_ALLOWANCE),
+    ("horn balance", HORN_BALANCE_ALLOWANCE),
+)
+
 # Roskam [3] fig. 8.15: Cl_delta / Cl_delta,theory read at cf/c = 0.05 and 0.50
 # (nearly straight lines in between), one row per Cl_alpha / Cl_alpha,theory.
 _CORRECTION_SLOPE_RATIO = (0.70, 0.80, 0.90, 1.00)
@@ -169,6 +197,25 @@ class TauEstimate:
     chart_value: float
     ci95: tuple[float, float]
     warnings: tuple[str, ...] = ()
+    #: The fraction the near end allows for span ratio, gap and horn together.
+    real_tail_allowance: float = 0.0
+
+
+def real_tail_factor() -> float:
+    """Worst-case factor on tau for span ratio, gap and horn balance, compounded.
+
+    Returns
+    -------
+    float
+        ``prod(1 - a)`` over :data:`REAL_TAIL_ALLOWANCES` [-] (0.727 with the
+        values from memory: 0.90 x 0.85 x 0.95).
+
+    Examples
+    --------
+    >>> round(real_tail_factor(), 3)
+    0.727
+    """
+    return float(np.prod([1.0 - a for _, a in REAL_TAIL_ALLOWANCES]))
 
 
 def elevator_effectiveness_estimate(
@@ -189,8 +236,12 @@ def elevator_effectiveness_estimate(
     TauEstimate
         ``value`` = thin-airfoil tau x correction factor; ``ci95`` spans that
         value and the independent chart reading, widened by the chart's
-        reading precision (a range between two published methods, not a
-        statistical interval).
+        reading precision (the spread between two published methods), and
+        its near end is further lowered by :func:`real_tail_factor` for what
+        the methods leave out (elevator span ratio, hinge gap or seal, horn
+        balance).  It is a range, not a statistical interval; it is not
+        flight-calibrated and an incidence change sized from it must be made
+        in a first step from its near end.
 
     Notes
     -----
@@ -212,6 +263,8 @@ def elevator_effectiveness_estimate(
     >>> est = elevator_effectiveness_estimate(0.35)
     >>> round(est.value, 2), est.chart_value
     (0.59, 0.56)
+    >>> [round(x, 2) for x in est.ci95]
+    [0.39, 0.61]
     """
     ratio = _chord_ratio_in_range(chord_ratio)
     warnings = []
@@ -225,11 +278,13 @@ def elevator_effectiveness_estimate(
     value = thin * factor
     chart = _chart_tau(ratio)
     margin = CHART_READING_PRECISION
-    ci95 = (min(value, chart) - margin, max(value, chart) + margin)
+    real = real_tail_factor()
+    ci95 = (min(value, chart) * real - margin, max(value, chart) + margin)
     return TauEstimate(
         chord_ratio=ratio, thin_airfoil=thin, correction_factor=factor,
         section_lift_slope_ratio=float(section_lift_slope_ratio), value=value,
         chart_value=chart, ci95=ci95, warnings=tuple(warnings),
+        real_tail_allowance=1.0 - real,
     )
 
 
@@ -445,7 +500,10 @@ def choose_tau(
                 f"thin-airfoil theory {est.thin_airfoil:.3f} (Glauert) x empirical correction "
                 f"{est.correction_factor:.2f} (Roskam Part VI fig. 8.15 / DATCOM); "
                 f"Sadraey's chart (2012, fig. 12.12) reads {est.chart_value:.2f}; the range "
-                "spans both"
+                f"{est.ci95[0]:.2f} to {est.ci95[1]:.2f} spans both and allows "
+                f"{100 * est.real_tail_allowance:.0f} % less for the elevator span ratio, "
+                "hinge gap or seal and horn balance (allowances from memory); not "
+                "flight-calibrated"
             ),
             notes=tuple(notes) + est.warnings,
         )
