@@ -284,6 +284,15 @@ _TEMPLATES: dict[str, str] = {
     "pipeline.calibration.not_determinable": (
         "no speed had three or more steady legs on spread headings: the position error "
         "cannot be determined from these data"),
+    "pipeline.stick_force.too_light": (
+        "{flight} (CG {cg_pct_mac:.1f} %MAC): the stick force is stable but light, "
+        "{gradient_lbf_per_kt:+.3f} lbf/kt [{lo:+.3f}, {hi:+.3f}], about 1 lbf per "
+        "{kt_per_lbf:.0f} kt, below the {floor_lbf_per_kt:.2f} lbf/kt (1 lbf per 6 kt) that a "
+        "pilot can be relied on to feel (common practice, from memory; 14 CFR 25.173(c) sets "
+        "this figure for transport airplanes). The small-airplane rule, 14 CFR 23.173(c) "
+        "before amendment 23-64, asks only that any substantial speed change give a stick "
+        "force clearly perceptible to the pilot: judge it in flight, and do not load further "
+        "aft on the strength of this gradient."),
     # ---- history
     "history.programme.no_saved_flights": (
         "no flight of '{aircraft}' is saved in {database} yet: only the new flights are analysed"),

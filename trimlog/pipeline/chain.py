@@ -38,7 +38,7 @@ from trimlog.stability import maneuver, margins
 from trimlog.stability import neutral_points as stability
 from trimlog.stability import tail as tailgeometry
 from trimlog.stability.critical import tighten_next_step
-from trimlog.stability.results import StabilityResult
+from trimlog.stability.results import FlightGradient, StabilityResult
 
 LOADING_SHEET_SUFFIX = ".loading.toml"
 
@@ -363,6 +363,7 @@ def analyze(
         elif r.incidence_reason:
             found.append(finding("incidence.no_recommendation", Severity.CAUTION, subject,
                                  reason=r.incidence_reason))
+        found += [f.about(config=r.config) for f in light_stick_force(r.stability.gradients)]
     measured = primary.stability.stick_fixed.neutral_point.pct_mac
     tail = tailgeometry.check_tail_geometry(profile, measured_neutral_point_pct_mac=measured)
     maneuvering = _analyze_maneuvers(flights, profile, loadings, primary,
@@ -534,6 +535,49 @@ def _calibrate_tau(result: StabilityResult, points: pd.DataFrame) -> tau.TauCali
     variance = float(cov.loc[first, first] + cov.loc[latest, latest] - 2.0 * cov.loc[first, latest])
     return tau.calibrate_tau(shift, math.sqrt(max(variance, 0.0)), float(i_latest - i_first),
                              fit.linear.df_resid)
+
+
+#: Smallest stable stick-force gradient a pilot can be relied on to feel,
+#: 1 lbf per 6 kt [lbf/kt]: the figure of 14 CFR 25.173(c), used for small
+#: airplanes as common practice (from memory); 14 CFR 23.173(c) before
+#: amendment 23-64 states the rule only in words ("clearly perceptible").
+PERCEPTIBLE_STICK_FORCE_GRADIENT_LBF_PER_KT = 1.0 / 6.0
+
+
+def light_stick_force(gradients: Iterable[FlightGradient]) -> list[Finding]:
+    """A caution for each flight whose stable stick-force gradient is too small to feel.
+
+    Parameters
+    ----------
+    gradients : iterable of FlightGradient
+        Per-flight trim-line fits (``dfs_dv_lbf_per_kt`` negative is stable).
+
+    Returns
+    -------
+    list of Finding
+        ``pipeline.stick_force.too_light`` for each flight whose gradient is
+        stable but smaller in magnitude than
+        :data:`PERCEPTIBLE_STICK_FORCE_GRADIENT_LBF_PER_KT`.
+
+    References
+    ----------
+    14 CFR 23.173(c) (before amendment 23-64): "The stick force must vary with
+    speed so that any substantial speed change results in a stick force
+    clearly perceptible to the pilot." 14 CFR 25.173(c): "not less than 1 pound
+    for each 6 knots".
+    """
+    floor = PERCEPTIBLE_STICK_FORCE_GRADIENT_LBF_PER_KT
+    out = []
+    for g in gradients:
+        grad, ci = g.dfs_dv_lbf_per_kt, g.dfs_dv_ci95_lbf_per_kt
+        if grad is None or ci is None or not -floor < grad < 0.0:
+            continue
+        out.append(finding(
+            "pipeline.stick_force.too_light", Severity.CAUTION,
+            Subject(flight=str(g.flight), quantity="dfs_dv_lbf_per_kt"),
+            flight=str(g.flight), cg_pct_mac=g.cg_pct_mac, gradient_lbf_per_kt=grad,
+            lo=ci[0], hi=ci[1], kt_per_lbf=-1.0 / grad, floor_lbf_per_kt=floor))
+    return out
 
 
 def _latest_incidence(
