@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
@@ -22,7 +22,7 @@ from trimlog.history import programme
 from trimlog.history.codec import clean
 from trimlog.history.store import AircraftRecord, FlightRecord, ImportOutcome, Store
 from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
-from trimlog.input.logs import load_source
+from trimlog.input.logs import load_source, read_log
 from trimlog.input.profile import AircraftProfile, check_policy, parse_profile
 from trimlog.pipeline import calibration, chain
 from trimlog.pipeline.reduction import reduce_points
@@ -290,6 +290,9 @@ class Trend:
     next_step: NextStep
     configuration: str
     warnings: tuple[str, ...]
+    #: Both maneuver points after each flight, by flight name (a record of
+    #: :func:`_maneuver_record`, or None before any maneuvering point).
+    maneuver_points: dict[str, dict[str, Any] | None] = field(default_factory=dict)
 
     @property
     def identifiable(self) -> bool:
@@ -313,6 +316,7 @@ class Trend:
                     free.pct_mac if free is not None and free.identifiable else None),
                 "stick_free_ci95_pct_mac": (
                     list(free.ci95_pct_mac) if free is not None and free.identifiable else None),
+                "maneuver_point": self.maneuver_points.get(step.flight),
             })
         return out
 
@@ -446,8 +450,55 @@ def trend(
             aft_gradient_clearly_stable=_aft_flight_clearly_stable(reduced, config, cg_by_flight),
             stick_free=latest_free,
         )
+    # The maneuvering limits, as `trimlog analyze` applies them (the same policy margin).
+    policy = profile if min_margin_pct_mac is None else replace(
+        profile, min_static_margin_pct_mac=float(min_margin_pct_mac))
+    flights = _flights_with_logs(store, stored) if stored.records else []
+    maneuvering = chain.analyze_maneuvers(flights, policy, loadings=stored.sheets)
+    next_step = chain.with_maneuver_limits(next_step, maneuvering, profile)
     return Trend(stored.aircraft.name, _listing(stored, cg_by_flight), steps, next_step, config,
-                 tuple(dict.fromkeys(warnings)))
+                 tuple(dict.fromkeys(warnings)),
+                 _maneuver_sequence(flights, policy, stored.sheets) if maneuvering else {})
+
+
+def _flights_with_logs(store: Store, stored: _Stored) -> list[chain.FlightData]:
+    """Every stored flight with its log read again (its maneuvering points are found from it)."""
+    profile = stored.profile
+    flights = []
+    for r in stored.records:
+        name = stored.names[r.id]
+        log = read_log(store.raw_bytes(r.id), name=r.filename, column_map=profile.column_map,
+                       inverted=profile.inverted_columns)
+        mine = (stored.points.loc[stored.points["flight"] == name].reset_index(drop=True)
+                if len(stored.points) else stored.points)
+        flight = chain.FlightData(name, r.filename, r.sha256, log, mine, stored.sheets.get(name))
+        # found once here, not again for each step of the trend
+        flights.append(replace(flight, maneuvers=flight.maneuvering_points()))
+    return flights
+
+
+def _maneuver_sequence(flights: list[chain.FlightData], profile: AircraftProfile,
+                       sheets: dict[str, LoadingSheet]) -> dict[str, dict[str, Any] | None]:
+    """Both maneuver points from the first k flights, for each k (the trend's added column)."""
+    out: dict[str, dict[str, Any] | None] = {}
+    for k, flight in enumerate(flights, start=1):
+        result = chain.analyze_maneuvers(flights[:k], profile, loadings=sheets)
+        out[flight.flight] = None if result is None else _maneuver_record(result)
+    return out
+
+
+def _maneuver_record(result) -> dict[str, Any]:
+    """The trend's ``maneuver_point`` of one step: each maneuver point, or None."""
+    def one(point) -> dict[str, Any] | None:
+        if point is None:
+            return None
+        known = bool(point.identifiable)
+        return {"pct_mac": _finite_or_none(point.pct_mac) if known else None,
+                "ci95_pct_mac": list(point.ci95_pct_mac) if known else None,
+                "identifiable": known, "reason": point.reason or None}
+    n = int(result.points["included"].astype(bool).sum()) if len(result.points) else 0
+    return {"stick_fixed": one(result.stick_fixed), "stick_free": one(result.stick_free),
+            "n_points": n}
 
 
 def _latest_flight_level(reduced: pd.DataFrame, config: str, profile: AircraftProfile):

@@ -38,7 +38,7 @@ from trimlog.stability import maneuver, margins
 from trimlog.stability import neutral_points as stability
 from trimlog.stability import tail as tailgeometry
 from trimlog.stability.critical import tighten_next_step
-from trimlog.stability.results import FlightGradient, StabilityResult
+from trimlog.stability.results import FlightGradient, NeutralPoint, NextStep, StabilityResult
 
 LOADING_SHEET_SUFFIX = ".loading.toml"
 
@@ -393,11 +393,34 @@ def _with_maneuver_limits(result: ConfigurationResult, maneuvering: maneuver.Man
     step = result.stability.next_step
     if step is None:
         return result
-    tighter = tighten_next_step(step, maneuvering.next_step_limits(), profile.station)
+    tighter = with_maneuver_limits(step, maneuvering, profile)
     if tighter is step:
         return result
     return dataclasses.replace(result, stability=dataclasses.replace(result.stability,
                                                                      next_step=tighter))
+
+
+def with_maneuver_limits(step: NextStep, maneuvering: maneuver.ManeuverResult | None,
+                         profile: AircraftProfile) -> NextStep:
+    """The next-CG step kept behind the maneuvering limits (the one rule of analyze and plan).
+
+    Parameters
+    ----------
+    step : NextStep
+        From the neutral-point rule.
+    maneuvering : ManeuverResult or None
+        From :func:`analyze_maneuvers`; None leaves the step as it is.
+    profile : AircraftProfile
+        For the station of the new limit.
+
+    Returns
+    -------
+    NextStep
+        See :func:`trimlog.stability.critical.tighten_next_step`.
+    """
+    if maneuvering is None:
+        return step
+    return tighten_next_step(step, maneuvering.next_step_limits(), profile.station)
 
 
 def _analyze_maneuvers(
@@ -409,6 +432,47 @@ def _analyze_maneuvers(
     inclusions: Iterable[tuple[str, int]],
 ) -> maneuver.ManeuverResult | None:
     """Reduce the maneuvering points of every flight and analyse them (None without any)."""
+    s = primary.stability
+    free = s.stick_free.neutral_point if s.stick_free is not None else None
+    return analyze_maneuvers(flights, profile, loadings=loadings,
+                             neutral_fixed=s.stick_fixed.neutral_point, neutral_free=free,
+                             exclusions=exclusions, inclusions=inclusions)
+
+
+def analyze_maneuvers(
+    flights: Sequence[FlightData],
+    profile: AircraftProfile,
+    *,
+    loadings: dict[str, LoadingSheet] | None = None,
+    neutral_fixed: NeutralPoint | None = None,
+    neutral_free: NeutralPoint | None = None,
+    exclusions: Iterable[tuple[str, int]] = (),
+    inclusions: Iterable[tuple[str, int]] = (),
+) -> maneuver.ManeuverResult | None:
+    """The maneuvering analysis of a set of flights (None when none has a maneuvering point).
+
+    Parameters
+    ----------
+    flights : sequence of FlightData
+    profile : AircraftProfile
+    loadings : dict of str to LoadingSheet, optional
+        Each flight's loading sheet (default: the flights' own).
+    neutral_fixed, neutral_free : NeutralPoint, optional
+        The neutral points, for hm - hn only (the limits do not use them).
+    exclusions, inclusions : iterable of (flight, point)
+        The user's choices of maneuvering points (numbered on their own).
+
+    Returns
+    -------
+    ManeuverResult or None
+
+    Raises
+    ------
+    InputFileError
+        A choice names no maneuvering point.
+    """
+    if loadings is None:
+        loadings = {f.flight: f.loading for f in flights if f.loading is not None}
     frames = [m for m in (f.maneuvering_points() for f in flights) if len(m)]
     exclusions, inclusions = list(exclusions), list(inclusions)
     if not frames:
@@ -420,11 +484,8 @@ def _analyze_maneuvers(
     table = maneuver.mark_off_speed(reduce_points(points, profile, loadings).points)
     _set_included(table, exclusions, False)
     _set_included(table, inclusions, True)
-    s = primary.stability
-    free = s.stick_free.neutral_point if s.stick_free is not None else None
-    return maneuver.analyze_maneuvering(table, profile,
-                                        neutral_fixed=s.stick_fixed.neutral_point,
-                                        neutral_free=free)
+    return maneuver.analyze_maneuvering(table, profile, neutral_fixed=neutral_fixed,
+                                        neutral_free=neutral_free)
 
 
 def _check_unique(flights: Sequence[FlightData]) -> None:
