@@ -129,7 +129,10 @@ def test_history_commands_end_to_end(tmp_path, capsys, new_location):
     assert main(["trend", "--db", db, "--json", str(tmp_path / "t.json")]) == EXIT_OK
     trend = json.loads((tmp_path / "t.json").read_text())
     assert [s["n_flights"] for s in trend["trend"]] == [1, 2, 3]
-    assert trend["next_step"]["max_cg_pct_mac"] is not None
+    # after the demo's first three flights the light stick force per g allows no step aft
+    # (the plan keeps the maneuvering limits, as analyze does)
+    assert trend["next_step"]["max_cg_pct_mac"] is None
+    assert trend["next_step"]["limited_by"] == "min_stick_force_per_g"
     assert main(["plan", "--db", db, "--min-margin", "10", "--json",
                  str(tmp_path / "p.json")]) == EXIT_OK
     plan = json.loads((tmp_path / "p.json").read_text())

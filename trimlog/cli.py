@@ -118,6 +118,7 @@ def _build_parser() -> argparse.ArgumentParser:
         "  trimlog analyze today.csv --db history.sqlite --aircraft-name 'My plane'",
     )
     _add_log_inputs(p, with_db=True)
+    _add_maneuver_choices(p)
     p.add_argument("--json", metavar="OUT.json", help="write the machine-readable result")
     p.add_argument("--quiet", action="store_true", help="no terminal summary")
     p.add_argument("--calibrate-from", action="append", default=[], metavar="CAL_LOG",
@@ -165,6 +166,7 @@ def _build_parser() -> argparse.ArgumentParser:
                    help="with --db: which aircraft (needed when the history holds several)")
     p.add_argument("-o", "--output", required=True, metavar="REPORT.pdf", help="PDF to write")
     _add_detection_options(p)
+    _add_maneuver_choices(p)
 
     p = command(
         "import",
@@ -233,6 +235,9 @@ def _build_parser() -> argparse.ArgumentParser:
     p.add_argument("--point", type=_record_id, required=True,
                    help="point number within the flight")
     p.add_argument("--include", action="store_true", help="include the point again")
+    p.add_argument("--maneuver", action="store_true",
+                   help="the point is a maneuvering point (numbered on their own; see the "
+                   "'maneuvering' points of analyze)")
 
     p = command(
         "export",
@@ -343,6 +348,26 @@ def _add_detection_options(p: argparse.ArgumentParser) -> None:
     )
 
 
+def _add_maneuver_choices(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--exclude-maneuver", action="append", default=[], metavar="FLIGHT:POINT",
+                   help="leave a maneuvering point out of the gradients per g (repeatable); "
+                   "it stays listed")
+    p.add_argument("--include-maneuver", action="append", default=[], metavar="FLIGHT:POINT",
+                   help="fit a maneuvering point trimlog left out (an off-speed turn; "
+                   "repeatable)")
+
+
+def _maneuver_choices(args: argparse.Namespace) -> dict[str, list[tuple[str, int]]]:
+    """The ``maneuver_exclusions``/``maneuver_inclusions`` keywords of the analysis."""
+    excluded = _exclusions(args.exclude_maneuver, "--exclude-maneuver")
+    included = _exclusions(args.include_maneuver, "--include-maneuver")
+    both = sorted(set(excluded) & set(included))
+    if both:
+        flight, point = both[0]
+        raise TrimlogError(f"--exclude-maneuver and --include-maneuver both name {flight}:{point}")
+    return {"maneuver_exclusions": excluded, "maneuver_inclusions": included}
+
+
 def _add_db(p: argparse.ArgumentParser, *, choose_aircraft: bool = False) -> None:
     p.add_argument(
         "--db",
@@ -427,18 +452,18 @@ def _loading_sheets(logs: Sequence[str], values: list[str]) -> dict[str, str]:
     return out
 
 
-def _exclusions(values: list[str]) -> list[tuple[str, int]]:
+def _exclusions(values: list[str], option: str = "--exclude") -> list[tuple[str, int]]:
     """Every ``--exclude FLIGHT:POINT`` given (several points of one flight are all kept)."""
     out: list[tuple[str, int]] = []
     for value in values:
         flight, found, point = value.rpartition(":")
         if not found or not flight or not point:
-            raise TrimlogError(f"--exclude: expected FLIGHT:POINT, found {value!r}")
+            raise TrimlogError(f"{option}: expected FLIGHT:POINT, found {value!r}")
         try:
             number = int(point)
         except ValueError:
             raise TrimlogError(
-                f"--exclude: point must be a whole number, found {point!r}"
+                f"{option}: point must be a whole number, found {point!r}"
             ) from None
         if (flight, number) not in out:
             out.append((flight, number))
@@ -479,7 +504,8 @@ def _analyze_with_db(args: argparse.Namespace, progress: Progress = SILENT):  # 
         profile, flights = _load_inputs(args, progress, profile)
         return programme.analyze_programme(
             st, flights, profile=profile, aircraft=name,
-            exclusions=_exclusions(args.exclude), min_hold_s=args.min_hold, progress=progress)
+            exclusions=_exclusions(args.exclude), min_hold_s=args.min_hold, progress=progress,
+            **_maneuver_choices(args))
 
 
 def _run_analyze(args: argparse.Namespace) -> int:
@@ -496,7 +522,7 @@ def _run_analyze(args: argparse.Namespace) -> int:
                                    "aircraft saved there)")
             profile, flights = _load_inputs(args, progress)
             result = analysis.analyze(flights, profile, exclusions=_exclusions(args.exclude),
-                                      progress=progress)
+                                      progress=progress, **_maneuver_choices(args))
     if args.json:
         from trimlog.views.json_export import analysis_to_dict
 
@@ -578,6 +604,10 @@ def _run_report(args: argparse.Namespace) -> int:
             result = _analyze_with_db(args, progress)
             trend = None
         elif args.db:
+            if args.exclude_maneuver or args.include_maneuver:
+                raise TrimlogError("report --db: keep maneuvering-point choices in the history "
+                                   "with 'trimlog exclude --db DB --flight ID --point N "
+                                   "--maneuver' (or give LOG files as well)")
             progress.step("reading", args.db)
             result, trend = _history_analysis(args.db, args.aircraft_name)
         else:
@@ -585,7 +615,7 @@ def _run_report(args: argparse.Namespace) -> int:
                 raise TrimlogError("report: give LOG files with --aircraft, or --db DB")
             profile, flights = _load_inputs(args, progress)
             result = analysis.analyze(flights, profile, exclusions=_exclusions(args.exclude),
-                                      progress=progress)
+                                      progress=progress, **_maneuver_choices(args))
             trend = None
         path = report.write_report(result, args.output, trend=trend, progress=progress)
     _print(f"report written to {path}")
@@ -705,6 +735,12 @@ def _run_plan(args: argparse.Namespace) -> int:
 
 
 def _run_exclude(args: argparse.Namespace) -> int:
+    if args.maneuver:
+        from trimlog.history.maneuver_choices import set_maneuver_included
+
+        with _open_store(args.db, must_exist=True) as st:
+            print(set_maneuver_included(st, args.flight, args.point, args.include))
+        return EXIT_OK
     with _open_store(args.db, must_exist=True) as st:
         st.set_point_included(args.flight, args.point, args.include)
     state = "included" if args.include else "excluded"

@@ -22,6 +22,7 @@ import pandas as pd
 from trimlog.errors import StoreError
 from trimlog.findings import Finding, Severity, Subject, finding
 from trimlog.history.codec import FlightRecord
+from trimlog.history.maneuver_choices import with_choices
 from trimlog.history.store import AircraftRecord, Store
 from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
 from trimlog.input.profile import AircraftProfile, parse_profile
@@ -169,7 +170,7 @@ def _saved_flight(
         points = stored.copy()
         points["flight"] = flight.flight
         points["source"] = record.filename
-        return replace(flight, points=points), [], []
+        return with_choices(replace(flight, points=points), record), [], []
     out, back = [], []
     for point, now, then in zip(fresh["point"].astype(int), fresh["included"].astype(bool),
                                 stored["included"].astype(bool), strict=True):
@@ -177,7 +178,7 @@ def _saved_flight(
             out.append((flight.flight, int(point)))
         elif then and not now:
             back.append((flight.flight, int(point)))
-    return flight, out, back
+    return with_choices(flight, record), out, back
 
 
 def _unique_names(flights: list[chain.FlightData], ids: list[int]) -> list[chain.FlightData]:
@@ -189,7 +190,11 @@ def _unique_names(flights: list[chain.FlightData], ids: list[int]) -> list[chain
             name = f"{f.flight}#{fid}"
             points = f.points.copy()
             points["flight"] = name
-            f = replace(f, flight=name, points=points)
+            turns = f.maneuvers
+            if turns is not None:
+                turns = turns.copy()
+                turns["flight"] = name
+            f = replace(f, flight=name, points=points, maneuvers=turns)
         out.append(f)
     return out
 
@@ -205,6 +210,8 @@ def analyze_programme(
     min_hold_s: float | None = None,
     progress: Progress = SILENT,
     drop_unknown_choices: bool = False,
+    maneuver_exclusions: Iterable[tuple[str, int]] = (),
+    maneuver_inclusions: Iterable[tuple[str, int]] = (),
 ) -> chain.Analysis:
     """Analyse the saved flights with their choices plus the new ones.
 
@@ -213,6 +220,8 @@ def analyze_programme(
     ``inclusions`` are the user's choices now, on top of the saved ones;
     with ``drop_unknown_choices`` a choice naming no point is dropped (the
     dashboard keeps choices of logs since removed) instead of refused.
+    ``maneuver_exclusions`` and ``maneuver_inclusions`` are the same for the
+    maneuvering points (their saved choices travel with the flights).
     """
     prog = programme_flights(store, new_flights, profile=profile, aircraft=aircraft,
                              min_hold_s=min_hold_s)
@@ -223,7 +232,9 @@ def analyze_programme(
         inclusions = [c for c in inclusions if c in present]
     result = chain.analyze(list(prog.flights), prog.profile,
                            exclusions=[*prog.exclusions, *exclusions],
-                           inclusions=[*prog.inclusions, *inclusions], progress=progress)
+                           inclusions=[*prog.inclusions, *inclusions], progress=progress,
+                           maneuver_exclusions=maneuver_exclusions,
+                           maneuver_inclusions=maneuver_inclusions)
     return replace(result, findings=(*prog.findings, *result.findings), programme=prog.inputs)
 
 

@@ -20,6 +20,7 @@ from trimlog import cautions
 from trimlog.errors import InputFileError, StoreError, TrimlogError
 from trimlog.history import programme
 from trimlog.history.codec import clean
+from trimlog.history.maneuver_choices import with_choices
 from trimlog.history.store import AircraftRecord, FlightRecord, ImportOutcome, Store
 from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
 from trimlog.input.logs import load_source, read_log
@@ -272,8 +273,8 @@ def analyze_history(store: Store, aircraft: str | None = None) -> chain.Analysis
         read = chain.load_flight_bytes(raw[r.id], r.filename, stored.profile,
                                        loading=stored.sheets.get(name))[0]
         mine = stored.points.loc[stored.points["flight"] == name].reset_index(drop=True)
-        flights.append(chain.FlightData(name, r.filename, read.sha256, read.log, mine,
-                                        read.loading))
+        flights.append(with_choices(chain.FlightData(name, r.filename, read.sha256, read.log,
+                                                     mine, read.loading), r))
     return chain.analyze(flights, stored.profile)
 
 
@@ -472,8 +473,8 @@ def _flights_with_logs(store: Store, stored: _Stored) -> list[chain.FlightData]:
         mine = (stored.points.loc[stored.points["flight"] == name].reset_index(drop=True)
                 if len(stored.points) else stored.points)
         flight = chain.FlightData(name, r.filename, r.sha256, log, mine, stored.sheets.get(name))
-        # found once here, not again for each step of the trend
-        flights.append(replace(flight, maneuvers=flight.maneuvering_points()))
+        # found once here (not again for each step of the trend), with the user's choices
+        flights.append(with_choices(flight, r))
     return flights
 
 
