@@ -203,7 +203,22 @@ _TEMPLATES: dict[str, str] = {
         "flight '{flight}' point {point}: elevator {elevator_deg:.1f} deg is at the {stop} stop, "
         "so the trim there is not free; consider excluding it"),
     "stability.maneuver.unconverted": "{text}",
-    "stability.maneuver.light_force": "{text}",
+    "stability.maneuver.no_gradient": (
+        "maneuvering: {n_points} point(s) of flight '{flight}' give no gradient per g: {reason}"),
+    "stability.maneuver.lightening": (
+        "maneuvering: flight '{flight}': the stick force per g lightens at higher load factor "
+        "(at {nz_top_g:.2f} g it is {top_ratio_pct:.0f} % of the mean gradient): a light stick "
+        "lets the pilot over-stress the aircraft (14 CFR 23.155(c))"),
+    "stability.maneuver.light_force": (
+        "maneuvering: flight '{flight}' at {cg_pct_mac:.1f} %MAC: stick force per g "
+        "{per_g_lbf:.1f} lbf/g (95 % {lower95_lbf:.1f} to {upper95_lbf:.1f}) {verb} below the "
+        "minimum {minimum_lbf:.1f} lbf/g ({basis})"),
+    "stability.maneuver.aft_limit_light": (
+        "maneuvering: stick force per g predicted at the aft limit {aft_cg_pct_mac:.1f} %MAC and "
+        "{weight_lb:.0f} lb: {per_g_lbf:.1f} lbf/g (95 % {lower95_lbf:.1f} to "
+        "{upper95_lbf:.1f}), below the minimum {minimum_lbf:.1f} lbf/g or not clearly above it"),
+    "stability.maneuver.not_identifiable": (
+        "maneuvering: {kind} maneuver point cannot be said yet: {reason}"),
     # ---- incidence
     "incidence.no_recommendation": "no incidence recommendation: {reason}",
     "incidence.tau.unconverted": "{text}",

@@ -193,3 +193,36 @@ def test_the_next_cg_step_keeps_the_maneuvering_limits():
     # A limit aft of the rule's step changes nothing.
     tight = NextStep(15.0, None, 5.0, 3.0, 12.0, "stick_free_np", "rule")
     assert tighten_next_step(tight, limits) is tight
+
+
+def test_maneuvering_findings_are_typed_with_their_values():
+    from trimlog.findings import CATALOGUE, Severity
+
+    # A light stick force per g (synthetic, flight 3 at h = 0.33): a warning with its numbers.
+    result = maneuver.analyze_maneuvering(_programme((0.20, 0.27, 0.33)), DEMO_PROFILE)
+    light = [f for f in result.findings if f.code == "stability.maneuver.light_force"]
+    assert light and all(f.severity is Severity.WARNING for f in light)
+    third = next(f for f in light if f.subject.flight == "3")
+    g3 = next(g for g in result.gradients if g.flight == "3")
+    assert third.values["per_g_lbf"] == pytest.approx(g3.stick_force_per_g_lbf)
+    assert third.values["lower95_lbf"] == pytest.approx(g3.stick_force_per_g_ci95_lbf[0])
+    assert third.values["minimum_lbf"] == pytest.approx(result.requirement.minimum_per_g_lbf)
+    assert third.values["verb"] == "is"
+    # the warnings are the findings' messages, one for one
+    assert result.warnings == tuple(f.message for f in result.findings)
+    assert all(f.code in CATALOGUE for f in result.findings)
+    # Lightening: a warning naming the top load factor.
+    rng = np.random.default_rng(3)
+    pts = _programme((0.20, 0.25, 0.30))
+    n = pts["nz_g"].to_numpy()
+    pts["stick_force_lbf"] = 12.0 * (n - 1) - 5.0 * (n - 1) ** 2 + 0.02 * rng.standard_normal(
+        n.size)
+    lightening = [f for f in maneuver.analyze_maneuvering(pts, DEMO_PROFILE).findings
+                  if f.code == "stability.maneuver.lightening"]
+    assert len(lightening) == 3 and all(f.severity is Severity.WARNING for f in lightening)
+    assert all(f.values["nz_top_g"] == pytest.approx(2.0) for f in lightening)
+    # Too few flights: cautions, not warnings, for maneuver points that cannot be said yet.
+    two = maneuver.analyze_maneuvering(_programme((0.20, 0.28)), DEMO_PROFILE)
+    unknown = [f for f in two.findings if f.code == "stability.maneuver.not_identifiable"]
+    assert {f.values["kind"] for f in unknown} == {"stick-fixed", "stick-free"}
+    assert all(f.severity is Severity.CAUTION for f in unknown)

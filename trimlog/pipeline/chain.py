@@ -370,11 +370,8 @@ def analyze(
                                      maneuver_exclusions, maneuver_inclusions)
     if maneuvering is not None:
         primary = _with_maneuver_limits(primary, maneuvering, profile)
-        # A light or lightening stick force per g is a warning; the rest are cautions.
-        found += [_text("stability.maneuver.light_force", Severity.WARNING, w)
-                  if ("below the minimum" in w or "lightens" in w)
-                  else _text("stability.maneuver.unconverted", Severity.CAUTION, w)
-                  for w in maneuvering.warnings]
+        # typed by the analysis: a light or lightening stick force per g is a warning
+        found += list(maneuvering.findings)
     return Analysis(
         profile=profile,
         flights=tuple(flights),

@@ -40,6 +40,7 @@ import numpy as np
 import pandas as pd
 from scipy import special
 
+from trimlog.findings import Finding, Severity, Subject, finding
 from trimlog.input.profile import AircraftProfile
 from trimlog.stability.neutral_points import neutral_point_from_coefficients
 from trimlog.stability.results import NeutralPoint
@@ -188,6 +189,7 @@ class ManeuverResult:
         What sets ``aft_cg_pct_mac``: ``"stick-fixed maneuver margin"``,
         ``"stick-free maneuver margin"`` or ``"minimum stick force per g"``.
     warnings : tuple of str
+        The messages of ``findings``, in order.
     cg_limits : dict of str to float
         Most aft CG [%MAC] each maneuvering limit allows, by ``limited_by``
         code (``stick_fixed_mp``, ``stick_free_mp``, ``min_stick_force_per_g``).
@@ -206,6 +208,9 @@ class ManeuverResult:
     limited_by: str
     warnings: tuple[str, ...]
     cg_limits: dict[str, float] = field(default_factory=dict)
+    #: What the analysis found, typed (codes ``stability.maneuver.*``, with their values):
+    #: a light or lightening stick force per g is a warning, the rest cautions.
+    findings: tuple[Finding, ...] = ()
 
     def next_step_limits(self) -> dict[str, tuple[float, str]]:
         """Limits for the next-CG hook, :func:`trimlog.stability.critical.tighten_next_step`."""
@@ -505,22 +510,7 @@ def analyze_maneuvering(points: pd.DataFrame, profile: AircraftProfile, *,
                            mac_in=profile.mac_in) if has_force else None)
     requirement = stick_force_requirement(profile.max_weight_lb, control=control)
     minimum = requirement.minimum_per_g_lbf
-    warnings = [f"maneuvering: {g.n_points} point(s) of flight '{g.flight}' give no gradient "
-                f"per g: {g.reason}" for g in gradients if g.reason]
-    for g in gradients:
-        if g.lightening:
-            warnings.append(
-                f"maneuvering: flight '{g.flight}': the stick force per g lightens at higher "
-                f"load factor (at {g.nz_range[1]:.2f} g it is {100 * g.force_top_ratio:.0f} % of "
-                "the mean gradient): a light stick lets the pilot over-stress the aircraft "
-                "(14 CFR 23.155(c))")
-        ci = g.stick_force_per_g_ci95_lbf
-        if ci is not None and ci[0] < minimum:
-            verb = "is" if g.stick_force_per_g_lbf < minimum else "may be"
-            warnings.append(
-                f"maneuvering: flight '{g.flight}' at {g.cg_pct_mac:.1f} %MAC: stick force per g "
-                f"{g.stick_force_per_g_lbf:.1f} lbf/g (95 % {ci[0]:.1f} to {ci[1]:.1f}) {verb} "
-                f"below the minimum {minimum:.1f} lbf/g ({_minimum_words(requirement)})")
+    found = _gradient_findings(gradients, requirement)
     light = min((g.weight_lb for g in gradients), default=profile.max_weight_lb)
     aft_value, aft_ci = None, None
     predicted = _predict(gradients, profile.cg_aft_pct_mac / 100.0)
@@ -530,25 +520,48 @@ def analyze_maneuvering(points: pd.DataFrame, profile: AircraftProfile, *,
         scale = light / profile.wing_area_ft2
         aft_value, aft_ci = value * scale, ((value - t * se) * scale, (value + t * se) * scale)
         if aft_ci[0] < minimum:
-            warnings.append(
-                f"maneuvering: stick force per g predicted at the aft limit "
-                f"{profile.cg_aft_pct_mac:.1f} %MAC and {light:.0f} lb: {aft_value:.1f} lbf/g "
-                f"(95 % {aft_ci[0]:.1f} to {aft_ci[1]:.1f}), below the minimum "
-                f"{minimum:.1f} lbf/g or not clearly above it")
+            found.append(finding(
+                "stability.maneuver.aft_limit_light", Severity.WARNING,
+                Subject(quantity="stick_force_per_g"), aft_cg_pct_mac=profile.cg_aft_pct_mac,
+                weight_lb=light, per_g_lbf=aft_value, lower95_lbf=aft_ci[0],
+                upper95_lbf=aft_ci[1], minimum_lbf=minimum))
     limits = _aft_cg(gradients, fixed, free, profile, minimum, light)
     code = min(limits, key=limits.get) if limits else ""
     aft_cg, limited_by = (limits[code], LIMIT_WORDS[code]) if code else (None, "")
     for point, name in ((fixed, "stick-fixed"), (free, "stick-free")):
         if point is not None and not point.identifiable:
-            warnings.append(f"maneuvering: {name} maneuver point cannot be said yet: "
-                            f"{point.reason}")
+            found.append(finding("stability.maneuver.not_identifiable", Severity.CAUTION,
+                                 Subject(quantity=f"maneuver_point.{point.kind}"), kind=name,
+                                 reason=point.reason))
     return ManeuverResult(
         points=points, gradients=gradients, stick_fixed=fixed, stick_free=free,
         hm_minus_hn_pct_mac=_difference(fixed, neutral_fixed),
         hm_free_minus_hn_free_pct_mac=_difference(free, neutral_free),
         requirement=requirement, aft_limit_force_per_g_lbf=aft_value,
         aft_limit_force_per_g_ci95_lbf=aft_ci, aft_cg_pct_mac=aft_cg, limited_by=limited_by,
-        warnings=tuple(warnings), cg_limits=limits)
+        warnings=tuple(f.message for f in found), cg_limits=limits, findings=tuple(found))
+
+
+def _gradient_findings(gradients: tuple[ManeuverGradient, ...],
+                       requirement: StickForceRequirement) -> list[Finding]:
+    """Each flight's findings: no gradient, a lightening or a light stick force per g."""
+    minimum = requirement.minimum_per_g_lbf
+    found = [finding("stability.maneuver.no_gradient", Severity.CAUTION,
+                     Subject(flight=g.flight), n_points=g.n_points, reason=g.reason)
+             for g in gradients if g.reason]
+    for g in gradients:
+        if g.lightening:
+            found.append(finding(
+                "stability.maneuver.lightening", Severity.WARNING, Subject(flight=g.flight),
+                nz_top_g=g.nz_range[1], top_ratio_pct=100 * g.force_top_ratio))
+        ci = g.stick_force_per_g_ci95_lbf
+        if ci is not None and ci[0] < minimum:
+            found.append(finding(
+                "stability.maneuver.light_force", Severity.WARNING, Subject(flight=g.flight),
+                cg_pct_mac=g.cg_pct_mac, per_g_lbf=g.stick_force_per_g_lbf, lower95_lbf=ci[0],
+                upper95_lbf=ci[1], verb="is" if g.stick_force_per_g_lbf < minimum else "may be",
+                minimum_lbf=minimum, basis=_minimum_words(requirement)))
+    return found
 
 
 def _minimum_words(r: StickForceRequirement) -> str:
