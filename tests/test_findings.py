@@ -145,7 +145,7 @@ def test_severity_order_and_lines():
 
 
 def test_a_negative_value_that_rounds_to_zero_has_no_sign():
-    f = Finding("incidence.shim.residual", Severity.NOTE, values={"residual_elevator_deg": -0.003})
-    assert f.message == "Expected elevator at cruise after the shim: +0.00 deg."
-    f = Finding("incidence.shim.residual", Severity.NOTE, values={"residual_elevator_deg": -0.02})
+    f = Finding("incidence.shim.new_incidence", Severity.NOTE, values={"new_incidence_deg": -0.003})
+    assert f.message == "Stabilizer incidence +0.00 deg to the waterline."
+    f = Finding("incidence.shim.new_incidence", Severity.NOTE, values={"new_incidence_deg": -0.02})
     assert "-0.02 deg" in f.message

@@ -96,11 +96,12 @@ class Subject:
 
 # --------------------------------------------------------------------------- the catalogue
 # Shared pieces of the shim's verdicts.
-_MOVE = ("raise the {location} attach points by {thickness_in:.3f} in / {thickness_mm:.2f} mm "
-         "(or lower the {other} ones by the same)")
-_CUT = "Tilt the stabilizer leading edge {direction} by {change_abs_deg:.2f} deg: " + _MOVE + (
-    ". Nearest stock: ")
-_CUT_END = " = {stock_in:.3f} in / {stock_mm:.2f} mm ({stock_change_abs_deg:.2f} deg)."
+_MOVE = ("raise the {location} attach points by {thickness_in:.{decimals_in}f} in / "
+         "{thickness_mm:.{decimals_mm}f} mm (or lower the {other} ones by the same)")
+_CUT = ("Tilt the stabilizer leading edge {direction} by {change_abs_deg:.{decimals_deg}f} deg: "
+        + _MOVE + ". Cut: ")
+_CUT_END = (", total {stock_in:.3f} in / {stock_mm:.2f} mm (tilts {stock_change_abs_deg:.2f} "
+            "deg).")
 
 _SPEED = "{ias_kt:.1f} KIAS at {pressure_alt_ft:.0f} ft: "
 
@@ -228,17 +229,20 @@ _TEMPLATES: dict[str, str] = {
         "re-fly"),
     "incidence.summary": (
         "Elevator at cruise (CL {cruise_cl:.2f}, CG {cruise_cg_pct_mac:.1f} %MAC): "
-        "{elevator_deg:+.2f} deg [{elevator_lo_deg:+.2f}, {elevator_hi_deg:+.2f}]. Incidence "
-        "change {change_deg:+.2f} deg [{change_lo_deg:+.2f}, {change_hi_deg:+.2f}] with tau "
-        "{tau:.2f} ({tau_source})."),
+        "{elevator_words}. Incidence change {change_words} with tau {tau:.2f} ({tau_source})."),
     "incidence.shim.cut.inch_one": _CUT + "one {sheet_1_in:.3f} in sheet" + _CUT_END,
     "incidence.shim.cut.inch_two": (
-        _CUT + "{sheet_1_in:.3f} + {sheet_2_in:.3f} in (two sheets stacked)" + _CUT_END),
+        _CUT + "stack two sheets, {sheet_1_in:.3f} in and {sheet_2_in:.3f} in" + _CUT_END),
     "incidence.shim.cut.metric_one": _CUT + "one {sheet_1_mm:.1f} mm sheet" + _CUT_END,
     "incidence.shim.cut.metric_two": (
-        _CUT + "{sheet_1_mm:.1f} + {sheet_2_mm:.1f} mm (two sheets stacked)" + _CUT_END),
-    "incidence.shim.residual": (
-        "Expected elevator at cruise after the shim: {residual_elevator_deg:+.2f} deg."),
+        _CUT + "stack two sheets, {sheet_1_mm:.1f} mm and {sheet_2_mm:.1f} mm" + _CUT_END),
+    "incidence.shim.steps": (
+        "One cut is too much: make the change in {steps} steps of about {step_in:.3f} in / "
+        "{step_mm:.2f} mm; the cut above is the first step: fly it and measure the elevator at "
+        "cruise again before the next."),
+    "incidence.shim.residual": "Expected elevator at cruise after the shim: {residual_words}.",
+    "incidence.shim.residual.first_step": (
+        "Expected elevator at cruise after the first step: {residual_words}."),
     "incidence.shim.none.interval_has_zero": (
         "No change recommended: the computed change ({change_deg:+.2f} deg, " + _MOVE + ") has "
         "a 95 % interval that includes zero; fly more cruise trim points to narrow it."),
@@ -268,7 +272,8 @@ _TEMPLATES: dict[str, str] = {
         "before cutting"),
     "incidence.shim.thicker_than_stock": (
         "the shim ({thickness_in:.3f} in) is thicker than two stacked sheets of the largest "
-        "stock: make the change in steps and re-fly between them"),
+        "stock ({top_in:.3f} in): make the change in {steps} steps of about {step_in:.3f} in "
+        "and re-fly between them"),
     # ---- pipeline: airspeed calibration from GPS legs
     "pipeline.calibration.too_few_legs": _SPEED + "not determinable: {reason}",
     "pipeline.calibration.headings_not_spread": _SPEED + "not determinable: {reason}",

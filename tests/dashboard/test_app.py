@@ -109,13 +109,22 @@ def test_results_show_the_package_numbers(demo_analysis):
     aft = next(m for m in s.margins if m.label == "aft CG limit")
     assert shown["Static margin at the aft limit"] == f"{aft.stick_fixed_pct_mac:.1f} %MAC"
     rec = a.primary.incidence
+    # signed angles carry their words: the size in the tile, the sense beside it
     assert shown["Incidence change"] == f"{rec.change_deg:+.2f} deg"
     assert shown["Elevator at cruise"] == f"{rec.elevator_at_cruise_deg:+.2f} deg"
+    assert rec.elevator_at_cruise_words and rec.change_words  # the core's words, in the JSON
     text = _texts(at)
     lo, hi = s.stick_fixed.neutral_point.ci95_pct_mac
     assert f"95 %: [{lo:.1f}, {hi:.1f}] %MAC" in text  # the one interval style
     assert rec.words in text
-    assert f"{rec.shim_thickness_in:.3f} in" in text
+    # what to cut: the sheets to stack with their total, not a bare "nearest stock"
+    sheets = " + ".join(f"{t:.3f} in" for t in rec.shim_stock_sheets)
+    assert f"{sheets} = {rec.shim_stock_thickness_in:.3f} in" in text
+    assert shown["Cut: sheets stacked"] == f"{rec.shim_stock_thickness_in:.3f} in"
+    assert "Nearest shim stock" not in shown
+    d = rec.shim_decimals_in  # the computed shim at the precision its interval supports
+    assert f"Computed shim {rec.shim_thickness_in:.{d}f} in" in text
+    assert "elevator at cruise after the shim: " in text
     # Every caution of the analysis is on the results page itself, not behind a click.
     for caution in a.cautions:
         assert caution in text, caution

@@ -8,12 +8,16 @@ from hypothesis import strategies as st
 from trimlog import cautions
 from trimlog.errors import TrimlogError
 from trimlog.incidence.shim import (
+    ELEVATOR_WORDS,
     INCH_STOCK_IN,
+    INCIDENCE_WORDS,
+    angle_words,
     cruise_lift_coefficient,
     incidence_change,
     recommend_incidence,
     shim,
     shim_thickness_in,
+    supported_decimals,
 )
 from trimlog.incidence.tau import choose_tau
 from trimlog.input.profile import parse_profile
@@ -120,7 +124,8 @@ def test_shim_rounding_and_residual_consistent():
     assert [f.code for f in cut.verdict[1:]] == ["incidence.shim.residual",
                                                  "incidence.shim.new_incidence"]
     # the words, rendered once here from the catalogue
-    assert "0.061 in / 1.55 mm" in cut.words and "0.020 + 0.040 in" in cut.words
+    assert "0.061 in / 1.55 mm" in cut.words
+    assert "stack two sheets, 0.020 in and 0.040 in, total 0.060 in" in cut.words
 
 
 def test_shim_stacks_two_sheets_and_metric():
@@ -146,11 +151,16 @@ def test_no_change_recommended_when_tiny_or_uncertain():
 
 
 def test_new_incidence_outside_usual_range_warns():
-    cut = shim(-1.5, 14.0, current_incidence_deg=-1.0)
-    assert cut.new_incidence_deg < -2.0
+    cut = shim(-1.0, 14.0, current_incidence_deg=-1.5)  # one cut (0.244 in)
+    assert cut.steps == 1 and cut.new_incidence_deg < -2.0
     unusual = [f for f in cut.findings if f.code == "incidence.shim.unusual_incidence"]
     assert unusual and unusual[0].values["new_incidence_deg"] == cut.new_incidence_deg
     assert unusual[0].severity == "warning"
+    # in steps, the warning judges the end of all the steps (-1.0 - 1.5 deg), not the first
+    stepped = shim(-1.5, 14.0, current_incidence_deg=-1.0)
+    assert stepped.steps == 2 and stepped.new_incidence_deg > -2.0
+    unusual = [f for f in stepped.findings if f.code == "incidence.shim.unusual_incidence"]
+    assert unusual and unusual[0].values["new_incidence_deg"] == pytest.approx(-2.5)
     assert not shim(-0.3, 14.0, current_incidence_deg=-1.0).findings
 
 
@@ -165,11 +175,67 @@ def test_shim_monotonic_and_location_follows_sign(a, b, sign, spacing):
     t_small = shim(sign * small, spacing)
     t_large = shim(sign * large, spacing)
     assert t_small.thickness_in <= t_large.thickness_in
-    assert t_small.stock_thickness_in <= t_large.stock_thickness_in
+    assert t_small.steps <= t_large.steps
+    if t_small.steps == t_large.steps == 1:
+        assert t_small.stock_thickness_in <= t_large.stock_thickness_in
+    for cut in (t_small, t_large):  # a step never exceeds two sheets of the thickest stock
+        assert cut.stock_thickness_in <= 2 * INCH_STOCK_IN[-1] + 1e-12
+        assert cut.steps * 2 * INCH_STOCK_IN[-1] >= cut.thickness_in - 1e-9
     for cut, size in ((t_small, small), (t_large, large)):
         if size > 0:
             assert cut.location == ("rear" if sign < 0 else "front")
         assert math.isfinite(cut.thickness_in)
+
+
+def test_thick_shim_is_cut_in_steps_not_capped():
+    # 0.322 in needed on 14 in: more than two 0.125 in sheets (0.250 in), so two steps
+    # of 0.161 in each; the cut shown is the first step, not the 0.250 in cap.
+    change = -math.degrees(math.atan(0.322 / 14.0))  # right-triangle identity
+    cut = shim(change, 14.0, elevator_cruise_deg=-3.0, tau=0.5,
+               elevator_ci95_deg=(-3.4, -2.6), tau_ci95=(0.45, 0.55))
+    assert cut.thickness_in == pytest.approx(0.322)
+    assert cut.steps == 2
+    assert cut.stock_thickness_in == pytest.approx(0.161, abs=0.002)  # 0.071 + 0.090
+    assert cut.stock_sheets == (0.071, 0.090)
+    codes = [f.code for f in cut.verdict]
+    assert codes == ["incidence.shim.cut.inch_two", "incidence.shim.steps",
+                     "incidence.shim.residual.first_step"]
+    assert "2 steps of about 0.161 in" in cut.words
+    assert "total 0.161 in" in cut.words and "0.250" not in cut.words
+    # after the first step about half the elevator remains, with its interval
+    assert cut.residual_elevator_deg == pytest.approx(-3.0 - cut.stock_change_deg / 0.5)
+    lo, hi = cut.residual_elevator_ci95_deg
+    assert lo < cut.residual_elevator_deg < hi < 0.0
+    assert "trailing edge up (95 %:" in cut.words
+    warn = [f for f in cut.findings if f.code == "incidence.shim.thicker_than_stock"]
+    assert warn and "in 2 steps" in warn[0].message
+
+
+def test_precision_follows_the_interval():
+    # JCGM 100:2008 7.2.6 (uncertainty to its leading digits, value rounded to match):
+    # 0.105-1.055 in has half-width 0.475 in, so tenths; 0.101-0.130 in gives hundredths.
+    assert supported_decimals(0.105, 1.055) == 1
+    assert supported_decimals(0.101, 0.130) == 2
+    assert supported_decimals(0.1130, 0.1132) == 3  # capped at the finest
+    assert supported_decimals(2.0, 2.0) == 3
+    assert supported_decimals(0.0, 30.0, finest=2) == 0
+    spacing = 14.0
+    lo_deg, hi_deg = (-math.degrees(math.atan(t / spacing)) for t in (1.055, 0.105))
+    mid = -math.degrees(math.atan(0.582 / spacing))
+    cut = shim(mid, spacing, change_ci95_deg=(lo_deg, hi_deg))
+    assert cut.thickness_ci95_in == pytest.approx((0.105, 1.055))
+    assert (cut.decimals_in, cut.decimals_mm) == (1, 0)
+    assert "by 0.6 in / 15 mm" in cut.words and "0.582" not in cut.words
+    assert "14.78" not in cut.words
+
+
+def test_angle_words_sign_in_words():
+    assert angle_words(-1.05, *ELEVATOR_WORDS) == "1.05 deg trailing edge up"
+    assert angle_words(0.6, *INCIDENCE_WORDS) == "0.60 deg leading edge up"
+    assert angle_words(-0.004, *ELEVATOR_WORDS) == "0.00 deg"  # never '-0.00'
+    both = angle_words(0.1, *ELEVATOR_WORDS, 2, (-0.2, 0.4))
+    assert both == "0.10 deg trailing edge down (95 %: 0.20 deg trailing edge up to 0.40 deg " \
+        "trailing edge down)"
 
 
 def test_stock_list_is_sorted_and_documented():

@@ -134,6 +134,8 @@ def test_gradient_vs_cg_states_not_identifiable(one_flight):
 def test_stick_force_per_q(full):
     ax = plots.stick_force_per_q(full)
     assert _has_units(ax) and "ft$^2$" in ax.get_ylabel()
+    # one clean unit: Fs/q is lbf over lbf/ft^2, i.e. ft^2, written once
+    assert ax.get_ylabel() == "$F_s/q$ [ft$^2$], pull +"
     bands = [c for c in ax.collections if isinstance(c, PolyCollection)]
     assert len(bands) == 5
     # stick-free stable forward of the neutral point: every fitted line rises with CL
@@ -145,6 +147,11 @@ def test_stick_force_per_q(full):
 def test_stick_force_vs_speed_marks_trim_speed(full):
     ax = plots.stick_force_vs_speed(full)
     assert _has_units(ax) and "EAS [kt]" in ax.get_xlabel() and "lbf" in ax.get_ylabel()
+    assert "IAS and EAS" in ax.get_xlabel()  # the speed is named against the tables'
+    big = plots.for_screen(ax.figure).axes[0]
+    assert all(t.get_fontsize() == plots.SCREEN_SIZES["legend"]
+               for t in big.get_legend().get_texts())
+    assert big.xaxis.label.get_fontsize() == plots.SCREEN_SIZES["label"] > plots.LABEL_SIZE
     marks = [(line.get_xdata()[0], line.get_ydata()[0]) for line in ax.lines
              if len(line.get_xdata()) == 1 and line.get_markerfacecolor() == "white"]
     for g in full.primary.stability.gradients:

@@ -128,9 +128,20 @@ def test_shim_and_margins_match_the_json(rendered):
     _, _, text, d = rendered
     inc = d["incidence"]
     assert inc["shim_recommended"]
-    assert f"{inc['shim_thickness_in']:.3f} in / {inc['shim_thickness_mm']:.2f} mm" in text
-    lo, hi = inc["change_ci95_deg"]
-    assert f"[{lo:+.2f}, {hi:+.2f}] deg" in text
+    # the sheets to stack with their total, then the computed thickness rounded to
+    # what its interval supports, and the residual elevator in words
+    sheets = " + ".join(f"{t:.3f} in" for t in inc["shim_stock_sheets"])
+    assert (f"stack {sheets} = {inc['shim_stock_thickness_in']:.3f} in / "
+            f"{inc['shim_stock_thickness_mm']:.2f} mm") in text
+    d_in, d_mm = inc["shim_decimals_in"], inc["shim_decimals_mm"]
+    assert d_in < 3  # the demo's interval does not support thousandths
+    lo, hi = inc["shim_thickness_ci95_in"]
+    assert (f"computed {inc['shim_thickness_in']:.{d_in}f} in / "
+            f"{inc['shim_thickness_mm']:.{d_mm}f} mm (95 %: {lo:.{d_in}f} to {hi:.{d_in}f} in)"
+            ) in text
+    assert f"{inc['shim_thickness_in']:.3f} in" not in text
+    assert _flat(inc["change_words"]) in text and "leading edge" in inc["change_words"]
+    assert "elevator at cruise after the shim: " in text
     assert inc["shim_location"] in text
     assert _flat(inc["words"]) in text
     aft = next(m for m in d["static_margin"] if m["label"] == "aft CG limit")

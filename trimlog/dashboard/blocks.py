@@ -8,6 +8,7 @@ from trimlog import cautions
 from trimlog.dashboard import common
 from trimlog.dashboard.common import interval
 from trimlog.pipeline.chain import Analysis
+from trimlog.views import shim_drawing, shim_text
 from trimlog.views.formatting import elevator_words, incidence_words
 
 
@@ -20,11 +21,10 @@ def shim_block(a: Analysis) -> None:
             st.markdown("**No shim recommendation yet.** "
                         + common.esc(a.primary.incidence_reason or ""))
         else:
+            inc = rec.to_json()
             if rec.shim_recommended:
-                from trimlog.views import report
-
-                st.markdown(f"**Shim: {rec.shim_thickness_in:.3f} in "
-                            f"({rec.shim_thickness_mm:.2f} mm) under the {rec.shim_location}.**")
+                st.markdown(f"**Shim: {shim_text.sheets_text(inc)} under the "
+                            f"{shim_text.where_text(inc)}.**")
             else:
                 st.markdown("**No shim recommended from these data** (the reason is below).")
             cols = st.columns(4)
@@ -37,18 +37,19 @@ def shim_block(a: Analysis) -> None:
             cols[1].caption(f"**{incidence_words(rec.change_deg)}**; 95 %: "
                             f"{interval(rec.change_ci95_deg, '+.2f')} deg")
             if rec.shim_recommended:
-                cols[2].metric("Nearest shim stock", f"{rec.shim_stock_thickness_in:.3f} in",
-                               help=f"{rec.shim_stock} stock")
-                cols[2].caption(" + ".join(f"{t:.3f}" for t in rec.shim_stock_sheets)
-                                + f" in = {rec.shim_stock_thickness_mm:.2f} mm")
+                cols[2].metric("Cut: sheets stacked", f"{rec.shim_stock_thickness_in:.3f} in",
+                               help=f"{rec.shim_stock} stock; the total of the sheets listed")
+                cols[2].caption(shim_text.sheets_text(inc))
             cols[3].metric("Elevator effectiveness tau", f"{rec.tau:.2f}")
             cols[3].caption(f"{rec.tau_source}; 95 %: {interval(rec.tau_ci95, '.2f')}")
-            st.markdown(rec.words)
             if rec.shim_recommended:
-                from trimlog.views import report
-
-                st.markdown("Shim with its uncertainty: " + report.shim_text(
-                    rec.to_json(), a.profile.stabilizer_attach_spacing_in) + ".")
+                st.markdown("Computed shim " + shim_text.exact_text(inc) + "; "
+                            + shim_text.residual_text(inc) + ".")
+                if shim_text.steps_text(inc):
+                    common.warn(shim_text.steps_text(inc))
+            st.markdown(rec.words)
+            st.pyplot(shim_drawing.shim_side_view(
+                inc, a.profile.stabilizer_attach_spacing_in).figure, clear_figure=False)
             st.caption(rec.tau_explanation + ". " + rec.change_method + ".")
             for w in rec.warnings:
                 common.warn(w)

@@ -127,8 +127,10 @@ FIGURE_DPI = 110
 
 
 def _png(ax) -> bytes:
+    from trimlog.views.plots import for_screen
+
     buf = io.BytesIO()
-    ax.figure.savefig(buf, format="png", dpi=FIGURE_DPI)
+    for_screen(ax.figure).savefig(buf, format="png", dpi=FIGURE_DPI)
     return buf.getvalue()
 
 

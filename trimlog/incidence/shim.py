@@ -88,6 +88,50 @@ def _split_normal(centre: float, lo: float, hi: float, z: np.ndarray) -> np.ndar
     return centre + np.where(z < 0.0, (centre - lo), (hi - centre)) / _Z95 * z
 
 
+def supported_decimals(lo: float, hi: float, *, finest: int = 3) -> int:
+    """Decimal places a value with this 95 % interval supports.
+
+    Parameters
+    ----------
+    lo, hi : float
+        The 95 % interval, in the unit the value is printed in.
+    finest : int
+        Most decimals ever given (the resolution of the quantity itself).
+
+    Returns
+    -------
+    int
+        Decimals so the last digit printed is the first significant digit of
+        the interval's half-width (0 to ``finest``).
+
+    References
+    ----------
+    JCGM 100:2008 (GUM), 7.2.6: state an uncertainty to at most two
+    significant digits and round the value to match; one digit is kept here
+    (the conservative reading for a number a builder acts on).
+
+    Examples
+    --------
+    >>> supported_decimals(0.105, 1.055), supported_decimals(0.101, 0.130)
+    (1, 2)
+    """
+    half = 0.5 * abs(float(hi) - float(lo))
+    if not math.isfinite(half) or half <= 0.0:
+        return finest
+    return int(min(finest, max(0, -math.floor(math.log10(half)))))
+
+
+def _residual_interval(de: float, de_ci: tuple[float, float], tau: float,
+                       tau_ci: tuple[float, float], stock_change_deg: float) -> tuple[float, float]:
+    """95 % interval of ``delta_e - stock_change / tau`` (same Monte Carlo as the change)."""
+    rng = np.random.default_rng(_MONTE_CARLO_SEED)
+    z = rng.standard_normal((2, _MONTE_CARLO_DRAWS))
+    taus = np.maximum(_split_normal(tau, *tau_ci, z[0]), 1e-6)
+    draws = _split_normal(de, *de_ci, z[1]) - stock_change_deg / taus
+    lo, hi = np.percentile(draws, [2.5, 97.5])
+    return float(lo), float(hi)
+
+
 def incidence_change(
     elevator_cruise_deg: float,
     elevator_ci95: tuple[float, float],
@@ -174,6 +218,11 @@ class ShimResult:
     new_incidence_deg: float | None
     verdict: tuple[Finding, ...]
     findings: tuple[Finding, ...] = ()
+    thickness_ci95_in: tuple[float, float] | None = None
+    decimals_in: int = 3
+    decimals_mm: int = 2
+    steps: int = 1
+    residual_elevator_ci95_deg: tuple[float, float] | None = None
 
     @property
     def words(self) -> str:
@@ -233,6 +282,55 @@ def _stock_choices(stock: str) -> tuple[tuple[tuple[float, ...], float], ...]:
     return tuple(sorted(stacks, key=lambda item: (item[1], len(item[0]))))
 
 
+def angle_words(value: float, positive: str, negative: str, decimals: int = 2,
+                ci95: tuple[float, float] | None = None) -> str:
+    """A signed angle in words: size, then which way ("1.05 deg trailing edge up").
+
+    Parameters
+    ----------
+    value : float
+        The angle [deg], positive in the ``positive`` sense.
+    positive, negative : str
+        The words for each sign ("trailing edge down", "trailing edge up").
+    decimals : int
+        Decimals printed.
+    ci95 : (float, float), optional
+        Its 95 % interval, added in the same words.
+
+    Returns
+    -------
+    str
+
+    Examples
+    --------
+    >>> angle_words(-1.046, "trailing edge down", "trailing edge up")
+    '1.05 deg trailing edge up'
+    >>> angle_words(-0.46, "leading edge up", "leading edge down", 2, (-0.53, -0.41))
+    '0.46 deg leading edge down (95 %: 0.41 to 0.53 deg)'
+    >>> angle_words(0.001, "up", "down", 2)
+    '0.00 deg'
+    """
+    def one(v: float) -> str:
+        text = f"{abs(v):.{decimals}f} deg"
+        if float(f"{abs(v):.{decimals}f}") == 0.0:
+            return text
+        return f"{text} {positive if v > 0 else negative}"
+
+    out = one(value)
+    if ci95 is not None:
+        lo, hi = ci95
+        if lo > 0.0 or hi < 0.0:
+            a, b = sorted((abs(lo), abs(hi)))
+            out += f" (95 %: {a:.{decimals}f} to {b:.{decimals}f} deg)"
+        else:
+            out += f" (95 %: {one(lo)} to {one(hi)})"
+    return out
+
+
+ELEVATOR_WORDS = ("trailing edge down", "trailing edge up")
+INCIDENCE_WORDS = ("leading edge up", "leading edge down")
+
+
 def _stock_values(sheets: tuple[float, ...], stock: str) -> tuple[str, dict[str, float]]:
     """Code suffix and sheet thicknesses (in the stock's unit) of a stack of one or two sheets."""
     unit = "in" if stock == "inch" else "mm"
@@ -250,6 +348,8 @@ def shim(
     current_incidence_deg: float | None = None,
     stock: Literal["inch", "metric"] = "inch",
     round_down: bool = False,
+    elevator_ci95_deg: tuple[float, float] | None = None,
+    tau_ci95: tuple[float, float] | None = None,
 ) -> ShimResult:
     """Size the shim for an incidence change, rounded to practical stock.
 
@@ -273,6 +373,9 @@ def shim(
     round_down : bool
         Round to the thickest stack not thicker than the exact shim (for a
         first step that must not overshoot) instead of the nearest.
+    elevator_ci95_deg, tau_ci95 : (float, float), optional
+        95 % intervals of the elevator at cruise [deg] and of tau [-], to
+        give the residual elevator its interval.
 
     Returns
     -------
@@ -286,7 +389,11 @@ def shim(
     Leading edge down (change < 0) means raising the rear attach points (or
     lowering the front ones); leading edge up means raising the front.  No
     change is recommended when the nearest stock is no shim at all or the
-    change's interval contains zero.  The new incidence is checked against
+    change's interval contains zero.  A shim thicker than two sheets of the
+    thickest stock is cut in equal steps (``steps``); the stack, the residual
+    and the new incidence are then those of the first step.  The exact
+    thickness is rounded to the decimals its interval supports
+    (:func:`supported_decimals`).  The new incidence is checked against
     :data:`USUAL_INCIDENCE_RANGE_DEG` (common practice, no source).
 
     References
@@ -297,52 +404,79 @@ def shim(
     exact_in = shim_thickness_in(change, spacing_in)
     spacing = float(spacing_in)
     found: list[Finding] = []
+    choices = _stock_choices(stock)
+    top_in = choices[-1][1]
+    # One cut is at most two sheets of the thickest stock; beyond that, equal steps.
+    steps = max(1, math.ceil(exact_in / top_in - 1e-9))
+    step_in = exact_in / steps
     if round_down:
-        sheets, stock_in = [c for c in _stock_choices(stock) if c[1] <= exact_in + 1e-12][-1]
+        sheets, stock_in = [c for c in choices if c[1] <= step_in + 1e-12][-1]
     else:
-        sheets, stock_in = min(_stock_choices(stock), key=lambda item: abs(item[1] - exact_in))
+        sheets, stock_in = min(choices, key=lambda item: abs(item[1] - step_in))
     interval_has_zero = False
+    thickness_ci = None
+    decimals_in, decimals_mm, decimals_deg = 3, 2, 2
     if change_ci95_deg is not None:
         lo, hi = _interval("change_ci95_deg", change_ci95_deg, change)
         interval_has_zero = lo <= 0.0 <= hi
+        ends = sorted(float(shim_thickness_in(c, spacing_in)) for c in (lo, hi))
+        thickness_ci = (0.0 if interval_has_zero else ends[0], ends[1])
+        decimals_in = supported_decimals(*thickness_ci, finest=3)
+        decimals_mm = supported_decimals(*(t * MM_PER_IN for t in thickness_ci), finest=2)
+        decimals_deg = supported_decimals(lo, hi, finest=2)
     recommended = bool(sheets) and not interval_has_zero
     if not recommended:
-        sheets, stock_in = (), 0.0
+        sheets, stock_in, steps = (), 0.0, 1
     stock_change = (
         math.copysign(math.degrees(math.atan(stock_in / spacing)), change) if stock_in else 0.0
     )
     location = None if change == 0.0 else ("rear" if change < 0.0 else "front")
 
-    residual = None
+    residual = residual_ci = None
     if elevator_cruise_deg is not None and tau is not None:
         t = _finite("tau", tau)
         if t <= 0.0:
             raise TrimlogError(f"tau: expected > 0, found {t:g}")
-        residual = _finite("elevator_cruise_deg", elevator_cruise_deg) - stock_change / t
+        de = _finite("elevator_cruise_deg", elevator_cruise_deg)
+        residual = de - stock_change / t
+        if elevator_ci95_deg is not None and tau_ci95 is not None:
+            residual_ci = _residual_interval(
+                de, _interval("elevator_ci95_deg", elevator_ci95_deg, de), t,
+                _interval("tau_ci95", tau_ci95, t), stock_change)
     new_incidence = None
     if current_incidence_deg is not None:
-        new_incidence = _finite("current_incidence_deg", current_incidence_deg) + stock_change
+        current = _finite("current_incidence_deg", current_incidence_deg)
+        new_incidence = current + stock_change
+        # Judge the end of all the steps, not only the first one.
+        final = new_incidence if steps == 1 else current + change
         low, high = USUAL_INCIDENCE_RANGE_DEG
-        if not low <= new_incidence <= high:
+        if not low <= final <= high:
             found.append(finding("incidence.shim.unusual_incidence", Severity.WARNING,
-                                 new_incidence_deg=new_incidence, low_deg=low, high_deg=high))
-    top_in = _stock_choices(stock)[-1][1]
+                                 new_incidence_deg=final, low_deg=low, high_deg=high))
     if exact_in > top_in:
         found.append(finding("incidence.shim.thicker_than_stock", Severity.WARNING,
-                             thickness_in=exact_in))
+                             thickness_in=exact_in, top_in=top_in, steps=steps,
+                             step_in=step_in))
 
     exact_mm = exact_in * MM_PER_IN
     move = {"location": location, "other": "front" if location == "rear" else "rear",
-            "thickness_in": exact_in, "thickness_mm": exact_mm}
+            "thickness_in": exact_in, "thickness_mm": exact_mm,
+            "decimals_in": decimals_in, "decimals_mm": decimals_mm}
     if recommended:
         kind, sheet_values = _stock_values(sheets, stock)
         verdict = [finding(f"incidence.shim.cut.{kind}", Severity.NOTE,
                            direction="down" if change < 0.0 else "up", change_abs_deg=abs(change),
+                           decimals_deg=decimals_deg,
                            **move, **sheet_values, stock_in=stock_in,
                            stock_mm=stock_in * MM_PER_IN, stock_change_abs_deg=abs(stock_change))]
+        if steps > 1:
+            verdict.append(finding("incidence.shim.steps", Severity.CAUTION, steps=steps,
+                                   step_in=step_in, step_mm=step_in * MM_PER_IN))
         if residual is not None:
-            verdict.append(finding("incidence.shim.residual", Severity.NOTE,
-                                   residual_elevator_deg=residual))
+            verdict.append(finding(
+                "incidence.shim.residual" + (".first_step" if steps > 1 else ""),
+                Severity.NOTE, residual_elevator_deg=residual,
+                residual_words=angle_words(residual, *ELEVATOR_WORDS, 2, residual_ci)))
     elif interval_has_zero:
         code = "incidence.shim.none.interval_has_zero" + ("" if location else ".no_shim")
         verdict = [finding(code, Severity.CAUTION, change_deg=change, **move)]
@@ -359,7 +493,9 @@ def shim(
         stock_thickness_mm=stock_in * MM_PER_IN, stock_change_deg=stock_change,
         recommended=recommended, residual_elevator_deg=residual,
         current_incidence_deg=current_incidence_deg, new_incidence_deg=new_incidence,
-        verdict=tuple(verdict), findings=tuple(found),
+        verdict=tuple(verdict), findings=tuple(found), thickness_ci95_in=thickness_ci,
+        decimals_in=decimals_in, decimals_mm=decimals_mm, steps=steps,
+        residual_elevator_ci95_deg=residual_ci,
     )
 
 
@@ -427,6 +563,13 @@ class IncidenceRecommendation:
     step_change_deg: float | None = None
     #: "full change" or "first step" (tau not flight-calibrated).
     step_basis: str = "full change"
+    shim_thickness_ci95_in: tuple[float, float] | None = None
+    shim_decimals_in: int = 3
+    shim_decimals_mm: int = 2
+    shim_steps: int = 1
+    residual_elevator_ci95_deg: tuple[float, float] | None = None
+    elevator_at_cruise_words: str = ""
+    change_words: str = ""
 
     @property
     def words(self) -> str:
@@ -521,7 +664,8 @@ def recommend_incidence(
     cut = shim(
         step, spacing_in, change_ci95_deg=change.ci95_deg,
         elevator_cruise_deg=de, tau=tau.tau, current_incidence_deg=current_incidence_deg,
-        stock=stock, round_down=basis == "first step",
+        stock=stock, round_down=basis == "first step", elevator_ci95_deg=de_ci,
+        tau_ci95=tau.ci95,
     )
     step_words: tuple[Finding, ...] = ()
     if basis == "first step" and cut.recommended:
@@ -540,8 +684,11 @@ def recommend_incidence(
         location = "rear attach points (leading edge down)"
     else:
         location = "front attach points (leading edge up)"
+    elevator_words = angle_words(de, *ELEVATOR_WORDS, 2, de_ci)
+    change_words = angle_words(change.change_deg, *INCIDENCE_WORDS, 2, change.ci95_deg)
     summary = finding(
-        "incidence.summary", Severity.NOTE, cruise_cl=cl, cruise_cg_pct_mac=cg, elevator_deg=de,
+        "incidence.summary", Severity.NOTE, elevator_words=elevator_words,
+        change_words=change_words, cruise_cl=cl, cruise_cg_pct_mac=cg, elevator_deg=de,
         elevator_lo_deg=de_ci[0], elevator_hi_deg=de_ci[1], change_deg=change.change_deg,
         change_lo_deg=change.ci95_deg[0], change_hi_deg=change.ci95_deg[1], tau=tau.tau,
         tau_source=tau.tau_source)
@@ -563,6 +710,10 @@ def recommend_incidence(
         verdict=(summary, *cut.verdict, *step_words), findings=tuple(found),
         cautions=(cautions.ESTIMATE_STATEMENT, *cautions.INCIDENCE),
         step_change_deg=step, step_basis=basis,
+        shim_thickness_ci95_in=cut.thickness_ci95_in, shim_decimals_in=cut.decimals_in,
+        shim_decimals_mm=cut.decimals_mm, shim_steps=cut.steps,
+        residual_elevator_ci95_deg=cut.residual_elevator_ci95_deg,
+        elevator_at_cruise_words=elevator_words, change_words=change_words,
     )
 
 

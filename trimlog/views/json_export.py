@@ -77,6 +77,8 @@ INCIDENCE_KEYS = (  # the issue's contract keys first, then the extras
     "shim_recommended", "shim_stock", "shim_stock_sheets", "shim_stock_thickness_in",
     "shim_stock_thickness_mm", "shim_stock_change_deg", "residual_elevator_deg",
     "current_incidence_deg", "new_incidence_deg", "words", "warnings", "cautions",
+    "shim_thickness_ci95_in", "shim_decimals_in", "shim_decimals_mm", "shim_steps",
+    "residual_elevator_ci95_deg", "elevator_at_cruise_words", "change_words",
 )
 REQUIREMENT_KEYS = (
     "control", "limit_load_factor_g", "force_to_limit_lbf", "per_g_23_155_lbf",

@@ -108,6 +108,29 @@ def _finish(ax: Axes, xlabel: str, ylabel: str, title: str) -> None:
     ax.set_axisbelow(True)
 
 
+#: Text sizes for a figure shown on a screen (the dashboard) rather than printed [pt].
+SCREEN_SIZES = {"legend": 11, "tick": 11, "label": 12, "title": 13}
+
+
+def for_screen(fig: Figure) -> Figure:
+    """Enlarge a figure's legend, tick, label and title text for a screen.
+
+    The dashboard shows a 7 in wide figure in a column a few hundred pixels
+    wide, where the print sizes (:data:`LEGEND_SIZE` 8 pt) are too small to
+    read; :data:`SCREEN_SIZES` are applied instead.  Returns ``fig``.
+    """
+    for ax in fig.axes:
+        legend = ax.get_legend()
+        if legend is not None:
+            for text in legend.get_texts():
+                text.set_fontsize(SCREEN_SIZES["legend"])
+        ax.tick_params(labelsize=SCREEN_SIZES["tick"])
+        ax.xaxis.label.set_fontsize(SCREEN_SIZES["label"])
+        ax.yaxis.label.set_fontsize(SCREEN_SIZES["label"])
+        ax.title.set_fontsize(SCREEN_SIZES["title"])
+    return fig
+
+
 def _note(ax: Axes, text: str, *, y: float = 0.5, width: int = 60) -> None:
     """A boxed statement across the Axes (no data, not identifiable...)."""
     lines = [textwrap.fill(part, width) for part in text.split("\n")]
@@ -370,7 +393,7 @@ def stick_force_per_q(analysis: Analysis, ax: Axes | None = None) -> Axes:
         handles.append(_excluded_handle())
     if handles:
         ax.legend(handles=handles, fontsize=LEGEND_SIZE, loc="best")
-    _finish(ax, "lift coefficient $C_L$ [-]", "$F_s/q$ [ft$^2$] (lbf per lbf/ft$^2$, pull +)",
+    _finish(ax, "lift coefficient $C_L$ [-]", "$F_s/q$ [ft$^2$], pull +",
             f"Stick force per dynamic pressure ({analysis.primary.config})")
     return ax
 
@@ -425,7 +448,8 @@ def stick_force_vs_speed(analysis: Analysis, ax: Axes | None = None) -> Axes:
     if any_excluded:
         handles.append(_excluded_handle())
     ax.legend(handles=handles, fontsize=LEGEND_SIZE, loc="best")
-    _finish(ax, "equivalent airspeed EAS [kt]", "stick force $F_s$ [lbf, pull +]",
+    _finish(ax, "equivalent airspeed EAS [kt] (the points tables list IAS and EAS)",
+            "stick force $F_s$ [lbf, pull +]",
             f"Stick force against speed ({analysis.primary.config})")
     return ax
 

@@ -33,9 +33,9 @@ from matplotlib.figure import Figure
 from trimlog import cautions, findings
 from trimlog.errors import TrimlogError
 from trimlog.files import check_output_target, write_atomically
-from trimlog.incidence.shim import shim_thickness_in
 from trimlog.progress import SILENT, Progress
-from trimlog.views import maneuver_plots, plots
+from trimlog.views import maneuver_plots, plots, shim_drawing
+from trimlog.views import shim_text as shim_words
 from trimlog.views.formatting import interval, number, with_interval
 from trimlog.views.json_export import analysis_to_dict
 from trimlog.views.pdf_layout import Break, Heading, Para, Plot, Table, render_pdf, save_pdf
@@ -75,12 +75,11 @@ def neutral_point_text(np_: Mapping[str, Any] | None) -> str:
 
 
 def shim_text(inc: Mapping[str, Any], spacing_in: float) -> str:
-    """The shim thickness with its 95 % interval, from the ``incidence`` JSON block."""
-    lo, hi = sorted(float(shim_thickness_in(c, spacing_in)) for c in inc["change_ci95_deg"])
-    if inc["change_ci95_deg"][0] < 0.0 < inc["change_ci95_deg"][1]:
-        lo = 0.0
-    return (f"{inc['shim_thickness_in']:.3f} in / {inc['shim_thickness_mm']:.2f} mm "
-            f"(95 % interval {lo:.3f} to {hi:.3f} in; attach points {spacing_in:g} in apart)")
+    """The computed shim thickness with its 95 % interval, from the ``incidence`` JSON block.
+
+    Rounded to the decimals the interval supports (numbers from the core).
+    """
+    return f"{shim_words.exact_text(inc)}; attach points {spacing_in:g} in apart"
 
 
 # --------------------------------------------------------------------------- content
@@ -123,8 +122,9 @@ def _shim_headline(a: Analysis, d: dict[str, Any]) -> str:
     if not inc["shim_recommended"]:
         return (f"none recommended (computed change {inc['change_deg']:+.2f} deg, 95 % "
                 f"interval {interval(inc['change_ci95_deg'], '+.2f')} deg)")
-    return (f"{shim_text(inc, a.profile.stabilizer_attach_spacing_in)} at the "
-            f"{inc['shim_location']}, for an incidence change of {inc['change_deg']:+.2f} deg")
+    return (f"{shim_words.headline(inc)} (attach points "
+            f"{a.profile.stabilizer_attach_spacing_in:g} in apart), for an incidence change of "
+            f"{inc['change_words'] or format(inc['change_deg'], '+.2f') + ' deg'}")
 
 
 def _neutral_blocks(d: dict[str, Any]) -> list[Any]:
@@ -232,8 +232,7 @@ def _incidence_blocks(a: Analysis, d: dict[str, Any]) -> list[Any]:
         return blocks + [Para("No recommendation: "
                                + _sentence(d["incidence_reason"] or "no trim model"))]
     if inc["shim_recommended"]:
-        head = (f"Recommended shim: {_shim_headline(a, d)}; 95 % interval of the change "
-                f"{interval(inc['change_ci95_deg'], '+.2f')} deg.")
+        head = f"Recommended shim: {_shim_headline(a, d)}."
     else:
         head = f"Shim: {_shim_headline(a, d)}."
     return blocks + [
@@ -242,6 +241,14 @@ def _incidence_blocks(a: Analysis, d: dict[str, Any]) -> list[Any]:
         Para(f"Elevator effectiveness tau: {inc['tau']:.2f} {interval(inc['tau_ci95'], '.2f')} "
               f"({inc['tau_source']}): {inc['tau_explanation']}. Interval method: "
               f"{inc['change_method']}.", "small"),
+        Plot("Stabilizer shim: side view",
+             lambda fig, rect: shim_drawing.shim_side_view(
+                 inc, a.profile.stabilizer_attach_spacing_in, ax=fig.add_axes(rect)),
+             "Schematic side view, nose to the left, angles exaggerated by the factor shown: "
+             "the stabilizer before (dashed) and after the shim (solid), the shim (orange) "
+             "under the fitting that gets it with the sheets to stack, the direction the "
+             "leading edge tilts, and the elevator at cruise before and expected after. "
+             "Check the drawing against the aircraft before cutting."),
     ]
 
 

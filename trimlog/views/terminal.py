@@ -234,14 +234,11 @@ def _incidence_block(result: ConfigurationResult, s: _Style) -> str:
     rec = result.incidence
     if rec is None:
         return head + "\n  no recommendation: " + (result.incidence_reason or "not computed")
-    lines = [
-        f"  elevator at cruise (CL {rec.cruise_cl:.3f}, CG {rec.cruise_cg_pct_mac:.1f} %MAC): "
-        f"{rec.elevator_at_cruise_deg:+.2f} deg "
-        f"{interval(rec.elevator_at_cruise_ci95_deg, '+.2f')}",
-        f"  tau {rec.tau:.3f} ({rec.tau_source})",
-        f"  incidence change {rec.change_deg:+.2f} deg "
-        f"{interval(rec.change_ci95_deg, '+.2f')} (leading edge up positive)",
-    ]
+    from trimlog.views import shim_text
+
+    inc = rec.to_json()
+    lines = [textwrap.fill("Shim: " + shim_text.headline(inc), WIDTH, initial_indent="  ",
+                           subsequent_indent="    ")]
     lines.append(textwrap.fill(rec.words, WIDTH, initial_indent="  ", subsequent_indent="  "))
     return head + "\n" + "\n".join(lines)
 

@@ -1,0 +1,108 @@
+"""The shim in words for every view (terminal, report, dashboard).
+
+Every number comes from the ``incidence`` block of the result
+(:meth:`trimlog.incidence.shim.IncidenceRecommendation.to_json`): the sheets
+to stack, their total, the exact thickness with its interval and the
+decimals that interval supports, the steps, the residual elevator.  This
+module only formats them, so the three views say the same thing.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+from trimlog.incidence.shim import ELEVATOR_WORDS, angle_words
+
+
+def _unit(inc: Mapping[str, Any]) -> tuple[str, str]:
+    return ("mm", ".1f") if inc.get("shim_stock") == "metric" else ("in", ".3f")
+
+
+def sheets_text(inc: Mapping[str, Any]) -> str:
+    """The sheets to stack and their total, e.g. ``0.050 in + 0.063 in = 0.113 in / 2.87 mm``.
+
+    Examples
+    --------
+    >>> sheets_text({"shim_stock": "inch", "shim_stock_sheets": [0.05, 0.063],
+    ...              "shim_stock_thickness_in": 0.113, "shim_stock_thickness_mm": 2.8702})
+    '0.050 in + 0.063 in = 0.113 in / 2.87 mm'
+    >>> sheets_text({"shim_stock_sheets": []})
+    'none'
+    """
+    sheets = list(inc.get("shim_stock_sheets") or [])
+    if not sheets:
+        return "none"
+    unit, spec = _unit(inc)
+    parts = " + ".join(f"{s:{spec}} {unit}" for s in sheets)
+    return (f"{parts} = {inc['shim_stock_thickness_in']:.3f} in / "
+            f"{inc['shim_stock_thickness_mm']:.2f} mm")
+
+
+def exact_text(inc: Mapping[str, Any]) -> str:
+    """The computed thickness, rounded to what its interval supports, with the interval.
+
+    Examples
+    --------
+    >>> exact_text({"shim_thickness_in": 0.5821, "shim_thickness_mm": 14.785,
+    ...             "shim_thickness_ci95_in": [0.105, 1.055], "shim_decimals_in": 1,
+    ...             "shim_decimals_mm": 0})
+    '0.6 in / 15 mm (95 %: 0.1 to 1.1 in)'
+    """
+    d_in = int(inc.get("shim_decimals_in", 3))
+    d_mm = int(inc.get("shim_decimals_mm", 2))
+    text = f"{inc['shim_thickness_in']:.{d_in}f} in / {inc['shim_thickness_mm']:.{d_mm}f} mm"
+    ci = inc.get("shim_thickness_ci95_in")
+    if ci:
+        text += f" (95 %: {ci[0]:.{d_in}f} to {ci[1]:.{d_in}f} in)"
+    return text
+
+
+def where_text(inc: Mapping[str, Any]) -> str:
+    """Which fitting gets the shim and which way the leading edge goes."""
+    return str(inc.get("shim_location") or "")
+
+
+def residual_text(inc: Mapping[str, Any]) -> str:
+    """The elevator at cruise expected after the cut (after the first step, when stepped)."""
+    after = "the first step" if int(inc.get("shim_steps", 1)) > 1 else "the shim"
+    ci = inc.get("residual_elevator_ci95_deg")
+    words = angle_words(inc["residual_elevator_deg"], *ELEVATOR_WORDS, 2,
+                        tuple(ci) if ci else None)
+    return f"elevator at cruise after {after}: {words}"
+
+
+def steps_text(inc: Mapping[str, Any]) -> str:
+    """'' for one cut, else how many steps (the cut shown is the first)."""
+    steps = int(inc.get("shim_steps", 1))
+    if steps <= 1:
+        return ""
+    return (f"one cut is too much: {steps} steps, each about "
+            f"{inc['shim_thickness_in'] / steps:.3f} in; cut the first, fly, and measure again")
+
+
+def headline(inc: Mapping[str, Any]) -> str:
+    """One sentence: what to cut, where, the exact thickness, the steps, the residual.
+
+    Examples
+    --------
+    >>> inc = {"shim_recommended": True, "shim_stock": "inch",
+    ...        "shim_stock_sheets": [0.05, 0.063], "shim_stock_thickness_in": 0.113,
+    ...        "shim_stock_thickness_mm": 2.8702, "shim_thickness_in": 0.1134,
+    ...        "shim_thickness_mm": 2.88, "shim_thickness_ci95_in": [0.101, 0.130],
+    ...        "shim_decimals_in": 2, "shim_decimals_mm": 1,
+    ...        "shim_location": "rear attach points (leading edge down)", "shim_steps": 1,
+    ...        "residual_elevator_deg": -0.001, "residual_elevator_ci95_deg": None}
+    >>> headline(inc)  # doctest: +NORMALIZE_WHITESPACE
+    'stack 0.050 in + 0.063 in = 0.113 in / 2.87 mm under the rear attach points (leading
+     edge down); computed 0.11 in / 2.9 mm (95 %: 0.10 to 0.13 in); elevator at cruise
+     after the shim: 0.00 deg'
+    """
+    if not inc.get("shim_recommended"):
+        return "none recommended"
+    parts = [f"stack {sheets_text(inc)} under the {where_text(inc)}",
+             f"computed {exact_text(inc)}"]
+    if steps_text(inc):
+        parts.append(steps_text(inc))
+    parts.append(residual_text(inc))
+    return "; ".join(parts)
