@@ -288,3 +288,20 @@ def test_figures_draw_on_a_given_axes(full):
     fig = Figure()
     ax = fig.add_subplot()
     assert plots.stick_force_vs_speed(full, ax=ax) is ax
+
+
+def test_neutral_point_trend_shows_limits_and_the_next_cg():
+    step = {"max_cg_pct_mac": 29.4, "limited_by": "stick_free_np",
+            "most_aft_flown_pct_mac": 27.0, "step_max_pct_mac": 2.0}
+    ax = plots.neutral_point_trend(_trend_records(), next_step=step, aft_limit_pct_mac=31.1,
+                                   maneuver_point_pct_mac=38.2)
+    labels = [t.get_text() for t in ax.get_legend().get_texts()]
+    assert "aft CG limit 31.1 %MAC" in labels
+    assert "next flight: CG at most 29.4 %MAC (stick-free NP)" in labels
+    assert "policy step: 2 %MAC beyond the most aft CG flown" in labels
+    assert "stick-fixed maneuver point 38.2 %MAC" in labels
+    levels = {round(float(line.get_ydata()[0]), 1) for line in ax.lines
+              if len(set(line.get_ydata())) == 1 and len(line.get_ydata()) == 2}
+    assert {31.1, 29.4, 29.0, 38.2} <= levels
+    none = plots.neutral_point_trend(_trend_records(), next_step=dict(step, max_cg_pct_mac=None))
+    assert any("no step aft" in t.get_text() for t in none.texts)

@@ -390,7 +390,8 @@ def trend(aircraft: str, margin: float | None, step: float | None) -> dict:
 def _trend_png(aircraft: str, margin: float | None, step: float | None, token: tuple) -> bytes:
     from trimlog.views import plots
 
-    return _png(plots.neutral_point_trend(_trend(aircraft, margin, step, token)["trend"]))
+    result = _trend(aircraft, margin, step, token)
+    return _png(plots.neutral_point_trend(result["trend"], next_step=result.get("next_step")))
 
 
 def trend_figure(aircraft: str, margin: float | None, step: float | None) -> bytes:

@@ -616,8 +616,10 @@ def log_overview(flight_data: FlightData, axes: Sequence[Axes] | None = None, *,
     return axes
 
 
-def neutral_point_trend(trend_steps: Sequence[Mapping[str, Any]], ax: Axes | None = None
-                        ) -> Axes:
+def neutral_point_trend(trend_steps: Sequence[Mapping[str, Any]], ax: Axes | None = None,
+                        *, next_step: Mapping[str, Any] | None = None,
+                        aft_limit_pct_mac: float | None = None,
+                        maneuver_point_pct_mac: float | None = None) -> Axes:
     """Neutral points and their 95 % intervals after each successive flight.
 
     Parameters
@@ -630,6 +632,15 @@ def neutral_point_trend(trend_steps: Sequence[Mapping[str, Any]], ax: Axes | Non
         ((lo, hi) [%MAC] or None), and ``cg_pct_mac`` (CG of the flight added)
         [%MAC].
     ax : matplotlib.axes.Axes, optional
+    next_step : mapping, optional
+        The ``next_step`` block of ``--json`` (``max_cg_pct_mac``,
+        ``limited_by``, ``most_aft_flown_pct_mac``, ``step_max_pct_mac``):
+        the proposed most aft CG of the next flight (or "no step aft") and the
+        policy step beyond the most aft CG flown.
+    aft_limit_pct_mac : float, optional
+        The aircraft's aft CG limit [%MAC].
+    maneuver_point_pct_mac : float, optional
+        The stick-fixed maneuver point [%MAC], when known.
 
     Returns
     -------
@@ -672,6 +683,7 @@ def neutral_point_trend(trend_steps: Sequence[Mapping[str, Any]], ax: Axes | Non
     if cgs:
         ax.plot([c[0] for c in cgs], [c[1] for c in cgs], marker="v", color=PALETTE[2],
                 linestyle="none", markersize=7, label="CG of the flight added")
+    _trend_limits(ax, next_step, aft_limit_pct_mac, maneuver_point_pct_mac)
     if not len(trend_steps):
         _note(ax, "no flights in the history")
     # A step without an estimate says so under its flight, clear of the data.
@@ -686,3 +698,30 @@ def neutral_point_trend(trend_steps: Sequence[Mapping[str, Any]], ax: Axes | Non
     _finish(ax, "flights analysed [count]: the flight added", "CG and neutral point [%MAC]",
             "Neutral point after each flight")
     return ax
+
+
+def _trend_limits(ax: Axes, next_step: Mapping[str, Any] | None, aft_limit: float | None,
+                  maneuver_point: float | None) -> None:
+    """Horizontal lines of the trend: aft limit, policy step, next CG, maneuver point."""
+    if aft_limit is not None:
+        ax.axhline(aft_limit, color="black", linestyle=":", linewidth=1.2,
+                   label=f"aft CG limit {aft_limit:.1f} %MAC")
+    if maneuver_point is not None:
+        ax.axhline(maneuver_point, color=PALETTE[3], linestyle="-.", linewidth=1.2,
+                   label=f"stick-fixed maneuver point {maneuver_point:.1f} %MAC")
+    if not next_step:
+        return
+    aft, step = next_step.get("most_aft_flown_pct_mac"), next_step.get("step_max_pct_mac")
+    if aft is not None and step is not None:
+        ax.axhline(aft + step, color=GREY, linestyle="--", linewidth=1.0,
+                   label=f"policy step: {step:g} %MAC beyond the most aft CG flown")
+    nxt = next_step.get("max_cg_pct_mac")
+    if nxt is not None:
+        why = str(next_step.get("limited_by") or "")
+        why = {"stick_free_np": "stick-free NP", "stick_fixed_np": "stick-fixed NP",
+               "policy_step": "policy step", "aft_limit": "aft limit"}.get(why, why)
+        ax.axhline(nxt, color=PALETTE[2], linestyle="-", linewidth=2.0,
+                   label=f"next flight: CG at most {nxt:.1f} %MAC ({why})")
+    else:
+        ax.text(0.02, 0.02, "next flight: no step aft is supported yet", color=PALETTE[2],
+                transform=ax.transAxes, fontsize=LEGEND_SIZE + 1, va="bottom")

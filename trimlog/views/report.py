@@ -390,7 +390,19 @@ def _points_blocks(d: dict[str, Any]) -> list[Any]:
     ]
 
 
-def _figure_blocks(a: Analysis, trend: Sequence[Mapping[str, Any]] | None) -> list[Any]:
+def _trend_lines(d: Mapping[str, Any]) -> dict[str, Any]:
+    """The trend figure's limits, from the result (numbers from the core)."""
+    aft = next((m["cg_pct_mac"] for m in d["static_margin"] if m["label"] == "aft CG limit"),
+               None)
+    man = (d.get("maneuvering") or {}).get("maneuver_point") or {}
+    fixed = man.get("stick_fixed") or {}
+    return {"next_step": d.get("next_step"), "aft_limit_pct_mac": aft,
+            "maneuver_point_pct_mac": fixed.get("pct_mac") if fixed.get("identifiable")
+            else None}
+
+
+def _figure_blocks(a: Analysis, trend: Sequence[Mapping[str, Any]] | None,
+                   d: Mapping[str, Any] | None = None) -> list[Any]:
     def one(fn: Callable[..., Axes]) -> Callable[[Figure, tuple], Axes]:
         return lambda fig, rect: fn(a, ax=fig.add_axes(rect))
 
@@ -436,10 +448,13 @@ def _figure_blocks(a: Analysis, trend: Sequence[Mapping[str, Any]] | None) -> li
     if trend:
         blocks.append(Plot(
             "Neutral point after each flight",
-            lambda fig, rect: plots.neutral_point_trend(trend, ax=fig.add_axes(rect)),
+            lambda fig, rect: plots.neutral_point_trend(trend, ax=fig.add_axes(rect),
+                                                        **_trend_lines(d or {"static_margin": []})),
             "The neutral-point estimates and their 95 % intervals after each successive "
-            "flight, with the CG of the flight added. The intervals should shrink as flights "
-            "at different CGs are added; an estimate that jumps points at a flight to check."))
+            "flight, with the CG of the flight added, the aft CG limit, the policy step, the "
+            "most aft CG proposed for the next flight and the maneuver point when known. The "
+            "intervals should shrink as flights at different CGs are added; an estimate that "
+            "jumps points at a flight to check."))
     return blocks
 
 
@@ -495,7 +510,7 @@ def report_blocks(a: Analysis, trend: Sequence[Mapping[str, Any]] | None, genera
     """The report's content in reading order (shared by the PDF and the HTML writers)."""
     d = analysis_to_dict(a)
     return [*_title_blocks(a, d, generated), *_summary_blocks(a, d), *_loading_blocks(a, d),
-            *_points_blocks(d), *_maneuver_blocks(d), *_figure_blocks(a, trend),
+            *_points_blocks(d), *_maneuver_blocks(d), *_figure_blocks(a, trend, d),
             *_warning_blocks(a, d), *_history_blocks(a)]
 
 
