@@ -238,11 +238,11 @@ _TEMPLATES: dict[str, str] = {
         _CUT + "stack two sheets, {sheet_1_mm:.1f} mm and {sheet_2_mm:.1f} mm" + _CUT_END),
     "incidence.shim.steps": (
         "One cut is too much: make the change in {steps} steps of about {step_in:.3f} in / "
-        "{step_mm:.2f} mm; the cut above is the first step: fly it and measure the elevator at "
-        "cruise again before the next."),
+        "{step_mm:.2f} mm; the cut above is step 1 of {steps}: fly it and measure the elevator "
+        "at cruise again before the next."),
     "incidence.shim.residual": "Expected elevator at cruise after the shim: {residual_words}.",
-    "incidence.shim.residual.first_step": (
-        "Expected elevator at cruise after the first step: {residual_words}."),
+    "incidence.shim.residual.step_one": (
+        "Expected elevator at cruise after step 1: {residual_words}."),
     "incidence.shim.none.interval_has_zero": (
         "No change recommended: the computed change ({change_deg:+.2f} deg, " + _MOVE + ") has "
         "a 95 % interval that includes zero; fly more cruise trim points to narrow it."),

@@ -199,7 +199,7 @@ def test_thick_shim_is_cut_in_steps_not_capped():
     assert cut.stock_sheets == (0.071, 0.090)
     codes = [f.code for f in cut.verdict]
     assert codes == ["incidence.shim.cut.inch_two", "incidence.shim.steps",
-                     "incidence.shim.residual.first_step"]
+                     "incidence.shim.residual.step_one"]
     assert "2 steps of about 0.161 in" in cut.words
     assert "total 0.161 in" in cut.words and "0.250" not in cut.words
     # after the first step about half the elevator remains, with its interval

@@ -15,8 +15,9 @@ from trimlog.views.shim_drawing import shim_side_view
 ORANGE = (0.8352941176470589, 0.3686274509803922, 0.0, 1.0)  # Okabe-Ito vermillion
 
 
-def _rec(elevator_deg: float, ci: tuple[float, float], spacing_in: float = 14.0):
-    tau = TauChoice(tau=0.45, tau_source="profile", ci95=(0.40, 0.50), explanation="given",
+def _rec(elevator_deg: float, ci: tuple[float, float], spacing_in: float = 14.0,
+         source: str = "profile"):
+    tau = TauChoice(tau=0.45, tau_source=source, ci95=(0.40, 0.50), explanation="given",
                     notes=())
     return recommend_incidence(cruise_cl=0.3, cruise_cg_pct_mac=25.0,
                                elevator_cruise_deg=elevator_deg, elevator_ci95_deg=ci, tau=tau,
@@ -59,12 +60,12 @@ def test_front_shim_and_no_shim():
 def test_words_say_what_to_cut_with_steps():
     # 1.3 deg trailing edge down x tau 0.45 ~ 0.59 deg on 40 in: 0.41 in, more than two
     # 0.125 in sheets, so two steps (right-triangle identity: 40 tan 0.585 deg = 0.408 in)
-    inc = _rec(+1.3, (1.2, 1.4), spacing_in=40.0)
+    inc = _rec(+1.3, (1.2, 1.4), spacing_in=40.0, source="flight-calibrated")  # full change
     assert inc["shim_thickness_in"] == pytest.approx(40 * math.tan(math.radians(0.585)),
                                                      rel=1e-3)
     assert inc["shim_steps"] == 2
     words = shim_text.headline(inc)
     assert words.startswith("stack " + shim_text.sheets_text(inc))
     assert "2 steps, each about 0.204 in" in words
-    assert "elevator at cruise after the first step: " in words
+    assert "elevator at cruise after step 1 of 2: " in words
     assert inc["shim_stock_thickness_in"] < 0.25  # the first step, not the 0.250 in cap

@@ -474,7 +474,7 @@ def shim(
                                    step_in=step_in, step_mm=step_in * MM_PER_IN))
         if residual is not None:
             verdict.append(finding(
-                "incidence.shim.residual" + (".first_step" if steps > 1 else ""),
+                "incidence.shim.residual" + (".step_one" if steps > 1 else ""),
                 Severity.NOTE, residual_elevator_deg=residual,
                 residual_words=angle_words(residual, *ELEVATOR_WORDS, 2, residual_ci)))
     elif interval_has_zero:

@@ -64,8 +64,9 @@ def where_text(inc: Mapping[str, Any]) -> str:
 
 
 def residual_text(inc: Mapping[str, Any]) -> str:
-    """The elevator at cruise expected after the cut (after the first step, when stepped)."""
-    after = "the first step" if int(inc.get("shim_steps", 1)) > 1 else "the shim"
+    """The elevator at cruise expected after the cut (after step 1, when stepped)."""
+    steps = int(inc.get("shim_steps", 1))
+    after = f"step 1 of {steps}" if steps > 1 else "the shim"
     ci = inc.get("residual_elevator_ci95_deg")
     words = angle_words(inc["residual_elevator_deg"], *ELEVATOR_WORDS, 2,
                         tuple(ci) if ci else None)
@@ -78,7 +79,7 @@ def steps_text(inc: Mapping[str, Any]) -> str:
     if steps <= 1:
         return ""
     return (f"one cut is too much: {steps} steps, each about "
-            f"{inc['shim_thickness_in'] / steps:.3f} in; cut the first, fly, and measure again")
+            f"{inc['shim_thickness_in'] / steps:.3f} in; cut step 1, fly, and measure again")
 
 
 def headline(inc: Mapping[str, Any]) -> str:
