@@ -1,4 +1,4 @@
-"""Regression values of the pooled fit, so that its fast (absorbed-intercept) path changes no number.
+"""Regression values of the pooled fit: its fast (block) paths must change no number.
 
 The values below were written from the dense-design code (one dummy column per intercept,
 statsmodels-style pseudo-inverse) before the fast path replaced it: regression values, not
@@ -14,6 +14,7 @@ import pandas as pd
 import pytest
 
 from trimlog.stability.neutral_points import pooled_fit
+from trimlog.statistics import fits
 
 HN, HN_FREE, CMDE_PER_DEG = 0.40, 0.36, -1.3 * np.pi / 180.0  # synthetic truth
 Q_PSF_PER_KT2 = 0.5 * 0.0023769 * 1.687810**2  # q = rho0 V^2 / 2, V in kt (sea-level density)
@@ -98,11 +99,34 @@ REGRESSION = {
 }
 
 
+@pytest.mark.parametrize("blocks", [False, True], ids=["default", "blocks-forced"])
 @pytest.mark.parametrize("kind", ["stick_fixed", "stick_free"])
-def test_pooled_fit_equals_the_dense_design_values(kind):
+def test_pooled_fit_equals_the_dense_design_values(kind, blocks, monkeypatch):
+    # forced: the intercepts are removed first even for seven flights (two settings)
+    if blocks:
+        monkeypatch.setattr(fits, "MIN_INTERCEPTS_FOR_BLOCKS", 1)
     fit = pooled_fit(_programme(), kind, stick_force_zero_uncertainty_lbf=0.5)
     got, want = _summary(fit), REGRESSION[kind]
     assert got.keys() == want.keys()
     for key, value in want.items():
         assert got[key] == pytest.approx(value, rel=1e-9, abs=1e-12), key
     assert fit.outliers == ()
+
+
+def test_block_least_squares_equals_the_dense_one(monkeypatch):
+    # fit_matrix with many intercepts (one per flight, weighted) against its dense path
+    rng = np.random.default_rng(7)
+    flight = np.repeat(np.arange(20), 6)
+    cl = rng.uniform(0.2, 1.0, len(flight))
+    h = np.repeat(rng.uniform(0.15, 0.30, 20), 6)
+    y = rng.standard_normal(20)[flight] + 3.0 * cl - 8.0 * h * cl + 0.1 * rng.standard_normal(
+        len(flight))
+    x, names = fits.trim_matrix(flight.astype(str), [str(i) for i in range(20)], cl, h)
+    w = rng.uniform(0.5, 2.0, len(flight))
+    fast = fits.fit_matrix(y, x, names, w)
+    monkeypatch.setattr(fits, "MIN_INTERCEPTS_FOR_BLOCKS", 10**9)
+    dense = fits.fit_matrix(y, x, names, w)
+    assert fast.df_resid == dense.df_resid
+    np.testing.assert_allclose(fast.params, dense.params, rtol=1e-9, atol=1e-12)
+    np.testing.assert_allclose(fast.cov, dense.cov, rtol=1e-9, atol=1e-15)
+    assert fast.residual_std == pytest.approx(dense.residual_std, rel=1e-12)

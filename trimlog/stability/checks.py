@@ -19,6 +19,7 @@ import numpy as np
 import pandas as pd
 
 from trimlog.stability.results import Curvature, InterceptCheck, NeutralPoint, RobustCheck
+from trimlog.statistics import fits
 from trimlog.statistics.fits import (
     LinearFit,
     f_sf,
@@ -172,7 +173,12 @@ def curvature_check(frame: pd.DataFrame, response: str, group_col: str, has_cg_t
 
     def quad_p(labels: np.ndarray, cl: np.ndarray, h: np.ndarray | None, y: np.ndarray
                ) -> tuple[float | None, float | None]:
-        x, names = trim_matrix(labels, list(dict.fromkeys(labels)), cl, h, cl2=True)
+        groups = list(dict.fromkeys(labels))
+        if len(groups) >= fits.MIN_INTERCEPTS_FOR_BLOCKS:  # many intercepts: by blocks
+            slopes = np.column_stack([cl] + ([] if h is None else [h * cl]) + [cl**2])
+            fitted, value, p_value = fits.last_slope_test(labels, slopes, y)
+            return (value, p_value) if fitted else (None, None)
+        x, names = trim_matrix(labels, groups, cl, h, cl2=True)
         if not is_full_rank(x) or len(cl) - x.shape[1] < 2:
             return None, None
         fit = fit_matrix(y, x, names)

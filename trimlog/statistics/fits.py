@@ -263,6 +263,37 @@ class LinearFit:
         return value, math.sqrt(max(var, 0.0)), self.residual_std
 
 
+#: Fewest one-hot intercept columns from which :func:`fit_matrix`, :func:`is_full_rank` and the
+#: outlier test remove the intercepts first (Frisch-Waugh-Lovell) instead of working on the
+#: dense design: below it the dense path keeps statsmodels' numbers to the last bit; above it
+#: (one intercept per flight in a long programme) the dense SVD grows with points times
+#: intercepts squared.  Both give the same numbers to rounding (tested to 1e-9).
+MIN_INTERCEPTS_FOR_BLOCKS = 16
+
+
+def _intercept_block(x: np.ndarray) -> tuple[int, np.ndarray] | None:
+    """Leading one-hot columns (every row in exactly one, each non-empty): count and codes."""
+    n_rows, n_cols = x.shape
+    k = 0
+    while k < n_cols - 1 and np.all((x[:, k] == 0.0) | (x[:, k] == 1.0)):
+        k += 1
+    if k < max(MIN_INTERCEPTS_FOR_BLOCKS, 1) or n_rows == 0:
+        return None
+    block = x[:, :k]
+    if not np.all(block.sum(axis=1) == 1.0) or not np.all(block.any(axis=0)):
+        return None
+    return k, np.argmax(block, axis=1)
+
+
+def _demeaned(z: np.ndarray, codes: np.ndarray, k: int, w: np.ndarray
+              ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Columns less their weighted group means; the group weights and means."""
+    total = np.bincount(codes, weights=w, minlength=k)
+    means = np.column_stack([np.bincount(codes, weights=w * col, minlength=k)
+                             for col in z.T]) / total[:, None]
+    return z - means[codes], total, means
+
+
 def is_full_rank(design: pd.DataFrame | np.ndarray) -> bool:
     """Whether the columns of a design are linearly independent (after scaling each column)."""
     x = np.asarray(design, dtype=float)
@@ -271,6 +302,11 @@ def is_full_rank(design: pd.DataFrame | np.ndarray) -> bool:
     scale = np.sqrt((x * x).sum(axis=0))
     if np.any(scale == 0.0):
         return False
+    block = _intercept_block(x)
+    if block is not None:  # intercepts removed first: the rank of the rest decides
+        k, codes = block
+        rest = _demeaned(x[:, k:], codes, k, np.ones(len(x)))[0]
+        return int(np.linalg.matrix_rank(rest / scale[k:], tol=1e-9)) == x.shape[1] - k
     return int(np.linalg.matrix_rank(x / scale, tol=1e-9)) == x.shape[1]
 
 
@@ -314,14 +350,21 @@ def fit_matrix(yv: np.ndarray, xv: np.ndarray, names: Sequence[str],
     else:
         root_w = np.sqrt(w)
         wy, wx = yv * root_w, root_w[:, None] * xv
-    # The operations of statsmodels' OLS/WLS fit(method="pinv"), without its per-call model
-    # set-up (most of the cost of the many small fits): the same numbers to the last bit.
-    pinv, singular = _pinv_extended(wx)
-    beta = np.dot(pinv, wy)
-    # statsmodels' rank: np.linalg.matrix_rank of diag(singular), whose singular values are these
-    rank = int(np.count_nonzero(singular > singular.max(initial=0.0) * len(singular)
-                                * np.finfo(float).eps))
-    df_resid = len(yv) - rank
+    blocks = _block_solve(yv, xv, w)
+    if blocks is not None:
+        beta, unscaled = blocks
+        df_resid = len(yv) - xv.shape[1]
+    else:
+        # The operations of statsmodels' OLS/WLS fit(method="pinv"), without its per-call model
+        # set-up (most of the cost of the many small fits): the same numbers to the last bit.
+        pinv, singular = _pinv_extended(wx)
+        beta = np.dot(pinv, wy)
+        # statsmodels' rank: np.linalg.matrix_rank of diag(singular), whose singular values
+        # are these
+        rank = int(np.count_nonzero(singular > singular.max(initial=0.0) * len(singular)
+                                    * np.finfo(float).eps))
+        df_resid = len(yv) - rank
+        unscaled = None
     resid = yv - np.dot(xv, beta)
     wresid = wy - np.dot(wx, beta)
     names = pd.Index(names)
@@ -330,7 +373,9 @@ def fit_matrix(yv: np.ndarray, xv: np.ndarray, names: Sequence[str],
         cov = pd.DataFrame(0.0, index=names, columns=names)
     else:
         scale = np.dot(wresid, wresid) / df_resid
-        cov = pd.DataFrame(np.dot(pinv, np.transpose(pinv)) * scale, index=names, columns=names)
+        if unscaled is None:
+            unscaled = np.dot(pinv, np.transpose(pinv))
+        cov = pd.DataFrame(unscaled * scale, index=names, columns=names)
     ww = np.ones_like(yv) if w is None else w
     ss_res = float(np.sum(ww * resid**2))
     residual_std = math.sqrt(ss_res / df_resid) if df_resid > 0 else 0.0
@@ -338,6 +383,72 @@ def fit_matrix(yv: np.ndarray, xv: np.ndarray, names: Sequence[str],
     ss_tot = float(np.sum(ww * (yv - ybar) ** 2))
     r2 = 1.0 - ss_res / ss_tot if ss_tot > 1e-12 * max(1.0, float(np.sum(ww * yv**2))) else None
     return LinearFit(params, cov, df_resid, residual_std, finite(r2), len(yv), xv, yv, w, resid)
+
+
+def _block_solve(yv: np.ndarray, xv: np.ndarray, w: np.ndarray | None
+                 ) -> tuple[np.ndarray, np.ndarray] | None:
+    """Least squares with the leading intercepts removed first; None to use the dense path.
+
+    Returns the coefficients and ``(X'WX)^-1`` by blocks (Frisch-Waugh-Lovell: the slopes
+    from the group-demeaned columns, the intercepts as group means of what they leave).
+    """
+    block = _intercept_block(xv)
+    if block is None:
+        return None
+    k, codes = block
+    ww = np.ones(len(yv)) if w is None else w
+    if np.any(ww <= 0.0):
+        return None
+    z = xv[:, k:]
+    rest, total, means = _demeaned(z, codes, k, ww)
+    scale = np.sqrt((z * z).sum(axis=0))
+    root = np.sqrt(ww)
+    if np.any(scale == 0.0) or int(np.linalg.matrix_rank(
+            root[:, None] * rest / scale, tol=1e-9)) < z.shape[1]:
+        return None
+    schur_inv = np.linalg.inv((rest * ww[:, None]).T @ rest)
+    b = schur_inv @ ((rest * ww[:, None]).T @ yv)
+    a = np.bincount(codes, weights=ww * (yv - z @ b), minlength=k) / total
+    unscaled = np.empty((xv.shape[1],) * 2)
+    cross = -means @ schur_inv
+    unscaled[:k, :k] = -cross @ means.T
+    unscaled[np.arange(k), np.arange(k)] += 1.0 / total
+    unscaled[:k, k:] = cross
+    unscaled[k:, :k] = cross.T
+    unscaled[k:, k:] = schur_inv
+    return np.concatenate([a, b]), unscaled
+
+
+def last_slope_test(labels: np.ndarray, slopes: np.ndarray, y: np.ndarray
+                    ) -> tuple[bool, float | None, float | None]:
+    """The last slope's coefficient and t-test p of ``y = a[label] + slopes b``, by blocks.
+
+    The numbers of :func:`trim_matrix` + :func:`is_full_rank` + :func:`fit_matrix` for the
+    last column, without building the dense design: the intercepts are removed first
+    (Frisch-Waugh-Lovell), so the cost is linear in the points whatever the number of
+    groups.  Returns ``(fitted, coefficient, p)``; not fitted when the design is not of
+    full rank or leaves fewer than two residual degrees of freedom.
+    """
+    codes, uniques = pd.factorize(np.asarray(labels, dtype=object))
+    k, m = len(uniques), slopes.shape[1]
+    scale = np.sqrt((slopes * slopes).sum(axis=0))
+    if len(y) < k + m or np.any(scale == 0.0):
+        return False, None, None
+    rest, _, _ = _demeaned(slopes, codes, k, np.ones(len(y)))
+    if int(np.linalg.matrix_rank(rest / scale, tol=1e-9)) < m or len(y) - k - m < 2:
+        return False, None, None
+    schur_inv = np.linalg.inv(rest.T @ rest)
+    b = schur_inv @ (rest.T @ y)
+    a = np.bincount(codes, weights=y - slopes @ b, minlength=k) / np.bincount(codes, minlength=k)
+    resid = y - a[codes] - slopes @ b
+    df = len(y) - k - m
+    value = finite(float(b[-1]))
+    se = finite(math.sqrt(max(float(schur_inv[-1, -1]) * float(resid @ resid) / df, 0.0)))
+    if se is None:
+        return True, value, None
+    if se == 0.0:
+        return True, value, 0.0 if b[-1] != 0.0 else 1.0
+    return True, value, finite(2.0 * float(t_sf(abs(float(b[-1]) / se), df)))
 
 
 def _pinv_extended(x: np.ndarray, rcond: float = 1e-15) -> tuple[np.ndarray, np.ndarray]:
@@ -395,7 +506,14 @@ def studentized_outliers(fit: LinearFit, alpha: float = OUTLIER_ALPHA) -> list[S
         return []
     x, e = fit.exog, fit.resid
     # leverages h_ii = diag(X (X'X)^-1 X'); s_(i)^2 is the residual variance without point i
-    lev = np.einsum("ij,jk,ik->i", x, np.linalg.pinv(x.T @ x), x)
+    block = _intercept_block(x)
+    if block is not None:  # h_ii = 1/n_group + the demeaned slopes' part (same numbers)
+        k, codes = block
+        rest, total, _ = _demeaned(x[:, k:], codes, k, np.ones(len(x)))
+        lev = 1.0 / total[codes] + np.einsum(
+            "ij,jk,ik->i", rest, np.linalg.pinv(rest.T @ rest), rest)
+    else:
+        lev = np.einsum("ij,jk,ik->i", x, np.linalg.pinv(x.T @ x), x)
     one_minus = np.clip(1.0 - lev, 1e-12, None)
     s2_i = (fit.df_resid * fit.residual_std**2 - e**2 / one_minus) / (fit.df_resid - 1)
     with np.errstate(divide="ignore", invalid="ignore"):

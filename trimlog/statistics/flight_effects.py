@@ -158,6 +158,62 @@ def _gls(y, x, cl, w, flight, k, sigma2, tau2):
     return cov @ r, cov
 
 
+def _gls_blocks(y, cl, h, w, flight, k, group, n_groups, group_of_flight, sigma2, tau2):
+    """:func:`_gls` for a design of one intercept per group, each flight in one group.
+
+    The same normal equations, solved by blocks: the intercept block is diagonal (a flight's
+    random slope touches only its own group's intercept), so the CL and h*CL block is its
+    Schur complement and the cost is linear in the number of flights, where the dense
+    solve is cubic.  Returns the coefficients and 2x2 covariance of CL and h*CL.
+    """
+    # Each column split within a flight into its part along CL and the rest: the random
+    # slope only shrinks the part along CL (by sigma^2 / (sigma^2 + tau^2 s)), so nothing
+    # is subtracted and a large tau^2 s / sigma^2 loses no digits to cancellation.
+    cols = np.column_stack([np.ones_like(cl), cl, h * cl, y])
+    wcl = w * cl
+    s = np.bincount(flight, wcl * cl, k)
+    along = np.column_stack([np.bincount(flight, wcl * cols[:, j], k) for j in range(4)])
+    along = along / s[:, None]
+    rest = cols - along[flight] * cl[:, None]
+    wrest = rest * w[:, None]
+    e = s * sigma2 / (sigma2 + tau2 * s)
+    g = group_of_flight
+    a_gg = np.bincount(group, wrest[:, 0] * rest[:, 0], n_groups) + np.bincount(
+        g, e * along[:, 0] ** 2, n_groups)
+    cross = wrest[:, 0:1] * rest[:, 1:]
+    a_gz = np.column_stack([np.bincount(group, cross[:, j], n_groups)
+                            + np.bincount(g, e * along[:, 0] * along[:, 1 + j], n_groups)
+                            for j in range(3)])
+    full = wrest[:, 1:].T @ rest[:, 1:] + (along[:, 1:].T * e) @ along[:, 1:]
+    a_gz, r_g = a_gz[:, :2], a_gz[:, 2]
+    a_zz, r_z = full[:2, :2], full[:2, 2]
+    if np.any(a_gg <= 0.0):
+        raise np.linalg.LinAlgError("singular intercept block")
+    schur = (a_zz - (a_gz.T / a_gg) @ a_gz) / sigma2
+    rhs = (r_z - (a_gz.T / a_gg) @ r_g) / sigma2
+    cov = np.linalg.inv(schur)
+    return cov @ rhs, cov
+
+
+def _one_group_per_flight(f, g_codes, k):
+    """The group of each flight when every flight has one group, else None."""
+    first = np.full(k, -1)
+    first[f[::-1]] = g_codes[::-1]
+    return first if np.array_equal(first[f], g_codes) else None
+
+
+def _block_rank_ok(cl, h, g_codes, n_groups):
+    """Full column rank of [one intercept per group, CL, h*CL] without the dense design."""
+    z = np.column_stack([cl, h * cl])
+    count = np.bincount(g_codes, minlength=n_groups)
+    means = np.column_stack([np.bincount(g_codes, z[:, j], n_groups) for j in range(2)])
+    resid = z - (means / count[:, None])[g_codes]
+    scale = np.sqrt((z * z).sum(axis=0))
+    if np.any(scale == 0.0):
+        return False
+    return int(np.linalg.matrix_rank(resid / scale, tol=1e-12)) == 2
+
+
 def fit_flight_level(
     y: np.ndarray, cl: np.ndarray, h: np.ndarray, group: np.ndarray, flight: np.ndarray, *,
     weights: np.ndarray | None = None, cg_sigma: np.ndarray | float = 0.0,
@@ -222,19 +278,34 @@ def fit_flight_level(
     cg_sig_f = np.bincount(f, hsig, k) / count
     slope_sig_f = np.bincount(f, ssig, k) / count
     h_f = np.bincount(f, w * h, k) / np.bincount(f, w, k)
-    x = np.zeros((n, n_groups + 2))
-    x[np.arange(n), g_codes] = 1.0
-    x[:, -2] = cl
-    x[:, -1] = h * cl
-    if np.linalg.matrix_rank(x) < x.shape[1]:
-        return None
     v = sigma2 / sxx
+    group_of_flight = _one_group_per_flight(f, g_codes, k)
+    if group_of_flight is not None:
+        # one intercept per group and each flight in one group (stick-free: per flight):
+        # solved by blocks, linear in the number of flights (same numbers as the dense solve)
+        if not _block_rank_ok(cl, h, g_codes, n_groups):
+            return None
+
+        def solve(tau2):
+            return _gls_blocks(y, cl, h, w, f, k, g_codes, n_groups, group_of_flight,
+                               sigma2, tau2)
+    else:
+        x = np.zeros((n, n_groups + 2))
+        x[np.arange(n), g_codes] = 1.0
+        x[:, -2] = cl
+        x[:, -1] = h * cl
+        if np.linalg.matrix_rank(x) < x.shape[1]:
+            return None
+
+        def solve(tau2):
+            coef, cov = _gls(y, x, cl, w, f, k, sigma2, tau2)
+            return coef[-2:], cov[-2:, -2:]
     try:
-        coef, cov = _gls(y, x, cl, w, f, k, sigma2, np.zeros(k))
+        coef, cov = solve(np.zeros(k))
         for _ in range(2):  # the declared CG term needs c; one refinement is enough
             declared = (coef[-1] * cg_sig_f) ** 2 + slope_sig_f ** 2
             excess = _dl_excess(g, v + declared, h_f, k)
-            coef, cov = _gls(y, x, cl, w, f, k, sigma2, declared + excess)
+            coef, cov = solve(declared + excess)
     except np.linalg.LinAlgError:
         return None
     if not np.all(np.isfinite(cov)):
@@ -245,5 +316,5 @@ def fit_flight_level(
     denom = within**2 / df_w + (extra**2 / (k - 2) if k > 2 and extra > 0.0 else 0.0)
     df = total**2 / denom if denom > 0.0 else float(df_w)
     df = float(min(max(df, 1.0), df_w if extra == 0.0 else math.inf))
-    return FlightLevelFit(float(coef[-2]), float(coef[-1]), cov[-2:, -2:].copy(), df,
+    return FlightLevelFit(float(coef[-2]), float(coef[-1]), np.array(cov, dtype=float), df,
                           sigma2, int(df_w), declared, float(excess), k)
