@@ -277,6 +277,18 @@ def test_neutral_point_trend():
     assert list(cg.get_ydata()) == [16.0, 22.0, 27.0]
 
 
+def test_neutral_point_trend_shows_the_maneuver_points():
+    records = _trend_records()
+    records[2]["maneuver_point"] = {
+        "stick_fixed": {"pct_mac": 42.0, "ci95_pct_mac": [40.0, 45.0], "identifiable": True},
+        "stick_free": {"pct_mac": None, "ci95_pct_mac": None, "identifiable": False}}
+    ax = plots.neutral_point_trend(records)
+    bars = [c for c in ax.containers if isinstance(c, ErrorbarContainer)]
+    assert len(bars) == 3
+    assert list(bars[2].lines[0].get_ydata()) == [42.0]
+    assert "stick-fixed maneuver point, 95 % interval" in ax.get_legend_handles_labels()[1]
+
+
 def test_neutral_point_trend_names_a_missing_key():
     records = _trend_records()
     del records[1]["cg_pct_mac"]

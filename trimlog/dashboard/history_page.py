@@ -145,8 +145,8 @@ def _trend(p) -> None:
     records = trend["trend"]
     png = compute.trend_figure(p.name, margin, step)
     if png is not None:
-        st.image(png, caption="Estimates of the neutral point as flights were added, with "
-                 "their 95 % intervals, and the CG of each flight added")
+        st.image(png, caption="Estimates of the neutral and maneuver points as flights were "
+                 "added, with their 95 % intervals, and the CG of each flight added")
     st.dataframe(
         pd.DataFrame([
             {"After flight": f"{r['n_flights']}: {r['label']}", "CG [%MAC]": num(r["cg_pct_mac"]),
@@ -154,6 +154,8 @@ def _trend(p) -> None:
              "95 % interval": interval(r["ci95_pct_mac"]),
              "Stick-free [%MAC]": num(r["stick_free_pct_mac"]),
              "Stick-free 95 %": interval(r["stick_free_ci95_pct_mac"]),
+             "Maneuver pt, stick-fixed [%MAC]": num(_mp(r, "stick_fixed")),
+             "Maneuver pt, stick-free [%MAC]": num(_mp(r, "stick_free")),
              "Note": r["reason"] or ""}
             for r in records
         ]),
@@ -185,3 +187,8 @@ def _trend(p) -> None:
             return
         right.download_button("History report (PDF)", pdf, file_name="trimlog-history.pdf",
                               mime="application/pdf")
+
+
+def _mp(record: dict, kind: str) -> float | None:
+    """A trend step's maneuver point [%MAC] (None before it can be said)."""
+    return ((record.get("maneuver_point") or {}).get(kind) or {}).get("pct_mac")

@@ -616,6 +616,27 @@ def log_overview(flight_data: FlightData, axes: Sequence[Axes] | None = None, *,
     return axes
 
 
+def _maneuver_trend(ax: Axes, x: np.ndarray, trend_steps: Sequence[Mapping[str, Any]]) -> None:
+    """Both maneuver points after each flight, open markers, where a step has one."""
+    for kind, label, marker, color, dx in (
+            ("stick_fixed", "stick-fixed maneuver point", "D", PALETTE[0], -0.2),
+            ("stick_free", "stick-free maneuver point", "^", PALETTE[1], 0.2)):
+        xs, ys, lo, hi = [], [], [], []
+        for xi, rec in zip(x, trend_steps, strict=True):
+            point = (rec.get("maneuver_point") or {}).get(kind) or {}
+            value, ci = point.get("pct_mac"), point.get("ci95_pct_mac")
+            if value is None or not math.isfinite(value):
+                continue
+            xs.append(xi + dx)
+            ys.append(value)
+            lo.append(value - ci[0] if ci else 0.0)
+            hi.append(ci[1] - value if ci else 0.0)
+        if xs:
+            ax.errorbar(xs, ys, yerr=[lo, hi], marker=marker, color=color, capsize=3,
+                        markerfacecolor="none", linestyle=":", linewidth=1.0,
+                        label=f"{label}, 95 % interval")
+
+
 def neutral_point_trend(trend_steps: Sequence[Mapping[str, Any]], ax: Axes | None = None,
                         *, next_step: Mapping[str, Any] | None = None,
                         aft_limit_pct_mac: float | None = None,
@@ -678,6 +699,7 @@ def neutral_point_trend(trend_steps: Sequence[Mapping[str, Any]], ax: Axes | Non
         if xs:
             ax.errorbar(xs, ys, yerr=[lo, hi], marker=marker, color=color, capsize=3,
                         linestyle="-", linewidth=1.0, label=f"{label}, 95 % interval")
+    _maneuver_trend(ax, x, trend_steps)
     cgs = [(xi, rec["cg_pct_mac"]) for xi, rec in zip(x, trend_steps, strict=True)
            if rec["cg_pct_mac"] is not None]
     if cgs:
