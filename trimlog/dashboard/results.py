@@ -144,12 +144,18 @@ def _neutral_points(a: Analysis) -> None:
                "per-flight gradients against CG; should agree with the pooled value")
     aft = next((m for m in s.margins if m.label == "aft CG limit"), None)
     if aft is not None and aft.stick_fixed_pct_mac is not None:
-        cols[3].metric("Static margin at the aft limit",
-                       f"{aft.stick_fixed_pct_mac:.1f} %MAC",
-                       help="stick-fixed; minimum wanted "
+        # The headline is the margin that limits (the smaller lower 95 % bound), named.
+        free_limits = aft.limited_by == "stick_free_np" and aft.stick_free_pct_mac is not None
+        kind, value, ci, other, other_value = (
+            ("stick-free", aft.stick_free_pct_mac, aft.stick_free_ci95_pct_mac,
+             "stick-fixed", aft.stick_fixed_pct_mac) if free_limits else
+            ("stick-fixed", aft.stick_fixed_pct_mac, aft.stick_fixed_ci95_pct_mac,
+             "stick-free", aft.stick_free_pct_mac))
+        cols[3].metric("Static margin at the aft limit", f"{value:.1f} %MAC",
+                       help=f"{kind} (the margin that limits); minimum wanted "
                        f"{a.profile.min_static_margin_pct_mac:.1f} %MAC")
-        cols[3].caption(f"95 %: {interval(aft.stick_fixed_ci95_pct_mac)} %MAC; stick-free "
-                        f"{num(aft.stick_free_pct_mac)} %MAC")
+        cols[3].caption(f"{kind}, the one that limits; 95 %: {interval(ci)} %MAC; "
+                        f"{other} {num(other_value)} %MAC")
     cols = st.columns(4)
     cols[0].caption(f"CG spread flown {s.stick_fixed.neutral_point.cg_spread_pct_mac:.1f} %MAC "
                     f"over {s.stick_fixed.neutral_point.n_flights} flight(s).")
