@@ -280,7 +280,9 @@ def _build_parser() -> argparse.ArgumentParser:
         "Start the web dashboard on this computer (http://127.0.0.1:8501).",
         "trimlog dashboard --port 8501",
     )
-    p.add_argument("--port", type=int, default=8501)
+    p.add_argument("--port", type=int, default=8501, metavar="PORT",
+                   help="TCP port the dashboard listens on (default 8501); open "
+                        "http://127.0.0.1:PORT in a browser")
     p.add_argument("--address", default="127.0.0.1", help="listen address (default localhost)")
 
     p = command(
@@ -532,7 +534,31 @@ def _run_analyze(args: argparse.Namespace) -> int:
             _print(result.programme.describe() + "\n")
         colour = _use_color()
         _print(summary.render(result, color=colour), colour=colour)
-    return EXIT_OK if result.identifiable else EXIT_REFUSED
+    return _analysis_status(result)
+
+
+def _analysis_status(result: Any) -> int:
+    """Exit 0, or 1 with the reason on stderr (printed even with --quiet)."""
+    if result.identifiable:
+        return EXIT_OK
+    reason = result.primary.stability.stick_fixed.neutral_point.reason
+    return _refused(f"the stick-fixed neutral point is not identifiable: {reason}")
+
+
+def _refused(reason: str) -> int:
+    """Exit status 1 (a result the data cannot support), with its reason on stderr."""
+    _print(f"trimlog: exit 1 (no supported result): {reason}", file=sys.stderr)
+    return EXIT_REFUSED
+
+
+def _trend_status(trend: Any) -> int:
+    """Exit 0, or 1 with the reason on stderr, for trend and plan."""
+    if trend.identifiable:
+        return EXIT_OK
+    if not trend.steps:
+        return _refused("no flight with stabilized points is saved for this aircraft yet")
+    return _refused("the latest stick-fixed neutral point is not identifiable: "
+                    + trend.steps[-1].stick_fixed.reason)
 
 
 def _run_calibrate(args: argparse.Namespace) -> int:
@@ -573,7 +599,11 @@ def _run_calibrate(args: argparse.Namespace) -> int:
             record = store_calibration(store, profile, result)
         _print(f"kept with '{record.name}' in {args.db} as profile version "
               f"{record.profile_version}", file=sys.stderr)
-    return EXIT_OK if result.determinable else EXIT_REFUSED
+    if result.determinable:
+        return EXIT_OK
+    return _refused(next((f.message for f in result.findings
+                          if f.code == "pipeline.calibration.not_determinable"),
+                         "the position error cannot be determined from these data"))
 
 
 def _write_calibrated_profile(source: str, target: str, result) -> None:
@@ -619,7 +649,7 @@ def _run_report(args: argparse.Namespace) -> int:
             trend = None
         path = report.write_report(result, args.output, trend=trend, progress=progress)
     _print(f"report written to {path}")
-    return EXIT_OK if result.identifiable else EXIT_REFUSED
+    return _analysis_status(result)
 
 
 def _open_store(db: str | None, *, must_exist: bool = False):
@@ -712,7 +742,7 @@ def _run_trend(args: argparse.Namespace) -> int:
         _write_json(args.json, trend.to_dict())
     colour = _use_color()
     _print(summary.render_trend(trend, color=colour), colour=colour)
-    return EXIT_OK if trend.identifiable else EXIT_REFUSED
+    return _trend_status(trend)
 
 
 def _run_plan(args: argparse.Namespace) -> int:
@@ -731,7 +761,7 @@ def _run_plan(args: argparse.Namespace) -> int:
         _write_json(args.json, trend.to_dict()["next_step"])
     colour = _use_color()
     _print(summary.render_plan(trend, color=colour), colour=colour)
-    return EXIT_OK if trend.identifiable else EXIT_REFUSED
+    return _trend_status(trend)
 
 
 def _run_exclude(args: argparse.Namespace) -> int:
