@@ -289,6 +289,9 @@ def test_elevator_at_the_stop_for_the_slow_points_is_flagged(tmp_path, capsys):
     assert_honest(payload)
     flagged = {(f["flight"], f["point"]) for f in payload["fit_checks"]["stop_flags"]}
     assert flagged == {(f, p) for f in ("F1", "F2", "F3") for p in (1, 2)}
+    # the up stop is at negative elevator, and the JSON says which stop (from the result)
+    assert {f["stop"] for f in payload["fit_checks"]["stop_flags"]} == {"up"}
+    assert not any(f["included"] for f in payload["fit_checks"]["stop_flags"])
     fixed = payload["neutral_point"]["stick_fixed"]
     if fixed["identifiable"]:
         # Synthetic data of known truth: hn = 40 %MAC.

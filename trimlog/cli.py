@@ -647,7 +647,9 @@ def _run_report(args: argparse.Namespace) -> int:
             result = analysis.analyze(flights, profile, exclusions=_exclusions(args.exclude),
                                       progress=progress, **_maneuver_choices(args))
             trend = None
-        path = report.write_report(result, args.output, trend=trend, progress=progress)
+        path = report.write_report(result, args.output,
+                                   trend=trend.records() if trend is not None else None,
+                                   progress=progress)
     _print(f"report written to {path}")
     return _analysis_status(result)
 

@@ -195,6 +195,7 @@ def test_thick_shim_is_cut_in_steps_not_capped():
                elevator_ci95_deg=(-3.4, -2.6), tau_ci95=(0.45, 0.55))
     assert cut.thickness_in == pytest.approx(0.322)
     assert cut.steps == 2
+    assert cut.step_thickness_in == pytest.approx(0.161)  # 0.322 / 2, given to the views
     assert cut.stock_thickness_in == pytest.approx(0.161, abs=0.002)  # 0.071 + 0.090
     assert cut.stock_sheets == (0.071, 0.090)
     codes = [f.code for f in cut.verdict]

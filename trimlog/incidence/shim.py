@@ -223,6 +223,8 @@ class ShimResult:
     decimals_mm: int = 2
     steps: int = 1
     residual_elevator_ci95_deg: tuple[float, float] | None = None
+    #: Thickness of each of the ``steps`` equal cuts [in] (the exact thickness for one cut).
+    step_thickness_in: float | None = None
 
     @property
     def words(self) -> str:
@@ -495,7 +497,7 @@ def shim(
         current_incidence_deg=current_incidence_deg, new_incidence_deg=new_incidence,
         verdict=tuple(verdict), findings=tuple(found), thickness_ci95_in=thickness_ci,
         decimals_in=decimals_in, decimals_mm=decimals_mm, steps=steps,
-        residual_elevator_ci95_deg=residual_ci,
+        residual_elevator_ci95_deg=residual_ci, step_thickness_in=exact_in / steps,
     )
 
 
@@ -570,6 +572,8 @@ class IncidenceRecommendation:
     residual_elevator_ci95_deg: tuple[float, float] | None = None
     elevator_at_cruise_words: str = ""
     change_words: str = ""
+    #: Thickness of each of the ``shim_steps`` equal cuts [in] (the exact one for one cut).
+    shim_step_thickness_in: float | None = None
 
     @property
     def words(self) -> str:
@@ -714,6 +718,7 @@ def recommend_incidence(
         shim_decimals_mm=cut.decimals_mm, shim_steps=cut.steps,
         residual_elevator_ci95_deg=cut.residual_elevator_ci95_deg,
         elevator_at_cruise_words=elevator_words, change_words=change_words,
+        shim_step_thickness_in=cut.step_thickness_in,
     )
 
 

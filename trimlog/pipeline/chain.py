@@ -111,6 +111,32 @@ class ConfigurationResult:
     tau_calibration: tau.TauCalibration | None
 
 
+@dataclass(frozen=True)
+class PointAtStop:
+    """A point flagged ``at_stop``: its elevator sat at a stop, so it is not a free trim.
+
+    Attributes
+    ----------
+    flight : str
+    point : int
+    config : str
+        The configuration the point belongs to.
+    elevator_deg : float
+        Mean elevator of the point [deg, trailing edge down +].
+    stop : {"up", "down"}
+        Which stop: the up stop is at negative elevator, the down stop at positive.
+    included : bool
+        False unless the user chose to include it again.
+    """
+
+    flight: str
+    point: int
+    config: str
+    elevator_deg: float
+    stop: str
+    included: bool
+
+
 @dataclass(frozen=True, eq=False)
 class Analysis:
     """Everything trimlog found from a set of flights of one aircraft.
@@ -138,6 +164,8 @@ class Analysis:
     programme : ProgrammeInputs or None
         Which saved and new flights went in, when the analysis is of a
         programme kept in a history database (``trimlog analyze --db``).
+    at_stop : tuple of PointAtStop
+        Every point whose elevator sat at a stop, in every configuration.
     """
 
     profile: AircraftProfile
@@ -151,6 +179,7 @@ class Analysis:
     software_version: str = __version__
     maneuvering: maneuver.ManeuverResult | None = None
     programme: ordering.ProgrammeInputs | None = None
+    at_stop: tuple[PointAtStop, ...] = ()
 
     @property
     def identifiable(self) -> bool:
@@ -343,7 +372,8 @@ def analyze(
     found += order_findings
     found += _reading_findings(flights)
     found += reduced.findings
-    found += _stop_findings(table)
+    at_stop = _points_at_a_stop(table)
+    found += _stop_findings(at_stop)
 
     results = []
     for config, part in table.groupby("config", sort=False):
@@ -381,6 +411,7 @@ def analyze(
         tail=tail,
         findings=tuple(found),
         maneuvering=maneuvering,
+        at_stop=at_stop,
     )
 
 
@@ -550,14 +581,24 @@ def _reading_findings(flights: Sequence[FlightData]) -> list[Finding]:
     return found
 
 
-def _stop_findings(points: pd.DataFrame) -> list[Finding]:
+def _points_at_a_stop(points: pd.DataFrame) -> tuple[PointAtStop, ...]:
+    """The points flagged ``at_stop`` (when found, or as stored in the history)."""
     at_stop = points.loc[points["flags"].astype(str).str.contains("at_stop", regex=False)]
-    return [
-        finding("pipeline.at_stop.included" if r.included else "pipeline.at_stop.left_out",
-                Severity.WARNING, Subject(flight=str(r.flight), point=int(r.point),
-                                          quantity="elevator_deg"),
-                elevator_deg=float(r.elevator_deg))
+    return tuple(
+        PointAtStop(flight=str(r.flight), point=int(r.point), config=str(r.config),
+                    elevator_deg=float(r.elevator_deg),
+                    stop="up" if r.elevator_deg < 0 else "down", included=bool(r.included))
         for r in at_stop.itertuples()
+    )
+
+
+def _stop_findings(at_stop: Iterable[PointAtStop]) -> list[Finding]:
+    return [
+        finding("pipeline.at_stop.included" if s.included else "pipeline.at_stop.left_out",
+                Severity.WARNING, Subject(flight=s.flight, point=s.point,
+                                          quantity="elevator_deg"),
+                elevator_deg=s.elevator_deg)
+        for s in at_stop
     ]
 
 

@@ -79,6 +79,7 @@ INCIDENCE_KEYS = (  # the issue's contract keys first, then the extras
     "current_incidence_deg", "new_incidence_deg", "words", "warnings", "cautions",
     "shim_thickness_ci95_in", "shim_decimals_in", "shim_decimals_mm", "shim_steps",
     "residual_elevator_ci95_deg", "elevator_at_cruise_words", "change_words",
+    "shim_step_thickness_in",
 )
 REQUIREMENT_KEYS = (
     "control", "limit_load_factor_g", "force_to_limit_lbf", "per_g_23_155_lbf",
@@ -282,7 +283,7 @@ def configuration_dict(result: ConfigurationResult, analysis: Analysis) -> dict[
                 None if s.stick_fixed.robust is None else s.stick_fixed.robust.pct_mac
             ),
             "curvature": _record(s.stick_fixed.curvature, CURVATURE_KEYS),
-            "stop_flags": _stop_flags(analysis.points, result.config),
+            "stop_flags": _stop_flags(analysis, result.config),
             "n_excluded": s.n_excluded,
         },
         "next_cg_for_precision": _record(s.next_cg, NEXT_CG_KEYS),
@@ -293,15 +294,11 @@ def configuration_dict(result: ConfigurationResult, analysis: Analysis) -> dict[
     }
 
 
-def _stop_flags(points: pd.DataFrame, config: str) -> list[dict[str, Any]]:
-    """Points left out because the elevator sat at a stop (flag ``at_stop``)."""
-    mine = points.loc[(points["config"] == config)
-                      & points["flags"].astype(str).str.contains("at_stop", regex=False)]
-    return [
-        {"flight": r.flight, "point": int(r.point), "elevator_deg": float(r.elevator_deg),
-         "stop": "up" if r.elevator_deg < 0 else "down", "included": bool(r.included)}
-        for r in mine.itertuples()
-    ]
+def _stop_flags(analysis: Analysis, config: str) -> list[dict[str, Any]]:
+    """Points of ``config`` whose elevator sat at a stop (from :attr:`Analysis.at_stop`)."""
+    return [{"flight": s.flight, "point": s.point, "elevator_deg": s.elevator_deg,
+             "stop": s.stop, "included": s.included}
+            for s in analysis.at_stop if s.config == config]
 
 
 def neutral_point_dict(np_: NeutralPoint, fit: PooledFit | None = None) -> dict[str, Any]:

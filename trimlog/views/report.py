@@ -74,14 +74,6 @@ def neutral_point_text(np_: Mapping[str, Any] | None) -> str:
     return f"{np_['pct_mac']:.1f} %MAC, 95 % interval {interval(np_['ci95_pct_mac'])} %MAC"
 
 
-def shim_text(inc: Mapping[str, Any], spacing_in: float) -> str:
-    """The computed shim thickness with its 95 % interval, from the ``incidence`` JSON block.
-
-    Rounded to the decimals the interval supports (numbers from the core).
-    """
-    return f"{shim_words.exact_text(inc)}; attach points {spacing_in:g} in apart"
-
-
 # --------------------------------------------------------------------------- content
 
 
@@ -583,7 +575,7 @@ def _announcing(blocks: list[Any], progress: Progress) -> list[Any]:
 
 
 def write_report(analysis: Analysis, path: str | os.PathLike[str], *,
-                 trend: Sequence[Mapping[str, Any]] | Any | None = None,
+                 trend: Sequence[Mapping[str, Any]] | None = None,
                  progress: Progress = SILENT) -> Path:
     """Write the flight-test report of an analysis.
 
@@ -594,9 +586,11 @@ def write_report(analysis: Analysis, path: str | os.PathLike[str], *,
     path : str or path-like
         Output file: ``.html`` or ``.htm`` writes one self-contained HTML page
         (figures embedded as PNG); any other name writes a PDF.
-    trend : sequence of mappings, or an object with ``records()``, optional
-        The neutral point after each successive flight (the records of
-        :func:`trimlog.views.plots.neutral_point_trend`); adds the trend figure.
+    trend : sequence of mappings, optional
+        The neutral point after each successive flight: the records of
+        :meth:`trimlog.history.service.Trend.records`, as
+        :func:`trimlog.views.plots.neutral_point_trend` draws them; adds the
+        trend figure.
     progress : trimlog.progress.Progress, optional
         Told as each figure is drawn and as the pages are written.
 
@@ -616,10 +610,9 @@ def write_report(analysis: Analysis, path: str | os.PathLike[str], *,
         raise TrimlogError(f"cannot write the report to {path}: it is a folder; give a file "
                            "name such as report.pdf")
     check_output_target(path, "report")  # before spending time on drawing
-    records = trend.records() if hasattr(trend, "records") else trend
     now = dt.datetime.now(dt.UTC)
     generated = now.strftime("%Y-%m-%d %H:%M UTC")
-    blocks = _announcing(report_blocks(analysis, records, generated), progress)
+    blocks = _announcing(report_blocks(analysis, trend, generated), progress)
     title = f"trimlog flight-test report: {analysis.profile.name}"
     footer = (f"trimlog {analysis.software_version} | {analysis.profile.name} | "
               f"generated {generated}")

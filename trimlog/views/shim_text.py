@@ -79,7 +79,7 @@ def steps_text(inc: Mapping[str, Any]) -> str:
     if steps <= 1:
         return ""
     return (f"one cut is too much: {steps} steps, each about "
-            f"{inc['shim_thickness_in'] / steps:.3f} in; cut step 1, fly, and measure again")
+            f"{inc['shim_step_thickness_in']:.3f} in; cut step 1, fly, and measure again")
 
 
 def headline(inc: Mapping[str, Any]) -> str:
