@@ -203,6 +203,21 @@ _TEMPLATES: dict[str, str] = {
     "stability.at_stop": (
         "flight '{flight}' point {point}: elevator {elevator_deg:.1f} deg is at the {stop} stop, "
         "so the trim there is not free; consider excluding it"),
+    "stability.authority.up_stop_reached": (
+        "elevator authority, {case} (CLmax {clmax:g}) at the forward CG limit "
+        "{cg_pct_mac:.1f} %MAC: the up stop is reached before CLmax (elevator needed "
+        "{elevator_deg:+.1f} deg, up stop {up_stop_deg:+.1f} deg; {basis}): the elevator may not "
+        "hold CLmax there; check it with trim points near CLmax at a forward CG, with altitude "
+        "for recovery, before relying on it"),
+    "stability.authority.up_stop_may_be_reached": (
+        "elevator authority, {case} (CLmax {clmax:g}) at the forward CG limit "
+        "{cg_pct_mac:.1f} %MAC: the up stop may be reached before CLmax (elevator needed "
+        "{elevator_deg:+.1f} deg, up stop {up_stop_deg:+.1f} deg, {margin_deg:+.1f} deg left at "
+        "the conservative end of the 95 % prediction interval; {basis})"),
+    "stability.authority.reserve_short": (
+        "elevator authority, {case} (CLmax {clmax:g}) at the forward CG limit "
+        "{cg_pct_mac:.1f} %MAC: only {margin_deg:.1f} deg of up elevator left at CLmax "
+        "(conservative end), less than the {reserve_deg:g} deg reserve ({basis})"),
     "stability.maneuver.unconverted": "{text}",
     "stability.maneuver.no_gradient": (
         "maneuvering: {n_points} point(s) of flight '{flight}' give no gradient per g: {reason}"),
@@ -472,21 +487,110 @@ def by_severity(findings: Iterable[Finding]) -> list[Finding]:
     return sorted(findings, key=lambda f: -f.severity.rank)
 
 
-def for_display(findings: Iterable[Finding], *, show_config: bool = False
-                ) -> tuple[tuple[str, ...], tuple[str, ...]]:
-    """Lines to show, split as views show them: (warnings and cautions, reading notes).
+#: Routine reading notes: how a file was read, as declared or harmless.  Views list
+#: them apart from (after, or collapsed below) the findings that matter to flight
+#: safety.  A reading finding that can hide a mistake (a sign NOT inverted, a unit
+#: assumed, a constant column, glitches blanked, columns not understood) is not here.
+READING_NOTE_CODES: frozenset[str] = frozenset({
+    "input.log.values_not_used",
+    "input.log.preamble_skipped",
+    "input.log.sign_inverted",
+    "input.log.columns_ignored",
+    "input.log.cp1252",
+    "input.log.duplicate_times",
+    "input.log.uneven_sampling",
+})
 
-    The first group is most severe first (warnings before cautions, in
-    order within each); reading notes (:attr:`Severity.NOTE`) come apart so a
-    view can show safety findings first.  Each text appears once.
+#: Short words for reading notes (the terminal's secondary list); the full message
+#: stays in the JSON and the report.
+_SHORT: dict[str, str] = {
+    "input.log.values_not_used": "{total} value(s) or line(s) not used",
+    "input.log.preamble_skipped": "{count} line(s) skipped before the header",
+    "input.log.sign_inverted": "'{header}' sign inverted as declared",
+    "input.log.columns_ignored": "columns ignored as mapped: {headers}",
+    "input.log.cp1252": "read as Windows code page 1252",
+    "input.log.duplicate_times": "{count} duplicated time stamp(s)",
+}
 
-    >>> fs = [finding("pipeline.no_points_in_log", Severity.NOTE, Subject(source="a.csv")),
-    ...       finding("incidence.no_recommendation", Severity.CAUTION, reason="r")]
-    >>> for_display(fs)
-    (('no incidence recommendation: r',), ('a.csv: no stabilized point found in this log',))
+
+def is_reading_note(f: Finding) -> bool:
+    """Whether a finding is a routine reading note (by its code).
+
+    >>> is_reading_note(finding("input.log.preamble_skipped", Severity.NOTE, count=2))
+    True
+    >>> is_reading_note(finding("incidence.no_recommendation", Severity.CAUTION, reason="r"))
+    False
     """
-    ordered = by_severity(findings)
-    shown = [f for f in ordered if f.severity is not Severity.NOTE]
-    notes = [f for f in ordered if f.severity is Severity.NOTE]
+    return f.code in READING_NOTE_CODES
+
+
+def for_display(findings: Iterable[Finding], *, show_config: bool = False,
+                drop: Iterable[str] = ()) -> tuple[tuple[str, ...], tuple[str, ...]]:
+    """Lines to show, split as views show them: (findings that matter, reading notes).
+
+    The first group is most severe first (warnings, then cautions, then
+    notes, in order within each); routine reading notes
+    (:data:`READING_NOTE_CODES`) come apart so a view shows safety findings
+    first.  Each text appears once.
+
+    Parameters
+    ----------
+    findings : iterable of Finding
+    show_config : bool
+        Prefix the configuration (when several were analysed).
+    drop : iterable of str
+        Messages the view shows elsewhere (its cautions), left out so each
+        text appears once per view.
+
+    >>> fs = [finding("input.log.preamble_skipped", Severity.NOTE, Subject(source="a.csv"),
+    ...               count=1),
+    ...       finding("stability.points_excluded", Severity.NOTE, count=2),
+    ...       finding("incidence.no_recommendation", Severity.WARNING, reason="r")]
+    >>> shown, reading = for_display(fs)
+    >>> shown[0]
+    'no incidence recommendation: r'
+    >>> reading
+    ('a.csv: skipped 1 line(s) before the header (metadata preamble, lines 1-1)',)
+    """
+    shown, notes = split_for_display(findings, drop=drop)
     return lines(shown, show_config=show_config), lines(notes, show_config=show_config)
+
+
+def split_for_display(findings: Iterable[Finding], *, drop: Iterable[str] = ()
+                      ) -> tuple[list[Finding], list[Finding]]:
+    """The findings as :func:`for_display` splits them, kept as findings (for labels).
+
+    >>> fs = [finding("input.log.cp1252", Severity.NOTE),
+    ...       finding("incidence.no_recommendation", Severity.CAUTION, reason="r")]
+    >>> [[f.code for f in group] for group in split_for_display(fs)]
+    [['incidence.no_recommendation'], ['input.log.cp1252']]
+    """
+    skip = set(drop)
+    ordered = [f for f in by_severity(findings) if f.message not in skip]
+    return ([f for f in ordered if not is_reading_note(f)],
+            [f for f in ordered if is_reading_note(f)])
+
+
+def reading_summary(findings: Iterable[Finding]) -> tuple[str, ...]:
+    """The reading notes shortened: one line per file, its notes in short words.
+
+    >>> fs = [finding("input.log.preamble_skipped", Severity.NOTE, Subject(source="a.csv"),
+    ...               count=2),
+    ...       finding("input.log.sign_inverted", Severity.NOTE, Subject(source="a.csv"),
+    ...               header="ELEV", quantity="elevator_deg")]
+    >>> reading_summary(fs)
+    ("a.csv: 2 line(s) skipped before the header; 'ELEV' sign inverted as declared",)
+    """
+    per_source: dict[str, list[str]] = {}
+    for f in findings:
+        if not is_reading_note(f):
+            continue
+        short = _SHORT.get(f.code)
+        text = (_Render().format(short, **f._fields()) if short is not None else f.message)
+        source = f.subject.source if f.subject is not None and f.subject.source else ""
+        per_source.setdefault(source, [])
+        if text not in per_source[source]:
+            per_source[source].append(text)
+    return tuple((f"{src}: " if src else "") + "; ".join(texts)
+                 for src, texts in per_source.items())
 

@@ -23,6 +23,7 @@ import pandas as pd
 
 from trimlog import cautions
 from trimlog.errors import TrimlogError
+from trimlog.findings import Finding, Severity, Subject, finding
 from trimlog.input.profile import AircraftProfile
 from trimlog.stability.critical import MIN_CG_SPREAD_PCT_MAC, margin_limit
 from trimlog.stability.results import (
@@ -362,18 +363,21 @@ def elevator_authority(fit: PooledFit, profile: AircraftProfile, *, setting: str
         cons = None if pred.pi95_deg is None else pred.pi95_deg[0] - up
         check = margin if cons is None else cons
         if margin <= 0.0:
-            verdict = "the up stop is reached before CLmax at the forward CG limit"
+            code, verdict = ("up_stop_reached",
+                             "the up stop is reached before CLmax at the forward CG limit")
         elif check <= 0.0:
-            verdict = "the up stop may be reached before CLmax (within the prediction interval)"
+            code, verdict = ("up_stop_may_be_reached", "the up stop may be reached before "
+                             "CLmax (within the prediction interval)")
         elif check < reserve:
-            verdict = (f"less than the {reserve:g} deg reserve remains at CLmax "
-                       f"({check:.1f} deg at the conservative end)")
+            code, verdict = ("reserve_short", f"less than the {reserve:g} deg reserve remains "
+                             f"at CLmax ({check:.1f} deg at the conservative end)")
         else:
-            verdict = f"at least {check:.1f} deg of up elevator remains at CLmax"
+            code, verdict = ("reserve_kept",
+                             f"at least {check:.1f} deg of up elevator remains at CLmax")
         extrapolated = other_config or clmax > fit.cl_range[1]
         cases.append(AuthorityCase(case, clmax, 100.0 * h_fwd, setting, pred.elevator_deg,
                                    pred.ci95_deg, pred.pi95_deg, up, margin, finite(cons),
-                                   extrapolated, verdict, notes + pred.warnings))
+                                   extrapolated, verdict, notes + pred.warnings, code))
     h_est = h_cons = None
     if cases:
         h_est, h_cons = _most_forward_cg(fit, specs[0][1], up + reserve, setting)
@@ -383,6 +387,51 @@ def elevator_authority(fit: PooledFit, profile: AircraftProfile, *, setting: str
     return ElevatorAuthority(
         tuple(cases), reserve, None if h_est is None else 100.0 * h_est,
         None if h_cons is None else 100.0 * h_cons, station, "; ".join(reasons), tuple(warnings))
+
+
+#: Authority verdicts that are findings: code of the case's verdict -> (finding code, severity).
+_AUTHORITY_FINDINGS = {
+    "up_stop_reached": ("stability.authority.up_stop_reached", Severity.WARNING),
+    "up_stop_may_be_reached": ("stability.authority.up_stop_may_be_reached", Severity.WARNING),
+    "reserve_short": ("stability.authority.reserve_short", Severity.CAUTION),
+}
+
+
+def authority_findings(authority: ElevatorAuthority) -> list[Finding]:
+    """The authority cases that matter before the next flight, as findings.
+
+    An up stop reached (or possibly reached, within the prediction interval)
+    before CLmax at the forward CG limit is a warning, whichever case it is
+    (the landing-flap case included); a reserve short of the profile's is a
+    caution.  The verdict is the case's own (:func:`elevator_authority`).
+
+    Parameters
+    ----------
+    authority : ElevatorAuthority
+
+    Returns
+    -------
+    list of Finding
+        Subject quantity ``elevator_authority``; values case, clmax,
+        cg_pct_mac [%MAC], elevator_deg and up_stop_deg [deg], margin_deg
+        (conservative end) [deg], reserve_deg [deg] and basis (words:
+        whether the case is an extrapolation).
+    """
+    out = []
+    for c in authority.cases:
+        code = _AUTHORITY_FINDINGS.get(c.verdict_code)
+        if code is None:
+            continue
+        basis = ("an extrapolation beyond the CL or configuration flown" if c.extrapolated
+                 else "within the CL flown")
+        out.append(finding(
+            code[0], code[1], Subject(quantity="elevator_authority"), case=c.case,
+            clmax=c.clmax, cg_pct_mac=c.cg_pct_mac, elevator_deg=c.elevator_deg,
+            up_stop_deg=c.up_stop_deg,
+            margin_deg=c.margin_deg if c.margin_conservative_deg is None
+            else c.margin_conservative_deg,
+            reserve_deg=authority.reserve_deg, basis=basis))
+    return out
 
 
 def plan_next_cg(points: pd.DataFrame, fit: PooledFit, profile: AircraftProfile | None,

@@ -67,6 +67,7 @@ from trimlog.stability.critical import (
     next_cg_limit,
 )
 from trimlog.stability.margins import (
+    authority_findings,
     elevator_authority,
     elevator_stop_flags,
     plan_next_cg,
@@ -867,6 +868,7 @@ def analyze_stability(points: pd.DataFrame, profile: AircraftProfile | None = No
     if profile is not None:
         authority = elevator_authority(fixed, profile, setting=setting, flap_config=flap_config)
         text(authority.warnings)
+        found += authority_findings(authority)
         stops = elevator_stop_flags(points, profile.elevator_up_stop_deg,
                                     profile.elevator_down_stop_deg)
         found += [finding("stability.at_stop", Severity.WARNING,

@@ -531,6 +531,10 @@ class AuthorityCase:
         CLmax lies beyond the CL flown, or the data are of another configuration.
     verdict : str
     notes : tuple of str
+    verdict_code : str
+        The verdict as a code for the findings: ``"up_stop_reached"``,
+        ``"up_stop_may_be_reached"`` (within the prediction interval),
+        ``"reserve_short"`` or ``"reserve_kept"``.
     """
 
     case: str
@@ -546,6 +550,7 @@ class AuthorityCase:
     extrapolated: bool
     verdict: str
     notes: tuple[str, ...] = ()
+    verdict_code: str = ""
 
 
 @dataclass(frozen=True)

@@ -12,7 +12,9 @@ import textwrap
 from collections.abc import Sequence
 from typing import TYPE_CHECKING, Any
 
-from trimlog import cautions
+from trimlog import cautions, findings
+from trimlog.findings import Severity
+from trimlog.views.advice import ASSUMED_NOTE, assumed_units, precision_sentence
 from trimlog.views.formatting import interval, number
 
 if TYPE_CHECKING:
@@ -98,10 +100,34 @@ def render(analysis: Analysis, *, color: bool = False) -> str:
         parts.append(_configuration_block(other, analysis, s))
     if analysis.maneuvering is not None:
         parts.append(_maneuvering_block(analysis.maneuvering, s))
-    if analysis.warnings:
-        parts.append(s.head("Warnings") + "\n" + _bullets(analysis.warnings, s.warn))
+    parts.append(_findings_block(analysis, s))
     parts.append(s.head("Cautions") + "\n" + _bullets(analysis.cautions))
+    reading = findings.reading_summary(analysis.findings)
+    if reading:
+        parts.append(s.head("Reading notes (how the files were read; in full in --json and "
+                            "the report)") + "\n" + _bullets(reading))
     return "\n\n".join(parts) + "\n"
+
+
+_LABEL = {Severity.WARNING: "WARNING", Severity.CAUTION: "caution", Severity.NOTE: "note"}
+
+
+def _findings_block(analysis: Analysis, s: _Style) -> str:
+    """Findings that matter, most severe first, each labelled; reading notes come later."""
+    shown, _ = findings.split_for_display(analysis.findings, drop=analysis.cautions)
+    show_config = bool(analysis.others)
+    head = s.head("Findings (warnings first, then cautions and notes)")
+    if not shown:
+        return head + "\n  none from the analysis"
+    items, styles = [], []
+    for f in shown:
+        line = f"{_LABEL[f.severity]}: {f.line(show_config=show_config)}"
+        if line not in items:
+            items.append(line)
+            styles.append(s.bad if f.severity is Severity.WARNING else s.warn)
+    out = [textwrap.fill(item, WIDTH, initial_indent="  - ", subsequent_indent="    ")
+           for item in items]
+    return head + "\n" + "\n".join(style(t) for style, t in zip(styles, out, strict=True))
 
 
 def _maneuvering_block(m: Any, s: _Style) -> str:
@@ -149,8 +175,14 @@ def _flights_block(analysis: Analysis) -> str:
             str(int(mine["included"].sum())) if len(mine) else "0",
             number(cg),
             str(mine["stab_setting"].iloc[0]) if len(mine) else "-",
+            assumed_units(f.log.findings) or "-",
         ])
-    return table(["flight", "kind", "points", "used", "CG %MAC", "stabilizer setting"], rows)
+    text = table(["flight", "kind", "points", "used", "CG %MAC", "stabilizer setting",
+                  "units assumed"], rows)
+    if any(r[-1] != "-" for r in rows):
+        text += "\n" + textwrap.fill("units assumed: " + ASSUMED_NOTE, WIDTH,
+                                     initial_indent="  ", subsequent_indent="  ")
+    return text
 
 
 def _configuration_block(result: ConfigurationResult, analysis: Analysis, s: _Style) -> str:
@@ -220,12 +252,10 @@ def _configuration_block(result: ConfigurationResult, analysis: Analysis, s: _St
     blocks.append(_incidence_block(result, s))
     if st.next_step is not None:
         blocks.append(_next_step_block(dataclasses.asdict(st.next_step), s))
-    if st.next_cg.cg_pct_mac is not None:
+    advice = precision_sentence(st.next_cg)
+    if advice is not None:
         blocks.append(s.head("To tighten the estimate") + "\n" + textwrap.fill(
-            f"fly the next flight near {st.next_cg.cg_pct_mac:.1f} %MAC "
-            f"({number(st.next_cg.station_in, '.2f')} in), chosen by the {st.next_cg.criterion}"
-            f"{': ' + st.next_cg.reason if st.next_cg.reason else ''}", WIDTH,
-            initial_indent="  ", subsequent_indent="  "))
+            advice, WIDTH, initial_indent="  ", subsequent_indent="  "))
     return "\n\n".join(blocks)
 
 
