@@ -788,9 +788,26 @@ def _run_export(args: argparse.Namespace) -> int:
 
 
 def _run_restore(args: argparse.Namespace) -> int:
-    with _open_store(args.db) as st:
-        done = st.import_export(Path(args.directory))
-        where = st.location
+    from trimlog.history import store
+    from trimlog.history.restore_check import load_export
+
+    # The whole export is checked before the target is opened: a refused restore
+    # creates no database and leaves an existing one as it was.
+    src, doc = load_export(Path(args.directory), store.SCHEMA_VERSION)
+    where = args.db if args.db is not None else store.default_location()
+    new_file = None if store.is_server_url(where) else Path(where).expanduser()
+    if new_file is not None and new_file.exists():
+        new_file = None
+    try:
+        with _open_store(args.db) as st:
+            done = st.restore_document(doc, src)
+            where = st.location
+    except BaseException:
+        if new_file is not None:  # created for this restore: leave nothing behind
+            for leftover in (new_file, *(new_file.with_name(new_file.name + s)
+                                         for s in ("-wal", "-shm", "-journal"))):
+                leftover.unlink(missing_ok=True)
+        raise
     _print(f"restored {args.directory} into {where}: {done.n_aircraft} aircraft, "
           f"{done.n_flights} flights, {done.n_points} points")
     if done.n_analyses:

@@ -699,12 +699,12 @@ def test_restore_refuses_non_empty_database_and_damaged_export(store, tmp_path, 
     doc["flights"][1]["raw_base64"] = "AAAA"
     doc_path.write_text(json.dumps(doc))
     with open_store(new_location()) as fresh:
-        with pytest.raises(StoreError, match="flight 2: the log bytes do not match"):
+        with pytest.raises(StoreError, match=r"flight 2\)?: the log bytes do not match"):
             fresh.import_export(tmp_path / "export")
         assert fresh.aircraft_list() == []
         del doc["flights"][0]["sha256"]
         doc_path.write_text(json.dumps(doc))
-        with pytest.raises(StoreError, match="malformed export"):
+        with pytest.raises(StoreError, match="'sha256' is missing"):
             fresh.import_export(tmp_path / "export")
         doc_path.write_text("{}")
         with pytest.raises(StoreError, match="not a trimlog history export"):

@@ -97,7 +97,6 @@ from trimlog.history.codec import (
     export_tables,
     flight_record,
     opt_text,
-    read_export,
     sha256_hex,
     write_export,
 )
@@ -1017,8 +1016,22 @@ class Store:
         Returns
         -------
         RestoreSummary
+
+        Raises
+        ------
+        StoreError
+            The export is damaged, truncated, foreign, of another schema
+            version or edited so that it breaks a rule of a fresh import; the
+            first problem is named (table, row, column) and nothing is written
+            (:func:`trimlog.history.restore_check.load_export`).
         """
-        src, doc = read_export(directory)
+        from trimlog.history.restore_check import load_export
+
+        src, doc = load_export(directory, SCHEMA_VERSION, import_rules=False)
+        return self.restore_document(doc, src)
+
+    def restore_document(self, doc: Mapping[str, Any], src: Path | str) -> RestoreSummary:
+        """Restore an export document already checked by ``restore_check.load_export``."""
         return self._restore(doc, src)
 
     def _restore(self, doc: Mapping[str, Any], src: Path | str) -> RestoreSummary:
