@@ -110,6 +110,10 @@ class ImportOutcome:
     flight_id: int
     created: bool
     message: str
+    #: The flight's place in the programme and the number of flights, when the import
+    #: renumbered them (``order=``); None otherwise.
+    number: int | None = None
+    of: int | None = None
 
 
 @dataclass(frozen=True)

@@ -31,7 +31,7 @@ from trimlog.pipeline.ordering import ProgrammeInputs
 from trimlog.progress import SILENT, Progress
 
 __all__ = ["Programme", "ProgrammeInputs", "analyze_programme", "programme_flights",
-           "renumber_by_date", "flight_number"]
+           "renumber_by_date", "in_date_order", "flight_number"]
 
 #: Keys of the loading JSON the history keeps beside the sheet text.
 SHEET_TEXT, SHEET_NAME, FLOWN_AT = "sheet_text", "sheet_name", "flown_at"
@@ -247,22 +247,27 @@ def record_when(record: FlightRecord) -> dt.datetime | None:
     return ordering.as_datetime(loading.get(FLOWN_AT)) or ordering.as_datetime(record.date)
 
 
-def renumber_by_date(store: Store, aircraft_id: int) -> list[FlightRecord]:
-    """Renumber the aircraft's flights in the order flown; return them in that order.
+def in_date_order(records: Sequence[FlightRecord]) -> list[FlightRecord]:
+    """The flights in the order flown (a :data:`trimlog.history.store.FlightOrder`).
 
     Undated flights keep their relative order and come first, as in the
-    analysis (:func:`trimlog.pipeline.ordering.order_by_date`).
+    analysis (:func:`trimlog.pipeline.ordering.order_by_date`); flights of one
+    date keep their stored order.
     """
-    records = store.flights(aircraft_id)
     keyed = [(record_when(r), i, r) for i, r in enumerate(records)]
     undated = [r for w, _, r in keyed if w is None]
     dated = [r for _, _, r in sorted(((w, i, r) for w, i, r in keyed if w is not None),
                                      key=lambda item: (item[0], item[1]))]
-    ordered = undated + dated
-    for number, r in enumerate(ordered, start=1):
-        if r.flight_order != number:
-            store.update_flight(r.id, flight_order=number)
-    return ordered
+    return undated + dated
+
+
+def renumber_by_date(store: Store, aircraft_id: int) -> list[FlightRecord]:
+    """Renumber the aircraft's flights in the order flown; return them in that order.
+
+    One store transaction under the aircraft's lock (:meth:`Store.renumber`), so two
+    people importing dated flights at once never get duplicate or shuffled numbers.
+    """
+    return store.renumber(aircraft_id, in_date_order)
 
 
 def flight_number(records: Sequence[FlightRecord], flight_id: int) -> int:

@@ -112,17 +112,18 @@ def import_flight(
         incidence_label=sheet.stab_setting if sheet is not None else None,
         incidence_deg=sheet.stab_incidence_deg if sheet is not None else None,
         config=None if sheet is None or sheet.flap_deg is None else f"flaps {sheet.flap_deg:g}",
+        # renumbered in date order in the import's own transaction, under the aircraft's lock
+        order=programme.in_date_order,
     )
     if not outcome.created:
         return _already_saved(store, outcome, name, label=label, notes=notes)
-    records = programme.renumber_by_date(store, aircraft.id)
-    number = programme.flight_number(records, outcome.flight_id)
+    number, count = outcome.number, outcome.of
     dated = "" if when.when is None else f", flown {when.iso()}"
     undated = "" if when.when is not None else (
         ", no date (add a 'date' to its loading sheet: undated flights are taken as flown "
         "before the dated ones)")
     return replace(outcome, message=(
-        f"{name}: stored as flight {number} of {len(records)} of '{aircraft.name}' in date "
+        f"{name}: stored as flight {number} of {count} of '{aircraft.name}' in date "
         f"order{dated}{undated} (history id {outcome.flight_id}, "
         f"{len(flight.points)} points, SHA-256 {flight.sha256[:12]})"))
 
@@ -624,8 +625,9 @@ def edit_flight(
         if record.loading and programme.FLOWN_AT in record.loading:
             changes["loading"] = {k: v for k, v in record.loading.items()
                                   if k != programme.FLOWN_AT}
-    store.update_flight(flight_id, **changes)
-    records = programme.renumber_by_date(store, record.aircraft_id)
+    # the change and the renumbering in date order are one transaction
+    store.update_flight(flight_id, **changes, order=programme.in_date_order)
+    records = store.flights(record.aircraft_id)
     number = programme.flight_number(records, flight_id)
     return (f"history flight id {flight_id} ({record.filename}): "
             f"{', '.join(sorted(changes))} changed; flight {number} of {len(records)} by date")

@@ -57,6 +57,7 @@ PostgreSQL 15 documentation, 13.2 "Transaction Isolation" and INSERT
 
 from __future__ import annotations
 
+import dataclasses
 import datetime as dt
 import json
 import os
@@ -107,6 +108,10 @@ BUSY_TIMEOUT_S: Final = 30.0
 APPLICATION_ID: Final = 0x54524D4C
 _SQLITE_MAGIC: Final = b"SQLite format 3\x00"
 _URL_SCHEME: Final = re.compile(r"^([A-Za-z][A-Za-z0-9+.\-]*)://")
+
+#: How a caller orders an aircraft's flights: given them as stored (by flight order, then
+#: id), it returns the same records in the programme's order (e.g. the order flown).
+FlightOrder = Callable[[list[FlightRecord]], list[FlightRecord]]
 _PG_SCHEMES: Final = ("postgresql", "postgres", "postgresql+psycopg")
 # On PostgreSQL the schema version sits in this table (SQLite uses its header).
 _PG_VERSION_TABLE: Final = "trimlog_schema"
@@ -726,6 +731,7 @@ class Store:
         incidence_label: str | None = None,
         incidence_deg: float | None = None,
         config: str | None = None,
+        order: FlightOrder | None = None,
     ) -> ImportOutcome:
         """Store one flight: its raw log bytes, its points and what is known of it.
 
@@ -758,11 +764,16 @@ class Store:
             The loading sheet, stored as JSON.
         incidence_deg : float, optional
             Stabilizer incidence of the setting [deg], leading-edge up positive.
+        order : callable, optional
+            Renumbers the aircraft's flights in the same transaction, under the
+            aircraft's lock (see :meth:`renumber`): no reader ever sees the new
+            flight out of order, and two importers cannot interleave numbers.
 
         Returns
         -------
         ImportOutcome
-            ``created`` False when the bytes were already stored.
+            ``created`` False when the bytes were already stored; with ``order``,
+            ``number`` and ``of`` give the flight's place in the new numbering.
 
         Raises
         ------
@@ -780,15 +791,16 @@ class Store:
         digest = sha256_hex(raw)
         aircraft = self.get_aircraft(aircraft_id)
         f = flights_t.c
+        numbered: list[FlightRecord] = []
         with self._write(f"import {filename}") as c:
             self._lock_aircraft(c, aircraft_id)
             version = c.execute(sa.select(sa.func.max(profiles_t.c.version))
                                 .where(profiles_t.c.aircraft_id == aircraft_id)).scalar_one()
-            order = c.execute(sa.select(sa.func.coalesce(sa.func.max(f.flight_order), 0) + 1)
+            last = c.execute(sa.select(sa.func.coalesce(sa.func.max(f.flight_order), 0) + 1)
                               .where(f.aircraft_id == aircraft_id)).scalar_one()
             flight_id = c.execute(
                 self._insert(flights_t).values(
-                    aircraft_id=aircraft_id, flight_order=order, sha256=digest,
+                    aircraft_id=aircraft_id, flight_order=last, sha256=digest,
                     filename=filename, size_bytes=len(raw), **values, profile_version=version,
                     points_columns=json.dumps(schema), imported_at=_now(),
                 ).on_conflict_do_nothing(index_elements=["aircraft_id", "sha256"]).returning(f.id)
@@ -802,6 +814,8 @@ class Store:
                     c.execute(sa.insert(points_t), [
                         {"flight_id": flight_id, "point": p, "included": inc, "values_json": v}
                         for p, inc, v in rows])
+                if order is not None:
+                    numbered = self._renumber(c, aircraft_id, order)
         if flight_id is None:
             given = [k for k, v in details.items() if v is not None]
             ignored = (
@@ -813,11 +827,55 @@ class Store:
                 f"{filename}: already stored as flight {old[0]} of '{aircraft.name}' (same SHA-256 "
                 f"{digest[:12]}, from '{old[1]}' imported {old[2]}); nothing changed{ignored}",
             )
+        place = next((n for n, r in enumerate(numbered, start=1) if r.id == flight_id), None)
         return ImportOutcome(
             flight_id, True,
             f"{filename}: stored as flight {flight_id} of '{aircraft.name}' "
             f"({len(rows)} points, {len(raw)} bytes, SHA-256 {digest[:12]})",
+            number=place, of=len(numbered) if numbered else None,
         )
+
+    def renumber(self, aircraft_id: int, order: FlightOrder) -> list[FlightRecord]:
+        """Renumber an aircraft's flights 1..n in the order ``order`` gives, in one transaction.
+
+        The transaction first takes the aircraft's lock (PostgreSQL ``SELECT ... FOR
+        UPDATE``; SQLite's ``BEGIN IMMEDIATE`` writer), then reads every flight and writes
+        the numbers that changed: an import or another renumbering of the same aircraft
+        waits, so numbers are never duplicated or computed from a stale list.
+
+        Parameters
+        ----------
+        aircraft_id : int
+        order : callable
+            Given the flights as stored, returns the same records in the new order.
+
+        Returns
+        -------
+        list of FlightRecord
+            The flights in their new order, ``flight_order`` 1..n.
+        """
+        with self._write(f"renumber the flights of aircraft {aircraft_id}") as c:
+            self._lock_aircraft(c, aircraft_id)
+            return self._renumber(c, aircraft_id, order)
+
+    def _renumber(self, c: sa.Connection, aircraft_id: int,
+                  order: FlightOrder) -> list[FlightRecord]:
+        """Inside a write transaction holding the aircraft's lock: number the flights 1..n."""
+        records = [flight_record(r) for r in c.execute(
+            _FLIGHT_SELECT.where(flights_t.c.aircraft_id == aircraft_id)
+            .order_by(flights_t.c.flight_order, flights_t.c.id)).all()]
+        ordered = list(order(list(records)))
+        if sorted(r.id for r in ordered) != sorted(r.id for r in records):
+            raise StoreError(f"{self.path}: renumbering aircraft {aircraft_id}: the order must "
+                             "list each of its flights once")
+        out = []
+        for number, r in enumerate(ordered, start=1):
+            if r.flight_order != number:
+                c.execute(sa.update(flights_t).values(flight_order=number)
+                          .where(flights_t.c.id == r.id))
+                r = dataclasses.replace(r, flight_order=number)
+            out.append(r)
+        return out
 
     def flight(self, flight_id: int) -> FlightRecord:
         """Return flight ``flight_id``; StoreError if there is none."""
@@ -905,12 +963,15 @@ class Store:
         incidence_deg: float | None | Literal[Keep.KEEP] = KEEP,
         config: str | None | Literal[Keep.KEEP] = KEEP,
         flight_order: int | Literal[Keep.KEEP] = KEEP,
+        order: FlightOrder | None = None,
     ) -> FlightRecord:
         """Change what is known of a flight; arguments not given are left as they are.
 
         Parameters are those of :meth:`import_flight` (None clears a field),
         plus ``flight_order``, the flight's place in the programme (flights
-        are listed by it, then by id).
+        are listed by it, then by id).  With ``order``, the aircraft's flights
+        are renumbered in the same transaction, under its lock (a changed
+        date moves the flight at once; see :meth:`renumber`).
 
         Returns
         -------
@@ -927,13 +988,20 @@ class Store:
             if not isinstance(flight_order, int | np.integer) or isinstance(flight_order, bool):
                 raise StoreError(f"{where}, flight_order: not a whole number: {flight_order!r}")
             changes["flight_order"] = int(flight_order)
-        if changes:
+        if changes or order is not None:
             # Column names come from FLIGHT_FIELDS, never from the caller.
             with self._write(f"update {where}") as c:
-                n = c.execute(sa.update(flights_t).values(**changes)
-                              .where(flights_t.c.id == flight_id)).rowcount
-                if n == 0:
+                aircraft_id = c.execute(sa.select(flights_t.c.aircraft_id)
+                                        .where(flights_t.c.id == flight_id)).scalar_one_or_none()
+                if aircraft_id is None:
                     raise StoreError(f"{self.path}: no flight with id {flight_id!r}")
+                if order is not None:
+                    self._lock_aircraft(c, aircraft_id)
+                if changes:
+                    c.execute(sa.update(flights_t).values(**changes)
+                              .where(flights_t.c.id == flight_id))
+                if order is not None:
+                    self._renumber(c, aircraft_id, order)
         return self.flight(flight_id)
 
     def change_token(self) -> tuple:
