@@ -493,7 +493,7 @@ def _db_profile(args: argparse.Namespace, st):  # -> (profile or None, aircraft 
 def _analyze_with_db(args: argparse.Namespace, progress: Progress = SILENT):  # -> Analysis
     from trimlog.history import programme
 
-    with _open_store(args.db, must_exist=True) as st:
+    with _open_store(args.db, must_exist=True, read_only=True) as st:
         profile, name = _db_profile(args, st)
         if profile is None:
             record = programme.find_aircraft(st, name)
@@ -654,8 +654,12 @@ def _run_report(args: argparse.Namespace) -> int:
     return _analysis_status(result)
 
 
-def _open_store(db: str | None, *, must_exist: bool = False):
-    """Open the history; a command that only reads refuses a database that does not exist."""
+def _open_store(db: str | None, *, must_exist: bool = False, read_only: bool = False):
+    """Open the history; a command that only reads refuses a database that does not exist.
+
+    ``read_only``: the command only reads, so the database is opened read-only
+    (a read-only file or folder, or an archived copy, works; nothing is written).
+    """
     from trimlog.files import check_input_file
     from trimlog.history import store
 
@@ -670,13 +674,13 @@ def _open_store(db: str | None, *, must_exist: bool = False):
             raise TrimlogError(
                 f"{path}: no such history database (this command only reads one): check the "
                 "path, or create it by saving flights with 'trimlog import'")
-    return store.open_store(db)
+    return store.open_store(db, read_only=read_only)
 
 
 def _history_analysis(db: str, aircraft: str | None):
     from trimlog.history import service as history
 
-    with _open_store(db, must_exist=True) as st:
+    with _open_store(db, must_exist=True, read_only=True) as st:
         return history.analyze_history(st, aircraft), history.trend(st, aircraft)
 
 
@@ -724,7 +728,7 @@ def _run_flights(args: argparse.Namespace) -> int:
     from trimlog.history import service as history
     from trimlog.views import terminal as summary
 
-    with _open_store(args.db, must_exist=True) as st:
+    with _open_store(args.db, must_exist=True, read_only=True) as st:
         listing = history.flight_listing(st, args.aircraft_name)
         where = st.location
     if args.json:
@@ -738,7 +742,7 @@ def _run_trend(args: argparse.Namespace) -> int:
     from trimlog.history import service as history
     from trimlog.views import terminal as summary
 
-    with _open_store(args.db, must_exist=True) as st:
+    with _open_store(args.db, must_exist=True, read_only=True) as st:
         trend = history.trend(st, args.aircraft_name)
     if args.json:
         _write_json(args.json, trend.to_dict())
@@ -756,7 +760,7 @@ def _run_plan(args: argparse.Namespace) -> int:
         check_policy("limits.min_static_margin", args.min_margin, source="--min-margin")
     if args.max_step is not None:
         check_policy("limits.cg_step_max", args.max_step, source="--max-step")
-    with _open_store(args.db, must_exist=True) as st:
+    with _open_store(args.db, must_exist=True, read_only=True) as st:
         trend = history.trend(st, args.aircraft_name, min_margin_pct_mac=args.min_margin,
                               max_step_pct_mac=args.max_step)
     if args.json:
@@ -781,7 +785,7 @@ def _run_exclude(args: argparse.Namespace) -> int:
 
 
 def _run_export(args: argparse.Namespace) -> int:
-    with _open_store(args.db, must_exist=True) as st:
+    with _open_store(args.db, must_exist=True, read_only=True) as st:
         written = st.export(Path(args.directory))
     _print(f"{len(written)} files written to {args.directory}")
     return EXIT_OK
@@ -817,7 +821,7 @@ def _run_restore(args: argparse.Namespace) -> int:
 
 
 def _run_backup(args: argparse.Namespace) -> int:
-    with _open_store(args.db, must_exist=True) as st:
+    with _open_store(args.db, must_exist=True, read_only=True) as st:
         st.backup(Path(args.destination))
     _print(f"backup written to {args.destination}")
     return EXIT_OK

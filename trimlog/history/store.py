@@ -63,6 +63,7 @@ import json
 import os
 import re
 import sqlite3
+import urllib.parse
 from collections.abc import Callable, Iterator, Mapping
 from contextlib import contextmanager
 from pathlib import Path
@@ -285,7 +286,7 @@ def _no_password(text: str) -> str:
     return re.sub(r"(://[^:/@]*:)[^@/]*@", r"\1***@", text)
 
 
-def open_store(path: str | Path | None = None) -> Store:
+def open_store(path: str | Path | None = None, *, read_only: bool = False) -> Store:
     """Open (creating or migrating if needed) the flight-history database.
 
     Parameters
@@ -296,6 +297,12 @@ def open_store(path: str | Path | None = None) -> Store:
         in it).  When not given: the environment variable ``TRIMLOG_DB``,
         else ``history.sqlite`` in the per-user data directory (see
         :func:`default_location`).
+    read_only : bool
+        Open an existing SQLite file for reading only (SQLite's ``mode=ro``):
+        nothing is created, migrated or written, so a read-only file, a
+        read-only folder or an archived copy can be listed, trended,
+        reported, exported and backed up; any write is refused with a clear
+        error.  On a server the role's rights decide (see ``Roles``).
 
     Returns
     -------
@@ -314,6 +321,8 @@ def open_store(path: str | Path | None = None) -> Store:
     where = path if path is not None else default_location()
     if is_server_url(where):
         return _open_server(str(where).strip())
+    if read_only:
+        return _open_file_read_only(Path(where).expanduser())
     return _open_file(Path(where).expanduser())
 
 
@@ -329,6 +338,11 @@ def _open_file(db: Path) -> Store:
             f"({exc.strerror or exc}); {hint}"
         ) from exc
     _check_header(db, hint)
+    if db.exists() and not (os.access(db, os.W_OK) and os.access(db.parent, os.W_OK)):
+        raise StoreError(
+            f"{db}: the history database cannot be written (a read-only file or folder), and "
+            "this command changes it; commands that only read it (flights, trend, plan, "
+            f"analyze/report --db, export, backup) open it read-only and work; {hint}")
     engine = sa.create_engine(
         f"sqlite:///{db}", poolclass=NullPool,
         # Transactions are explicit (BEGIN IMMEDIATE for writes), so the driver's own is off.
@@ -346,6 +360,45 @@ def _open_file(db: Path) -> Store:
             c.rollback()
             store._initialise_or_migrate()
         store._check_writable(hint)
+    except BaseException:
+        store.close()
+        raise
+    return store
+
+
+def _open_file_read_only(db: Path) -> Store:
+    """Open an existing trimlog SQLite file with ``mode=ro`` (see :func:`open_store`)."""
+    hint = "check the path (a read-only database is opened, never created)"
+    if db.is_dir():
+        raise StoreError(f"{db}: is a folder, expected a history database file; {hint}")
+    if not db.exists():
+        raise StoreError(f"{db}: no such history database; {hint}")
+    _check_header(db, hint)
+    wal, shm = (db.with_name(db.name + s) for s in ("-wal", "-shm"))
+    # A WAL database needs its -shm file; in a folder that cannot be written
+    # SQLite cannot create it, and the file can only be read as immutable, which
+    # is right only when no -wal file holds changes not yet in the database.
+    immutable = not shm.exists() and not os.access(db.parent, os.W_OK)
+    if immutable and wal.exists() and wal.stat().st_size > 0:
+        raise StoreError(
+            f"{db}: its changes in {wal.name} cannot be read from a folder that cannot be "
+            "written (the -shm file is missing); copy the database with its -wal file to a "
+            "writable folder and read it there")
+    uri = "file:" + urllib.parse.quote(str(db.resolve())) + "?mode=ro" + (
+        "&immutable=1" if immutable else "")
+    engine = sa.create_engine(
+        "sqlite://", poolclass=NullPool,
+        creator=lambda: sqlite3.connect(uri, uri=True, timeout=BUSY_TIMEOUT_S,
+                                        isolation_level=None, check_same_thread=False))
+    store = _connect(engine, db, str(db), "sqlite", hint)
+    store.read_only = True
+    try:
+        c = store._conn
+        c.exec_driver_sql(f"PRAGMA busy_timeout = {int(BUSY_TIMEOUT_S * 1000)}")
+        app_id, version = store._inspect()
+        c.rollback()
+        if app_id != APPLICATION_ID or version == 0:
+            raise StoreError(f"{db}: holds no trimlog history yet (an empty database); {hint}")
     except BaseException:
         store.close()
         raise
@@ -451,6 +504,8 @@ class Store:
     def __init__(self, path: Path | str, conn: sa.Connection, *, kind: str = "sqlite") -> None:
         self.path = path
         self.kind = kind
+        #: Opened for reading only (``open_store(..., read_only=True)``): writes are refused.
+        self.read_only = False
         self._conn = conn
         self._insert: Callable[..., Any] = (
             pg_dialect.insert if kind == "postgresql" else sqlite_dialect.insert)
@@ -589,6 +644,10 @@ class Store:
     def _write(self, what: str) -> Iterator[sa.Connection]:
         """One write transaction: all of it is committed, or none."""
         c = self._conn
+        if self.read_only:
+            raise StoreError(
+                f"{self.path}: opened read-only (for a command that only reads); cannot {what}: "
+                "nothing changed")
         if c.in_transaction():
             raise StoreError(f"{self.path}: cannot {what} inside a read snapshot")
         try:
