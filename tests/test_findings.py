@@ -55,6 +55,8 @@ def _codes(node: ast.expr) -> list[str]:
         return [node.value]
     if isinstance(node, ast.IfExp):
         return _codes(node.body) + _codes(node.orelse)
+    if isinstance(node, ast.BinOp) and isinstance(node.op, ast.Add):  # "a.b" + (".c" if x else "")
+        return [left + right for left in _codes(node.left) for right in _codes(node.right)]
     return []
 
 
@@ -93,6 +95,20 @@ def test_templates_name_only_values_the_call_passes(where, code):
     passed = {k.arg for k in node.keywords}
     missing = template_fields(CATALOGUE[code]) - passed - SUBJECT_FIELDS
     assert not missing, f"{where}: {code!r} names {sorted(missing)} but the call passes {passed}"
+
+
+def test_a_suffixed_code_is_read_with_both_suffixes():
+    node = ast.parse('"stability.fit.curvature" + ("" if x else ".not_removed")').body[0].value
+    assert _codes(node) == ["stability.fit.curvature", "stability.fit.curvature.not_removed"]
+
+
+@pytest.mark.parametrize("code", sorted(CATALOGUE))
+def test_no_catch_all_code(code):
+    # Every finding has a real code: a template that is only a sentence passed in
+    # (``"{text}"``) would let the core build words again and the views parse them.
+    fields = template_fields(CATALOGUE[code])
+    assert not (fields and CATALOGUE[code].strip("{} ") in fields), code
+    assert "unconverted" not in code
 
 
 @pytest.mark.parametrize("code", sorted(CATALOGUE))

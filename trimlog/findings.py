@@ -47,6 +47,8 @@ from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field, replace
 from types import MappingProxyType
 
+from trimlog import cautions
+
 Value = float | int | str | None
 
 
@@ -110,7 +112,9 @@ _SPEED = "{ias_kt:.1f} KIAS at {pressure_alt_ft:.0f} ft: "
 #: Keep one section per layer; add new codes at the end of your section.
 _TEMPLATES: dict[str, str] = {
     # ---- input: reading the files (mostly reading notes)
-    "input.profile.unconverted": "{text}",
+    "input.profile.no_tau_source": (
+        "neither tail.tau nor tail.elevator_chord_ratio is given; the shim needs a "
+        "flight-calibrated tau (flights before and after an incidence change)"),
     "input.log.values_not_used": "{total} value(s) or line(s) not used: {reasons}",
     "input.log.no_oat": "no outside air temperature column: ISA temperature will be assumed",
     "input.log.no_stick_force": "no stick force column: no stick-free (force) result is possible",
@@ -149,7 +153,10 @@ _TEMPLATES: dict[str, str] = {
         "logger's channel)"),
     "input.log.inverted_not_in_file": "'{quantity}' is declared inverted but is not in the file",
     # ---- physics
-    "physics.airspeed.unconverted": "{text}",
+    "physics.airspeed.outside_table": (
+        "{count} of {total} IAS values lie outside the position-error table "
+        "({low_kt:g}-{high_kt:g} kt), the first {first_kt:g} kt{where}; their correction was "
+        "held at the table's end value"),
     # ---- pipeline: the chain
     "pipeline.no_points_in_log": "no stabilized point found in this log",
     "pipeline.reduction.no_airspeed_calibration": (
@@ -185,7 +192,6 @@ _TEMPLATES: dict[str, str] = {
         "stamps in the log): {order}; add a 'date' to their loading sheets, because the "
         "stabilizer setting a shim corrects from is the latest flight's"),
     # ---- stability
-    "stability.unconverted": "{text}",
     "stability.points_excluded": (
         "{count} point(s) marked not included were left out of every fit (they stay in the "
         "table)"),
@@ -218,7 +224,37 @@ _TEMPLATES: dict[str, str] = {
         "elevator authority, {case} (CLmax {clmax:g}) at the forward CG limit "
         "{cg_pct_mac:.1f} %MAC: only {margin_deg:.1f} deg of up elevator left at CLmax "
         "(conservative end), less than the {reserve_deg:g} deg reserve ({basis})"),
-    "stability.maneuver.unconverted": "{text}",
+    "stability.fit.outlier": (
+        "{kind_words}: flight '{flight}' point {point} is an outlier (studentized residual "
+        "{studentized_residual:+.1f}); consider excluding it"),
+    "stability.fit.robust_shift": (
+        "{kind_words}: the robust fit moves the neutral point by {shift_pct_mac:+.1f} %MAC (more "
+        "than two standard errors): look at the outliers"),
+    "stability.fit.curvature": (
+        "{kind_words}: the trim curve bends (CL^2 term p = {p:.2g}); the points are linear up "
+        "to CL = {cl_max_linear:.2f}: consider excluding points above it"),
+    "stability.fit.curvature.not_removed": (
+        "{kind_words}: the trim curve bends (CL^2 term p = {p:.2g}) and leaving out the "
+        "highest-CL points does not remove it: look at the points before trusting a linear "
+        "fit"),
+    "stability.fit.intercepts_differ": (
+        "stick-fixed: the trim lines of flights with the same stabilizer setting do not meet at "
+        "CL = 0 (F test p = {p:.2g}); the line of flight '{flight}' sits {offset_deg:+.2f} deg "
+        "off the others of its setting: an elevator zero offset, a rigging change or a "
+        "mislabelled setting biases the pooled neutral point (the two-stage one does not "
+        "depend on it)"),
+    "stability.fit.intercepts_differ.exact": (
+        "stick-fixed: the trim lines of flights with the same stabilizer setting do not meet at "
+        "CL = 0; the line of flight '{flight}' sits {offset_deg:+.2f} deg off the others of its "
+        "setting: an elevator zero offset, a rigging change or a mislabelled setting biases "
+        "the pooled neutral point (the two-stage one does not depend on it)"),
+    "stability.authority.ground_effect": cautions.AUTHORITY[0],
+    "stability.authority.stop_travel_unusual": (
+        "elevator {stop} stop {stop_deg:g} deg is outside the typical light-aircraft "
+        "{low_deg:g}-{high_deg:g} deg: check the profile and the rigging"),
+    "stability.gradient.trim_speed_extrapolated": (
+        "flight '{flight}': trim speed {trim_eas_kt:.0f} kt EAS lies outside the speeds flown "
+        "({low_kt:.0f}-{high_kt:.0f} kt): dFs/dV there is an extrapolation"),
     "stability.maneuver.no_gradient": (
         "maneuvering: {n_points} point(s) of flight '{flight}' give no gradient per g: {reason}"),
     "stability.maneuver.lightening": (
@@ -237,7 +273,13 @@ _TEMPLATES: dict[str, str] = {
         "maneuvering: {kind} maneuver point cannot be said yet: {reason}"),
     # ---- incidence
     "incidence.no_recommendation": "no incidence recommendation: {reason}",
-    "incidence.tau.unconverted": "{text}",
+    "incidence.tau.profile_outside_calibrated": (
+        "the profile's tau {profile_tau:g} lies outside the flight-calibrated interval "
+        "[{lo:.2f}, {hi:.2f}]"),
+    "incidence.tau.calibration_not_used": "flight calibration of tau not used: {reason}",
+    "incidence.tau.chord_ratio_beyond_chart": (
+        "elevator chord ratio {chord_ratio:g} is beyond the empirical correction chart "
+        "(cf/c <= 0.5); its value at 0.5 was used"),
     "incidence.elevator_beyond_linear": (
         "the elevator at cruise ({elevator_deg:+.1f} deg) is beyond the ~{limit_deg:g} deg where "
         "tau is near its linear value; the change may be underestimated: make it in steps and "
@@ -329,6 +371,7 @@ _TEMPLATES: dict[str, str] = {
         "force clearly perceptible to the pilot: judge it in flight, and do not load further "
         "aft on the strength of this gradient."),
     # ---- history
+    "history.trend.one_configuration": "the trend uses configuration '{config}' only",
     "history.programme.no_saved_flights": (
         "no flight of '{aircraft}' is saved in {database} yet: only the new flights are analysed"),
     "history.programme.profile_differs": (

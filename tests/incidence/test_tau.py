@@ -90,7 +90,10 @@ def test_correction_factor_chart_readings():
 def test_estimate_out_of_chart_range():
     with pytest.raises(ProfileError, match="tail.elevator_chord_ratio"):
         elevator_effectiveness_estimate(0.9)
-    assert elevator_effectiveness_estimate(0.6).warnings
+    est = elevator_effectiveness_estimate(0.6)
+    assert [f.code for f in est.findings] == ["incidence.tau.chord_ratio_beyond_chart"]
+    assert est.warnings == (est.findings[0].message,)
+    assert est.findings[0].values["chord_ratio"] == 0.6
 
 
 # ------------------------------------------------------------------- calibration
@@ -151,6 +154,8 @@ def test_choose_tau_order_of_preference():
     assert choice.tau_source == "profile" and choice.tau == 0.6
     assert choice.ci95 == pytest.approx((0.54, 0.66)) and "assumed" in choice.explanation
     assert any("not used" in n for n in choice.notes)
+    assert [f.code for f in choice.findings] == ["incidence.tau.calibration_not_used"]
+    assert choice.notes == tuple(f.message for f in choice.findings)
     assert choose_tau(None, None, 0.35).tau_source == "chord-ratio estimate"
     assert {c.tau_source for c in (choose_tau(cal), choose_tau(None, 0.5), choose_tau(
         None, None, 0.3))} == set(TAU_SOURCES)
@@ -161,3 +166,5 @@ def test_choose_tau_order_of_preference():
 def test_choose_tau_notes_profile_outside_calibration():
     cal = calibrate_tau(2.0, 0.1, -1.0, 20)
     assert any("outside" in n for n in choose_tau(cal, 0.9).notes)
+    (f,) = choose_tau(cal, 0.9).findings
+    assert f.code == "incidence.tau.profile_outside_calibrated" and f.values["profile_tau"] == 0.9

@@ -3,7 +3,7 @@ import textwrap
 import pytest
 
 from trimlog.errors import ProfileError
-from trimlog.input.profile import load_profile, parse_profile
+from trimlog.input.profile import load_profile, parse_profile, profile_findings
 
 CONTRACT = textwrap.dedent(
     """
@@ -107,6 +107,11 @@ def test_missing_tau_and_chord_ratio_warns():
     text = CONTRACT.replace("tau = 0.5\n", "").replace("elevator_chord_ratio = 0.35\n", "")
     profile = parse_profile(text, "notau.toml")
     assert profile.tau is None and any("tau" in w for w in profile.warnings)
+    assert [f.code for f in profile_findings(None, None, "notau.toml")] == [
+        "input.profile.no_tau_source"]
+    assert profile.warnings == ("notau.toml: neither tail.tau nor tail.elevator_chord_ratio is "
+                                "given; the shim needs a flight-calibrated tau (flights before "
+                                "and after an incidence change)",)
 
 
 def test_position_error_table_and_logger_mapping():

@@ -233,6 +233,9 @@ def test_position_error_clamp_holds_the_end_correction():
     assert r.n_outside_table == 2
     assert len(r.warnings) == 1 and "2 of 3 IAS values" in r.warnings[0]
     assert "at index 0" in r.warnings[0]
+    (f,) = r.findings
+    assert f.code == "physics.airspeed.outside_table" and f.message == r.warnings[0]
+    assert (f.values["count"], f.values["total"], f.values["first_kt"]) == (2, 3, 40.0)
 
 
 def test_position_error_clamp_cannot_make_cas_negative():

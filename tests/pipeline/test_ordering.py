@@ -121,3 +121,13 @@ def test_loading_sheet_date_time_orders_flights_of_one_day():
     ordered, _ = ordering.order_by_date(flights)
     assert [f.flight for f in ordered] == ["a", "b"]
     assert ordering.flight_when(morning, None).iso() == "2026-05-16T09:00:00"
+
+
+def test_the_headline_configuration_is_ranked_by_one_rule():
+    # most included points first; a tie goes to clean, then to the one met first
+    # (the package's own rule, used by analyze and the history's trend alike)
+    assert ordering.rank_configurations({"flaps 20 deg": 5, "clean": 5}) == [
+        "clean", "flaps 20 deg"]
+    assert ordering.rank_configurations({"flaps 20 deg": 5, "flaps 10 deg": 5}) == [
+        "flaps 20 deg", "flaps 10 deg"]
+    assert ordering.rank_configurations({"clean": 4, "flaps 20 deg": 7})[0] == "flaps 20 deg"

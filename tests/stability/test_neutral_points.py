@@ -192,6 +192,9 @@ def test_textbook_problem_forward_cg_limit_from_elevator_travel():
     assert r.authority.most_forward_cg_pct_mac == pytest.approx(100 * expected, abs=1e-6)
     assert r.authority.most_forward_cg_pct_mac == pytest.approx(13.60, abs=0.005)
     # 10 deg down is short of typical light-aircraft travel: common practice, no source
+    (f,) = r.authority.findings[1:]
+    assert f.code == "stability.authority.stop_travel_unusual"
+    assert (f.values["stop"], f.values["stop_deg"]) == ("down", 10.0)
     assert any("down stop 10 deg is outside" in w for w in r.authority.warnings)
 
 
@@ -450,6 +453,9 @@ def test_outlier_is_flagged_with_flight_and_point_and_kept():
     assert fit.outliers[0].studentized_residual > 3.0
     assert fit.n_points == len(pts)
     assert any("point 3 is an outlier" in w for w in fit.warnings)
+    (f,) = [f for f in fit.findings if f.code == "stability.fit.outlier"]
+    assert (f.subject.flight, f.subject.point) == ("F2", 3)
+    assert f.values["studentized_residual"] == fit.outliers[0].studentized_residual
     # the robust fit leans less on the outlier than least squares does
     assert abs(fit.robust.pct_mac - 40.0) < abs(fit.neutral_point.pct_mac - 40.0)
 
@@ -471,7 +477,10 @@ def test_curvature_is_found_and_a_cl_range_given():
     assert c.cl_max_linear is not None and c.cl_max_linear < float(pts["cl"].max())
     assert c.restricted is not None and c.restricted.identifiable
     assert abs(c.restricted.pct_mac - 40.0) < abs(fit.neutral_point.pct_mac - 40.0) + 1e-9
-    assert any("bends" in w for w in fit.warnings)
+    (f,) = [f for f in fit.findings if f.code.startswith("stability.fit.curvature")]
+    assert f.code == "stability.fit.curvature"  # a CL range removes it
+    assert (f.values["p"], f.values["cl_max_linear"]) == (c.p_value, c.cl_max_linear)
+    assert fit.warnings == tuple(x.message for x in fit.findings)
 
 
 def test_trim_lines_not_meeting_at_cl_zero_are_reported():
@@ -482,6 +491,8 @@ def test_trim_lines_not_meeting_at_cl_zero_are_reported():
     check = r.stick_fixed.intercept_check
     assert check.significant and check.p_value < 0.01
     assert check.worst_flight == "F1" and check.worst_offset_deg > 0.5
+    (f,) = [f for f in r.findings if f.code == "stability.fit.intercepts_differ"]
+    assert f.subject.flight == "F1" and f.values["offset_deg"] == check.worst_offset_deg
     assert any("do not meet at CL = 0" in w for w in r.warnings)
     # the two-stage estimate, free of the intercepts, stays near the truth
     two = r.stick_fixed_two_stage.neutral_point
@@ -590,6 +601,7 @@ def test_elevator_authority_against_the_exact_trim_relation():
     h_req = TRUTH.hn - (TRUTH.cm0 + TRUTH.cmde_per_deg * (-22.0)) / 1.45
     assert a.most_forward_cg_pct_mac == pytest.approx(100 * h_req, abs=1e-6)
     assert GROUND_EFFECT_NOTE in a.warnings
+    assert [f.code for f in a.findings] == ["stability.authority.ground_effect"]
 
 
 def test_authority_with_noise_is_conservative_and_warns_on_unusual_stops():

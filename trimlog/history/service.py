@@ -18,6 +18,8 @@ import pandas as pd
 
 from trimlog import cautions
 from trimlog.errors import InputFileError, StoreError, TrimlogError
+from trimlog.findings import Finding, Severity, Subject, finding
+from trimlog.findings import lines as finding_lines
 from trimlog.history import programme
 from trimlog.history.codec import clean
 from trimlog.history.maneuver_choices import with_choices
@@ -26,6 +28,7 @@ from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
 from trimlog.input.logs import load_source, read_log
 from trimlog.input.profile import AircraftProfile, check_policy, parse_profile
 from trimlog.pipeline import calibration, chain
+from trimlog.pipeline.ordering import rank_configurations
 from trimlog.pipeline.reduction import reduce_points
 from trimlog.stability.critical import aft_flight_clearly_stable
 from trimlog.stability.trend import NextStep, TrendStep, neutral_point_sequence, plan_next_step
@@ -363,21 +366,21 @@ def flight_listing(store: Store, aircraft: str | None = None) -> list[dict[str, 
     return list(_listing_rows(records, names, cg_by_flight))
 
 
-def _reduce(stored: _Stored) -> tuple[pd.DataFrame | None, list[str], str]:
-    """Reduced points of the history, its warnings and the primary configuration."""
+def _reduce(stored: _Stored) -> tuple[pd.DataFrame | None, list[Finding], str]:
+    """Reduced points of the history, its findings and the primary configuration."""
     if not len(stored.points):
         return None, [], "clean"
     result = reduce_points(stored.points, stored.profile, stored.sheets)
-    warnings = list(result.warnings)
+    found = list(result.findings)
     used = result.points.loc[result.points["included"].astype(bool)]
-    counts = used.groupby("config").size()
+    counts = used.groupby("config", sort=False).size()
     config = "clean"
     if len(counts):
-        ranked = sorted(counts.items(), key=lambda kv: (-kv[1], kv[0] != "clean"))
-        config = str(ranked[0][0])
+        config = str(rank_configurations({str(k): int(v) for k, v in counts.items()})[0])
         if len(counts) > 1:
-            warnings.append(f"the trend uses configuration '{config}' only")
-    return result.points, warnings, config
+            found.append(finding("history.trend.one_configuration", Severity.CAUTION,
+                                 Subject(config=config)))
+    return result.points, found, config
 
 
 def _cg_by_flight(reduced: pd.DataFrame | None, config: str) -> dict[str, float]:
@@ -431,7 +434,7 @@ def trend(
                                         source="largest CG step")
     stored = _load(store, aircraft)
     profile = stored.profile
-    reduced, warnings, config = _reduce(stored)
+    reduced, found, config = _reduce(stored)
     cg_by_flight = _cg_by_flight(reduced, config)
     steps: tuple[TrendStep, ...] = ()
     if reduced is not None:
@@ -459,7 +462,7 @@ def trend(
     maneuvering = chain.analyze_maneuvers(flights, policy, loadings=stored.sheets)
     next_step = chain.with_maneuver_limits(next_step, maneuvering, profile)
     return Trend(stored.aircraft.name, _listing(stored, cg_by_flight), steps, next_step, config,
-                 tuple(dict.fromkeys(warnings)),
+                 finding_lines(found),
                  _maneuver_sequence(flights, policy, stored.sheets) if maneuvering else {})
 
 

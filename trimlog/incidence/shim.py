@@ -677,7 +677,7 @@ def recommend_incidence(
             "incidence.shim.first_step", Severity.CAUTION, tau_source=tau.tau_source,
             tau_lo=tau.ci95[0], tau_hi=tau.ci95[1], change_deg=change.change_deg,
             step_deg=step),)
-    found = [finding("incidence.tau.unconverted", Severity.CAUTION, text=n) for n in tau.notes]
+    found = list(tau.findings)
     found += cut.findings
     if abs(de) > LINEAR_DEFLECTION_LIMIT_DEG:
         found.append(finding("incidence.elevator_beyond_linear", Severity.CAUTION,

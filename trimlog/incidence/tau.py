@@ -43,6 +43,7 @@ import numpy as np
 import pandas as pd
 
 from trimlog.errors import NotIdentifiableError, ProfileError, TrimlogError
+from trimlog.findings import Finding, Severity, finding
 from trimlog.statistics import fits
 
 TAU_SOURCES = ("flight-calibrated", "profile", "chord-ratio estimate")
@@ -199,6 +200,8 @@ class TauEstimate:
     warnings: tuple[str, ...] = ()
     #: The fraction the near end allows for span ratio, gap and horn together.
     real_tail_allowance: float = 0.0
+    #: ``warnings`` coded (``incidence.tau.*``).
+    findings: tuple[Finding, ...] = ()
 
 
 def real_tail_factor() -> float:
@@ -267,12 +270,10 @@ def elevator_effectiveness_estimate(
     [0.39, 0.61]
     """
     ratio = _chord_ratio_in_range(chord_ratio)
-    warnings = []
+    found = []
     if ratio > 0.50:
-        warnings.append(
-            f"elevator chord ratio {ratio:g} is beyond the empirical correction chart "
-            "(cf/c <= 0.5); its value at 0.5 was used"
-        )
+        found.append(finding("incidence.tau.chord_ratio_beyond_chart", Severity.CAUTION,
+                             chord_ratio=ratio))
     thin = float(elevator_effectiveness_thin_airfoil(ratio))
     factor = _correction_factor(ratio, section_lift_slope_ratio)
     value = thin * factor
@@ -283,8 +284,8 @@ def elevator_effectiveness_estimate(
     return TauEstimate(
         chord_ratio=ratio, thin_airfoil=thin, correction_factor=factor,
         section_lift_slope_ratio=float(section_lift_slope_ratio), value=value,
-        chart_value=chart, ci95=ci95, warnings=tuple(warnings),
-        real_tail_allowance=1.0 - real,
+        chart_value=chart, ci95=ci95, warnings=tuple(f.message for f in found),
+        real_tail_allowance=1.0 - real, findings=tuple(found),
     )
 
 
@@ -417,6 +418,8 @@ class TauChoice:
     tau_source: TauSource
     explanation: str
     notes: tuple[str, ...] = ()
+    #: ``notes`` coded (``incidence.tau.*``).
+    findings: tuple[Finding, ...] = ()
 
 
 def choose_tau(
@@ -458,15 +461,13 @@ def choose_tau(
     ----------
     See :func:`calibrate_tau` and :func:`elevator_effectiveness_estimate`.
     """
-    notes: list[str] = []
+    notes: list[Finding] = []
     if calibration is not None:
         if calibration.identifiable and calibration.tau is not None and calibration.ci95:
             lo, hi = calibration.ci95
             if profile_tau is not None and not lo <= profile_tau <= hi:
-                notes.append(
-                    f"the profile's tau {profile_tau:g} lies outside the flight-calibrated "
-                    f"interval [{lo:.2f}, {hi:.2f}]"
-                )
+                notes.append(finding("incidence.tau.profile_outside_calibrated",
+                                     Severity.CAUTION, profile_tau=profile_tau, lo=lo, hi=hi))
             return TauChoice(
                 tau=calibration.tau, ci95=calibration.ci95, tau_source="flight-calibrated",
                 explanation=(
@@ -475,9 +476,10 @@ def choose_tau(
                     f"{calibration.incidence_change_deg:+.2f} deg incidence change "
                     "(95 % Fieller interval)"
                 ),
-                notes=tuple(notes),
+                notes=tuple(f.message for f in notes), findings=tuple(notes),
             )
-        notes.append(f"flight calibration of tau not used: {calibration.reason}")
+        notes.append(finding("incidence.tau.calibration_not_used", Severity.CAUTION,
+                             reason=calibration.reason))
     if profile_tau is not None:
         tau = _finite("tail.tau", profile_tau)
         if not 0.0 < tau <= 1.0:
@@ -489,7 +491,7 @@ def choose_tau(
                 f"tau {tau:g} from the profile; its +/-{100 * profile_tau_relative_uncertainty:g} "
                 "% interval is assumed, not measured"
             ),
-            notes=tuple(notes),
+            notes=tuple(f.message for f in notes), findings=tuple(notes),
         )
     if chord_ratio is not None:
         est = elevator_effectiveness_estimate(chord_ratio, section_lift_slope_ratio)
@@ -505,7 +507,8 @@ def choose_tau(
                 "hinge gap or seal and horn balance (allowances from memory); not "
                 "flight-calibrated"
             ),
-            notes=tuple(notes) + est.warnings,
+            notes=tuple(f.message for f in (*notes, *est.findings)),
+            findings=(*notes, *est.findings),
         )
     raise NotIdentifiableError(
         "elevator effectiveness tau: no flight calibration (flights before and after an "

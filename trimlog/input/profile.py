@@ -71,6 +71,7 @@ from typing import Any
 
 from trimlog.errors import ProfileError, TrimlogError
 from trimlog.files import read_regular_file
+from trimlog.findings import Finding, Severity, Subject, finding
 from trimlog.input.schema import Key, check_keys, check_range, load_toml, read_key
 from trimlog.input.units import is_compatible, parse_unit, unit_factor
 from trimlog.physics.mass_balance import pct_mac_to_station, station_to_pct_mac
@@ -312,6 +313,32 @@ def check_policy(key: str, value: float, *, source: str = "option") -> float:
     return check_range(_BY_KEY[key], number, fail)
 
 
+def profile_findings(tau: float | None, elevator_chord_ratio: float | None,
+                     source: str) -> tuple[Finding, ...]:
+    """What a profile leaves the analysis without (the rule behind ``AircraftProfile.warnings``).
+
+    Parameters
+    ----------
+    tau : float or None
+        ``tail.tau`` [-].
+    elevator_chord_ratio : float or None
+        ``tail.elevator_chord_ratio`` [-].
+    source : str
+        The profile's file name, for the subject.
+
+    Examples
+    --------
+    >>> [f.code for f in profile_findings(None, None, "a.toml")]
+    ['input.profile.no_tau_source']
+    >>> profile_findings(0.45, None, "a.toml")
+    ()
+    """
+    if tau is None and elevator_chord_ratio is None:
+        return (finding("input.profile.no_tau_source", Severity.CAUTION,
+                        Subject(source=source, quantity="tau")),)
+    return ()
+
+
 def parse_profile(text: str, source: str = "<profile>") -> AircraftProfile:
     """Parse and validate the text of a profile TOML.
 
@@ -345,14 +372,10 @@ def parse_profile(text: str, source: str = "<profile>") -> AircraftProfile:
     for spec in PROFILE_KEYS:
         if spec.key not in _OWN_CODE:
             values[spec.field] = read_key(data, spec, fail)
-    warnings: list[str] = []
     defaults: list[str] = []
     _check_cross_keys(values, fail)
-    if values["tau"] is None and values["elevator_chord_ratio"] is None:
-        warnings.append(
-            f"{source}: neither tail.tau nor tail.elevator_chord_ratio is given; the shim "
-            "needs a flight-calibrated tau (flights before and after an incidence change)"
-        )
+    warnings = [f.line() for f in profile_findings(values["tau"], values["elevator_chord_ratio"],
+                                                   source)]
     _fill_defaults(data, values, defaults)
     _check_cg_band(values, fail)
     ias_table, cas_table = _position_error_table(data, fail)

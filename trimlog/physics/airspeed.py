@@ -25,6 +25,7 @@ from typing import Any, Literal
 import numpy as np
 
 from trimlog.errors import TrimlogError
+from trimlog.findings import Finding, Severity, Subject, finding
 from trimlog.physics.arrays import (
     Numeric,
     as_float_array,
@@ -493,11 +494,14 @@ class PositionErrorResult:
         How many IAS values lay outside the table (0 unless clamped).
     warnings : tuple of str
         One message when values were clamped, naming the count and the range.
+    findings : tuple of Finding
+        ``warnings`` coded (``physics.airspeed.outside_table``).
     """
 
     cas_kt: Any
     n_outside_table: int
     warnings: tuple[str, ...]
+    findings: tuple[Finding, ...] = ()
 
 
 def _validate_table(table_ias_kt: Any, table_cas_kt: Any) -> tuple[np.ndarray, np.ndarray]:
@@ -588,18 +592,21 @@ def ias_to_cas(
     flat = np.atleast_1d(ias).ravel()
     outside = (flat < lo) | (flat > hi)
     n_outside = int(outside.sum())
-    warnings: tuple[str, ...] = ()
+    found: tuple[Finding, ...] = ()
     if n_outside:
         first = int(np.flatnonzero(outside)[0])
-        detail = (
-            f"{n_outside} of {flat.size} IAS values lie outside the position-error table "
-            f"({lo:g}-{hi:g} kt), the first {flat[first]:g} kt{where(first, flat.size, template)}"
-        )
+        clamped = finding("physics.airspeed.outside_table", Severity.CAUTION,
+                          Subject(quantity="cas_kt"), count=n_outside, total=flat.size,
+                          low_kt=float(lo), high_kt=float(hi), first_kt=float(flat[first]),
+                          where=where(first, flat.size, template))
         if extrapolate == "error":
             raise TrimlogError(
-                f"ias_kt: {detail}; extend the calibration or pass extrapolate='clamp'"
+                f"ias_kt: {n_outside} of {flat.size} IAS values lie outside the position-error "
+                f"table ({lo:g}-{hi:g} kt), the first {flat[first]:g} kt"
+                f"{where(first, flat.size, template)}; extend the calibration or pass "
+                "extrapolate='clamp'"
             )
-        warnings = (f"{detail}; their correction was held at the table's end value",)
+        found = (clamped,)
     correction = np.interp(ias, table_ias, table_cas - table_ias)
     cas = ias + correction
     check_range(cas, 0.0, np.inf, "CAS from ias_kt and the position-error table", "kt",
@@ -607,5 +614,6 @@ def ias_to_cas(
     return PositionErrorResult(
         cas_kt=like_input(cas, ias_kt, name="cas_kt"),
         n_outside_table=n_outside,
-        warnings=warnings,
+        warnings=tuple(f.message for f in found),
+        findings=found,
     )

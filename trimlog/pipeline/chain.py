@@ -27,7 +27,7 @@ from trimlog.incidence import shim as incidence
 from trimlog.incidence import tau
 from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
 from trimlog.input.logs import LogRead, load_source, read_log
-from trimlog.input.profile import AircraftProfile
+from trimlog.input.profile import AircraftProfile, profile_findings
 from trimlog.input.profile import load_profile as load_profile
 from trimlog.pipeline import ordering
 from trimlog.pipeline.maneuvers import maneuvers_from_log
@@ -367,8 +367,8 @@ def analyze(
     _set_included(table, exclusions, False)
     _set_included(table, inclusions, True)
 
-    found: list[Finding] = [_text("input.profile.unconverted", Severity.CAUTION, w)
-                            for w in profile.warnings]
+    found: list[Finding] = list(profile_findings(profile.tau, profile.elevator_chord_ratio,
+                                                 profile.source))
     found += order_findings
     found += _reading_findings(flights)
     found += reduced.findings
@@ -378,8 +378,9 @@ def analyze(
     results = []
     for config, part in table.groupby("config", sort=False):
         results.append(_analyze_configuration(str(config), part, profile))
-    results.sort(key=lambda r: (-r.stability.n_included, r.config != "clean"))
-    primary, others = results[0], tuple(results[1:])
+    by_config = {r.config: r for r in results}
+    ranked = ordering.rank_configurations({r.config: r.stability.n_included for r in results})
+    primary, others = by_config[ranked[0]], tuple(by_config[c] for c in ranked[1:])
     if others:
         found.append(finding(
             "pipeline.configurations_separate", Severity.CAUTION,
@@ -553,11 +554,6 @@ def _exclude_points_at_a_stop(points: pd.DataFrame, profile: AircraftProfile) ->
         points.loc[flag.row, "included"] = False
         points.loc[flag.row, "flags"] = ";".join(
             f for f in (str(points.loc[flag.row, "flags"] or ""), "at_stop") if f)
-
-
-def _text(code: str, severity: Severity, text: str, subject: Subject | None = None) -> Finding:
-    """A finding that still carries a sentence built below (converted to codes step by step)."""
-    return finding(code, severity, subject, text=text)
 
 
 def _reading_findings(flights: Sequence[FlightData]) -> list[Finding]:

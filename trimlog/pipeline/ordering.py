@@ -16,7 +16,7 @@ corrects from, must be a flight whose date is known.
 from __future__ import annotations
 
 import datetime as dt
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any, Protocol, TypeVar
 
@@ -206,3 +206,28 @@ class ProgrammeInputs:
             text += "; already saved, used once: " + ", ".join(
                 f"{s} (id {i})" for s, i in self.already_saved)
         return text
+
+
+def rank_configurations(included: Mapping[str, int]) -> list[str]:
+    """Configurations, the headline (primary) one first: most included points, clean first.
+
+    The one rule ``trimlog analyze`` and the history's trend use to choose the
+    configuration the headline numbers come from.  A tie in points goes to
+    ``"clean"``, then to the configuration met first (the mapping's order).
+
+    Parameters
+    ----------
+    included : mapping of str to int
+        Included points per configuration, in the order first met.
+
+    Returns
+    -------
+    list of str
+
+    Examples
+    --------
+    >>> rank_configurations({"flaps 20 deg": 6, "clean": 6, "flaps 10 deg": 9})
+    ['flaps 10 deg', 'clean', 'flaps 20 deg']
+    """
+    return sorted(included, key=lambda config: (-included[config], config != "clean"))
+

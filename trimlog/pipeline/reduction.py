@@ -175,8 +175,7 @@ def _calibrated_airspeed(
             profile.position_error_cas_kt,
             extrapolate="clamp",
         )
-        found += [finding("physics.airspeed.unconverted", Severity.CAUTION,
-                          Subject(quantity="cas_kt"), text=w) for w in result.warnings]
+        found += result.findings
         corrected = pd.Series(np.asarray(result.cas_kt, dtype=float), index=ias.index)
     cas = cas.copy()
     cas.loc[need] = corrected.to_numpy(dtype=float)

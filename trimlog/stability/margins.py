@@ -237,23 +237,21 @@ def elevator_stop_flags(points: pd.DataFrame, up_stop_deg: float, down_stop_deg:
     return tuple(out)
 
 
-def stop_travel_warnings(profile: AircraftProfile) -> list[str]:
-    """Warn when the profile's elevator stops are outside typical light-aircraft travel.
+def stop_travel_findings(profile: AircraftProfile) -> list[Finding]:
+    """Cautions when the profile's elevator stops are outside typical light-aircraft travel.
 
     Typical travel is about 20-25 deg up and 15-20 deg down (common practice,
     no source); a value outside is not wrong, but worth a second look at the
     profile and the rigging.
     """
     out = []
-    up, down = profile.elevator_up_stop_deg, profile.elevator_down_stop_deg
-    if not TYPICAL_UP_STOP_DEG[0] <= up <= TYPICAL_UP_STOP_DEG[1]:
-        out.append(f"elevator up stop {up:g} deg is outside the typical light-aircraft "
-                   f"{TYPICAL_UP_STOP_DEG[0]:g}-{TYPICAL_UP_STOP_DEG[1]:g} deg: check the "
-                   "profile and the rigging")
-    if not TYPICAL_DOWN_STOP_DEG[0] <= down <= TYPICAL_DOWN_STOP_DEG[1]:
-        out.append(f"elevator down stop {down:g} deg is outside the typical light-aircraft "
-                   f"{TYPICAL_DOWN_STOP_DEG[0]:g}-{TYPICAL_DOWN_STOP_DEG[1]:g} deg: check the "
-                   "profile and the rigging")
+    for stop, value, (low, high) in (
+            ("up", profile.elevator_up_stop_deg, TYPICAL_UP_STOP_DEG),
+            ("down", profile.elevator_down_stop_deg, TYPICAL_DOWN_STOP_DEG)):
+        if not low <= value <= high:
+            out.append(finding("stability.authority.stop_travel_unusual", Severity.CAUTION,
+                               Subject(quantity=f"elevator_{stop}_stop_deg"), stop=stop,
+                               stop_deg=value, low_deg=low, high_deg=high))
     return out
 
 
@@ -320,12 +318,14 @@ def elevator_authority(fit: PooledFit, profile: AircraftProfile, *, setting: str
     if flap_config not in ("clean", "landing"):
         raise TrimlogError(f"elevator_authority: flap_config expected 'clean' or 'landing', "
                            f"found {flap_config!r}")
-    warnings = [GROUND_EFFECT_NOTE, *stop_travel_warnings(profile)]
+    found = [finding("stability.authority.ground_effect", Severity.CAUTION),
+             *stop_travel_findings(profile)]
+    warnings = [f.message for f in found]
     reserve = profile.elevator_reserve_deg
     if fit.linear is None:
         return ElevatorAuthority((), reserve, None, None, None,
                                  f"no stick-fixed model: {fit.neutral_point.reason}",
-                                 tuple(warnings))
+                                 tuple(warnings), tuple(found))
     setting = fit.latest_group if setting is None else str(setting)
     specs: list[tuple[str, float, bool, tuple[str, ...]]] = []
     reasons = []
@@ -348,7 +348,8 @@ def elevator_authority(fit: PooledFit, profile: AircraftProfile, *, setting: str
     h_fwd = profile.cg_forward_pct_mac / 100.0
     why_not = cannot_say_yet(fit, 100.0 * h_fwd, "the forward CG limit")
     if why_not:
-        return ElevatorAuthority((), reserve, None, None, None, why_not, tuple(warnings))
+        return ElevatorAuthority((), reserve, None, None, None, why_not, tuple(warnings),
+                                 tuple(found))
     cases = []
     for case, clmax, other_config, notes in specs:
         pred = predict_elevator(fit, clmax, h_fwd, setting)
@@ -386,7 +387,8 @@ def elevator_authority(fit: PooledFit, profile: AircraftProfile, *, setting: str
     station = None if h_cons is None else profile.station(100.0 * h_cons)
     return ElevatorAuthority(
         tuple(cases), reserve, None if h_est is None else 100.0 * h_est,
-        None if h_cons is None else 100.0 * h_cons, station, "; ".join(reasons), tuple(warnings))
+        None if h_cons is None else 100.0 * h_cons, station, "; ".join(reasons), tuple(warnings),
+        tuple(found))
 
 
 #: Authority verdicts that are findings: code of the case's verdict -> (finding code, severity).

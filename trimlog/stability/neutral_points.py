@@ -46,7 +46,6 @@ References
 from __future__ import annotations
 
 import math
-from collections.abc import Iterable
 from dataclasses import dataclass
 
 import numpy as np
@@ -238,8 +237,9 @@ def _line(cl: np.ndarray, y: np.ndarray, settings: np.ndarray) -> tuple[LinearFi
 
 
 def _stick_force_gradient(
-    fit: LinearFit, cl: np.ndarray, q: np.ndarray | None, eas: np.ndarray | None
-) -> tuple[float | None, float | None, tuple[float, float] | None, str, list[str]]:
+    fit: LinearFit, cl: np.ndarray, q: np.ndarray | None, eas: np.ndarray | None,
+    flight: str = "",
+) -> tuple[float | None, float | None, tuple[float, float] | None, str, list[Finding]]:
     """Trim speed and dFs/dV there from Fs/q = A + B*CL of one flight.
 
     With ``CL = n W/(q S)``, ``Fs = q (A + B CL) = A q + B nW/S``; the speed
@@ -249,7 +249,7 @@ def _stick_force_gradient(
     = sign(A) * 2 sqrt(K (nW/S) (-A B))``.  ``nW/S`` is the mean of ``q*CL``
     over the flight's points (``q`` [psf], ``eas`` [kt] None when not in the points).
     """
-    warnings: list[str] = []
+    warnings: list[Finding] = []
     if len(fit.params) != 2:
         return None, None, None, ("not available: several stabilizer settings in one flight, "
                                   "so no single trim speed"), warnings
@@ -279,8 +279,10 @@ def _stick_force_gradient(
     if eas is not None and not np.isnan(eas).all():
         lo, hi = float(np.nanmin(eas)), float(np.nanmax(eas))
         if not 0.9 * lo <= v_t <= 1.1 * hi:
-            warnings.append(f"trim speed {v_t:.0f} kt EAS lies outside the speeds flown "
-                            f"({lo:.0f}-{hi:.0f} kt): dFs/dV there is an extrapolation")
+            warnings.append(finding("stability.gradient.trim_speed_extrapolated",
+                                    Severity.CAUTION, Subject(flight=flight,
+                                                              quantity="dfs_dv_lbf_per_kt"),
+                                    trim_eas_kt=v_t, low_kt=lo, high_kt=hi))
     return finite(v_t), finite(grad), ci, _verdict_from_ci(ci, grad, _FORCE_WORDS), warnings
 
 
@@ -346,7 +348,7 @@ def _flight_gradients(frame: pd.DataFrame) -> tuple[FlightGradient, ...]:
         rows = order[starts[k]:starts[k + 1]]
         cl, settings = cl_all[rows], settings_all[rows]
         h = float(h_all[rows].mean())
-        warnings: list[str] = []
+        warnings: list[Finding] = []
         fit, why = _line(cl, elev_all[rows], settings)
         if fit is None:
             slope = ci = se = d0 = r2 = rstd = None
@@ -371,7 +373,7 @@ def _flight_gradients(frame: pd.DataFrame) -> tuple[FlightGradient, ...]:
                 fr2, frstd = ffit.r_squared, finite(ffit.residual_std)
                 vt, dfdv, dfdv_ci, fverdict, more = _stick_force_gradient(
                     ffit, cl_all[force], None if q_all is None else q_all[force],
-                    None if eas_all is None else eas_all[force])
+                    None if eas_all is None else eas_all[force], str(flight))
                 warnings.extend(more)
         out.append(FlightGradient(
             flight=str(flight), cg_pct_mac=100.0 * h, h=h, n_points=len(rows),
@@ -382,7 +384,8 @@ def _flight_gradients(frame: pd.DataFrame) -> tuple[FlightGradient, ...]:
             n_force_points=len(force), dfsq_dcl_ft2=fslope, dfsq_dcl_ci95_ft2=fci,
             fsq_r_squared=fr2, fsq_residual_std_ft2=frstd, trim_eas_kt=vt,
             dfs_dv_lbf_per_kt=dfdv, dfs_dv_ci95_lbf_per_kt=dfdv_ci,
-            stick_force_verdict=fverdict, warnings=tuple(warnings),
+            stick_force_verdict=fverdict, warnings=tuple(f.message for f in warnings),
+            findings=tuple(warnings),
         ))
     return tuple(out)
 
@@ -664,29 +667,40 @@ def _pooled_fit(frame: pd.DataFrame, kind: str, lemac_in: float | None,
                 o.studentized_residual, o.bonferroni_p)
         for o in studentized_outliers(core.linear)
     )
-    warnings = [f"{kind.replace('_', '-')}: flight '{o.flight}' point {o.point} is an outlier "
-                f"(studentized residual {o.studentized_residual:+.1f}); consider excluding it"
+    words = kind.replace("_", "-")
+    warnings = [finding("stability.fit.outlier", Severity.CAUTION,
+                        Subject(flight=o.flight, point=o.point, quantity=kind),
+                        kind_words=words, studentized_residual=o.studentized_residual)
                 for o in outliers]
     robust = None
     if core.has_cg_term:
         robust = robust_check(core.linear, core.neutral_point.pct_mac)
     if robust is not None and robust.shift_pct_mac is not None and core.neutral_point.se_pct_mac:
         if abs(robust.shift_pct_mac) > 2.0 * core.neutral_point.se_pct_mac:
-            warnings.append(f"{kind.replace('_', '-')}: the robust fit moves the neutral point by "
-                            f"{robust.shift_pct_mac:+.1f} %MAC (more than two standard errors): "
-                            "look at the outliers")
+            warnings.append(finding("stability.fit.robust_shift", Severity.CAUTION,
+                                    Subject(quantity=kind), kind_words=words,
+                                    shift_pct_mac=robust.shift_pct_mac))
     curvature = curvature_check(
         frame, response, group_col, core.has_cg_term,
         lambda sub: _core(sub, response, group_col, kind, lemac_in, mac_in).neutral_point)
     if curvature.significant:
-        warnings.append(f"{kind.replace('_', '-')}: {curvature.note}")
+        warnings.append(finding(
+            "stability.fit.curvature" + ("" if curvature.cl_max_linear is not None
+                                         else ".not_removed"),
+            Severity.CAUTION, Subject(quantity=kind), kind_words=words,
+            p=curvature.p_value, cl_max_linear=curvature.cl_max_linear))
     intercepts = (intercept_check(frame, core.linear, core.has_cg_term)
                   if kind == "stick_fixed" else None)
     if intercepts is not None and intercepts.significant:
-        warnings.append(f"stick-fixed: {intercepts.note}")
+        warnings.append(finding(
+            "stability.fit.intercepts_differ" + ("" if intercepts.f_statistic is not None
+                                                 else ".exact"),
+            Severity.CAUTION, Subject(flight=intercepts.worst_flight, quantity=kind),
+            p=intercepts.p_value, offset_deg=intercepts.worst_offset_deg))
     return PooledFit(**base, elevator_power_per_rad=power[0], elevator_power_ci95_per_rad=power[1],
                      robust=robust, outliers=outliers, curvature=curvature,
-                     intercept_check=intercepts, warnings=tuple(warnings))
+                     intercept_check=intercepts, warnings=tuple(f.message for f in warnings),
+                     findings=tuple(warnings))
 
 
 def two_stage_neutral_point(gradients: tuple[FlightGradient, ...], *,
@@ -798,9 +812,6 @@ def analyze_stability(points: pd.DataFrame, profile: AircraftProfile | None = No
     lemac, mac = (profile.lemac_in, profile.mac_in) if profile is not None else (None, None)
     found: list[Finding] = []
 
-    def text(lines: Iterable[str]) -> None:  # sentences still built by the fits below
-        found.extend(finding("stability.unconverted", Severity.CAUTION, text=w) for w in lines)
-
     if n_excluded:
         found.append(finding("stability.points_excluded", Severity.NOTE, count=n_excluded))
     gradients = _flight_gradients(frame)
@@ -832,11 +843,11 @@ def analyze_stability(points: pd.DataFrame, profile: AircraftProfile | None = No
         found.append(finding("stability.np_methods_disagree", Severity.WARNING,
                              Subject(quantity="neutral_point.stick_fixed"),
                              pooled_pct_mac=pooled_np.pct_mac, two_stage_pct_mac=staged_np.pct_mac))
-    text(fixed.warnings)
+    found.extend(fixed.findings)
     if free is not None:
-        text(free.warnings)
+        found.extend(free.findings)
     for g in gradients:
-        text(f"flight '{g.flight}': {w}" for w in g.warnings)
+        found.extend(g.findings)
     cgs = [(g.flight, g.flight, g.cg_pct_mac) for g in gradients]
     min_sm = None
     if profile is not None:
@@ -867,7 +878,7 @@ def analyze_stability(points: pd.DataFrame, profile: AircraftProfile | None = No
     authority = stops = None
     if profile is not None:
         authority = elevator_authority(fixed, profile, setting=setting, flap_config=flap_config)
-        text(authority.warnings)
+        found.extend(authority.findings)
         found += authority_findings(authority)
         stops = elevator_stop_flags(points, profile.elevator_up_stop_deg,
                                     profile.elevator_down_stop_deg)

@@ -68,6 +68,9 @@ class FlightGradient:
         Delta-method 95 % interval [lbf/kt].
     stick_force_verdict : str
     warnings : tuple of str
+        ``findings`` in words.
+    findings : tuple of Finding
+        Coded (``stability.gradient.*``).
     """
 
     flight: str
@@ -93,6 +96,7 @@ class FlightGradient:
     dfs_dv_ci95_lbf_per_kt: tuple[float, float] | None
     stick_force_verdict: str
     warnings: tuple[str, ...] = ()
+    findings: tuple[Finding, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -288,6 +292,7 @@ class PooledFit:
     intercept_check : InterceptCheck or None
         Stick-fixed only.
     warnings : tuple of str
+        ``findings`` in words.
     independent_neutral_point : NeutralPoint or None
         The neutral point of the ordinary pooled fit, which treats every
         point as independent (kept for comparison; its interval is too short
@@ -317,6 +322,9 @@ class PooledFit:
     warnings: tuple[str, ...] = ()
     independent_neutral_point: NeutralPoint | None = None
     flight_level: FlightLevelFit | None = None
+    #: Coded checks of the fit (``stability.fit.*``): outliers, robust shift, curvature,
+    #: intercepts.
+    findings: tuple[Finding, ...] = ()
 
     @property
     def params(self) -> pd.Series | None:
@@ -583,6 +591,8 @@ class ElevatorAuthority:
     most_forward_cg_station_in: float | None
     reason: str
     warnings: tuple[str, ...]
+    #: ``warnings`` coded (``stability.authority.*``).
+    findings: tuple[Finding, ...] = ()
 
 
 @dataclass(frozen=True)

@@ -6,9 +6,9 @@ without :mod:`matplotlib.pyplot`, so nothing here changes the caller's
 backend or opens a window; the dashboard and the PDF report both use them.
 
 The functions draw what :mod:`trimlog.pipeline.chain` found; the only numbers
-computed here are fit lines and their 95 % bands, taken from the package's
-fits (:func:`trimlog.stability.margins.predict_elevator` for the trim lines,
-:meth:`trimlog.statistics.fits.LinearFit.predict` for the others).
+drawn are fit lines and their 95 % bands, computed by the package's fits
+(:meth:`trimlog.statistics.fits.LinearFit.confidence_band`, the interval of
+:func:`trimlog.stability.margins.predict_elevator` at many points at once).
 
 Colours are the Okabe-Ito palette (safe for the common colour-vision
 deficiencies), yellow last because it is faint on white paper; each flight
@@ -41,8 +41,6 @@ from matplotlib.lines import Line2D
 from matplotlib.patches import Patch
 
 from trimlog.errors import TrimlogError
-from trimlog.stability.margins import predict_elevator
-from trimlog.statistics.fits import t_quantile
 
 if TYPE_CHECKING:
     from trimlog.pipeline.chain import Analysis, FlightData
@@ -189,17 +187,13 @@ def _cl_grid(frame: pd.DataFrame) -> np.ndarray:
 
 
 def _pooled_band(fit: PooledFit, group: str, h: float, cl: np.ndarray
-                 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Line and 95 % band of a pooled stick-free fit for one flight (named ``a[...]`` terms)."""
-    t = t_quantile(fit.linear.df_resid) if fit.linear.df_resid >= 1 else 0.0
-    values, half = [], []
-    for c in cl:
-        value, se, _ = fit.linear.predict(pd.Series({f"a[{group}]": 1.0, "cl": c,
-                                                     "h_cl": h * c}))
-        values.append(value)
-        half.append(t * se)
-    v, w = np.asarray(values), np.asarray(half)
-    return v, v - w, v + w
+                 ) -> tuple[np.ndarray, np.ndarray | None, np.ndarray | None]:
+    """Line and 95 % band of a pooled fit for one group (its ``a[...]`` intercept) at CG h.
+
+    The numbers are the fit's (:meth:`trimlog.statistics.fits.LinearFit.confidence_band`).
+    """
+    return fit.linear.confidence_band(
+        pd.DataFrame({f"a[{group}]": 1.0, "cl": cl, "h_cl": h * cl}))
 
 
 # --------------------------------------------------------------------------- figures
@@ -244,13 +238,10 @@ def trim_curves(analysis: Analysis, ax: Axes | None = None) -> Axes:
         h = used["h"].mean() if cg is None else cg / 100.0
         for setting, part in used.groupby("stab_setting", sort=False):
             cl = _cl_grid(part)
-            preds = [predict_elevator(fit, float(c), float(h), str(setting)) for c in cl]
-            line = np.array([p.elevator_deg for p in preds])
+            line, lo, hi = _pooled_band(fit, str(setting), float(h), cl)
             ax.plot(cl, line, color=style["color"], linestyle=style["linestyle"], linewidth=1.4)
-            if all(p.ci95_deg is not None for p in preds):
-                ax.fill_between(cl, [p.ci95_deg[0] for p in preds],
-                                [p.ci95_deg[1] for p in preds], color=style["color"],
-                                alpha=0.2, linewidth=0)
+            if lo is not None and hi is not None:
+                ax.fill_between(cl, lo, hi, color=style["color"], alpha=0.2, linewidth=0)
     handles, _ = ax.get_legend_handles_labels()
     if fit.linear is not None:
         handles.append(_band_handle())
@@ -312,13 +303,11 @@ def gradient_vs_cg(analysis: Analysis, ax: Axes | None = None) -> Axes:
     ts = s.stick_fixed_two_stage
     if ts.linear is not None:
         x = np.linspace(x_lo, x_hi, LINE_POINTS)
-        t = t_quantile(ts.linear.df_resid) if ts.linear.df_resid >= 1 else 0.0
-        fitted = [ts.linear.predict(pd.Series({"const": 1.0, "h": v / 100.0})) for v in x]
-        y = np.array([f[0] for f in fitted])
-        half = np.array([t * f[1] for f in fitted])
+        y, lo, hi = ts.linear.confidence_band(pd.DataFrame({"const": 1.0, "h": x / 100.0}))
         ax.plot(x, y, color="black", linewidth=1.2, label="two-stage weighted fit")
-        ax.fill_between(x, y - half, y + half, color=GREY, alpha=0.3, linewidth=0,
-                        label="its 95 % confidence band")
+        if lo is not None and hi is not None:
+            ax.fill_between(x, lo, hi, color=GREY, alpha=0.3, linewidth=0,
+                            label="its 95 % confidence band")
     ax.axhline(0.0, color="black", linewidth=0.8)
     ymin, ymax = ax.get_ylim()
     step = 0.03 * (ymax - ymin)
@@ -382,7 +371,8 @@ def stick_force_per_q(analysis: Analysis, ax: Axes | None = None) -> Axes:
         cl = _cl_grid(used)
         line, lo, hi = _pooled_band(fit, str(flight), float(h), cl)
         ax.plot(cl, line, color=style["color"], linestyle=style["linestyle"], linewidth=1.4)
-        ax.fill_between(cl, lo, hi, color=style["color"], alpha=0.2, linewidth=0)
+        if lo is not None and hi is not None:
+            ax.fill_between(cl, lo, hi, color=style["color"], alpha=0.2, linewidth=0)
     ax.axhline(0.0, color="black", linewidth=0.8)
     handles, _ = ax.get_legend_handles_labels()
     if not len(pts):
