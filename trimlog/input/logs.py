@@ -113,6 +113,13 @@ __all__ = [
 _DELIMITERS = {"\t": "tab", ";": "semicolon", ",": "comma", "|": "pipe"}
 _LINE_SPLIT = re.compile(r"\r\n|\r|\n")
 _SNIFF_BYTES = 65536
+#: Lines the layout is sniffed from (at least; more when they fit in _SNIFF_BYTES).
+_SNIFF_LINES = 40
+#: Longest stretch read to find the header and the first data lines [bytes]: a
+#: header line longer than this is refused rather than read short.
+MAX_HEADER_BYTES = 4 * 1024 * 1024
+#: Most columns a log may have (a wide logger export has a few hundred).
+MAX_COLUMNS = 10_000
 
 
 @dataclass(frozen=True)
@@ -277,11 +284,35 @@ def _encoding(raw: bytes, label: str, notes: Notes) -> str:
 # --------------------------------------------------------------------- layout
 
 
+def _sniff_window(raw: bytes, label: str) -> int:
+    """Bytes to sniff: at least the first :data:`_SNIFF_LINES` whole lines (however long).
+
+    A header longer than 64 KiB (thousands of columns) used to be cut and read
+    short, which shifted every column; now the window grows to hold whole
+    lines, up to :data:`MAX_HEADER_BYTES`, beyond which the file is refused.
+    """
+    if len(raw) <= _SNIFF_BYTES:
+        return len(raw)
+    breaks = re.compile(rb"\r\n|\r|\n")
+    end, seen = 0, 0
+    for match in breaks.finditer(raw, 0, MAX_HEADER_BYTES + 1):
+        end, seen = match.end(), seen + 1
+        if seen >= _SNIFF_LINES:
+            break
+    if seen == 0 and len(raw) > MAX_HEADER_BYTES:
+        raise InputFileError(
+            f"line 1 is longer than {MAX_HEADER_BYTES // 1024 // 1024} MiB without a line break; "
+            "expected a CSV table (one header line, then one line per sample)",
+            file=label, line=1)
+    return max(_SNIFF_BYTES, end) if seen else len(raw)
+
+
 def _sniff(raw: bytes, encoding: str, label: str, notes: Notes) -> _Layout:
     """Find delimiter, header line, unit row and decimal mark from the first lines."""
-    head = raw[:_SNIFF_BYTES].decode(encoding, errors="replace")
+    window = _sniff_window(raw, label)
+    head = raw[:window].decode(encoding, errors="replace")
     lines = _LINE_SPLIT.split(head)
-    if len(raw) > _SNIFF_BYTES and len(lines) > 1:
+    if len(raw) > window and len(lines) > 1:
         lines = lines[:-1]  # cut mid-line
     lines = lines[:300]
     if lines:
@@ -317,6 +348,12 @@ def _sniff(raw: bytes, encoding: str, label: str, notes: Notes) -> _Layout:
             line=1,
         )
     _, delimiter, header, width = best
+    if width > MAX_COLUMNS:
+        raise InputFileError(
+            f"the header has {width:,} columns; trimlog reads at most {MAX_COLUMNS:,} "
+            "(export only the channels needed: airspeed, altitude, temperature, elevator, "
+            "stick force, time)",
+            file=label, line=header + 1)
     headers = [h.strip() for h in split_fields(lines[header], delimiter)]
     if header > 0:
         notes.add("input.log.preamble_skipped", Severity.NOTE, count=header)
@@ -370,10 +407,12 @@ def _parse(
     width = len(layout.headers)
     spaced = _cell_starts_with_space(raw, layout.delimiter)
     frame, caught = _read_table(raw, layout, label, skipinitialspace=spaced, na_values=None)
+    # Column by column only where needed: a log of 10,000 columns stays linear and quick.
+    dtypes = frame.dtypes
     markers = {
         i: frame[i].isin(NA_TOKENS).to_numpy()
-        for i in frame.columns
-        if not pd.api.types.is_numeric_dtype(frame[i])
+        for i, dtype in dtypes.items()
+        if not pd.api.types.is_numeric_dtype(dtype)
     }
     if any(markers[i].any() for i in used if i in markers):
         frame, caught = _read_table(
@@ -383,11 +422,12 @@ def _parse(
         for i, mask in markers.items():
             if mask.any():
                 frame[i] = frame[i].mask(mask)
-        for i in frame.columns:
-            if frame[i].dtype.kind == "f":
+        floats = [i for i, dtype in dtypes.items() if dtype.kind == "f"]
+        if floats:
+            with_inf = np.isinf(frame[floats].to_numpy()).any(axis=0)
+            for i in np.asarray(floats)[with_inf]:
                 values = frame[i].to_numpy()
-                if np.isinf(values).any():
-                    frame[i] = np.where(np.isinf(values), np.nan, values)
+                frame[i] = np.where(np.isinf(values), np.nan, values)
     bad = sorted(
         int(m.group(1))
         for w in caught
@@ -464,7 +504,15 @@ def _partial_tail(raw: bytes, layout: _Layout, last_line: int) -> np.ndarray:
     ``last_line`` is the number of the file's last line: with blank lines
     kept, pandas gives one row per line, so it is the last row's line.
     """
-    tail = _LINE_SPLIT.split(raw[-4096:].decode(layout.encoding, errors="replace"))
+    # Back far enough for three whole lines however long they are (a fixed 4 KiB
+    # cut a line over ~1.4 KB short, and a valid row was dropped as partial).
+    start = len(raw)
+    for _ in range(8):  # a CR LF break counts twice
+        start = max(raw.rfind(b"\n", 0, start), raw.rfind(b"\r", 0, start))
+        if start <= 0:
+            start = 0
+            break
+    tail = _LINE_SPLIT.split(raw[start:].decode(layout.encoding, errors="replace"))
     if raw.endswith((b"\n", b"\r")):
         tail = tail[:-1]
     width = len(layout.headers)
@@ -661,9 +709,7 @@ def _drop_empty_rows(
     keep = np.ones(len(lines), dtype=bool)
     if not len(lines):
         return keep
-    blank = np.ones(len(lines), dtype=bool)
-    for column in frame.columns:
-        blank &= frame[column].isna().to_numpy()
+    blank = frame.isna().to_numpy().all(axis=1)
     notes.drop("blank line", lines[blank])
     numeric = [v for k, v in data.items() if k not in TEXT_COLUMNS]
     if numeric:
