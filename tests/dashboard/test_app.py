@@ -203,9 +203,7 @@ def test_excluding_a_point_changes_the_result(demo_analysis):
     assert f"{before:.2f}" != f"{after:.2f}"
     at = _go(_app(), "Points")
     assert at.selectbox(key="points_flight").value == 1  # the first time-series flight: flight2
-    at.session_state["editor_flight2"] = {
-        "edited_rows": {0: {"included": False}}, "added_rows": [], "deleted_rows": []}
-    at.run()
+    at.pills[0].unselect(1).run()  # one click on point 1 leaves it out
     assert not at.exception
     assert at.session_state["exclusions"] == {("flight2", 1)}
     _go(at, "Results")
@@ -242,10 +240,7 @@ def test_a_point_trimlog_left_out_can_be_ticked_back_in(demo_analysis, tmp_path)
     assert f"trimlog left out point(s) {point} itself" in text
     assert "cannot be ticked" not in text and "no effect" not in text
     assert f"**at_stop**: {FLAG_TEXT['at_stop']}" in "\n".join(c.value for c in at.caption)
-    row = [int(p) for p in own.points.loc[own.points["flight"] == flight, "point"]].index(point)
-    at.session_state[f"editor_{flight}"] = {
-        "edited_rows": {row: {"included": True}}, "added_rows": [], "deleted_rows": []}
-    at.run()
+    at.pills[0].select(point).run()  # one click fits it
     assert not at.exception, at.exception
     assert at.session_state["inclusions"] == {(flight, point)}
     assert at.session_state["exclusions"] == set()
@@ -269,9 +264,7 @@ def test_a_point_trimlog_left_out_can_be_ticked_back_in(demo_analysis, tmp_path)
     at.session_state["use_demo"] = True
     # unticking it again goes back to trimlog's own choice, not to an exclusion
     _go(at, "Points")
-    at.session_state[f"editor_{flight}"] = {
-        "edited_rows": {row: {"included": False}}, "added_rows": [], "deleted_rows": []}
-    at.run()
+    at.pills[0].unselect(point).run()
     assert at.session_state["inclusions"] == set() and at.session_state["exclusions"] == set()
 
 
@@ -340,9 +333,7 @@ def test_a_point_left_out_of_a_saved_flight_is_kept_in_the_history(tmp_path):
     at = _go(_app(), "History")
     _save(at)
     fid = at.selectbox(key="history_flight").value
-    at.session_state[f"history_editor_{fid}"] = {
-        "edited_rows": {1: {"included": False}}, "added_rows": [], "deleted_rows": []}
-    at.run()
+    at.pills(key=f"history_used_{fid}").unselect(2).run()
     assert not at.exception
     with store.open_store(tmp_path / "history.sqlite") as st_:
         points = st_.flight_points(fid)

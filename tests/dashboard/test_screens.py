@@ -90,3 +90,87 @@ def test_the_results_page_draws_the_shim_side_view_of_the_demo(demo_analysis, mo
     legend = [t.get_text() for t in ax.get_legend().get_texts()]
     assert any(t.startswith("before: elevator") for t in legend)
     assert any(t.startswith("after: elevator") for t in legend)
+
+
+def _texts(at: AppTest) -> str:
+    import re
+
+    parts = [e.value for kind in ("markdown", "caption", "warning", "info", "error", "success")
+             for e in getattr(at, kind)]
+    return re.sub(r"\\(.)", r"\1", "\n".join(str(p) for p in parts))
+
+
+def test_one_click_leaves_a_point_out_and_its_reason_goes_to_json_and_history(tmp_path):
+    from trimlog.history import service as history
+    from trimlog.history.store import open_store
+
+    at = _go(_app(), "Points")
+    assert at.selectbox(key="points_flight").value == 1  # flight2, the first time series
+    (used,) = at.pills
+    assert 1 in used.value
+    used.unselect(1).run()  # one click
+    assert not at.exception, at.exception
+    assert at.session_state["exclusions"] == {("flight2", 1)}
+    why = next(b for b in at.selectbox if b.label == "Why point 1 is left out")
+    assert why.value == "(no reason given)"
+    why.set_value("other (type it)").run()
+    next(t for t in at.text_input if t.label == "Reason for point 1").input(
+        "  gust at the start  ").run()
+    assert at.session_state["exclusion_reasons"] == {("flight2", 1): "gust at the start"}
+    table = next(d.value for d in at.dataframe if "Why left out" in d.value.columns)
+    assert table.loc[0, "Why left out"] == "gust at the start" and not table.loc[0, "Used"]
+    # the analysis, its JSON download and the saved flight carry it
+    _go(at, "Results")
+    assert "59 points used, 1 left out" in _texts(at)
+    assert "Left out by you: flight2 point 1 (gust at the start)" in _texts(at)
+    _go(at, "History")
+    next(b for b in at.button if b.label.startswith("Save the")).click().run()
+    assert not at.exception, at.exception
+    with open_store(tmp_path / "history.sqlite") as store:
+        a = history.analyze_history(store)
+    row = a.points.loc[(a.points["flight"] == "flight2") & (a.points["point"] == 1)]
+    assert row["exclusion_reason"].iloc[0] == "gust at the start"
+
+
+def test_tables_of_points_have_readable_names_with_units_rounded_and_never_minus_zero():
+    import numpy as np
+    import pandas as pd
+
+    from trimlog.dashboard import blocks
+
+    raw = pd.DataFrame({"point": [1, 2], "t_start_s": [12.34567, 40.0],
+                        "ias_kt": [95.12345, 80.0], "elevator_deg": [-0.0012, -2.34567],
+                        "stick_force_lbf": [-0.04, 3.21], "flags": ["", np.nan],
+                        "values_json_only": [1.0, 2.0]})
+    table = blocks.points_table(raw)
+    assert list(table.columns) == ["Point", "From [s]", "IAS [kt]", "Elevator [deg]",
+                                   "Stick force [lbf]", "Flags"]
+    assert not [c for c in table.columns if "_" in c]  # no raw names like t_start_s
+    assert table["IAS [kt]"].tolist() == [95.1, 80.0]
+    assert table["Elevator [deg]"].tolist() == [0.0, -2.35]
+    # a rounded zero has no sign: a table would print -0.0 as "-0.00"
+    assert not np.signbit(table["Elevator [deg]"].iloc[0])
+    assert not np.signbit(table["Stick force [lbf]"].iloc[0])
+    assert table["Flags"].tolist() == ["", ""]
+    formats = blocks.point_formats(table)
+    assert set(formats) == {"From [s]", "IAS [kt]", "Elevator [deg]", "Stick force [lbf]"}
+
+
+def test_the_history_editor_shows_readable_names_and_one_click_choices(tmp_path):
+    from trimlog.history.store import open_store
+
+    at = _go(_app(), "History")
+    next(b for b in at.button if b.label.startswith("Save the")).click().run()
+    fid = at.selectbox(key="history_flight").value
+    editor = next(d.value for d in at.dataframe if "Why left out" in d.value.columns)
+    assert {"Point", "From [s]", "IAS [kt]", "Elevator [deg]"} <= set(editor.columns)
+    assert not [c for c in editor.columns if "_" in c]
+    assert editor["Used"].all()
+    at.pills(key=f"history_used_{fid}").unselect(2).run()
+    next(b for b in at.selectbox if b.label == "Why point 2 is left out").set_value(
+        "turbulence").run()
+    assert not at.exception, at.exception
+    with open_store(tmp_path / "history.sqlite") as store:
+        assert store.flight(fid).loading["exclusion_reasons"] == {"2": "turbulence"}
+    editor = next(d.value for d in at.dataframe if "Why left out" in d.value.columns)
+    assert editor.loc[1, "Why left out"] == "turbulence" and not editor.loc[1, "Used"]

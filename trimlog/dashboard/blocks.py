@@ -1,7 +1,11 @@
-"""Page blocks shown on more than one page (Results, and History for the saved flights)."""
+"""Page blocks shown on more than one page.
+
+The shim (Results, History), tables of points and the choice of points (Points, History).
+"""
 
 from __future__ import annotations
 
+import pandas as pd
 import streamlit as st
 
 from trimlog import cautions
@@ -9,7 +13,7 @@ from trimlog.dashboard import common
 from trimlog.dashboard.common import interval
 from trimlog.pipeline.chain import Analysis
 from trimlog.views import shim_drawing, shim_text
-from trimlog.views.formatting import elevator_words, incidence_words
+from trimlog.views.formatting import elevator_words, incidence_words, rounded
 
 
 def shim_block(a: Analysis) -> None:
@@ -54,3 +58,107 @@ def shim_block(a: Analysis) -> None:
             for w in rec.warnings:
                 common.warn(w)
         common.caution_list(cautions.INCIDENCE)
+
+
+#: Point columns shown in the tables of points (Points page, History editor): readable
+#: names with units, and the decimals each is rounded to (what the measurement supports).
+POINT_COLUMNS: dict[str, tuple[str, int | None]] = {
+    "point": ("Point", None),
+    "t_start_s": ("From [s]", 1),
+    "t_end_s": ("To [s]", 1),
+    "duration_s": ("Held [s]", 1),
+    "ias_kt": ("IAS [kt]", 1),
+    "cas_kt": ("CAS [kt]", 1),
+    "pressure_alt_ft": ("Altitude [ft]", 0),
+    "elevator_deg": ("Elevator [deg]", 2),
+    "stick_force_lbf": ("Stick force [lbf]", 1),
+    "nz_g": ("Load factor [g]", 2),
+    "vs_fpm": ("Vertical speed [ft/min]", 0),
+    "flags": ("Flags", None),
+}
+#: The reasons offered for leaving a point out (free text after "other").
+EXCLUSION_REASONS = ("turbulence", "not stabilized", "wrong configuration")
+NO_REASON = "(no reason given)"
+OTHER_REASON = "other (type it)"
+
+
+def points_table(points: pd.DataFrame) -> pd.DataFrame:
+    """The points as shown: readable names with units, rounded, never ``-0``.
+
+    Columns the points lack are left out; text columns are shown as they are
+    (an empty flags cell read back as NaN shows as empty).
+    """
+    out = pd.DataFrame(index=points.index)
+    for column, (title, decimals) in POINT_COLUMNS.items():
+        if column not in points.columns:
+            continue
+        values = points[column]
+        if decimals is not None:
+            values = rounded(pd.to_numeric(values, errors="coerce").astype(float), decimals)
+        elif column == "flags":
+            values = values.map(lambda v: v if isinstance(v, str) else "")
+        out[title] = values
+    return out.reset_index(drop=True)
+
+
+def point_formats(table: pd.DataFrame) -> dict[str, object]:
+    """Column settings of :func:`points_table`'s columns: each number at its decimals."""
+    return {title: st.column_config.NumberColumn(title, format=f"%.{decimals}f")
+            for title, decimals in POINT_COLUMNS.values()
+            if decimals is not None and title in table.columns}
+
+
+def points_used(label: str, numbers: list[int], used: list[bool], key: str,
+                flags: list[str] | None = None) -> list[bool]:
+    """One click per point: the points fitted, as toggle buttons (a point number each).
+
+    Parameters
+    ----------
+    label : str
+        The widget's label.
+    numbers : list of int
+        The points' numbers, in order.
+    used : list of bool
+        Whether each point is used now (the state the widget opens with).
+    key : str
+        Widget key (one per flight).
+    flags : list of str, optional
+        Each point's flags, shown beside its number (``3 at_stop``).
+
+    Returns
+    -------
+    list of bool
+        Whether each point is used after the user's clicks.
+    """
+    ss = st.session_state
+    if key not in ss:
+        ss[key] = [p for p, u in zip(numbers, used, strict=True) if u]
+    names = {p: f"{p}" + (f" ({f.replace(';', ', ')})" if f else "")
+             for p, f in zip(numbers, flags or [""] * len(numbers), strict=True)}
+    picked = st.pills(label, numbers, selection_mode="multi", key=key,
+                      format_func=names.__getitem__,
+                      help="Click a point to leave it out of the fits, click again to use it. "
+                      "Highlighted points are used.")
+    chosen = set(picked or [])
+    return [p in chosen for p in numbers]
+
+
+def exclusion_reason(point: int, key: str, current: str = "") -> str:
+    """Ask why a point is left out; the reason in words ("" when none is given).
+
+    Offers :data:`EXCLUSION_REASONS` and "other" with a text box; the answer is
+    kept in the session under ``key`` (and ``key + "_text"`` for other).
+    """
+    ss = st.session_state
+    options = [NO_REASON, *EXCLUSION_REASONS, OTHER_REASON]
+    if key not in ss:
+        ss[key] = (current if current in EXCLUSION_REASONS else
+                   OTHER_REASON if current else NO_REASON)
+        if ss[key] == OTHER_REASON:
+            ss[f"{key}_text"] = current
+    left, right = st.columns([1, 2])
+    choice = left.selectbox(f"Why point {point} is left out", options, key=key)
+    if choice == OTHER_REASON:
+        return right.text_input(f"Reason for point {point}", key=f"{key}_text",
+                                max_chars=200).strip()
+    return "" if choice == NO_REASON else choice

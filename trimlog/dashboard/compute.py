@@ -80,6 +80,8 @@ def run_analysis(inputs: Inputs) -> Analysis:
     minimum hold changed) are not passed on.
     """
     flights = flights_of(inputs)
+    present = {(f.flight, int(p)) for f in flights for p in f.points.get("point", [])}
+    reasons = {(f, p): r for f, p, r in inputs.exclusion_reasons if (f, p) in present}
     if inputs.programme is not None:
         from trimlog.history import programme
 
@@ -87,11 +89,12 @@ def run_analysis(inputs: Inputs) -> Analysis:
             return programme.analyze_programme(
                 store, flights, profile=profile(inputs.profile_text, inputs.profile_source),
                 exclusions=inputs.exclusions, inclusions=inputs.inclusions,
-                min_hold_s=inputs.min_hold_s, drop_unknown_choices=True)
-    present = {(f.flight, int(p)) for f in flights for p in f.points.get("point", [])}
+                min_hold_s=inputs.min_hold_s, drop_unknown_choices=True,
+                exclusion_reasons=reasons)
     return analysis.analyze(flights, profile(inputs.profile_text, inputs.profile_source),
                             exclusions=[e for e in inputs.exclusions if e in present],
-                            inclusions=[i for i in inputs.inclusions if i in present])
+                            inclusions=[i for i in inputs.inclusions if i in present],
+                            exclusion_reasons=reasons)
 
 
 #: Keys of the inputs whose analysis this server process has computed (and caches).
@@ -370,6 +373,14 @@ def stored_points(flight_id: int) -> pd.DataFrame:
     """The points of a stored flight with the choices saved."""
     with open_history() as store:
         return store.flight_points(flight_id)
+
+
+def stored_reasons(flight_id: int) -> dict[int, str]:
+    """Why points of a stored flight are left out (point number -> reason)."""
+    from trimlog.history.maneuver_choices import reasons_of
+
+    with open_history() as store:
+        return reasons_of(store.flight(flight_id))
 
 
 @st.cache_data(max_entries=16, show_spinner="Recomputing the trend...")

@@ -11,6 +11,7 @@ from trimlog import cautions
 from trimlog.dashboard import blocks, common, compute, session
 from trimlog.dashboard.common import interval, num
 from trimlog.errors import TrimlogError
+from trimlog.history import maneuver_choices
 from trimlog.input.profile import profile_key
 
 
@@ -34,6 +35,10 @@ def save_flights() -> None:
                     for flight, point in choices:
                         if flight == log.stem:
                             store.set_point_included(outcome.flight_id, point, used)
+                for flight, point, reason in inputs.exclusion_reasons:
+                    if flight == log.stem:
+                        maneuver_choices.set_exclusion_reason(store, outcome.flight_id,
+                                                              point, reason)
     except TrimlogError as exc:
         messages.append(("error", str(exc)))
     ss.history_messages = messages
@@ -49,6 +54,20 @@ def _store_choices(flight_id: int, points: list[int], before: list[bool],
         with compute.open_history() as store:
             for point, used in changes:
                 store.set_point_included(flight_id, point, used)
+    except TrimlogError as exc:
+        st.session_state.history_messages = [("error", str(exc))]
+    return True
+
+
+def _store_reasons(flight_id: int, saved: dict[int, str], now: dict[int, str]) -> bool:
+    """Save the reasons that changed; True when something was written."""
+    changes = {p: r for p, r in now.items() if saved.get(p, "") != r}
+    if not changes:
+        return False
+    try:
+        with compute.open_history() as store:
+            for point, reason in changes.items():
+                maneuver_choices.set_exclusion_reason(store, flight_id, point, reason)
     except TrimlogError as exc:
         st.session_state.history_messages = [("error", str(exc))]
     return True
@@ -114,13 +133,23 @@ def _listing(listing: list[dict]) -> None:
         fid = st.selectbox("Saved flight", ids, format_func=names.__getitem__,
                            key="history_flight")
         pts = compute.stored_points(fid)
-        shown = [c for c in ("point", "t_start_s", "t_end_s", "ias_kt", "elevator_deg",
-                             "stick_force_lbf", "flags") if c in pts.columns]
+        numbers = [int(x) for x in pts["point"]]
         before = [bool(x) for x in pts["included"]]
-        edited = st.data_editor(pts[["included", *shown]], key=f"history_editor_{fid}",
-                                hide_index=True, disabled=shown, width="stretch")
-        if _store_choices(fid, [int(x) for x in pts["point"]], before,
-                          [bool(x) for x in edited["included"]]):
+        flags = [f if isinstance(f, str) else "" for f in pts.get("flags", [""] * len(pts))]
+        after = blocks.points_used("Points used in the fits (click a point to leave it out "
+                                   "or use it again; saved at once)", numbers, before,
+                                   f"history_used_{fid}", flags)
+        saved = compute.stored_reasons(fid)
+        reasons = {p: blocks.exclusion_reason(p, f"history_why_{fid}_{p}", saved.get(p, ""))
+                   for p, used in zip(numbers, after, strict=True) if not used}
+        table = blocks.points_table(pts)
+        table.insert(0, "Used", after)
+        table.insert(1, "Why left out", [reasons.get(p, "") for p in numbers])
+        st.dataframe(table, hide_index=True, width="stretch",
+                     column_config={"Used": st.column_config.CheckboxColumn("Used"),
+                                    **blocks.point_formats(table)})
+        changed = _store_choices(fid, numbers, before, after)
+        if _store_reasons(fid, saved, reasons) or changed:
             st.rerun()
 
 

@@ -4,28 +4,9 @@ from __future__ import annotations
 
 import streamlit as st
 
-from trimlog.dashboard import common, compute, session
+from trimlog.dashboard import blocks, common, compute, session
 from trimlog.errors import TrimlogError
 from trimlog.pipeline.points import FLAG_TEXT
-
-SHOWN = {
-    "point": "Point",
-    "t_start_s": "From [s]",
-    "t_end_s": "To [s]",
-    "duration_s": "Held [s]",
-    "ias_kt": "IAS [kt]",
-    "pressure_alt_ft": "Alt [ft]",
-    "elevator_deg": "Elevator [deg]",
-    "stick_force_lbf": "Force [lbf]",
-    "nz_g": "nz [g]",
-    "vs_fpm": "V/S [fpm]",
-    "flags": "Flags",
-}
-FORMATS = {
-    "t_start_s": "%.1f", "t_end_s": "%.1f", "duration_s": "%.1f", "ias_kt": "%.1f",
-    "pressure_alt_ft": "%.0f", "elevator_deg": "%.2f", "stick_force_lbf": "%.1f",
-    "nz_g": "%.2f", "vs_fpm": "%.0f",
-}
 
 
 def _text(cell: object) -> str:
@@ -52,9 +33,9 @@ def render() -> None:
     st.header("Points")
     st.caption(
         "Each stabilized point trimlog found, on the log it came from (shaded windows). "
-        "Untick a point to leave it out of the fits (a turn, a gust, a bad hold), or tick one "
-        "trimlog left out to fit it; every point stays listed, and the choice is kept for "
-        "this session and saved with the flight."
+        "Click a point to leave it out of the fits (a turn, a gust, a bad hold) and say why, "
+        "or click one trimlog left out to fit it; every point stays listed, and the choice "
+        "and its reason are kept for this session and saved with the flight."
     )
     inputs = session.inputs()
     pairs = {log.name: (log, sheet) for log, sheet in inputs.logs}
@@ -91,37 +72,41 @@ def render() -> None:
     if not len(data.points):
         st.warning("No stabilized point in this flight.")
         return
-    table = data.points[[c for c in SHOWN if c in data.points.columns]].copy()
-    numbers = [int(p) for p in table["point"]]
+    numbers = [int(p) for p in data.points["point"]]
     # trimlog's own choice, from the points as found: detection flags and a stop both
-    # leave a point out there, so a tick differing from it is the user's choice.
+    # leave a point out there, so a choice differing from it is the user's.
     fitted = [bool(v) for v in data.points["included"]]
     flags = [_text(f) for f in data.points["flags"]]
-    table["flags"] = flags
-    table.insert(0, "included", [
-        (own or (flight, p) in ss.inclusions) and (flight, p) not in ss.exclusions
-        for own, p in zip(fitted, numbers, strict=True)])
-    edited = st.data_editor(
-        table.rename(columns=SHOWN),
-        key=f"editor_{flight}",
-        hide_index=True,
-        disabled=list(SHOWN.values()),
-        column_config={
-            "included": st.column_config.CheckboxColumn(
-                "Use", help="Ticked points are fitted; untick to leave one out, tick to "
-                "fit one trimlog left out"),
-            **{SHOWN[c]: st.column_config.NumberColumn(format=f) for c, f in FORMATS.items()},
-        },
-        width="stretch",
-    )
-    if _keep_choices(flight, numbers, fitted, [bool(u) for u in edited["included"]]):
+    now = [(own or (flight, p) in ss.inclusions) and (flight, p) not in ss.exclusions
+           for own, p in zip(fitted, numbers, strict=True)]
+    # The flight's own key (its log's content), never its file name.
+    key = f"used_{log.digest[:16]}_{flight}"
+    ticked = blocks.points_used("Points used in the fits (click a point to leave it out or "
+                                "use it again)", numbers, now, key, flags)
+    if _keep_choices(flight, numbers, fitted, ticked):
         st.rerun()  # redraw the log with the new choices shaded
-    used = int(table["included"].sum())
+    reasons = ss.setdefault("exclusion_reasons", {})
+    for p, used in zip(numbers, ticked, strict=True):
+        if not used and (flight, p) in ss.exclusions:
+            reasons[(flight, p)] = blocks.exclusion_reason(
+                p, f"why_{log.digest[:16]}_{flight}_{p}", reasons.get((flight, p), ""))
+    for gone in [k for k in reasons if k[0] == flight and k not in ss.exclusions]:
+        del reasons[gone]
+    table = blocks.points_table(data.points)
+    table.insert(0, "Used", ticked)
+    table.insert(1, "Why left out", [
+        reasons.get((flight, p), "") if (flight, p) in ss.exclusions
+        else ("" if used else "trimlog (flags)")
+        for p, used in zip(numbers, ticked, strict=True)])
+    st.dataframe(table, hide_index=True, width="stretch",
+                 column_config={"Used": st.column_config.CheckboxColumn("Used"),
+                                **blocks.point_formats(table)})
+    used = sum(ticked)
     st.caption(f"{used} of {len(numbers)} points used.")
     auto = [p for own, p in zip(fitted, numbers, strict=True) if not own]
     if auto:
         st.caption("trimlog left out point(s) " + ", ".join(map(str, auto)) + " itself (see "
-                   "their flags). Tick one to fit it if you judge the hold good; it keeps its "
+                   "their flags). Click one to fit it if you judge the hold good; it keeps its "
                    "flags.")
     present = sorted({f for cell in flags for f in cell.split(";") if f})
     if present:

@@ -94,6 +94,7 @@ def _banner(a: Analysis) -> None:
         + common.esc(", ".join(f"{f.flight} ({f.when.iso() or 'no date'})" for f in a.flights))
         + "."
     )
+    _left_out(a)
     prog = a.programme
     new = list(prog.new) if prog is not None else [f.flight for f in a.flights]
     with st.container(border=True, key="programme"):
@@ -116,6 +117,21 @@ def _banner(a: Analysis) -> None:
     if demo:
         st.info("Showing the invented demo aircraft and its demo flights. To analyse your "
                 "own: set up the airplane on **Aircraft**, then upload logs on **Flights**.")
+
+
+def _left_out(a: Analysis) -> None:
+    """The points the user left out, with their reasons (the analysis' own column)."""
+    pts = a.points
+    if "exclusion_reason" not in pts or not len(pts):
+        return
+    # A point left out with a reason, or without any flag of trimlog's, was left out by the user.
+    flagged = pts["flags"].fillna("").astype(str) != "" if "flags" in pts else False
+    mine = pts.loc[~pts["included"].astype(bool) & ((pts["exclusion_reason"] != "") | ~flagged)]
+    if not len(mine):
+        return
+    st.caption(common.esc("Left out by you: " + "; ".join(
+        f"{r.flight} point {int(r.point)} ({r.exclusion_reason or 'no reason given'})"
+        for r in mine.itertuples())))
 
 
 def _np_metric(col, title: str, np_, help_text: str) -> None:

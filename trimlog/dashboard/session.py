@@ -52,13 +52,16 @@ class Inputs:
     #: The history database's state when the analysis is of the programme (saved flights
     #: plus these), None for these flights alone.
     programme: tuple | None = None
+    #: Why the user left points out: (flight, point, reason), reasons in words.
+    exclusion_reasons: tuple[tuple[str, int, str], ...] = ()
 
     @property
     def key(self) -> str:
         """Digest of every input."""
         h = hashlib.sha256()
         for part in (self.profile_text, self.profile_source, repr(self.min_hold_s),
-                     repr(self.exclusions), repr(self.inclusions), repr(self.programme)):
+                     repr(self.exclusions), repr(self.inclusions), repr(self.programme),
+                     repr(self.exclusion_reasons)):
             h.update(part.encode("utf-8") + b"\0")
         for log, sheet in self.logs:
             h.update(f"{log.name}\0{log.digest}\0".encode())
@@ -125,6 +128,8 @@ def init() -> None:
     # points trimlog left out (a flag, an elevator at a stop) to fit all the same.
     ss.exclusions = set()
     ss.inclusions = set()
+    # Why a point is left out, keyed like the exclusions: {(flight, point): reason}.
+    ss.exclusion_reasons = {}
     ss.min_hold_s = None
     ss.uploader_round = 0
 
@@ -199,4 +204,7 @@ def inputs(readable: list[str] | None = None) -> Inputs:
         min_hold_s=ss.min_hold_s,
         exclusions=tuple(sorted(ss.exclusions)),
         inclusions=tuple(sorted(ss.inclusions)),
+        exclusion_reasons=tuple(sorted(
+            (f, p, r) for (f, p), r in ss.get("exclusion_reasons", {}).items()
+            if r and (f, p) in ss.exclusions)),
     )

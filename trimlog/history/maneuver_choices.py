@@ -7,6 +7,10 @@ beside the loading sheet: no new table, and a backup or export carries them.
 A stored flight read back gets its maneuvering points with these choices
 applied (:func:`with_choices`), so every path that reads the history (analyze
 ``--db``, report ``--db``, trend, plan, dashboard) sees the same choice.
+
+Why the user left a trim point out (turbulence, not stabilized, ...) is kept
+the same way, under :data:`REASONS_KEY` (point number -> reason), and
+:func:`with_choices` puts it in the flight's ``exclusion_reason`` column.
 """
 
 from __future__ import annotations
@@ -21,10 +25,13 @@ from trimlog.input.profile import parse_profile
 from trimlog.pipeline import chain
 from trimlog.pipeline.maneuvers import maneuvers_from_log
 
-__all__ = ["KEY", "choices_of", "set_maneuver_included", "with_choices"]
+__all__ = ["KEY", "REASONS_KEY", "choices_of", "reasons_of", "set_exclusion_reason",
+           "set_maneuver_included", "with_choices"]
 
 #: Key of the choices in a flight's ``loading`` record: {"point number": included}.
 KEY = "maneuver_included"
+#: Key of the reasons for leaving trim points out: {"point number": reason}.
+REASONS_KEY = "exclusion_reasons"
 
 
 def choices_of(record: FlightRecord) -> dict[int, bool]:
@@ -33,14 +40,52 @@ def choices_of(record: FlightRecord) -> dict[int, bool]:
     return {int(point): bool(value) for point, value in raw.items()}
 
 
+def reasons_of(record: FlightRecord) -> dict[int, str]:
+    """Why the user left trim points of a flight out (point number -> reason)."""
+    raw = (record.loading or {}).get(REASONS_KEY) or {}
+    return {int(point): str(reason) for point, reason in raw.items()}
+
+
 def with_choices(flight: chain.FlightData, record: FlightRecord) -> chain.FlightData:
-    """The flight with its maneuvering points found and the stored choices applied."""
+    """The flight with its maneuvering points found and the stored choices applied.
+
+    The stored reasons for leaving trim points out go into its points'
+    ``exclusion_reason`` column (only on points that are left out).
+    """
     points = flight.maneuvering_points().copy()
     for point, included in choices_of(record).items():
         mask = points["point"].astype(int) == point if len(points) else None
         if mask is not None and mask.any():
             points.loc[mask, "included"] = included
-    return replace(flight, maneuvers=points)
+    reasons = reasons_of(record)
+    trim = flight.points
+    if reasons and len(trim):
+        trim = trim.copy()
+        numbers = trim["point"].astype(int)
+        left_out = ~trim["included"].astype(bool)
+        trim["exclusion_reason"] = [reasons.get(int(p), "") if out else ""
+                                    for p, out in zip(numbers, left_out, strict=True)]
+    return replace(flight, maneuvers=points, points=trim)
+
+
+def set_exclusion_reason(store: Store, flight_id: int, point: int, reason: str) -> None:
+    """Keep why a trim point of a stored flight is left out ("" forgets the reason).
+
+    The reason is kept with the flight's details (backed up and exported with
+    them); it is shown only while the point is left out.
+    """
+    record = store.flight(flight_id)
+    loading: dict[str, Any] = dict(record.loading or {})
+    reasons = {str(k): str(v) for k, v in (loading.get(REASONS_KEY) or {}).items()}
+    text = str(reason).strip()
+    if text:
+        reasons[str(int(point))] = text
+    else:
+        reasons.pop(str(int(point)), None)
+    if reasons == (loading.get(REASONS_KEY) or {}):
+        return
+    loading[REASONS_KEY] = reasons
+    store.update_flight(flight_id, loading=loading)
 
 
 def set_maneuver_included(store: Store, flight_id: int, point: int, included: bool) -> str:

@@ -14,7 +14,7 @@ flights of the aircraft are renumbered in the order flown.
 from __future__ import annotations
 
 import datetime as dt
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, replace
 
 import pandas as pd
@@ -212,6 +212,7 @@ def analyze_programme(
     drop_unknown_choices: bool = False,
     maneuver_exclusions: Iterable[tuple[str, int]] = (),
     maneuver_inclusions: Iterable[tuple[str, int]] = (),
+    exclusion_reasons: Mapping[tuple[str, int], str] | None = None,
 ) -> chain.Analysis:
     """Analyse the saved flights with their choices plus the new ones.
 
@@ -222,6 +223,8 @@ def analyze_programme(
     dashboard keeps choices of logs since removed) instead of refused.
     ``maneuver_exclusions`` and ``maneuver_inclusions`` are the same for the
     maneuvering points (their saved choices travel with the flights).
+    ``exclusion_reasons`` says why points are left out now (the saved
+    flights' reasons travel with them).
     """
     prog = programme_flights(store, new_flights, profile=profile, aircraft=aircraft,
                              min_hold_s=min_hold_s)
@@ -230,11 +233,14 @@ def analyze_programme(
         present = {(f.flight, int(p)) for f in prog.flights for p in f.points.get("point", [])}
         exclusions = [c for c in exclusions if c in present]
         inclusions = [c for c in inclusions if c in present]
+    left_out = {*prog.exclusions, *exclusions}
+    reasons = {c: r for c, r in (exclusion_reasons or {}).items() if c in left_out}
     result = chain.analyze(list(prog.flights), prog.profile,
                            exclusions=[*prog.exclusions, *exclusions],
                            inclusions=[*prog.inclusions, *inclusions], progress=progress,
                            maneuver_exclusions=maneuver_exclusions,
-                           maneuver_inclusions=maneuver_inclusions)
+                           maneuver_inclusions=maneuver_inclusions,
+                           exclusion_reasons=reasons)
     return replace(result, findings=(*prog.findings, *result.findings), programme=prog.inputs)
 
 

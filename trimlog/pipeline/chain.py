@@ -14,7 +14,7 @@ from __future__ import annotations
 import dataclasses
 import hashlib
 import math
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -317,6 +317,7 @@ def analyze(
     maneuver_exclusions: Iterable[tuple[str, int]] = (),
     maneuver_inclusions: Iterable[tuple[str, int]] = (),
     progress: Progress = SILENT,
+    exclusion_reasons: Mapping[tuple[str, int], str] | None = None,
 ) -> Analysis:
     """Analyse a set of flights of one aircraft together.
 
@@ -336,6 +337,11 @@ def analyze(
         an elevator at a stop); they keep their flags.
     maneuver_exclusions, maneuver_inclusions : iterable of (flight, point)
         The same for the maneuvering points (numbered on their own).
+    exclusion_reasons : mapping of (flight, point) to str, optional
+        Why the user left a point out ("turbulence", "not stabilized", ...),
+        on top of the reasons the flights' points carry already (a saved
+        flight's, column ``exclusion_reason``); kept in the points table's
+        ``exclusion_reason`` column ("" for none).
 
     Returns
     -------
@@ -366,6 +372,7 @@ def analyze(
     table = reduced.points
     _set_included(table, exclusions, False)
     _set_included(table, inclusions, True)
+    set_exclusion_reasons(table, exclusion_reasons or {})
 
     found: list[Finding] = list(profile_findings(profile.tau, profile.elevator_chord_ratio,
                                                  profile.source))
@@ -515,6 +522,36 @@ def analyze_maneuvers(
     _set_included(table, inclusions, True)
     return maneuver.analyze_maneuvering(table, profile, neutral_fixed=neutral_fixed,
                                         neutral_free=neutral_free)
+
+
+def set_exclusion_reasons(points: pd.DataFrame, reasons: Mapping[tuple[str, int], str]) -> None:
+    """Write why points are left out into ``points["exclusion_reason"]`` ("" for none).
+
+    A reason already in the column (a saved flight's) is kept unless ``reasons``
+    gives a new one; a reason on a point that is used is cleared (it no longer
+    applies).
+
+    Raises
+    ------
+    InputFileError
+        A reason names no point, or a point that is used in the fits.
+    """
+    if "exclusion_reason" in points:
+        column = points["exclusion_reason"].astype(object).where(
+            points["exclusion_reason"].notna(), "").astype(str)
+    else:
+        column = pd.Series("", index=points.index, dtype=object)
+    for (flight, point), reason in reasons.items():
+        mask = (points["flight"] == str(flight)) & (points["point"] == int(point))
+        if not mask.any():
+            raise InputFileError(f"cannot keep a reason for point {point} of flight '{flight}': "
+                                 "no such point")
+        if points.loc[mask, "included"].astype(bool).any():
+            raise InputFileError(f"cannot keep a reason for leaving out point {point} of flight "
+                                 f"'{flight}': the point is used in the fits")
+        column[mask] = str(reason).strip()
+    column[points["included"].astype(bool).to_numpy()] = ""
+    points["exclusion_reason"] = column.astype(str)
 
 
 def _check_unique(flights: Sequence[FlightData]) -> None:

@@ -109,3 +109,35 @@ def _words(deg: float | None, spec: str, positive: str, negative: str) -> str:
     if float(size) == 0.0:
         return f"{size} deg (neutral)"
     return f"{size} deg {positive if deg > 0 else negative}"
+
+
+def rounded(values, decimals: int):
+    """Numbers rounded to ``decimals`` for a table, a rounded zero without its sign.
+
+    The numeric twin of :func:`number` for tables that stay numeric (a sortable
+    column): ``-0.004`` to two decimals is ``0.0``, never ``-0.0`` (which a
+    table would print as ``-0.00``).  Missing values stay missing.
+
+    Parameters
+    ----------
+    values : float, array or Series
+    decimals : int
+        Decimal places kept.
+
+    Returns
+    -------
+    float, array or Series
+        Same kind as ``values``.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> rounded(np.array([-0.004, 1.23456, np.nan]), 2)
+    array([0.  , 1.23,  nan])
+    >>> str(rounded(-0.04, 1))
+    '0.0'
+    """
+    import numpy as np
+
+    # Adding +0.0 turns IEEE -0.0 into +0.0 and leaves every other value unchanged.
+    return np.round(values, decimals) + 0.0

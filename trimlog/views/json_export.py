@@ -36,6 +36,7 @@ POINT_KEYS = (
 POINT_EXTRAS = (
     "ias_kt", "tas_kt", "pressure_alt_ft", "oat_c", "nz_g", "q_psf", "fs_over_q_ft2",
     "cg_in", "duration_s", "vs_fpm", "stab_setting", "stab_incidence_deg", "config", "flags",
+    "exclusion_reason",
 )
 
 
