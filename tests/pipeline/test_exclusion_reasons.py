@@ -2,10 +2,9 @@
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import json
 from importlib import resources
+from pathlib import Path
 
 import jsonschema
 import pytest

@@ -1,10 +1,10 @@
-"""Aircraft page: the profile in use, uploaded or edited as TOML text."""
+"""Aircraft page: the profile in use, set up with a form, uploaded or edited as TOML text."""
 
 from __future__ import annotations
 
 import streamlit as st
 
-from trimlog.dashboard import common, compute, session
+from trimlog.dashboard import common, compute, profile_form, session
 from trimlog.demo import model as demo
 from trimlog.errors import TrimlogError
 
@@ -64,6 +64,7 @@ def _switch_aircraft() -> None:
 
 
 def _apply_upload() -> None:
+    st.session_state.profile_error_from = "upload"
     up = st.session_state.get("profile_upload")
     if up is None:
         return
@@ -81,10 +82,21 @@ def _apply_upload() -> None:
 
 
 def _apply_edit() -> None:
+    st.session_state.profile_error_from = "text"
     source = st.session_state.profile_source
     if not source.endswith(" (edited)"):
         source += " (edited)"
     _try_use(st.session_state.profile_editor, source)
+
+
+def _use_form(text: str, source: str) -> None:
+    """Take the form's profile; a problem is shown beside the form's button."""
+    ss = st.session_state
+    ss.profile_error_from = "form"
+    _try_use(text, source)
+    if ss.profile_error:
+        ss.form_error = ss.profile_error
+        ss.profile_error = ""
 
 
 def _back_to_demo() -> None:
@@ -97,11 +109,10 @@ def render() -> None:
     ss = st.session_state
     st.header("Aircraft")
     st.caption(
-        "The profile holds the geometry, CG limits and logger channel names. "
-        "The invented demo aircraft is loaded to start with; upload yours or edit the text."
+        "The profile holds the geometry, CG limits, policy and logger channel names. "
+        "The invented demo aircraft is loaded to start with; fill in the form, upload a "
+        "profile or edit its text."
     )
-    if ss.get("profile_error"):
-        common.show_error(ss.profile_error, "Profile not changed")
     p = compute.profile(ss.profile_text, ss.profile_source)
     st.subheader(common.esc(p.name))
     st.caption(f"Profile in use: {common.esc(ss.profile_source)}")
@@ -126,11 +137,19 @@ def render() -> None:
         left.selectbox("Aircraft kept in the history", names, key="stored_aircraft_choice",
                        index=names.index(p.name) if p.name in names else 0)
         right.button("Use this aircraft", on_click=_switch_aircraft)
+    st.subheader("Set up the aircraft")
+    profile_form.render(p, _use_form)
+    st.subheader("Or give the profile as a TOML file or text")
     st.file_uploader("Upload a profile (TOML)", type=["toml"], key="profile_upload")
     st.button("Use the uploaded profile", on_click=_apply_upload,
               disabled=ss.get("profile_upload") is None)
+    if ss.get("profile_error") and ss.get("profile_error_from") == "upload":
+        common.show_error(ss.profile_error, "Profile not changed")
     ss.setdefault("profile_editor", ss.profile_text)
     st.text_area("Profile text (TOML)", key="profile_editor", height=380)
     left, right = st.columns(2)
     left.button("Apply the edited text", type="primary", on_click=_apply_edit)
     right.button("Back to the demo aircraft", on_click=_back_to_demo)
+    if ss.get("profile_error") and ss.get("profile_error_from") != "upload":
+        # beside the button that was clicked, not at the top of the page out of view
+        common.show_error(ss.profile_error, "Profile not changed")

@@ -392,20 +392,26 @@ def parse_profile(text: str, source: str = "<profile>") -> AircraftProfile:
     )
 
 
+def _short(value: float) -> str:
+    """A station or weight for a message, to 0.1: ``78.9`` (not ``78.8661``), ``77``."""
+    return f"{round(value, 1):g}"
+
+
 def _check_cross_keys(values: dict[str, Any], fail: Any) -> None:
     cg_fwd, cg_aft = values["cg_forward_in"], values["cg_aft_in"]
     if cg_fwd >= cg_aft:
         raise fail(
             "limits.cg_forward",
-            f"limits.cg_forward: the forward limit ({cg_fwd:g} in) must lie forward "
-            f"of (less than) the aft limit ({cg_aft:g} in)",
+            f"limits.cg_forward: the forward limit ({_short(cg_fwd)} in) must lie forward "
+            f"of (less than) the aft limit ({_short(cg_aft)} in)",
         )
     weight = values["cruise_weight_lb"]
     if weight is not None and weight > MAX_CRUISE_WEIGHT_FACTOR * values["max_weight_lb"]:
         raise fail(
             "cruise.weight",
-            f"cruise.weight: {weight:g} lb is more than "
-            f"{MAX_CRUISE_WEIGHT_FACTOR:g} x the maximum weight ({values['max_weight_lb']:g} lb);"
+            f"cruise.weight: {_short(weight)} lb is more than "
+            f"{MAX_CRUISE_WEIGHT_FACTOR:g} x the maximum weight "
+            f"({_short(values['max_weight_lb'])} lb);"
             " check the units (kg against lb is a factor 2.2)",
         )
 
@@ -444,8 +450,9 @@ def _check_cg_band(values: dict[str, Any], fail: Any) -> None:
         if not low <= pct <= high:
             raise fail(
                 key,
-                f"{key}: {station:g} in is {pct:.0f} %MAC (MAC {lemac:g} "
-                f"to {lemac + mac:g} in); expected a CG station within {low:g}..{high:g} %MAC: "
+                f"{key}: {_short(station)} in is {pct:.0f} %MAC (MAC {_short(lemac)} "
+                f"to {_short(lemac + mac)} in); expected a CG station within "
+                f"{low:g}..{high:g} %MAC: "
                 "check lemac, mac and the datum",
             )
 

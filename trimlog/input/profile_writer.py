@@ -1,18 +1,23 @@
-"""Write a copy of an aircraft profile with its airspeed-calibration table replaced.
+"""Write aircraft profiles: a copy with a new airspeed-calibration table, or one from values.
 
-Only the ``[airspeed_calibration]`` table changes; every other byte of the
-profile (comments, order, spacing, line endings) is kept.  The section is
-replaced where it stands, or appended at the end when the profile has none.
-Comment and blank lines at the end of the old section (which usually
-introduce the next one) are kept.
+:func:`profile_from_values` writes a profile from values in the package's
+units (the dashboard's Aircraft form).  In :func:`replace_calibration` only
+the ``[airspeed_calibration]`` table changes; every other byte of the profile
+(comments, order, spacing, line endings) is kept.  The section is replaced
+where it stands, or appended at the end when the profile has none.  Comment
+and blank lines at the end of the old section (which usually introduce the
+next one) are kept.
 """
 
 from __future__ import annotations
 
+import json
 import re
+from collections.abc import Mapping
+from typing import Any
 
 from trimlog.errors import ProfileError
-from trimlog.input.profile import parse_profile
+from trimlog.input.profile import PROFILE_KEYS, parse_profile
 from trimlog.input.schema import load_toml
 
 _HEADER = re.compile(r"^[ \t]*\[[ \t]*airspeed_calibration[ \t]*\][ \t]*(#.*)?$")
@@ -103,3 +108,89 @@ def replace_calibration(text: str, ias_kt: tuple[float, ...] | list[float],
             != [round(float(v), 6) for v in ias_kt]):
         raise ProfileError(f"{source}: the rewritten profile does not hold the new table")
     return new
+
+
+def _toml_value(value: Any) -> str:
+    """One TOML value: text, number, list or inline table (json's escapes are TOML's)."""
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, int | float):
+        return format(float(value), ".10g") if isinstance(value, float) else str(value)
+    if isinstance(value, str):
+        return json.dumps(value, ensure_ascii=False)
+    if isinstance(value, Mapping):
+        return "{ " + ", ".join(f"{json.dumps(str(k))} = {_toml_value(v)}"
+                                for k, v in value.items()) + " }"
+    if isinstance(value, list | tuple):
+        return "[" + ", ".join(_toml_value(v) for v in value) + "]"
+    raise ProfileError(f"cannot write {value!r} ({type(value).__name__}) into a profile")
+
+
+def profile_from_values(values: Mapping[str, Any],
+                        tables: Mapping[str, Mapping[str, Any]] | None = None,
+                        *, comment: str = "") -> str:
+    """The TOML text of a profile from values in the package's units (a form's values).
+
+    Parameters
+    ----------
+    values : mapping of str to value
+        Dotted profile key (``"aircraft.mac"``) to its value: a quantity as a
+        number in the key's declared unit (``PROFILE_KEYS``' ``unit``), a plain
+        number, or text.  None or a missing key leaves the key out (its
+        default then applies).
+    tables : mapping of str to mapping, optional
+        Whole sections written as given (keys and values as TOML reads them),
+        e.g. ``{"logger": {"inverted": ["elevator_deg"]}}``: the parts of a
+        profile a form does not show.
+    comment : str
+        A comment line for the top of the file.
+
+    Returns
+    -------
+    str
+        The profile text, sections in the schema's order; read it with
+        :func:`trimlog.input.profile.parse_profile`, which checks every value.
+
+    Raises
+    ------
+    ProfileError
+        A key the schema does not know, or a value that cannot be written.
+
+    Examples
+    --------
+    >>> print(profile_from_values({"aircraft.name": "Test", "aircraft.mac": 53.0,
+    ...                            "limits.min_static_margin": 5.0}), end="")
+    [aircraft]
+    name = "Test"
+    mac = "53 in"
+    <BLANKLINE>
+    [limits]
+    min_static_margin = 5
+    """
+    known = {k.key: k for k in PROFILE_KEYS}
+    sections: dict[str, list[str]] = {}
+    for key in values:
+        if key not in known:
+            raise ProfileError(f"unknown profile key {key!r}")
+    for spec in PROFILE_KEYS:
+        value = values.get(spec.key)
+        if value is None or spec.section in (tables or {}):
+            continue
+        if spec.kind == "quantity":
+            text = json.dumps(f"{float(value):.10g} {spec.unit}")
+        else:
+            text = _toml_value(value)
+        sections.setdefault(spec.section, []).append(f"{spec.name} = {text}")
+    for section, table in (tables or {}).items():
+        lines = sections.setdefault(section, [])
+        lines += [f"{name} = {_toml_value(v)}" for name, v in table.items()]
+    order = list(dict.fromkeys(k.section for k in PROFILE_KEYS))
+    out = [f"# {c}" for c in comment.splitlines() if c.strip()]
+    for section in sorted(sections, key=lambda s: order.index(s) if s in order else len(order)):
+        if not sections[section]:
+            continue
+        if out:
+            out.append("")
+        out.append(f"[{section}]")
+        out += sections[section]
+    return "\n".join(out) + "\n"
