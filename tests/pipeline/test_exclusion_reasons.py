@@ -73,3 +73,16 @@ def test_a_reason_is_kept_in_the_history_and_read_back(tmp_path):
         assert _reason(history.analyze_history(store), name, 3) == ""
         set_exclusion_reason(store, fid, 3, "")
         assert store.flight(fid).loading[REASONS_KEY] == {}
+
+
+def test_a_reason_survives_export_and_restore(tmp_path):
+    with open_store(tmp_path / "a.sqlite") as store:
+        fid = history.import_log(store, SAMPLES / "flight2.csv", profile_text=PROFILE.read_text(),
+                                 profile_source="demo").flight_id
+        store.set_point_included(fid, 2, False)
+        set_exclusion_reason(store, fid, 2, "wrong configuration")
+        store.export(tmp_path / "out")
+    with open_store(tmp_path / "b.sqlite") as store:
+        store.import_export(tmp_path / "out")
+        (record,) = store.flights(store.aircraft_list()[0].id)
+        assert record.loading[REASONS_KEY] == {"2": "wrong configuration"}

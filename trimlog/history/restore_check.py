@@ -63,7 +63,10 @@ _FLIGHT_KEYS: Final = frozenset({
     "id", "aircraft_id", "flight_order", "sha256", "filename", "size_bytes", "flight_date",
     "label", "notes", "loading_json", "incidence_label", "incidence_deg", "config",
     "profile_version", "points_columns", "imported_at", "points", "raw_base64"})
-_LOADING_KEYS: Final = frozenset({"sheet_name", "sheet_text", "flown_at"})
+# The user's choices kept with a flight (trimlog.history.maneuver_choices): maneuvering
+# points included or not, and why trim points were left out.
+_LOADING_KEYS: Final = frozenset({"sheet_name", "sheet_text", "flown_at", "maneuver_included",
+                                  "exclusion_reasons"})
 _ANALYSIS_KEYS: Final = frozenset({"id", "aircraft_id", "created_at", "software_version",
                                    "profile_version", "flight_ids", "result"})
 #: Point column dtypes the store writes, and what a value of each must be.
