@@ -64,9 +64,10 @@ _FLIGHT_KEYS: Final = frozenset({
     "label", "notes", "loading_json", "incidence_label", "incidence_deg", "config",
     "profile_version", "points_columns", "imported_at", "points", "raw_base64"})
 # The user's choices kept with a flight (trimlog.history.maneuver_choices): maneuvering
-# points included or not, and why trim points were left out.
+# points included or not, and why trim points were left out; and the maneuvering points
+# found at import (a shortcut that is found again from the log when it does not read back).
 _LOADING_KEYS: Final = frozenset({"sheet_name", "sheet_text", "flown_at", "maneuver_included",
-                                  "exclusion_reasons"})
+                                  "exclusion_reasons", "maneuver_points_found"})
 _ANALYSIS_KEYS: Final = frozenset({"id", "aircraft_id", "created_at", "software_version",
                                    "profile_version", "flight_ids", "result"})
 #: Point column dtypes the store writes, and what a value of each must be.

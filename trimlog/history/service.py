@@ -22,7 +22,14 @@ from trimlog.findings import Finding, Severity, Subject, finding
 from trimlog.findings import lines as finding_lines
 from trimlog.history import programme
 from trimlog.history.codec import clean
-from trimlog.history.maneuver_choices import with_choices
+from trimlog.history.maneuver_choices import (
+    FOUND_KEY,
+    apply_choices,
+    found_kept,
+    found_points,
+    found_record,
+    with_choices,
+)
 from trimlog.history.store import AircraftRecord, FlightRecord, ImportOutcome, Store
 from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
 from trimlog.input.logs import load_source, read_log
@@ -103,6 +110,10 @@ def import_flight(
     when = flight.when
     if when.has_time:
         loading = {**(loading or {}), programme.FLOWN_AT: when.iso()}
+    stem = Path(name).name.split(".")[0]
+    if stem and flight.maneuvers is not None:
+        # kept with the flight, so that a trend need not read the log again
+        loading = {**(loading or {}), FOUND_KEY: found_record(flight.maneuvers, profile, stem)}
     outcome = store.import_flight(
         aircraft.id,
         raw,
@@ -120,6 +131,7 @@ def import_flight(
     )
     if not outcome.created:
         return _already_saved(store, outcome, name, label=label, notes=notes)
+    keep_found_points(store, aircraft.name)
     number, count = outcome.number, outcome.of
     dated = "" if when.when is None else f", flown {when.iso()}"
     undated = "" if when.when is not None else (
@@ -434,7 +446,7 @@ def trend(
                                         source="largest CG step")
     stored = _load(store, aircraft)
     profile = stored.profile
-    reduced, found, config = _reduce(stored)
+    reduced, findings, config = _reduce(stored)
     cg_by_flight = _cg_by_flight(reduced, config)
     steps: tuple[TrendStep, ...] = ()
     if reduced is not None:
@@ -458,37 +470,86 @@ def trend(
     # The maneuvering limits, as `trimlog analyze` applies them (the same policy margin).
     policy = profile if min_margin_pct_mac is None else replace(
         profile, min_static_margin_pct_mac=float(min_margin_pct_mac))
-    flights = _flights_with_logs(store, stored) if stored.records else []
-    maneuvering = chain.analyze_maneuvers(flights, policy, loadings=stored.sheets)
+    found = _maneuvering_points(store, stored) if stored.records else []
+    maneuvering = chain.analyze_maneuver_points(found, policy, loadings=stored.sheets)
     next_step = chain.with_maneuver_limits(next_step, maneuvering, profile)
+    order = [stored.names[r.id] for r in stored.records]
     return Trend(stored.aircraft.name, _listing(stored, cg_by_flight), steps, next_step, config,
-                 finding_lines(found),
-                 _maneuver_sequence(flights, policy, stored.sheets) if maneuvering else {})
+                 finding_lines(findings),
+                 _maneuver_sequence(order, found, policy, stored.sheets) if maneuvering else {})
 
 
-def _flights_with_logs(store: Store, stored: _Stored) -> list[chain.FlightData]:
-    """Every stored flight with its log read again (its maneuvering points are found from it)."""
+def _maneuvering_points(store: Store, stored: _Stored) -> list[pd.DataFrame]:
+    """Each stored flight's maneuvering points, with the user's choices, in flight order.
+
+    Those kept at import are used as kept; a flight without them (stored
+    before they were kept, or under other terms) has them found again from its
+    log, with the same result.
+    """
     profile = stored.profile
-    flights = []
+    out = []
     for r in stored.records:
         name = stored.names[r.id]
-        log = read_log(store.raw_bytes(r.id), name=r.filename, column_map=profile.column_map,
-                       inverted=profile.inverted_columns)
-        mine = (stored.points.loc[stored.points["flight"] == name].reset_index(drop=True)
-                if len(stored.points) else stored.points)
-        flight = chain.FlightData(name, r.filename, r.sha256, log, mine, stored.sheets.get(name))
-        # found once here (not again for each step of the trend), with the user's choices
-        flights.append(with_choices(flight, r))
-    return flights
+        found = found_points(r, profile, name)
+        if found is None:
+            found = _found_from_log(store, r, profile, name)
+        out.append(apply_choices(found, r))
+    return out
 
 
-def _maneuver_sequence(flights: list[chain.FlightData], profile: AircraftProfile,
+def _found_from_log(store: Store, record: FlightRecord, profile: AircraftProfile,
+                    name: str) -> pd.DataFrame:
+    """A stored flight's maneuvering points found again from its log (before choices)."""
+    log = read_log(store.raw_bytes(record.id), name=record.filename,
+                   column_map=profile.column_map, inverted=profile.inverted_columns)
+    return chain.FlightData(name, record.filename, record.sha256, log,
+                            pd.DataFrame()).maneuvering_points()
+
+
+def keep_found_points(store: Store, aircraft: str | None = None) -> int:
+    """Keep the maneuvering points of every stored flight that has none kept yet.
+
+    The one-time step that brings a history from before they were kept (or
+    kept under other terms: another version of the search, other logger
+    columns) up to date, run after each import; each flight is its own
+    transaction, so an interrupted run loses nothing and the next one goes on.
+
+    Returns
+    -------
+    int
+        The number of flights whose maneuvering points were found and kept.
+    """
+    record = _aircraft(store, aircraft)
+    profile = parse_profile(record.profile_text, source=f"history: {record.name}")
+    records = store.flights(record.id)
+    names = _flight_names(records)
+    kept = 0
+    for r in records:
+        if found_kept(r, profile, names[r.id]):
+            continue
+        try:
+            found = _found_from_log(store, r, profile, names[r.id])
+        except TrimlogError:
+            continue  # a log the current profile cannot read: the trend says so itself
+        store.set_flight_detail(r.id, FOUND_KEY, found_record(found, profile, names[r.id]))
+        kept += 1
+    return kept
+
+
+def _maneuver_sequence(order: list[str], found: list[pd.DataFrame], profile: AircraftProfile,
                        sheets: dict[str, LoadingSheet]) -> dict[str, dict[str, Any] | None]:
-    """Both maneuver points from the first k flights, for each k (the trend's added column)."""
+    """Both maneuver points from the first k flights, for each k (the trend's added column).
+
+    A flight without maneuvering points adds nothing: the analysis of the flights
+    before it stands (the same input gives the same result), so only flights with
+    turns cost an analysis.
+    """
     out: dict[str, dict[str, Any] | None] = {}
-    for k, flight in enumerate(flights, start=1):
-        result = chain.analyze_maneuvers(flights[:k], profile, loadings=sheets)
-        out[flight.flight] = None if result is None else _maneuver_record(result)
+    result = None
+    for k, name in enumerate(order, start=1):
+        if k == 1 or len(found[k - 1]):
+            result = chain.analyze_maneuver_points(found[:k], profile, loadings=sheets)
+        out[name] = None if result is None else _maneuver_record(result)
     return out
 
 

@@ -83,6 +83,7 @@ from trimlog.history.codec import (
     EXPORT_FORMAT,  # noqa: F401 (moved to store_codec; still importable from here)
     EXPORT_FORMAT_VERSION,  # noqa: F401
     EXPORT_JSON,  # noqa: F401
+    FLIGHT_FIELDS,
     KEEP,
     AircraftRecord,
     FlightRecord,
@@ -1062,6 +1063,25 @@ class Store:
                 if order is not None:
                     self._renumber(c, aircraft_id, order)
         return self.flight(flight_id)
+
+    def set_flight_detail(self, flight_id: int, key: str, value: Any) -> None:
+        """Set one key of a flight's ``loading`` record, leaving its other keys as they are.
+
+        Read and written in one write transaction with the flight's row locked
+        (SQLite's writers queue anyway), so a key another process sets meanwhile
+        is kept.
+        """
+        where = f"flight {flight_id}"
+        with self._write(f"update {where}") as c:
+            row = c.execute(sa.select(flights_t.c.loading_json).where(flights_t.c.id == flight_id)
+                            .with_for_update()).first()
+            if row is None:
+                raise StoreError(f"{self.path}: no flight with id {flight_id!r}")
+            loading = json.loads(row[0]) if row[0] is not None else {}
+            loading[key] = value
+            changes = encode_details({**dict.fromkeys(FLIGHT_FIELDS, KEEP), "loading": loading},
+                                     where)
+            c.execute(sa.update(flights_t).values(**changes).where(flights_t.c.id == flight_id))
 
     def change_token(self) -> tuple:
         """A cheap value that changes when flights, points choices or profiles change.

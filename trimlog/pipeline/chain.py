@@ -509,7 +509,27 @@ def analyze_maneuvers(
     """
     if loadings is None:
         loadings = {f.flight: f.loading for f in flights if f.loading is not None}
-    frames = [m for m in (f.maneuvering_points() for f in flights) if len(m)]
+    return analyze_maneuver_points(
+        [f.maneuvering_points() for f in flights], profile, loadings=loadings,
+        neutral_fixed=neutral_fixed, neutral_free=neutral_free, exclusions=exclusions,
+        inclusions=inclusions)
+
+
+def analyze_maneuver_points(
+    found: Sequence[pd.DataFrame],
+    profile: AircraftProfile,
+    *,
+    loadings: dict[str, LoadingSheet],
+    neutral_fixed: NeutralPoint | None = None,
+    neutral_free: NeutralPoint | None = None,
+    exclusions: Iterable[tuple[str, int]] = (),
+    inclusions: Iterable[tuple[str, int]] = (),
+) -> maneuver.ManeuverResult | None:
+    """:func:`analyze_maneuvers` of maneuvering points already found (one table per flight).
+
+    For callers that keep the points found (the history) and need not read a log again.
+    """
+    frames = [m for m in found if len(m)]
     exclusions, inclusions = list(exclusions), list(inclusions)
     if not frames:
         if exclusions or inclusions:

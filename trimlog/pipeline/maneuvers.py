@@ -33,9 +33,15 @@ from trimlog.pipeline import points as trim_points
 from trimlog.pipeline.points import MANEUVER_NZ_MIN_G, PointSettings, split_point_table
 
 __all__ = [
-    "MANEUVER_NZ_MIN_G", "MANEUVER_SETTINGS", "find_maneuvering_points", "maneuvers_from_log",
-    "split_point_table",
+    "DETECTION_VERSION", "MANEUVER_NZ_MIN_G", "MANEUVER_SETTINGS", "find_maneuvering_points",
+    "maneuvers_from_log", "split_point_table",
 ]
+
+#: Version of the search for maneuvering points (and of the log reading it rests
+#: on).  The history keeps the points found at import with this number and finds
+#: them again from the log when it differs: raise it with any change that can move
+#: a maneuvering point (``trimlog.history.maneuver_choices``).
+DETECTION_VERSION = 1
 
 #: Detection settings of maneuvering points.  Shorter holds than a trim point
 #: (a wind-up step is flown for 10-20 s) and a little more room for airspeed

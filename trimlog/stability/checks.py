@@ -135,6 +135,26 @@ def robust_check(linear: LinearFit, np_pct_mac: float | None) -> RobustCheck:
                                    "no interval")
 
 
+#: A step of the curvature search is refitted unless the linear-time screen puts its p
+#: below this fraction of CURVATURE_P: the screen's rounding (a few digits of sums of
+#: squares) is far smaller than the margin, so the search stops where it always did.
+_SCREEN_BELOW = 0.8
+
+
+def _screen(columns: tuple[np.ndarray, np.ndarray, np.ndarray | None, np.ndarray],
+            top: int) -> np.ndarray:
+    """The CL^2 p of the curvature search's steps, screened in linear time (NaN: refit).
+
+    Refitting every step costs the points squared (a third of them may be left
+    out one by one); the screen is the same model (one intercept per group, the
+    dense and the block fit alike), so only the steps near the test's level are
+    refitted, and the step the search stops at always is.
+    """
+    labels, cl, h, y = columns
+    slopes = np.column_stack([cl] + ([] if h is None else [h * cl]) + [cl**2])
+    return fits.last_slope_screen(labels, slopes, y, top)
+
+
 def curvature_check(frame: pd.DataFrame, response: str, group_col: str, has_cg_term: bool,
                     restricted_np: Callable[[pd.DataFrame], NeutralPoint]) -> Curvature:
     """Test the pooled trim model for a CL^2 term and find where the points stay linear.
@@ -194,7 +214,11 @@ def curvature_check(frame: pd.DataFrame, response: str, group_col: str, has_cg_t
     ordered = frame.sort_values("cl")
     # The search drops the highest-CL points one at a time: slices of one set of arrays.
     columns = arrays(ordered)
-    for k in range(1, len(frame) // 3 + 1):
+    top = len(frame) // 3
+    screen = _screen(columns, top)
+    for k in range(1, top + 1):
+        if screen[k - 1] < _SCREEN_BELOW * CURVATURE_P:
+            continue  # clearly still curved (the step a refit would take, without refitting)
         m = len(frame) - k
         _, p_sub = quad_p(*(None if c is None else c[:m] for c in columns))
         if p_sub is None:

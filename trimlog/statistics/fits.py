@@ -491,6 +491,93 @@ def last_slope_test(labels: np.ndarray, slopes: np.ndarray, y: np.ndarray
     return True, value, finite(2.0 * float(t_sf(abs(float(b[-1]) / se), df)))
 
 
+def last_slope_screen(labels: np.ndarray, slopes: np.ndarray, y: np.ndarray, drops: int,
+                      *, min_groups: int = 1) -> np.ndarray:
+    """Approximate p of :func:`last_slope_test` with the last j rows left out, j = 1..drops.
+
+    For a search that drops rows one at a time (the curvature check), in time
+    linear in the rows: the within-group sums of squares and products are
+    downdated row by row instead of refitted.  Sums of squares lose a few digits
+    that a fit by blocks keeps, so the values are a screen, not the answer: the
+    caller confirms any step it acts on with :func:`last_slope_test`.  NaN where
+    the screen cannot tell: fewer than two residual degrees of freedom, fewer
+    than ``min_groups`` groups, or a design near rank deficiency (its scaled
+    smallest singular value below 1e-6, a thousand times the rank tolerance).
+
+    Returns
+    -------
+    numpy.ndarray
+        ``p[j - 1]`` for ``j`` rows left out from the end.
+
+    Examples
+    --------
+    >>> rng = np.random.default_rng(1)
+    >>> x = rng.uniform(0, 1, (40, 2)); labels = np.repeat(np.arange(4), 10)
+    >>> y = labels + x @ [1.0, 0.5] + 0.1 * rng.standard_normal(40)
+    >>> screen = last_slope_screen(labels, x, y, 3)
+    >>> exact = [last_slope_test(labels[:-j], x[:-j], y[:-j])[2] for j in (1, 2, 3)]
+    >>> bool(np.allclose(screen, exact, rtol=1e-6))
+    True
+    """
+    codes, uniques = pd.factorize(np.asarray(labels, dtype=object))
+    k, m, n = len(uniques), slopes.shape[1], len(y)
+    drops = max(min(int(drops), n - 1), 0)
+    out = np.full(drops, np.nan)
+    if not drops:
+        return out
+    x = slopes - slopes.mean(axis=0)  # within-group sums do not change with a shift
+    yc = y - y.mean()
+    # Each row's group sums with it and without it, counting rows up to it in file order:
+    # the rows after it are the ones already left out when it is.
+    order = np.argsort(codes, kind="stable")
+    block = np.r_[0, np.flatnonzero(np.diff(codes[order])) + 1]
+    starts = np.repeat(block, np.diff(np.r_[block, n]))
+    xy = np.column_stack([x, yc])[order]
+    cum = np.cumsum(xy, axis=0)
+    cum -= (cum[block] - xy[block])[np.searchsorted(block, np.arange(n), side="right") - 1]
+    with_row = np.empty_like(cum)
+    with_row[order] = cum
+    count = np.empty(n)
+    count[order] = np.arange(n) - starts + 1.0
+    without = with_row - np.column_stack([x, yc])  # the group's sums once the row is left out
+    # Change of the between-group cross products (x and y together) when each row leaves.
+    z = np.column_stack([x, yc])
+    outer_with = with_row[:, :, None] * with_row[:, None, :] / count[:, None, None]
+    rest = np.where(count > 1, count - 1, 1.0)[:, None, None]
+    outer_without = np.where((count > 1)[:, None, None],
+                             without[:, :, None] * without[:, None, :] / rest, 0.0)
+    # Left out from the end: cumulative sums over rows n-1, n-2, ... (step j = first j rows).
+    tail = slice(n - 1, n - 1 - drops, -1)
+    sx = np.zeros((k, m + 1))
+    np.add.at(sx, codes, z)
+    full_count = np.bincount(codes, minlength=k).astype(float)
+    between_full = (sx.T / full_count) @ sx
+    between = between_full + np.cumsum((outer_without - outer_with)[tail], axis=0)
+    total = z.T @ z - np.cumsum((z[:, :, None] * z[:, None, :])[tail], axis=0)
+    groups = k - np.cumsum(count[tail] == 1)
+    squares = (slopes * slopes).sum(axis=0) - np.cumsum((slopes * slopes)[tail], axis=0)
+    kept = n - np.arange(1, drops + 1)
+    df = kept - groups - m
+    cross = total - between
+    within, wy, yy = cross[:, :m, :m], cross[:, :m, m], cross[:, m, m]
+    ok = (df >= 2) & (groups >= min_groups) & np.all(squares > 0.0, axis=1)
+    if not ok.any():
+        return out
+    scale = np.sqrt(np.where(squares > 0.0, squares, 1.0))
+    smallest = np.linalg.eigvalsh(within / (scale[:, :, None] * scale[:, None, :]))[:, 0]
+    ok &= np.sqrt(np.maximum(smallest, 0.0)) >= 1e-6
+    if not ok.any():
+        return out
+    inverse = np.linalg.inv(within[ok])
+    b = np.einsum("jab,jb->ja", inverse, wy[ok])
+    rss = yy[ok] - np.einsum("ja,ja->j", wy[ok], b)
+    se = np.sqrt(np.maximum(inverse[:, -1, -1] * rss / df[ok], 0.0))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        p = 2.0 * special.stdtr(df[ok], -np.abs(b[:, -1] / se))
+    out[ok] = np.where((se > 0.0) & np.isfinite(se), p, np.nan)
+    return out
+
+
 def _pinv_extended(x: np.ndarray, rcond: float = 1e-15) -> tuple[np.ndarray, np.ndarray]:
     """Pseudo-inverse by SVD and the singular values, as statsmodels computes them."""
     u, s, vt = np.linalg.svd(x, False)
