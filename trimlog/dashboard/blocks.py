@@ -16,8 +16,11 @@ from trimlog.views import shim_drawing, shim_text
 from trimlog.views.formatting import elevator_words, incidence_words, rounded
 
 
-def shim_block(a: Analysis) -> None:
-    """The shim recommendation of an analysis (Results, and History for the saved flights)."""
+def shim_block(a: Analysis, *, with_cautions: bool = True) -> None:
+    """The shim recommendation of an analysis (Results, and History for the saved flights).
+
+    ``with_cautions=False`` when the page shows every caution in one box already.
+    """
     st.subheader("Stabilizer incidence and shim")
     rec = a.primary.incidence
     with st.container(border=True, key="shim"):
@@ -57,7 +60,8 @@ def shim_block(a: Analysis) -> None:
             st.caption(rec.tau_explanation + ". " + rec.change_method + ".")
             for w in rec.warnings:
                 common.warn(w)
-        common.caution_list(cautions.INCIDENCE)
+        if with_cautions:
+            common.caution_list(cautions.INCIDENCE)
 
 
 #: Point columns shown in the tables of points (Points page, History editor): readable

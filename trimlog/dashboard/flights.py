@@ -6,6 +6,7 @@ import streamlit as st
 
 from trimlog.dashboard import common, compute, loading_form, session
 from trimlog.errors import TrimlogError
+from trimlog.views.advice import ASSUMED_NOTE, assumed_units
 
 NO_SHEET = "(none: weight and CG from the log)"
 
@@ -120,6 +121,10 @@ def _log_card(name: str, log: session.FileBytes, sheets: dict, p) -> None:
             + ", ".join(common.esc(f.flight) for f in found)
             + f": **{n_points} stabilized points**"
         )
+        assumed = assumed_units(first.log.findings)
+        if assumed:
+            common.warn(f"Units assumed (no unit in the header): {assumed}. "
+                        f"{ASSUMED_NOTE[:1].upper()}{ASSUMED_NOTE[1:]}.")
         if n_points == 0:
             st.warning("No stabilized point found in this log: check it, or shorten the "
                        "minimum hold.")

@@ -11,7 +11,9 @@ from trimlog import cautions, findings
 from trimlog.dashboard import blocks, common, compute, session
 from trimlog.dashboard.common import interval, num, with_interval
 from trimlog.errors import TrimlogError
+from trimlog.findings import Severity
 from trimlog.pipeline.chain import Analysis
+from trimlog.views.advice import ASSUMED_NOTE, assumed_units, precision_sentence
 
 FIGURES = (
     ("trim_curves", "Elevator to trim against CL, one line per flight"),
@@ -69,17 +71,25 @@ def render() -> None:
         return
     _banner(a)
     _neutral_points(a)
-    blocks.shim_block(a)
-    common.caution_box(statement=False)
+    _warnings(a)
+    blocks.shim_block(a, with_cautions=False)
+    # Every caution of the result once, complete, beside the results (the estimate
+    # statement is at the top of the page).
+    common.caution_box(_result_cautions(a), statement=False)
     _next_step(a)
     _margins(a)
     _stick_forces(a)
     _maneuvering(a)
     _authority(a)
-    _warnings(a)
     _figures(inputs)
     _next_cg(a)
     _downloads(inputs)
+
+
+def _result_cautions(a: Analysis) -> list[str]:
+    """The analysis's cautions that the general box does not already hold."""
+    shown = {cautions.ESTIMATE_STATEMENT, *cautions.GENERAL}
+    return [c for c in a.cautions if c not in shown]
 
 
 def _banner(a: Analysis) -> None:
@@ -95,6 +105,12 @@ def _banner(a: Analysis) -> None:
         + "."
     )
     _left_out(a)
+    assumed = [(f.flight, assumed_units(f.log.findings)) for f in a.flights]
+    assumed = [(flight, units) for flight, units in assumed if units]
+    if assumed:
+        common.warn("Units assumed (no unit in the header): "
+                    + "; ".join(f"{flight}: {units}" for flight, units in assumed)
+                    + f". {ASSUMED_NOTE[:1].upper()}{ASSUMED_NOTE[1:]}.")
     prog = a.programme
     new = list(prog.new) if prog is not None else [f.flight for f in a.flights]
     with st.container(border=True, key="programme"):
@@ -191,7 +207,6 @@ def _next_step(a: Analysis) -> None:
             cols[1].metric("As a station", num(nxt.max_cg_station_in, ".1f", "in"))
             cols[2].metric("Limited by", nxt.limited_by)
         st.markdown(common.esc(nxt.reason))
-        common.caution_list(cautions.CG_EXPANSION)
 
 
 def _margins(a: Analysis) -> None:
@@ -302,20 +317,30 @@ def _authority(a: Analysis) -> None:
             f"{auth.most_forward_cg_conservative_pct_mac:.1f} %MAC "
             f"({num(auth.most_forward_cg_station_in, '.1f', 'in')}), conservative."
         )
-    common.caution_list(cautions.AUTHORITY)
 
 
 def _warnings(a: Analysis) -> None:
-    other, reading = findings.for_display(a.findings, show_config=bool(a.others))
-    st.subheader(f"Warnings ({len(other)})")
-    for w in other:
-        common.warn(w)
-    if not other:
-        st.caption("None from the analysis.")
-    if reading:
-        with st.expander(f"{len(reading)} notes from reading the files (missing cells, sign "
+    """Findings that matter first, most severe first; the reading notes collapsed below."""
+    shown, reading = findings.split_for_display(a.findings, drop=a.cautions)
+    show_config = bool(a.others)
+    lines = list(dict.fromkeys((f.severity, f.line(show_config=show_config)) for f in shown))
+    n_warn = sum(1 for sev, _ in lines if sev is Severity.WARNING)
+    st.subheader(f"Findings ({n_warn} warning(s), {len(lines) - n_warn} other)")
+    with st.container(key="findings"):
+        for sev, text in lines:
+            if sev is Severity.WARNING:
+                st.error(common.esc(f"Warning: {text}"), icon=":material/warning:")
+            elif sev is Severity.CAUTION:
+                st.warning(common.esc(f"Caution: {text}"))
+            else:
+                st.info(common.esc(f"Note: {text}"))
+        if not lines:
+            st.caption("None from the analysis.")
+    notes = findings.lines(reading, show_config=show_config)
+    if notes:
+        with st.expander(f"{len(notes)} notes from reading the files (missing cells, sign "
                          "flips, skipped lines)"):
-            st.text("\n".join(reading))
+            st.text("\n".join(notes))
 
 
 def _figures(inputs: session.Inputs) -> None:
@@ -334,18 +359,11 @@ def _figures(inputs: session.Inputs) -> None:
 
 
 def _next_cg(a: Analysis) -> None:
-    nxt = a.primary.stability.next_cg
-    st.subheader("Where to fly next to narrow the neutral point")
-    if nxt.cg_pct_mac is None:
-        st.markdown(common.esc(nxt.reason))
-    else:
-        st.markdown(
-            f"A flight at **{nxt.cg_pct_mac:.1f} %MAC ({num(nxt.station_in, '.1f', 'in')})** "
-            "would shrink the neutral point's standard error from "
-            f"{num(nxt.current_se_pct_mac, '.2f')} to {num(nxt.predicted_se_pct_mac, '.2f')} "
-            f"%MAC ({nxt.criterion}). {common.esc(nxt.reason)}"
-        )
-    common.caution_list(cautions.CG_EXPANSION)
+    sentence = precision_sentence(a.primary.stability.next_cg)
+    if sentence is None:  # no suggestion, or one that would add nothing
+        return
+    st.subheader("To tighten the estimate")
+    st.markdown(common.esc(sentence))
 
 
 def _downloads(inputs: session.Inputs) -> None:
