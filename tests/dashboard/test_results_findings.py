@@ -46,8 +46,9 @@ def test_results_page_orders_findings_and_shows_each_caution_once():
     at.run()
     assert not at.exception, at.exception
 
-    # the findings block: warnings (st.error) before cautions (st.warning), none a reading note
-    errors = [_plain(e.value) for e in at.error if _plain(e.value).startswith("Warning: ")]
+    # the findings block: warnings before cautions, none of them a reading note
+    assert not at.error  # st.error is for the user's mistakes only
+    errors = [_plain(e.value) for e in at.warning if _plain(e.value).startswith("Warning: ")]
     warns = [_plain(e.value) for e in at.warning if _plain(e.value).startswith("Caution: ")]
     shown, reading = findings.split_for_display(a.findings, drop=a.cautions)
     def in_order(alerts: list[str], severity: Severity) -> bool:

@@ -328,10 +328,11 @@ def _warnings(a: Analysis) -> None:
     st.subheader(f"Findings ({n_warn} warning(s), {len(lines) - n_warn} other)")
     with st.container(key="findings"):
         for sev, text in lines:
+            # st.error is kept for the user's mistakes (bad files): a finding is a warning box
             if sev is Severity.WARNING:
-                st.error(common.esc(f"Warning: {text}"), icon=":material/warning:")
+                st.warning(common.esc(f"Warning: {text}"), icon=":material/warning:")
             elif sev is Severity.CAUTION:
-                st.warning(common.esc(f"Caution: {text}"))
+                st.warning(common.esc(f"Caution: {text}"), icon=":material/info:")
             else:
                 st.info(common.esc(f"Note: {text}"))
         if not lines:

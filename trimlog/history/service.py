@@ -353,6 +353,7 @@ class Trend:
                 "limited_by": n.limited_by,
                 "step_max_pct_mac": n.step_max_pct_mac,
                 "most_aft_flown_pct_mac": n.most_aft_flown_pct_mac,
+                "margin_bound_pct_mac": n.margin_bound_pct_mac,
                 "cautions": [cautions.ESTIMATE_STATEMENT, *cautions.CG_EXPANSION],
             },
             "warnings": list(self.warnings),

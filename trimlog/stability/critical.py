@@ -240,8 +240,8 @@ def next_cg_limit(
     >>> s = next_cg_limit(np_("stick_fixed", 40, 39, 41), np_("stick_free", 33, 32, 34),
     ...                   [20, 23, 25], aft_limit_pct_mac=38, min_margin_pct_mac=5,
     ...                   step_max_pct_mac=3)
-    >>> s.max_cg_pct_mac, s.limited_by
-    (27.0, 'stick_free_np')
+    >>> s.max_cg_pct_mac, s.limited_by, s.margin_bound_pct_mac
+    (27.0, 'stick_free_np', 27.0)
     """
     result = _next_cg_limit(stick_fixed, stick_free, flown_cg_pct_mac,
                             aft_limit_pct_mac=aft_limit_pct_mac,
@@ -310,10 +310,10 @@ def _next_cg_limit(
     min_sm, step = float(min_margin_pct_mac), float(step_max_pct_mac)
     flown = [float(c) for c in flown_cg_pct_mac if c is not None and math.isfinite(c)]
 
-    def out(value: float | None, most_aft: float | None, limited_by: str, reason: str
-            ) -> NextStep:
+    def out(value: float | None, most_aft: float | None, limited_by: str, reason: str,
+            bound: float | None = None) -> NextStep:
         where = None if value is None or station is None else float(station(value))
-        return NextStep(value, where, min_sm, step, most_aft, limited_by, reason)
+        return NextStep(value, where, min_sm, step, most_aft, limited_by, reason, bound)
 
     if not flown:
         return out(None, None, "none", "no flight with usable points yet: start at a forward CG "
@@ -358,9 +358,12 @@ def _next_cg_limit(
              + (f"; {unknown_free}" if unknown_free else ""))
     names = {"stick_free_np": "stick-free neutral point", "stick_fixed_np":
              "stick-fixed neutral point", "policy_step": "policy step", "aft_limit": "aft limit"}
+    bound = min((v for k, v in candidates.items() if k in ("stick_free_np", "stick_fixed_np")),
+                default=None)
     if value <= most_aft:
         return out(None, most_aft, limited_by,
                    basis + f": the {names[limited_by]} allows no step aft of the CGs already "
                    "flown; tighten the estimate first (more points, a flight at a forward CG) "
-                   "or accept the present envelope")
-    return out(value, most_aft, limited_by, basis + f": the {names[limited_by]} sets the limit")
+                   "or accept the present envelope", bound)
+    return out(value, most_aft, limited_by, basis + f": the {names[limited_by]} sets the limit",
+               bound)

@@ -426,6 +426,12 @@ class NextStep:
     reason : str
         The reasoning in plain words; names the limiting neutral point, and
         says when the stick-free margin is unknown.
+    margin_bound_pct_mac : float or None
+        The margin-policy bound: the CG at which the lower 95 % bound of the
+        critical neutral point's margin equals the policy minimum,
+        ``hn_lo - SM_min`` for the known neutral point with the most forward
+        lower bound [%MAC]; None while neither neutral point is identifiable.
+        It may lie forward of the CGs flown (then no step aft is supported).
     """
 
     max_cg_pct_mac: float | None
@@ -435,6 +441,7 @@ class NextStep:
     most_aft_flown_pct_mac: float | None
     limited_by: str
     reason: str
+    margin_bound_pct_mac: float | None = None
 
 
 @dataclass(frozen=True)

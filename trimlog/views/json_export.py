@@ -65,7 +65,7 @@ NEXT_CG_KEYS = (
 )
 NEXT_STEP_KEYS = (
     "max_cg_pct_mac", "max_cg_station_in", "min_static_margin_pct_mac", "step_max_pct_mac",
-    "most_aft_flown_pct_mac", "limited_by", "reason",
+    "most_aft_flown_pct_mac", "limited_by", "reason", "margin_bound_pct_mac",
 )
 TAU_CALIBRATION_KEYS = (
     "tau", "ci95", "identifiable", "reason", "intercept_shift_deg", "shift_se_deg",

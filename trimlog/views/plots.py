@@ -41,6 +41,7 @@ from matplotlib.lines import Line2D
 from matplotlib.patches import Patch
 
 from trimlog.errors import TrimlogError
+from trimlog.views.formatting import number
 
 if TYPE_CHECKING:
     from trimlog.pipeline.chain import Analysis, FlightData
@@ -714,7 +715,7 @@ def neutral_point_trend(trend_steps: Sequence[Mapping[str, Any]], ax: Axes | Non
 
 def _trend_limits(ax: Axes, next_step: Mapping[str, Any] | None, aft_limit: float | None,
                   maneuver_point: float | None) -> None:
-    """Horizontal lines of the trend: aft limit, policy step, next CG, maneuver point."""
+    """Horizontal lines of the trend: limits, margin-policy bound, next CG, maneuver point."""
     if aft_limit is not None:
         ax.axhline(aft_limit, color="black", linestyle=":", linewidth=1.2,
                    label=f"aft CG limit {aft_limit:.1f} %MAC")
@@ -727,6 +728,12 @@ def _trend_limits(ax: Axes, next_step: Mapping[str, Any] | None, aft_limit: floa
     if aft is not None and step is not None:
         ax.axhline(aft + step, color=GREY, linestyle="--", linewidth=1.0,
                    label=f"policy step: {step:g} %MAC beyond the most aft CG flown")
+    bound, minimum = next_step.get("margin_bound_pct_mac"), next_step.get(
+        "min_static_margin_pct_mac")
+    if bound is not None:
+        ax.axhline(bound, color=PALETTE[1], linestyle=(0, (5, 2, 1, 2)), linewidth=1.4,
+                   label=f"margin policy: {bound:.1f} %MAC keeps the lower 95 % bound of the "
+                   f"margin at {number(minimum, 'g')} %MAC")
     nxt = next_step.get("max_cg_pct_mac")
     if nxt is not None:
         why = str(next_step.get("limited_by") or "")
