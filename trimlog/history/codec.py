@@ -626,6 +626,9 @@ def clean(value: Any) -> Any:
     if isinstance(value, dict):
         return {str(k): clean(v) for k, v in value.items()}
     if isinstance(value, list | tuple):
+        if all(type(v) is int or type(v) is str or (type(v) is float and math.isfinite(v))
+               for v in value):
+            return list(value)  # plain already (line numbers, names): no call per item
         return [clean(v) for v in value]
     if isinstance(value, np.bool_ | bool):
         return bool(value)

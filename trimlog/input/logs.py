@@ -261,7 +261,8 @@ def _encoding(raw: bytes, label: str, notes: Notes) -> str:
             file=label,
         )
     try:
-        raw.decode("utf-8")
+        if not raw.isascii():  # ASCII is UTF-8: a scan instead of a decode of the whole file
+            raw.decode("utf-8")
         encoding = "utf-8-sig"
     except UnicodeDecodeError:
         encoding = "cp1252"
