@@ -151,3 +151,13 @@ def test_trend_plot_draws_the_margin_policy_bound(demo):
     bound = demo.primary.stability.next_step.margin_bound_pct_mac
     assert any(x.startswith(f"margin policy: {bound:.1f} %MAC") for x in labels), labels
     assert any(x.startswith("aft CG limit") for x in labels)
+
+
+def test_a_point_left_out_shows_its_reason(demo):
+    profile = demo.profile
+    flights = [f for f in demo.flights if f.flight in ("flight2", "flight3")]
+    a = analysis.analyze(flights, profile, exclusions={("flight2", 3)},
+                         exclusion_reasons={("flight2", 3): "turbulence"})
+    rows = [x for x in _as_text(report.report_blocks(a, None, "TIME"))
+            if x.startswith("  flight2 | 3 |")]
+    assert len(rows) == 1 and " | NO (turbulence) | " in rows[0]

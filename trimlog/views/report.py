@@ -413,6 +413,12 @@ def _maneuver_blocks(a: Analysis) -> list[Any]:
     ]
 
 
+def _left_out(point: Mapping[str, Any]) -> str:
+    """``NO``, with the user's reason for leaving the point out when one was given."""
+    reason = str(point.get("exclusion_reason") or "").strip()
+    return f"NO ({reason})" if reason else "NO"
+
+
 def _points_blocks(points: Sequence[Mapping[str, Any]]) -> list[Any]:
     rows = []
     for p in points:
@@ -424,13 +430,14 @@ def _points_blocks(points: Sequence[Mapping[str, Any]]) -> list[Any]:
             number(p.get("stick_force_lbf"), "+.1f"), number(p.get("nz_g"), ".2f"),
             number(p.get("weight_lb"), ".0f"), number(p.get("cg_pct_mac")),
             number(p["cl"], ".3f"), number(p.get("fs_over_q_ft2"), "+.3f"),
-            "yes" if p["included"] else "NO", p.get("flags") or "",
+            "yes" if p["included"] else _left_out(p), p.get("flags") or "",
         ))
     return [
         Heading("Stabilized points", 1),
         Para("Units: time s, IAS and EAS kt, pressure altitude ft, elevator deg (trailing edge "
               "down +), stick force lbf (pull +), load factor g, weight lb, CG %MAC, Fs/q ft^2. "
-              "Excluded points (used = NO) are kept in the table, not fitted.", "small"),
+              "Excluded points (used = NO, with the reason when one was given) are kept in the "
+              "table, not fitted.", "small"),
         Table(("flight", "pt", "window s", "IAS", "EAS", "alt ft", "elev", "Fs", "nz",
                 "W lb", "CG", "CL", "Fs/q", "used", "flags"), tuple(rows)),
         Break(),
