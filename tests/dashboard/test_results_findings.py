@@ -73,3 +73,26 @@ def test_results_page_orders_findings_and_shows_each_caution_once():
     text = _page_text(at)
     for c in (*a.cautions, cautions.ESTIMATE_STATEMENT):
         assert text.count(c) == 1, (text.count(c), c)
+
+
+def _go(at: AppTest, page: str) -> AppTest:
+    at.sidebar.radio(key="page").set_value(page)
+    at.run()
+    assert not at.exception, at.exception
+    return at
+
+
+def test_history_and_calibration_pages_show_each_caution_once():
+    at = AppTest.from_file(APP, default_timeout=180)
+    at.run()
+    _go(at, "History")
+    next(b for b in at.button if b.label.startswith("Save the")).click()
+    at.run()
+    assert not at.exception, at.exception
+    text = _page_text(at)
+    shown = (cautions.ESTIMATE_STATEMENT, *cautions.GENERAL, *cautions.CG_EXPANSION,
+             *cautions.INCIDENCE)
+    for c in shown:
+        assert text.count(c) == 1, (text.count(c), c)
+    _go(at, "Calibration")
+    assert _page_text(at).count(cautions.ESTIMATE_STATEMENT) == 1

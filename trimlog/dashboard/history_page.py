@@ -204,7 +204,8 @@ def _trend(p) -> None:
             cols[1].metric("As a station", num(nxt["max_cg_station_in"], ".1f", "in"))
             cols[2].metric("Limited by", nxt["limited_by"])
         st.markdown(common.esc(nxt["reason"]))
-        common.caution_list(nxt["cautions"])
+        # the estimate statement leads the page's caution box already: each caution once
+        common.caution_list([c for c in nxt["cautions"] if c != cautions.ESTIMATE_STATEMENT])
     left, right = st.columns(2)
     left.download_button("Trend (JSON)", json.dumps(trend, indent=2, allow_nan=False),
                          file_name="trimlog-trend.json", mime="application/json")
