@@ -77,6 +77,7 @@ def _internal_error(exc: BaseException) -> int:
     return EXIT_INTERNAL
 
 
+# long: the one declarative table of every command and option, read top to bottom
 def _build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="trimlog",

@@ -29,6 +29,7 @@ __all__ = [
     "OutputFileError",
     "check_input_file",
     "check_output_target",
+    "file_stem",
     "os_reason",
     "read_regular_file",
     "write_atomically",
@@ -55,6 +56,33 @@ _REASONS = {
     errno.ELOOP: "too many levels of symbolic links",
     errno.ENAMETOOLONG: "the name is too long",
 }
+
+
+def file_stem(name: str | os.PathLike[str]) -> str:
+    """A file's stem: its name without folders, up to the first dot (the one rule).
+
+    The flight a log is named for, the loading sheet that goes with it
+    (``STEM.loading.toml``) and the history's flight names all use it, so the
+    command line, the history and the dashboard agree.
+
+    Parameters
+    ----------
+    name : str or path-like
+        A file name or path.
+
+    Returns
+    -------
+    str
+        ``flight3.csv`` and ``flight3.loading.toml`` give ``flight3``; a name
+        with nothing before its first dot (``.csv``) gives the whole name.
+
+    Examples
+    --------
+    >>> file_stem("logs/flight3.csv"), file_stem("flight3.loading.toml"), file_stem(".csv")
+    ('flight3', 'flight3', '.csv')
+    """
+    base = Path(name).name
+    return base.split(".")[0] or base
 
 
 def os_reason(exc: OSError) -> str:

@@ -10,7 +10,6 @@ from trimlog.errors import StoreError
 from trimlog.history.codec import (
     EXPORT_FORMAT,
     KEEP,
-    AnalysisRecord,
     decode_points,
     decode_raw,
     dumps_json,
@@ -81,13 +80,12 @@ def test_export_document_is_read_back_and_damage_is_found(tmp_path):
         profiles=[(1, 1, "x = 1", sha256_hex("x = 1"), "2026-01-01")],
         flights=[(5, sha256_hex(raw), len(raw), json.dumps([["point", "int64"]]), None, raw)],
         points=[(5, 1, 0, "[]")],
-        analyses=[AnalysisRecord(9, 1, "2026-01-02", "0.1", 1, (5,), {"np": 0.3})],
         flight_columns=columns, schema_version=2, software_version="0.1",
         exported_at="2026-01-03",
     )
     assert doc["format"] == EXPORT_FORMAT
     assert doc["flights"][0]["points"] == [[1, False, []]]
-    assert doc["analyses"][0]["flight_ids"] == [5]
+    assert doc["analyses"] == []  # results are recomputed, never stored
     (tmp_path / "trimlog-history.json").write_text(json.dumps(doc), encoding="utf-8")
     src, back = read_export(tmp_path)
     assert decode_raw(back["flights"][0], src) == raw

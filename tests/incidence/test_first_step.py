@@ -9,23 +9,17 @@ down to stock, and the words ask for a re-fly to calibrate tau.
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import pytest
 
 from trimlog.demo.model import DEMO_TRUTH
 from trimlog.incidence import shim, tau
 from trimlog.pipeline import chain
 
-SAMPLES = Path(__file__).resolve().parents[2] / "sample_logs"
-PROFILE = chain.load_profile(SAMPLES / "tinkerfinch_tf2.toml")
-LOGS = sorted(p for p in SAMPLES.glob("flight*.csv") if p.is_file())
-
 
 @pytest.fixture(scope="module")
-def four_flights():
-    flights = [f for log in LOGS[:4] for f in chain.load_flight_file(log, PROFILE)]
-    return chain.analyze(flights, PROFILE).primary
+def four_flights(demo_flights, demo_profile):
+    flights = list(demo_flights[:4])  # flight1_points .. flight4, one flight per file
+    return chain.analyze(flights, demo_profile).primary
 
 
 def test_chord_ratio_range_covers_the_demo_truth(four_flights):

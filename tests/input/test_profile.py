@@ -146,3 +146,13 @@ def test_unreadable_file_is_a_profile_error(tmp_path):
     binary.write_bytes(b"\xff\xfe\x00garbage")
     with pytest.raises(ProfileError, match="not UTF-8"):
         load_profile(binary)
+
+
+def test_the_required_keys_alone_make_a_profile(minimal_profile, minimal_profile_text):
+    # tests/conftest.py's minimal profile: every optional key left to its default, and said
+    assert minimal_profile.tau is None and minimal_profile.elevator_chord_ratio is None
+    assert minimal_profile.defaults_used  # the assumed values are listed, not hidden
+    assert [f.code for f in profile_findings(None, None, "minimal.toml")] == [
+        "input.profile.no_tau_source"]
+    with pytest.raises(ProfileError, match="cruise"):
+        parse_profile(minimal_profile_text.replace('[cruise]\ncas = "120 kt"\n', ""), "x.toml")

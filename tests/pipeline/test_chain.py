@@ -6,7 +6,6 @@ end.  Published checks of each step live in the module tests.
 """
 
 import json
-from pathlib import Path
 
 import pytest
 
@@ -16,22 +15,15 @@ from trimlog.input.loading_sheet import read_loading_sheet
 from trimlog.pipeline import chain as analysis
 from trimlog.views.json_export import analysis_to_dict
 
-SAMPLES = Path(__file__).resolve().parents[2] / "sample_logs"
-PROFILE = analysis.load_profile(SAMPLES / "tinkerfinch_tf2.toml")
-LOGS = sorted(SAMPLES.glob("flight*.csv"))
+
+@pytest.fixture(scope="module")
+def flights(demo_flights):
+    return list(demo_flights)  # read once for the session (tests/conftest.py)
 
 
 @pytest.fixture(scope="module")
-def flights():
-    out = []
-    for log in LOGS:
-        out.extend(analysis.load_flight_file(log, PROFILE))
-    return out
-
-
-@pytest.fixture(scope="module")
-def result(flights):
-    return analysis.analyze(flights, PROFILE)
+def result(flights, demo_profile):
+    return analysis.analyze(flights, demo_profile)
 
 
 def _inside(value, interval):
@@ -87,7 +79,7 @@ def test_json_has_no_nan_and_names_the_assumptions(result):
     assert {f["kind"] for f in data["flights"]} == {"point_table", "time_series"}
 
 
-def test_configurations_are_never_pooled(flights):
+def test_configurations_are_never_pooled(flights, demo_profile):
     flapped = []
     for f in flights[:2]:
         points = f.points.copy()
@@ -95,7 +87,7 @@ def test_configurations_are_never_pooled(flights):
         points["flight"] = f.flight + "_flaps"
         flapped.append(analysis.FlightData(f.flight + "_flaps", f.source + " (flaps)", f.sha256,
                                            f.log, points, f.loading))
-    result = analysis.analyze([*flights, *flapped], PROFILE)
+    result = analysis.analyze([*flights, *flapped], demo_profile)
     assert result.primary.config == "clean"
     assert [o.config for o in result.others] == ["flaps 20 deg"]
     clean_flights = {g.flight for g in result.primary.stability.gradients}
@@ -123,8 +115,8 @@ def test_a_margin_that_may_be_short_is_a_warning_with_its_numbers(result):
     assert {f.values["where"] for f in short} >= {"aft CG limit"}
 
 
-def test_exclusions_keep_the_point_and_change_the_fit(flights, result):
-    excluded = analysis.analyze(flights, PROFILE, exclusions={("flight3", 4)})
+def test_exclusions_keep_the_point_and_change_the_fit(flights, result, demo_profile):
+    excluded = analysis.analyze(flights, demo_profile, exclusions={("flight3", 4)})
     row = excluded.points.loc[(excluded.points["flight"] == "flight3")
                               & (excluded.points["point"] == 4)]
     assert len(row) == 1 and not bool(row["included"].iloc[0])
@@ -132,31 +124,32 @@ def test_exclusions_keep_the_point_and_change_the_fit(flights, result):
             != result.primary.stability.stick_fixed.neutral_point.pct_mac)
 
 
-def test_the_same_flight_twice_is_refused(flights):
+def test_the_same_flight_twice_is_refused(flights, demo_profile):
     twin = analysis.FlightData(flights[1].flight, "elsewhere/flight2.csv", flights[1].sha256,
                                flights[1].log, flights[1].points, flights[1].loading)
     with pytest.raises(InputFileError, match="given twice"):
-        analysis.analyze([flights[1], twin], PROFILE)
+        analysis.analyze([flights[1], twin], demo_profile)
 
 
-def test_no_points_at_all_is_a_clear_error():
+def test_no_points_at_all_is_a_clear_error(demo_profile):
     raw = b"time_s,ias_kt,pressure_alt_ft,elevator_deg\n" + b"".join(
         f"{t / 10:.1f},{80 + t % 40},5000,{t % 7}\n".encode() for t in range(600))
-    flights = analysis.load_flight_bytes(raw, "wobbly.csv", PROFILE)
+    flights = analysis.load_flight_bytes(raw, "wobbly.csv", demo_profile)
     with pytest.raises(InputFileError, match="no stabilized points"):
-        analysis.analyze(flights, PROFILE)
+        analysis.analyze(flights, demo_profile)
 
 
-def test_constant_fuel_flow_from_the_loading_sheet_burns_fuel_through_the_flight(tmp_path):
-    log = (SAMPLES / "flight2.csv").read_bytes()
+def test_constant_fuel_flow_from_the_loading_sheet_burns_fuel_through_the_flight(
+        tmp_path, demo_profile, samples_dir):
+    log = (samples_dir / "flight2.csv").read_bytes()
     # drop the logged fuel quantity column so the sheet's constant flow is used
     lines = log.decode().splitlines()
     header_at = next(i for i, line in enumerate(lines) if line.startswith("Time"))
     cut = [",".join(line.split(",")[:-1]) if i >= header_at else line
            for i, line in enumerate(lines)]
-    sheet_text = (SAMPLES / "flight2.loading.toml").read_text() + '\n[fuel]\nflow = "8 gal/h"\n'
+    sheet_text = (samples_dir / "flight2.loading.toml").read_text() + '\n[fuel]\nflow = "8 gal/h"\n'
     sheet = read_loading_sheet(sheet_text.encode(), name="flight2.loading.toml")
-    flight = analysis.load_flight_bytes("\n".join(cut).encode(), "flight2.csv", PROFILE,
+    flight = analysis.load_flight_bytes("\n".join(cut).encode(), "flight2.csv", demo_profile,
                                         loading=sheet)[0]
     fuel = flight.points["fuel_gal"]
     middle = 0.5 * (flight.points["t_start_s"] + flight.points["t_end_s"])
@@ -165,3 +158,19 @@ def test_constant_fuel_flow_from_the_loading_sheet_burns_fuel_through_the_flight
     assert fuel.tolist() == pytest.approx(
         (sheet.takeoff_fuel_gal - 8.0 * (middle - start) / 3600.0).tolist())
     assert fuel.is_monotonic_decreasing
+
+
+def test_one_file_stem_rule_names_the_flight_and_finds_its_loading_sheet(tmp_path):
+    # the rule (trimlog.files.file_stem): the name up to its first dot, as the
+    # dashboard and the history name flights too
+    from trimlog.files import file_stem
+
+    log = tmp_path / "flight.3.csv"
+    log.write_text("x\n", encoding="utf-8")
+    assert analysis.sibling_sheet(log) is None
+    (tmp_path / "flight.3.loading.toml").write_text("", encoding="utf-8")
+    assert analysis.sibling_sheet(log) is None  # not the rule: the stem is "flight"
+    sheet = tmp_path / "flight.loading.toml"
+    sheet.write_text("", encoding="utf-8")
+    assert analysis.sibling_sheet(log) == sheet
+    assert file_stem(log) == file_stem(sheet) == "flight"

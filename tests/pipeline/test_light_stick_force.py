@@ -7,16 +7,10 @@ feel (common practice, from memory; 14 CFR 25.173(c) sets that figure).
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import pytest
 
 from trimlog.pipeline import chain
 from trimlog.stability.results import FlightGradient
-
-SAMPLES = Path(__file__).resolve().parents[2] / "sample_logs"
-PROFILE = chain.load_profile(SAMPLES / "tinkerfinch_tf2.toml")
-LOGS = sorted(p for p in SAMPLES.glob("flight*.csv") if p.is_file())
 
 
 def _gradient(value, ci):
@@ -40,9 +34,9 @@ def test_threshold_is_one_pound_per_six_knots():
     assert not chain.light_stick_force([_gradient(None, None)])
 
 
-def test_demo_flight_4_is_flagged_as_too_light_to_feel():
-    flights = [f for log in LOGS[:4] for f in chain.load_flight_file(log, PROFILE)]
-    analysis = chain.analyze(flights, PROFILE)
+def test_demo_flight_4_is_flagged_as_too_light_to_feel(demo_flights, demo_profile):
+    flights = list(demo_flights[:4])  # flight1_points .. flight4, one flight per file
+    analysis = chain.analyze(flights, demo_profile)
     light = [f for f in analysis.findings if f.code == "pipeline.stick_force.too_light"]
     flagged = {f.values["flight"] for f in light}
     grads = {g.flight: g.dfs_dv_lbf_per_kt for g in analysis.primary.stability.gradients}

@@ -92,3 +92,30 @@ def test_brent_root_says_none_without_a_sign_change_or_on_nan():
     assert brent_root(lambda x: x * x + 1.0, -1.0, 1.0) is None
     assert brent_root(lambda x: float("nan"), -1.0, 1.0) is None
     assert brent_root(lambda x: x, 0.0, 1.0) == 0.0
+
+
+@pytest.mark.parametrize("n_groups", [2, 20])  # 20: the intercept-block path (>= 16 groups)
+def test_outlier_test_equals_statsmodels_outlier_test(n_groups):
+    # The analysis flags outliers without importing statsmodels (start-up time, issue 17);
+    # statsmodels' OLSResults.outlier_test (Bonferroni) is the reference, here only.
+    rng = np.random.default_rng(11 + n_groups)
+    for _ in range(8 if n_groups < 16 else 3):  # statsmodels refits leaving each point out
+        n = 4 * n_groups + 12
+        # at least three points per group: a point alone in its group has leverage 1
+        group = np.concatenate([np.tile(np.arange(n_groups), 3),
+                                rng.integers(0, n_groups, n - 3 * n_groups)])
+        cl = rng.uniform(0.2, 1.0, n)
+        h = rng.uniform(0.15, 0.35, n)
+        y = 0.1 * group - 4.0 * cl + 9.0 * h * cl + rng.standard_t(3, n) * 0.1
+        x = np.column_stack([*(group == g for g in range(n_groups)), cl, h * cl]).astype(float)
+        names = [f"a[{g}]" for g in range(n_groups)] + ["cl", "h_cl"]
+        fit = fits.fit_matrix(y, x, names)
+        ours = fits.studentized_outliers(fit, alpha=2.0)  # alpha 2: every point is listed
+        table = np.asarray(fit.result.outlier_test(method="bonferroni"))
+        assert [o.position for o in ours] == list(range(n))
+        np.testing.assert_allclose([o.studentized_residual for o in ours], table[:, 0],
+                                   rtol=1e-9, atol=1e-12)
+        np.testing.assert_allclose([o.bonferroni_p for o in ours], table[:, 2],
+                                   rtol=1e-9, atol=1e-12)
+        flagged = [o.position for o in fits.studentized_outliers(fit)]
+        assert flagged == [int(i) for i in np.flatnonzero(table[:, 2] < fits.OUTLIER_ALPHA)]

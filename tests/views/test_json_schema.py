@@ -13,17 +13,12 @@ from __future__ import annotations
 import copy
 import json
 from importlib import resources
-from pathlib import Path
 
 import jsonschema
 import pytest
 
 from trimlog.pipeline import chain
 from trimlog.views.json_export import analysis_to_dict
-
-SAMPLES = Path(__file__).resolve().parents[2] / "sample_logs"
-PROFILE = chain.load_profile(SAMPLES / "tinkerfinch_tf2.toml")
-LOGS = sorted(SAMPLES.glob("flight*.csv"))
 
 
 @pytest.fixture(scope="module")
@@ -35,14 +30,14 @@ def schema():
 
 
 @pytest.fixture(scope="module")
-def flights():
-    return [f for log in LOGS for f in chain.load_flight_file(log, PROFILE)]
+def flights(demo_flights):
+    return list(demo_flights)  # read once for the session (tests/conftest.py)
 
 
 @pytest.fixture(scope="module")
-def demo(flights):
+def demo(flights, demo_profile):
     # through JSON text, as a user's script reads it
-    return json.loads(json.dumps(analysis_to_dict(chain.analyze(flights, PROFILE))))
+    return json.loads(json.dumps(analysis_to_dict(chain.analyze(flights, demo_profile))))
 
 
 def _errors(schema, payload):
@@ -56,13 +51,13 @@ def test_demo_json_validates(schema, demo):
     assert demo["findings"] and all(f["code"] and f["message"] for f in demo["findings"])
 
 
-def test_one_flight_json_validates(schema, flights):
-    one = json.loads(json.dumps(analysis_to_dict(chain.analyze(flights[:1], PROFILE))))
+def test_one_flight_json_validates(schema, flights, demo_profile):
+    one = json.loads(json.dumps(analysis_to_dict(chain.analyze(flights[:1], demo_profile))))
     assert one["neutral_point"]["stick_fixed"]["pct_mac"] is None  # not identifiable
     assert _errors(schema, one) == []
 
 
-def test_two_configuration_json_validates(schema, flights):
+def test_two_configuration_json_validates(schema, flights, demo_profile):
     flapped = []
     for f in flights[:2]:
         points = f.points.copy()
@@ -70,7 +65,8 @@ def test_two_configuration_json_validates(schema, flights):
         points["flight"] = f.flight + "_flaps"
         flapped.append(chain.FlightData(f.flight + "_flaps", f.source + " (flaps)", f.sha256,
                                         f.log, points, f.loading))
-    both = json.loads(json.dumps(analysis_to_dict(chain.analyze([*flights, *flapped], PROFILE))))
+    both = json.loads(json.dumps(analysis_to_dict(
+        chain.analyze([*flights, *flapped], demo_profile))))
     assert both["other_configurations"]
     assert _errors(schema, both) == []
 

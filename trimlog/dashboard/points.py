@@ -27,6 +27,7 @@ def _keep_choices(flight: str, numbers: list[int], fitted: list[bool], ticked: l
     return changed
 
 
+# long: the Points page top to bottom (widgets in page order)
 def render() -> None:
     """Draw the page."""
     ss = st.session_state

@@ -14,6 +14,7 @@ from pathlib import Path
 import streamlit as st
 
 from trimlog.demo import model as demo
+from trimlog.files import file_stem
 from trimlog.pipeline.chain import LOADING_SHEET_SUFFIX
 
 DEMO_DIR = Path(__file__).resolve().parent.parent.parent / "sample_logs"
@@ -36,7 +37,7 @@ class FileBytes:
     @property
     def stem(self) -> str:
         """The name up to its first dot (``flight2.loading.toml`` -> ``flight2``)."""
-        return self.name.split(".")[0] or self.name
+        return file_stem(self.name)
 
 
 @dataclass(frozen=True)
@@ -182,7 +183,7 @@ def sheet_choice(log_name: str) -> str | None:
     if log is not None and log.digest in ss.sheet_for:
         chosen = ss.sheet_for[log.digest]
         return chosen if chosen in available else None
-    stem = log_name.split(".")[0]
+    stem = file_stem(log_name)
     matches = [n for n, f in available.items() if f.stem == stem]
     return matches[0] if matches else None
 

@@ -29,13 +29,6 @@ from __future__ import annotations
 
 import numpy as np
 
-from trimlog.demo.model import (
-    DEMO_TRUTH,
-    TRUE_POSITION_ERROR_CAS_KT,
-    TRUE_POSITION_ERROR_IAS_KT,
-)
-from trimlog.physics import airspeed, atmosphere
-
 #: File of the calibration flight, relative to the demo folder.
 CALIBRATION_FILE = "calibration/calibration_flight.csv"
 #: Indicated airspeeds flown [kt].
@@ -81,17 +74,3 @@ def plan(dt: float) -> dict[str, np.ndarray]:
     return out
 
 
-def true_legs() -> list[dict[str, float]]:
-    """The noise-free legs (the oracle for tests): IAS, CAS, TAS, heading, altitude, OAT."""
-    s = plan(1.0 / RATE_HZ)
-    oat = (atmosphere.isa_temperature_k(ALTITUDE_FT) - atmosphere.KELVIN_OFFSET
-           + DEMO_TRUTH.isa_deviation_c)
-    out = []
-    for k in range(int(s["leg"].max()) + 1):
-        ias = float(s["ias"][s["leg"] == k].mean())
-        cas = float(np.interp(ias, TRUE_POSITION_ERROR_IAS_KT, TRUE_POSITION_ERROR_CAS_KT))
-        out.append({"ias_kt": ias, "cas_kt": cas,
-                    "tas_kt": float(airspeed.cas_to_tas(cas, ALTITUDE_FT, oat)),
-                    "heading_deg": float(s["heading"][s["leg"] == k][0] % 360.0),
-                    "pressure_alt_ft": ALTITUDE_FT, "oat_c": float(oat)})
-    return out

@@ -317,6 +317,7 @@ def loading_sheet_toml(flight: DemoFlight) -> str:
     )
 
 
+# long: the demo folder's README text, one template filled in
 def readme(seed: int, truth: DemoTruth, profile: AircraftProfile, *, profile_file: str,
            shim_deg: float, hold_elevator_sd_deg: float, hold_force_sd_lbf: float) -> str:
     """Return ``sample_logs/README.md``: the scenario, the truth and how to regenerate.

@@ -70,17 +70,6 @@ class AircraftRecord:
 
 
 @dataclass(frozen=True)
-class ProfileVersion:
-    """One stored version of an aircraft's profile text."""
-
-    aircraft_id: int
-    version: int
-    text: str
-    sha256: str
-    imported_at: str
-
-
-@dataclass(frozen=True)
 class FlightRecord:
     """One stored flight (without its raw bytes and points)."""
 
@@ -114,19 +103,6 @@ class ImportOutcome:
     #: renumbered them (``order=``); None otherwise.
     number: int | None = None
     of: int | None = None
-
-
-@dataclass(frozen=True)
-class AnalysisRecord:
-    """One saved analysis result."""
-
-    id: int
-    aircraft_id: int
-    created_at: str
-    software_version: str
-    profile_version: int
-    flight_ids: tuple[int, ...]
-    result: dict[str, Any]
 
 
 @dataclass(frozen=True)
@@ -274,14 +250,6 @@ def flight_record(row: Sequence[Any]) -> FlightRecord:
         label=row[7], notes=row[8], loading=json.loads(row[9]) if row[9] is not None else None,
         incidence_label=row[10], incidence_deg=row[11], config=row[12],
         profile_version=row[13], n_points=row[14], n_included=row[15], imported_at=row[16],
-    )
-
-
-def analysis_record(row: Sequence[Any]) -> AnalysisRecord:
-    """An analysis from a stored row (the fields of AnalysisRecord in order, JSON as text)."""
-    return AnalysisRecord(
-        id=row[0], aircraft_id=row[1], created_at=row[2], software_version=row[3],
-        profile_version=row[4], flight_ids=tuple(json.loads(row[5])), result=json.loads(row[6]),
     )
 
 
@@ -445,7 +413,7 @@ def check_export_folder(out: Path) -> None:
 def export_document(
     *, aircraft: Iterable[Sequence[Any]], profiles: Iterable[Sequence[Any]],
     flights: Iterable[Sequence[Any]], points: Iterable[Sequence[Any]],
-    analyses: Iterable[AnalysisRecord], flight_columns: Sequence[str], schema_version: int,
+    flight_columns: Sequence[str], schema_version: int,
     software_version: str, exported_at: str,
 ) -> dict[str, Any]:
     """Assemble the lossless JSON document of an export from the stored rows.
@@ -460,7 +428,6 @@ def export_document(
         The flight columns ``flight_columns`` in order, then the raw log bytes.
     points : iterable of rows
         ``(flight_id, point, included, values_json)``, by flight and point.
-    analyses : iterable of AnalysisRecord
     flight_columns : sequence of str
         Names of the stored flight columns.
     schema_version : int
@@ -501,14 +468,9 @@ def export_document(
             for aid, name, when in aircraft
         ],
         "flights": items,
-        "analyses": [
-            {
-                "id": a.id, "aircraft_id": a.aircraft_id, "created_at": a.created_at,
-                "software_version": a.software_version, "profile_version": a.profile_version,
-                "flight_ids": list(a.flight_ids), "result": a.result,
-            }
-            for a in analyses
-        ],
+        # Kept, empty, for the export format: results are recomputed from the flights, never
+        # stored (the analyses table of schema 2 is gone); a restore counts an old file's.
+        "analyses": [],
     }
 
 

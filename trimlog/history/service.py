@@ -18,6 +18,7 @@ import pandas as pd
 
 from trimlog import cautions
 from trimlog.errors import InputFileError, StoreError, TrimlogError
+from trimlog.files import file_stem
 from trimlog.findings import Finding, Severity, Subject, finding
 from trimlog.findings import lines as finding_lines
 from trimlog.history import programme
@@ -33,7 +34,7 @@ from trimlog.history.maneuver_choices import (
 from trimlog.history.store import AircraftRecord, FlightRecord, ImportOutcome, Store
 from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
 from trimlog.input.logs import load_source, read_log
-from trimlog.input.profile import AircraftProfile, check_policy, parse_profile
+from trimlog.input.profile import AircraftProfile, check_policy, parse_profile, with_policy
 from trimlog.pipeline import calibration, chain
 from trimlog.pipeline.ordering import rank_configurations
 from trimlog.pipeline.reduction import reduce_points
@@ -246,7 +247,7 @@ def _sheet(record: FlightRecord) -> LoadingSheet | None:
 
 def _flight_names(records: list[FlightRecord]) -> dict[int, str]:
     """Flight names as the analysis shows them: the file's stem, made unique by the id."""
-    stems = {r.id: Path(r.filename).name.split(".")[0] or f"flight{r.id}" for r in records}
+    stems = {r.id: file_stem(r.filename) or f"flight{r.id}" for r in records}
     counts = pd.Series(list(stems.values())).value_counts()
     return {fid: stem if counts[stem] == 1 else f"{stem}#{fid}" for fid, stem in stems.items()}
 
@@ -469,7 +470,7 @@ def trend(
             stick_free=latest_free,
         )
     # The maneuvering limits, as `trimlog analyze` applies them (the same policy margin).
-    policy = profile if min_margin_pct_mac is None else replace(
+    policy = profile if min_margin_pct_mac is None else with_policy(
         profile, min_static_margin_pct_mac=float(min_margin_pct_mac))
     found = _maneuvering_points(store, stored) if stored.records else []
     maneuvering = chain.analyze_maneuver_points(found, policy, loadings=stored.sheets)
@@ -636,7 +637,7 @@ def apply_exclusions(
         record = store.flight(fid)
         frame = store.flight_points(fid)
         points[fid] = frame
-        names = {str(fid), Path(record.filename).name.split(".")[0]}
+        names = {str(fid), file_stem(record.filename)}
         if "flight" in frame and len(frame):
             names.update(str(v) for v in frame["flight"].unique())
         for n in names:

@@ -1142,7 +1142,7 @@ class Store:
                 .join(raw_logs_t, raw_logs_t.c.flight_id == f.id).order_by(f.id)),
             points=c.execute(sa.select(*_POINT_COLUMNS)
                              .order_by(points_t.c.flight_id, points_t.c.point)),
-            analyses=(), flight_columns=_FLIGHT_COLUMNS, schema_version=SCHEMA_VERSION,
+            flight_columns=_FLIGHT_COLUMNS, schema_version=SCHEMA_VERSION,
             software_version=trimlog.__version__, exported_at=_now(),
         )
 

@@ -340,6 +340,7 @@ def _stock_values(sheets: tuple[float, ...], stock: str) -> tuple[str, dict[str,
     return f"{stock}_{count}", {f"sheet_{i + 1}_{unit}": s for i, s in enumerate(sheets)}
 
 
+# long: one cut's stock, steps, residual and verdict share their intermediate values
 def shim(
     change_deg: float,
     spacing_in: float,

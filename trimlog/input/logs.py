@@ -583,13 +583,7 @@ def read_log(
     found, unknown, ignored = map_columns(
         layout.headers, layout.units, layout.header_line, dict(column_map or {}), label, notes
     )
-    inverted = tuple(inverted)
-    for canonical in inverted:
-        if canonical not in QUANTITIES or canonical in TEXT_COLUMNS:
-            raise InputFileError(
-                f"'{canonical}' is declared inverted but is not a numeric canonical column name",
-                file=label,
-            )
+    inverted = _check_inverted(inverted, label)
     require_columns(found, layout.headers, layout.header_line, label, notes, purpose)
     if unknown:
         notes.add("input.log.columns_not_understood", Severity.CAUTION,
@@ -649,6 +643,18 @@ def read_log(
         n_rows_read=n_rows_read,
         started_at=notes.started_at,
     )
+
+
+def _check_inverted(inverted: Iterable[str], label: str) -> tuple[str, ...]:
+    """The declared sign-inverted columns, each a numeric canonical name."""
+    inverted = tuple(inverted)
+    for canonical in inverted:
+        if canonical not in QUANTITIES or canonical in TEXT_COLUMNS:
+            raise InputFileError(
+                f"'{canonical}' is declared inverted but is not a numeric canonical column name",
+                file=label,
+            )
+    return inverted
 
 
 def _convert(

@@ -49,6 +49,7 @@ import numpy as np
 import pandas as pd
 
 from trimlog.errors import NotIdentifiableError, TrimlogError
+from trimlog.files import file_stem
 from trimlog.findings import Finding, Severity, Subject, finding, lines
 from trimlog.input.logs import LogRead, read_log
 from trimlog.input.profile import AircraftProfile
@@ -257,7 +258,7 @@ def find_legs(log: LogRead, settings: LegSettings | None = None) -> pd.DataFrame
         point_settings = PointSettings(min_duration_s=settings.min_leg_s,
                                        ias_tol_kt=settings.ias_tol_kt)
         points = find_stabilized_points(
-            samples, flight=Path(log.source).stem, settings=point_settings,
+            samples, flight=file_stem(log.source), settings=point_settings,
             steady_signals={"ias_kt": settings.ias_tol_kt,
                             "pressure_alt_ft": settings.alt_tol_ft,
                             "gps_track_deg": settings.track_tol_deg})
@@ -279,7 +280,7 @@ def find_legs(log: LogRead, settings: LegSettings | None = None) -> pd.DataFrame
         n = len(data)
         legs = pd.DataFrame({
             "flight": data["flight"].astype(str) if "flight" in data
-            else pd.Series([Path(log.source).stem] * n, dtype=str),
+            else pd.Series([file_stem(log.source)] * n, dtype=str),
             "leg": np.arange(1, n + 1, dtype=np.int64),
             "t_start_s": data["time_s"] if "time_s" in data else np.nan,
             "t_end_s": data["time_s"] if "time_s" in data else np.nan,

@@ -22,6 +22,7 @@ import pandas as pd
 
 from trimlog import __version__, cautions
 from trimlog.errors import InputFileError, NotIdentifiableError, TrimlogError
+from trimlog.files import file_stem
 from trimlog.findings import Finding, Severity, Subject, finding, lines
 from trimlog.incidence import shim as incidence
 from trimlog.incidence import tau
@@ -232,7 +233,7 @@ def load_flight_bytes(
     log = read_log(raw, name=name, column_map=profile.column_map,
                    inverted=profile.inverted_columns)
     settings = PointSettings() if min_hold_s is None else PointSettings(min_duration_s=min_hold_s)
-    stem = Path(name).name.split(".")[0] or name
+    stem = file_stem(name)
     progress.step("points", name)
     points = points_from_log(log, flight=stem, settings=settings)
     points["source"] = name
@@ -300,8 +301,12 @@ def load_flight_file(
 
 
 def sibling_sheet(path: Path) -> Path | None:
-    """The loading sheet beside a log (``flight3.csv`` -> ``flight3.loading.toml``), if any."""
-    candidate = path.with_name(path.name.rsplit(".", 1)[0] + LOADING_SHEET_SUFFIX)
+    """The loading sheet beside a log (``flight3.csv`` -> ``flight3.loading.toml``), if any.
+
+    Named by the log's stem (:func:`trimlog.files.file_stem`, up to the first dot), as
+    the flight is and as the dashboard pairs them.
+    """
+    candidate = path.with_name(file_stem(path) + LOADING_SHEET_SUFFIX)
     return candidate if candidate.is_file() else None
 
 

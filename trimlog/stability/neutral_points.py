@@ -775,6 +775,7 @@ def two_stage_neutral_point(gradients: tuple[FlightGradient, ...], *,
 # --------------------------------------------------------------------------- everything
 
 
+# long: assembles the stability result in order (fits, margins, critical, next step, stops)
 def analyze_stability(points: pd.DataFrame, profile: AircraftProfile | None = None, *,
                       setting: str | None = None, flap_config: str = "clean"
                       ) -> StabilityResult:

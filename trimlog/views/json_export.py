@@ -207,6 +207,7 @@ def points_records(points: pd.DataFrame) -> list[dict[str, Any]]:
     return [clean(r) for r in records]
 
 
+# long: one literal of the configuration block of the JSON contract, key by key
 def configuration_dict(result: ConfigurationResult, analysis: Analysis) -> dict[str, Any]:
     """The stability, margin, authority and incidence blocks of one configuration."""
     s = result.stability
