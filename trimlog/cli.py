@@ -179,6 +179,10 @@ def _build_parser() -> argparse.ArgumentParser:
     _add_db(p)
     p.add_argument("--label", help="label for the flight (one file only)")
     p.add_argument("--notes", help="notes for the flight (one file only)")
+    p.add_argument("--replace-sheet", action="store_true",
+                   help="a flight saved already with another loading sheet takes the one given "
+                   "now (the earlier sheet is kept in its record); without it such a file is "
+                   "refused, naming what differs")
 
     p = command(
         "edit",
@@ -708,6 +712,7 @@ def _run_import(args: argparse.Namespace) -> int:
                 label=args.label,
                 notes=args.notes,
                 min_hold_s=args.min_hold,
+                replace_sheet=args.replace_sheet,
             )
             saved.append(outcome.flight_id)
             _print(outcome.message)

@@ -65,3 +65,7 @@ class NotIdentifiableError(TrimlogError):
 
 class StoreError(TrimlogError):
     """The flight-history database cannot be opened, read or written."""
+
+
+class LoadingSheetChangedError(StoreError):
+    """A saved flight imported again with a loading sheet that differs from the saved one."""

@@ -344,7 +344,7 @@ def history_analysis(aircraft: str) -> Analysis:
 
 
 def import_flight(store, log: FileBytes, sheet: FileBytes | None, inputs: Inputs,
-                  label: str | None, notes: str | None):
+                  label: str | None, notes: str | None, *, replace_sheet: bool = False):
     """Save one log (and its loading sheet) to the history; returns the store's outcome."""
     from trimlog.history import service as history
 
@@ -352,7 +352,7 @@ def import_flight(store, log: FileBytes, sheet: FileBytes | None, inputs: Inputs
         store, log.raw, log.name, inputs.profile_text, profile_source=inputs.profile_source,
         loading_raw=None if sheet is None else sheet.raw,
         loading_name=None if sheet is None else sheet.name,
-        label=label, notes=notes, min_hold_s=inputs.min_hold_s,
+        label=label, notes=notes, min_hold_s=inputs.min_hold_s, replace_sheet=replace_sheet,
     )
 
 

@@ -10,23 +10,33 @@ import streamlit as st
 from trimlog import cautions
 from trimlog.dashboard import blocks, common, compute, session
 from trimlog.dashboard.common import interval, num
-from trimlog.errors import TrimlogError
+from trimlog.errors import LoadingSheetChangedError, TrimlogError
 from trimlog.history import maneuver_choices
 from trimlog.input.profile import profile_key
 
 
-def save_flights() -> None:
-    """Import every readable flight in use, then apply this session's point choices to them."""
+def save_flights(replace_sheets: bool = False) -> None:
+    """Import every readable flight in use, then apply this session's point choices to them.
+
+    A flight saved already with another loading sheet is refused (the message names what
+    differs) and offered for replacement; ``replace_sheets`` replaces those sheets.
+    """
     ss = st.session_state
     inputs = session.inputs()
     messages: list[tuple[str, str]] = []
+    ss.sheet_conflicts = 0
     try:
         with compute.open_history() as store:
             for log, sheet in inputs.logs:
                 try:
                     outcome = compute.import_flight(store, log, sheet, inputs,
                                                     ss.labels.get(log.digest) or None,
-                                                    ss.notes.get(log.digest) or None)
+                                                    ss.notes.get(log.digest) or None,
+                                                    replace_sheet=replace_sheets)
+                except LoadingSheetChangedError as exc:
+                    messages.append(("error", str(exc)))
+                    ss.sheet_conflicts += 1
+                    continue
                 except TrimlogError as exc:
                     messages.append(("error", str(exc)))
                     continue
@@ -91,6 +101,10 @@ def render() -> None:
               type="primary", on_click=save_flights, disabled=not n_logs)
     for kind, text in ss.pop("history_messages", []):
         {"ok": st.success, "info": st.info, "error": st.error}[kind](common.esc(text))
+    if ss.get("sheet_conflicts"):
+        st.button(f"Replace the saved loading sheet of {ss.sheet_conflicts} flight(s) with "
+                  "the one in use (the earlier sheet is kept in the flight's record)",
+                  key="replace_sheets", on_click=save_flights, args=(True,))
 
     try:
         listing = compute.flight_listing(p.name)

@@ -21,7 +21,7 @@ from trimlog.errors import InputFileError, StoreError, TrimlogError
 from trimlog.files import file_stem
 from trimlog.findings import Finding, Severity, Subject, finding
 from trimlog.findings import lines as finding_lines
-from trimlog.history import programme
+from trimlog.history import programme, reimport
 from trimlog.history.codec import clean
 from trimlog.history.maneuver_choices import (
     FOUND_KEY,
@@ -60,6 +60,7 @@ def import_flight(
     label: str | None = None,
     notes: str | None = None,
     min_hold_s: float | None = None,
+    replace_sheet: bool = False,
 ) -> ImportOutcome:
     """Read one log, find its points and add it to the aircraft's history.
 
@@ -80,14 +81,22 @@ def import_flight(
         Default to the loading sheet's.
     min_hold_s : float, optional
         Minimum duration of a stabilized point [s].
+    replace_sheet : bool
+        When the same bytes are saved already with another loading sheet:
+        replace the saved sheet by this one (the earlier one is kept in the
+        flight's record; see :mod:`trimlog.history.reimport`).
 
     Returns
     -------
     ImportOutcome
-        ``created`` False when the same bytes were imported before (nothing changes).
+        ``created`` False when the same bytes were imported before (nothing
+        changes, or only the loading sheet with ``replace_sheet``).
 
     Raises
     ------
+    LoadingSheetChangedError
+        The bytes are saved already with a loading sheet that says something
+        else, and ``replace_sheet`` is False (the message names every change).
     TrimlogError
         A bad profile, log or loading sheet, or a log holding several flights.
     """
@@ -131,6 +140,14 @@ def import_flight(
         order=programme.in_date_order,
     )
     if not outcome.created:
+        record = store.flight(outcome.flight_id)
+        again = reimport.saved_again(store, record, flight, name, sheet=sheet, loading=loading,
+                                     replace_sheet=replace_sheet)
+        if again is not None:
+            text, number, count = again
+            return ImportOutcome(outcome.flight_id, False,
+                                 text + _not_applied(record.id, label=label, notes=notes),
+                                 number=number, of=count)
         return _already_saved(store, outcome, name, label=label, notes=notes)
     keep_found_points(store, aircraft.name)
     number, count = outcome.number, outcome.of
@@ -152,13 +169,20 @@ def _already_saved(
     text = (f"{name}: already stored as history flight id {record.id} of this aircraft (same "
             f"SHA-256 {record.sha256[:12]}, from '{record.filename}' imported "
             f"{record.imported_at}); nothing changed")
+    if record.loading and _SHEET_TEXT in record.loading:
+        text += f"; its saved loading sheet '{record.loading.get(_SHEET_NAME)}' stays"
+    return replace(outcome, message=text + _not_applied(record.id, label=label, notes=notes))
+
+
+def _not_applied(flight_id: int, *, label: str | None, notes: str | None) -> str:
+    """The words for a label or notes given with bytes already saved (they are not applied)."""
     given = [k for k, v in (("label", label), ("notes", notes)) if v is not None]
-    if given:
-        options = " ".join(f"--{k} ..." for k in given)
-        text += (f"; the {' and '.join(given)} given now {'was' if len(given) == 1 else 'were'} "
-                 "not applied: change them with "
-                 f"'trimlog edit --db DB --flight {record.id} {options}'")
-    return replace(outcome, message=text)
+    if not given:
+        return ""
+    options = " ".join(f"--{k} ..." for k in given)
+    return (f"; the {' and '.join(given)} given now {'was' if len(given) == 1 else 'were'} "
+            f"not applied: change them with 'trimlog edit --db DB --flight {flight_id} "
+            f"{options}'")
 
 
 def import_log(
@@ -171,6 +195,7 @@ def import_log(
     label: str | None = None,
     notes: str | None = None,
     min_hold_s: float | None = None,
+    replace_sheet: bool = False,
 ) -> ImportOutcome:
     """:func:`import_flight` for a file on disk, its loading sheet found beside it."""
     path = Path(path)
@@ -182,7 +207,7 @@ def import_log(
     return import_flight(
         store, raw, path.name, profile_text, profile_source=profile_source,
         loading_raw=loading_raw, loading_name=None if sheet_path is None else sheet_path.name,
-        label=label, notes=notes, min_hold_s=min_hold_s,
+        label=label, notes=notes, min_hold_s=min_hold_s, replace_sheet=replace_sheet,
     )
 
 

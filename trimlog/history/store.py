@@ -1024,6 +1024,7 @@ class Store:
         config: str | None | Literal[Keep.KEEP] = KEEP,
         flight_order: int | Literal[Keep.KEEP] = KEEP,
         order: FlightOrder | None = None,
+        points: pd.DataFrame | None = None,
     ) -> FlightRecord:
         """Change what is known of a flight; arguments not given are left as they are.
 
@@ -1031,7 +1032,10 @@ class Store:
         plus ``flight_order``, the flight's place in the programme (flights
         are listed by it, then by id).  With ``order``, the aircraft's flights
         are renumbered in the same transaction, under its lock (a changed
-        date moves the flight at once; see :meth:`renumber`).
+        date moves the flight at once; see :meth:`renumber`).  ``points``
+        replaces the values of the stored points (the same point numbers,
+        e.g. found again with a corrected loading sheet); the user's
+        include/exclude choices stay as they are.
 
         Returns
         -------
@@ -1048,7 +1052,8 @@ class Store:
             if not isinstance(flight_order, int | np.integer) or isinstance(flight_order, bool):
                 raise StoreError(f"{where}, flight_order: not a whole number: {flight_order!r}")
             changes["flight_order"] = int(flight_order)
-        if changes or order is not None:
+        new_points = None if points is None else encode_points(points, f"{where}, points")
+        if changes or order is not None or new_points is not None:
             # Column names come from FLIGHT_FIELDS, never from the caller.
             with self._write(f"update {where}") as c:
                 aircraft_id = c.execute(sa.select(flights_t.c.aircraft_id)
@@ -1057,6 +1062,8 @@ class Store:
                     raise StoreError(f"{self.path}: no flight with id {flight_id!r}")
                 if order is not None:
                     self._lock_aircraft(c, aircraft_id)
+                if new_points is not None:
+                    self._replace_point_values(c, flight_id, *new_points)
                 if changes:
                     c.execute(sa.update(flights_t).values(**changes)
                               .where(flights_t.c.id == flight_id))
@@ -1082,6 +1089,23 @@ class Store:
             changes = encode_details({**dict.fromkeys(FLIGHT_FIELDS, KEEP), "loading": loading},
                                      where)
             c.execute(sa.update(flights_t).values(**changes).where(flights_t.c.id == flight_id))
+
+    def _replace_point_values(self, c: sa.Connection, flight_id: int, schema: list,
+                              rows: list[tuple]) -> None:
+        """New values for a flight's stored points, point by point; the choices are kept."""
+        stored = [p for (p,) in c.execute(sa.select(points_t.c.point)
+                                          .where(points_t.c.flight_id == flight_id)
+                                          .order_by(points_t.c.point))]
+        given = sorted(p for p, _, _ in rows)
+        if given != stored:
+            raise StoreError(
+                f"{self.path}: flight {flight_id}: the points given ({len(given)}) are not the "
+                f"stored ones ({len(stored)}, numbered 1..{len(stored)}); nothing changed")
+        c.execute(sa.update(flights_t).values(points_columns=json.dumps(schema))
+                  .where(flights_t.c.id == flight_id))
+        for p, _, values in rows:
+            c.execute(sa.update(points_t).values(values_json=values)
+                      .where(points_t.c.flight_id == flight_id, points_t.c.point == p))
 
     def change_token(self) -> tuple:
         """A cheap value that changes when flights, points choices or profiles change.
