@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import streamlit as st
 
-from trimlog.dashboard import common, compute, loading_form, session
+from trimlog.dashboard import common, compute, loading_form, session, weighing_form
 from trimlog.errors import TrimlogError
 from trimlog.views.advice import ASSUMED_NOTE, assumed_units
 
@@ -113,6 +113,7 @@ def _log_card(name: str, log: session.FileBytes, sheets: dict, p) -> None:
                            on_change=_set_text, args=(store, log.digest),
                            help="Kept with the flight when you save it to the history")
         first = found[0]
+        weighing_form.render(log, p)  # weight and CG from scale readings, into the sheet form
         loading_form.render(log, first.flight)
         kind = "time-series log" if first.log.kind == "time_series" else "point table"
         n_points = sum(len(f.points) for f in found)

@@ -38,18 +38,23 @@ def sheet_text(flight: str, *, date: dt.date | None, weight_lb: float, cg: str, 
     return "\n".join(lines) + "\n"
 
 
+def _blank(key: str) -> dict:
+    """``value=None`` unless the field was filled already (e.g. from the scale readings)."""
+    return {} if key in st.session_state else {"value": None}
+
+
 def render(log: session.FileBytes, flight: str) -> None:
     """An expander with the form for one log's loading sheet."""
     with st.expander("Make a loading sheet for this flight"):
         with st.form(key=f"sheet_form_{log.digest}"):
             c1, c2, c3 = st.columns(3)
             date = c1.date_input("Date flown", value=None, key=f"sf_date_{log.digest}")
-            weight = c2.number_input("Takeoff weight [lb]", min_value=1.0, value=None,
-                                     key=f"sf_w_{log.digest}")
+            weight = c2.number_input("Takeoff weight [lb]", min_value=1.0,
+                                     key=f"sf_w_{log.digest}", **_blank(f"sf_w_{log.digest}"))
             cg = c3.text_input("Takeoff CG (\"72.3 in\" or \"27 %MAC\")", key=f"sf_cg_{log.digest}")
             c4, c5, c6 = st.columns(3)
-            fuel = c4.number_input("Fuel at takeoff [US gal]", min_value=0.0, value=None,
-                                   key=f"sf_f_{log.digest}")
+            fuel = c4.number_input("Fuel at takeoff [US gal]", min_value=0.0,
+                                   key=f"sf_f_{log.digest}", **_blank(f"sf_f_{log.digest}"))
             setting = c5.text_input("Stabilizer setting (label)", key=f"sf_s_{log.digest}")
             incidence = c6.number_input("Stabilizer incidence [deg, leading edge up +]",
                                         value=None, key=f"sf_i_{log.digest}")
