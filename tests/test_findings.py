@@ -161,7 +161,8 @@ def test_severity_order_and_lines():
 
 
 def test_a_negative_value_that_rounds_to_zero_has_no_sign():
-    f = Finding("incidence.shim.new_incidence", Severity.NOTE, values={"new_incidence_deg": -0.003})
-    assert f.message == "Stabilizer incidence +0.00 deg to the waterline."
-    f = Finding("incidence.shim.new_incidence", Severity.NOTE, values={"new_incidence_deg": -0.02})
+    code = "incidence.shim.none.interval_has_zero.no_shim"
+    f = Finding(code, Severity.CAUTION, values={"change_deg": -0.003})
+    assert "(+0.00 deg, no shim)" in f.message
+    f = Finding(code, Severity.CAUTION, values={"change_deg": -0.02})
     assert "-0.02 deg" in f.message

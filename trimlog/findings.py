@@ -321,10 +321,11 @@ _TEMPLATES: dict[str, str] = {
         "re-fly cruise trim points to calibrate tau from the shift of the elevator, and cut "
         "the rest from that."),
     "incidence.shim.new_incidence": (
-        "Stabilizer incidence {new_incidence_deg:+.2f} deg to the waterline."),
+        "Stabilizer incidence {new_incidence_words} to the waterline."),
     "incidence.shim.unusual_incidence": (
-        "the stabilizer incidence would be {new_incidence_deg:+.2f} deg to the waterline, "
-        "outside the usual {low_deg:+g} to {high_deg:+g} deg of a small airplane (common "
+        "the stabilizer incidence would be {new_incidence_words} to the waterline, "
+        "outside the usual {low_deg:+g} to {high_deg:+g} deg (leading edge up positive) of a "
+        "small airplane (common "
         "practice): re-check the rigging, the weight and CG, and the elevator calibration "
         "before cutting"),
     "incidence.shim.thicker_than_stock": (

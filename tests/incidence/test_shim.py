@@ -155,6 +155,8 @@ def test_new_incidence_outside_usual_range_warns():
     assert cut.steps == 1 and cut.new_incidence_deg < -2.0
     unusual = [f for f in cut.findings if f.code == "incidence.shim.unusual_incidence"]
     assert unusual and unusual[0].values["new_incidence_deg"] == cut.new_incidence_deg
+    # the sign in words (leading edge up positive): below -2 deg is leading edge down
+    assert unusual[0].values["new_incidence_words"].endswith("deg leading edge down")
     assert unusual[0].severity == "warning"
     # in steps, the warning judges the end of all the steps (-1.0 - 1.5 deg), not the first
     stepped = shim(-1.5, 14.0, current_incidence_deg=-1.0)

@@ -152,3 +152,17 @@ def test_a_caution_repeated_as_a_finding_is_shown_once(demo):
     assert ground in {f.message for f in demo.findings}
     shown, _ = findings.for_display(demo.findings, drop=demo.cautions)
     assert ground not in shown
+
+
+def test_signed_angles_of_the_headlines_carry_their_sign_in_words(demo, text):
+    # elevator trailing edge down positive, stabilizer incidence leading edge up positive
+    from trimlog.views.formatting import elevator_words
+
+    auth = _section(text, "Elevator authority at the forward CG limit")
+    for case in demo.primary.stability.authority.cases:
+        assert elevator_words(case.elevator_deg, ".1f") in " ".join(auth.split())
+        assert f"up stop at {elevator_words(case.up_stop_deg, '.1f')}" in " ".join(auth.split())
+    import re
+
+    assert re.search(r"Stabilizer incidence \d+\.\d\d deg (leading edge (up|down)|\(neutral\)) "
+                     r"to the waterline", " ".join(text.split()))

@@ -455,7 +455,8 @@ def shim(
         low, high = USUAL_INCIDENCE_RANGE_DEG
         if not low <= final <= high:
             found.append(finding("incidence.shim.unusual_incidence", Severity.WARNING,
-                                 new_incidence_deg=final, low_deg=low, high_deg=high))
+                                 new_incidence_deg=final, low_deg=low, high_deg=high,
+                                 new_incidence_words=angle_words(final, *INCIDENCE_WORDS)))
     if exact_in > top_in:
         found.append(finding("incidence.shim.thicker_than_stock", Severity.WARNING,
                              thickness_in=exact_in, top_in=top_in, steps=steps,
@@ -489,7 +490,8 @@ def shim(
                            thickness_in=exact_in, thickness_mm=exact_mm)]
     if new_incidence is not None:
         verdict.append(finding("incidence.shim.new_incidence", Severity.NOTE,
-                               new_incidence_deg=new_incidence))
+                               new_incidence_deg=new_incidence,
+                               new_incidence_words=angle_words(new_incidence, *INCIDENCE_WORDS)))
     return ShimResult(
         change_deg=change, spacing_in=spacing, thickness_in=exact_in, thickness_mm=exact_mm,
         location=location, stock=stock, stock_sheets=sheets, stock_thickness_in=stock_in,

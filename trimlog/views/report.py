@@ -44,7 +44,7 @@ from trimlog.progress import SILENT, Progress
 from trimlog.views import maneuver_plots, plots, shim_drawing
 from trimlog.views import shim_text as shim_words
 from trimlog.views.advice import ASSUMED_NOTE, assumed_units, precision_sentence
-from trimlog.views.formatting import interval, number, with_interval
+from trimlog.views.formatting import incidence_words, interval, number, with_interval
 from trimlog.views.pdf_layout import Break, Heading, Para, Plot, Table, render_pdf, save_pdf
 
 if TYPE_CHECKING:
@@ -142,8 +142,8 @@ def _shim_headline(a: Analysis) -> str:
     if inc is None:
         return "no recommendation: " + (a.primary.incidence_reason or "no trim model")
     if not inc["shim_recommended"]:
-        return (f"none recommended (computed change {inc['change_deg']:+.2f} deg, 95 % "
-                f"interval {interval(inc['change_ci95_deg'], '+.2f')} deg)")
+        return (f"none recommended (computed change {incidence_words(inc['change_deg'])}, 95 % "
+                f"interval {interval(inc['change_ci95_deg'], '+.2f')} deg, leading edge up +)")
     return (f"{shim_words.headline(inc)} (attach points "
             f"{a.profile.stabilizer_attach_spacing_in:g} in apart), for an incidence change of "
             f"{inc['change_words'] or format(inc['change_deg'], '+.2f') + ' deg'}")

@@ -15,7 +15,7 @@ from typing import TYPE_CHECKING, Any
 from trimlog import cautions, findings
 from trimlog.findings import Severity
 from trimlog.views.advice import ASSUMED_NOTE, assumed_units, precision_sentence
-from trimlog.views.formatting import interval, number
+from trimlog.views.formatting import elevator_words, interval, number
 
 if TYPE_CHECKING:
     from trimlog.history.service import Trend
@@ -237,9 +237,11 @@ def _configuration_block(result: ConfigurationResult, analysis: Analysis, s: _St
         auth = [s.head("Elevator authority at the forward CG limit")]
         for case in st.authority.cases:
             auth.append(textwrap.fill(
-                f"{case.case}: CLmax {case.clmax:g} needs {case.elevator_deg:+.1f} deg elevator "
-                f"{interval(case.pi95_deg)} against the up stop {case.up_stop_deg:+.1f} deg: "
-                f"{case.verdict}", WIDTH, initial_indent="  ", subsequent_indent="    "))
+                f"{case.case}: CLmax {case.clmax:g} needs "
+                f"{elevator_words(case.elevator_deg, '.1f')} elevator (95 % "
+                f"{interval(case.pi95_deg)} deg, trailing edge down +) against the up stop at "
+                f"{elevator_words(case.up_stop_deg, '.1f')}: {case.verdict}", WIDTH,
+                initial_indent="  ", subsequent_indent="    "))
         if st.authority.most_forward_cg_conservative_pct_mac is not None:
             auth.append(
                 f"  most forward CG keeping {st.authority.reserve_deg:g} deg up elevator in "
