@@ -13,7 +13,7 @@ import pytest
 
 from trimlog.cli import EXIT_BAD_INPUT, EXIT_OK, main
 from trimlog.errors import LoadingSheetChangedError
-from trimlog.history import reimport, service
+from trimlog.history import maneuver_choices, reimport, service
 from trimlog.history.store import open_store
 from trimlog.input.loading_sheet import read_loading_sheet
 from trimlog.input.profile import parse_profile
@@ -41,10 +41,11 @@ def _moved(text: str) -> str:
             .replace("date = 2026-05-16", "date = 2026-05-17"))
 
 
-def test_a_changed_sheet_is_refused_then_replaced_on_request(location):
+def test_a_changed_sheet_is_refused_then_replaced_on_request(location, tmp_path):
     with open_store(location) as s:
         first = _import(s, SHEET)
         s.set_point_included(first.flight_id, 2, False)  # a choice the replacement must keep
+        maneuver_choices.set_exclusion_reason(s, first.flight_id, 2, "turbulence")
         cg_before = service.flight_listing(s)[0]["cg_pct_mac"]
         with pytest.raises(LoadingSheetChangedError) as refused:
             _import(s, _moved(SHEET))
@@ -65,6 +66,7 @@ def test_a_changed_sheet_is_refused_then_replaced_on_request(location):
         assert [e["sheet_text"] for e in record.loading[reimport.REPLACED]] == [SHEET]
         assert record.date.isoformat() == "2026-05-17"
         assert s.flight_points(first.flight_id)["included"].tolist()[1] is False
+        assert maneuver_choices.reasons_of(record) == {2: "turbulence"}
         # the analyses use the new sheet: the flight's CG moved by the 1.2 in typed, in %MAC
         # of the 53 in MAC (less the share of the 15 lb added, which sits at the new CG)
         cg_after = service.flight_listing(s)[0]["cg_pct_mac"]
@@ -72,6 +74,13 @@ def test_a_changed_sheet_is_refused_then_replaced_on_request(location):
         # the same sheet again: nothing to replace, said as before
         again = _import(s, _moved(SHEET))
         assert "nothing changed" in again.message
+        exported = s.export(tmp_path / "export")
+    # an export carries the earlier sheet, and a restore accepts it
+    with open_store(tmp_path / "restored.sqlite") as r:
+        r.import_export(tmp_path / "export")
+        (back,) = r.flights(r.aircraft_list()[0].id)
+        assert back.loading[reimport.REPLACED][0]["sheet_text"] == SHEET
+    assert exported
 
 
 def test_same_values_or_no_sheet_change_nothing_and_say_so(location):

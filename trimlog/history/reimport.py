@@ -150,8 +150,12 @@ def saved_again(
                      for k in (programme.SHEET_NAME, programme.SHEET_TEXT, programme.FLOWN_AT)}
                     | {"replaced_at": dt.datetime.now(dt.UTC).isoformat(timespec="seconds")})
     when = flight.when
+    # Other keys kept with the flight's details (maneuvering choices, reasons for points
+    # left out) stay; only the sheet's own keys change.
+    sheet_keys = (programme.SHEET_NAME, programme.SHEET_TEXT, programme.FLOWN_AT, REPLACED)
+    others = {k: v for k, v in (record.loading or {}).items() if k not in sheet_keys}
     details: dict[str, Any] = {
-        "loading": {**(loading or {}), REPLACED: kept},
+        "loading": {**others, **(loading or {}), REPLACED: kept},
         "date": None if when.when is None else when.when.date(),
         "incidence_label": sheet.stab_setting,
         "incidence_deg": sheet.stab_incidence_deg,

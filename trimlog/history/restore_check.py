@@ -65,9 +65,11 @@ _FLIGHT_KEYS: Final = frozenset({
     "profile_version", "points_columns", "imported_at", "points", "raw_base64"})
 # The user's choices kept with a flight (trimlog.history.maneuver_choices): maneuvering
 # points included or not, and why trim points were left out; and the maneuvering points
-# found at import (a shortcut that is found again from the log when it does not read back).
+# found at import (a shortcut that is found again from the log when it does not read back);
+# the loading sheets a later one replaced (trimlog.history.reimport).
 _LOADING_KEYS: Final = frozenset({"sheet_name", "sheet_text", "flown_at", "maneuver_included",
-                                  "exclusion_reasons", "maneuver_points_found"})
+                                  "exclusion_reasons", "maneuver_points_found",
+                                  "replaced_sheets"})
 _ANALYSIS_KEYS: Final = frozenset({"id", "aircraft_id", "created_at", "software_version",
                                    "profile_version", "flight_ids", "result"})
 #: Point column dtypes the store writes, and what a value of each must be.
@@ -364,6 +366,10 @@ def _check_flight_fields(f: Mapping[str, Any], where: str, import_rules: bool) -
     if loading is not None:
         _keys(loading, _LOADING_KEYS, f"{where}, loading_json", optional=_LOADING_KEYS)
         _iso(loading.get("flown_at"), f"{where}, loading_json.flown_at", optional=True)
+        replaced = loading.get("replaced_sheets", [])
+        if not isinstance(replaced, list) or not all(isinstance(e, dict) for e in replaced):
+            _fail(f"{where}, loading_json.replaced_sheets",
+                  f"expected a list of earlier sheets, found {_shown(replaced)}")
         if "sheet_text" in loading or "sheet_name" in loading:
             text = _text(loading.get("sheet_text"), f"{where}, loading_json.sheet_text")
             name = _text(loading.get("sheet_name"), f"{where}, loading_json.sheet_name") or "sheet"
