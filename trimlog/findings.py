@@ -177,6 +177,10 @@ _TEMPLATES: dict[str, str] = {
     "pipeline.reduction.flaps_assumed_clean": (
         "flap setting not logged nor in a loading sheet for flight(s) {flights}: taken as clean "
         "(flaps up)"),
+    "pipeline.plausibility.cl_all_tiny": (
+        "every point's CL is below {limit_cl:g} (highest {max_cl:.3f}): the speeds may be read "
+        "about 1.85x too high (km/h logged as kt) or the weight too low (kg given as lb); "
+        "check the units in the header and the loading sheet"),
     "pipeline.at_stop.included": (
         "flight '{flight}' point {point}: elevator {elevator_deg:+.1f} deg is at a stop, so the "
         "trim there is not free: included because you chose so"),

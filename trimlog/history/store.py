@@ -638,6 +638,8 @@ class Store:
                 f"this history but not {what} (importing, excluding points and restoring need a "
                 "role with write rights; see 'Roles' in DEVELOPERS.md); nothing changed")
         reason = _reason(exc) if isinstance(exc, sa.exc.DBAPIError) else str(exc)
+        if any(t in reason for t in ("disk I/O error", "disk is full", "No space left")):
+            reason += ": the disk may be full or a file-size limit reached; free some space"
         tail = "; nothing changed" if wrote else ""
         return StoreError(f"{self.path}: failed to {what} ({reason}){tail}")
 

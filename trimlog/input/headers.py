@@ -613,13 +613,26 @@ def conversion_text(meaning: HeaderMeaning) -> str:
     return text + (f" {meaning.offset:+.6g}" if meaning.offset else "")
 
 
+def _finite_or_nan(cell: object) -> float:
+    """A cell as a finite float, else NaN (text, overflow, infinity)."""
+    try:
+        value = float(str(cell).strip())
+    except (TypeError, ValueError, OverflowError):
+        return np.nan
+    return value if np.isfinite(value) else np.nan
+
+
 def numeric_values(
     column: pd.Series, header: str, lines: np.ndarray, notes: Notes
 ) -> np.ndarray:
     """Return a column as floats; cells that are not numbers become NaN, counted."""
     if pd.api.types.is_numeric_dtype(column) and not pd.api.types.is_bool_dtype(column):
         return column.to_numpy(dtype=float, na_value=np.nan)
-    values = pd.to_numeric(column, errors="coerce")
+    try:
+        values = pd.to_numeric(column, errors="coerce")
+    except OverflowError:  # an integer of hundreds of digits: beyond any float, not a number
+        values = pd.Series([_finite_or_nan(v) for v in column], index=column.index,
+                           dtype=float)
     not_number = values.isna().to_numpy() & column.notna().to_numpy()
     if not_number.any():
         example = column[not_number].iloc[0]

@@ -27,6 +27,7 @@ from trimlog.findings import Finding, Severity, Subject, finding
 from trimlog.input.profile import AircraftProfile
 from trimlog.physics import airspeed
 from trimlog.physics import mass_balance as loading
+from trimlog.pipeline.plausibility import check_units_plausible
 
 #: A CG this far outside the profile's limits [%MAC] is taken as a loading error.
 CG_IMPLAUSIBLE_BEYOND_LIMITS_PCT_MAC = 15.0
@@ -86,8 +87,9 @@ def reduce_points(
     Raises
     ------
     InputFileError
-        A flight with neither weight/CG columns nor a loading sheet, or a CG
-        far outside the aircraft's limits.
+        A flight with neither weight/CG columns nor a loading sheet, a CG
+        far outside the aircraft's limits, or a weight or lift coefficient
+        no aircraft can have (a unit mistake; see ``pipeline.plausibility``).
     """
     loadings = dict(loadings or {})
     out = points.copy()
@@ -97,8 +99,11 @@ def reduce_points(
     stopped = ~(out["cas_kt"] > 0.0)
     if stopped.any():
         where = _where(out, stopped)
+        speed = out.loc[stopped, "cas_kt"].iloc[0]
+        shown = "missing (the airspeed cell is empty or not a number)" if np.isnan(speed) else (
+            f"{speed:g} kt")
         raise InputFileError(
-            f"{where['prefix']}calibrated airspeed {out.loc[stopped, 'cas_kt'].iloc[0]:g} kt: a "
+            f"{where['prefix']}calibrated airspeed {shown}: a "
             "trim point needs forward speed (expected more than 0 kt)",
             file=where["file"], line=where["line"], column="cas_kt",
         )
@@ -119,6 +124,7 @@ def reduce_points(
                              Subject(quantity="nz_g")))
     out["nz_g"] = out["nz_g"].fillna(1.0)
 
+    weight_logged = "weight_lb" in out and bool(out["weight_lb"].notna().all())
     _weight_and_cg(out, profile, loadings, found)
     out["h"] = (out["cg_in"] - profile.lemac_in) / profile.mac_in
     out["cg_pct_mac"] = 100.0 * out["h"]
@@ -127,6 +133,7 @@ def reduce_points(
     out["cl"] = airspeed.lift_coefficient(
         out["weight_lb"], out["eas_kt"], profile.wing_area_ft2, out["nz_g"]
     )
+    check_units_plausible(out, profile, weight_logged, found)
     if "stick_force_lbf" in out:
         out["fs_over_q_ft2"] = out["stick_force_lbf"] / out["q_psf"]
     else:
