@@ -122,3 +122,11 @@ def minimal_profile():
     from trimlog.input.profile import parse_profile
 
     return parse_profile(MINIMAL_PROFILE_TEXT, "minimal.toml")
+
+
+@pytest.fixture(scope="session")
+def demo_analysis(demo_flights, demo_profile):
+    """The analysis of the whole demo programme, once for the session (views only read it)."""
+    from trimlog.pipeline import chain
+
+    return chain.analyze(list(demo_flights), demo_profile)

@@ -22,8 +22,8 @@ def flights(demo_flights):
 
 
 @pytest.fixture(scope="module")
-def result(flights, demo_profile):
-    return analysis.analyze(flights, demo_profile)
+def result(demo_analysis):
+    return demo_analysis
 
 
 def _inside(value, interval):

@@ -7,7 +7,6 @@ on its axes, not the statistics themselves (tests/test_stability.py does).
 
 from __future__ import annotations
 
-from pathlib import Path
 from types import SimpleNamespace
 
 import matplotlib
@@ -27,16 +26,10 @@ from trimlog.stability.margins import predict_elevator
 from trimlog.views import plots
 from trimlog.views.json_export import analysis_to_dict
 
-SAMPLES = Path(__file__).resolve().parents[2] / "sample_logs"
-
 
 @pytest.fixture(scope="module")
-def demo():
-    profile = analysis.load_profile(SAMPLES / "tinkerfinch_tf2.toml")
-    flights = []
-    for path in sorted(SAMPLES.glob("*.csv")):
-        flights += analysis.load_flight_file(path, profile)
-    return profile, flights, analysis.analyze(flights, profile)
+def demo(demo_profile, demo_flights, demo_analysis):
+    return demo_profile, list(demo_flights), demo_analysis  # once per session (conftest.py)
 
 
 @pytest.fixture(scope="module")

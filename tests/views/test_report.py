@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import errno
 import re
-from pathlib import Path
 
 import pytest
 from matplotlib.backends.backend_pdf import PdfPages
@@ -20,8 +19,6 @@ from trimlog.errors import TrimlogError
 from trimlog.pipeline import chain as analysis
 from trimlog.views import report
 from trimlog.views.json_export import analysis_to_dict
-
-SAMPLES = Path(__file__).resolve().parents[2] / "sample_logs"
 
 TREND = [  # synthetic trend records in the history module's shape (no real flights)
     {"n_flights": 1, "label": "flight1_points", "stick_fixed_pct_mac": None,
@@ -47,18 +44,13 @@ def _body(pages: list[str]) -> str:
 
 
 @pytest.fixture(scope="module")
-def demo():
-    profile = analysis.load_profile(SAMPLES / "tinkerfinch_tf2.toml")
-    flights = []
-    for path in sorted(SAMPLES.glob("*.csv")):
-        flights += analysis.load_flight_file(path, profile)
-    return profile, flights
+def demo(demo_profile, demo_flights):
+    return demo_profile, list(demo_flights)  # read once for the session (tests/conftest.py)
 
 
 @pytest.fixture(scope="module")
-def full(demo):
-    profile, flights = demo
-    return analysis.analyze(flights, profile)
+def full(demo_analysis):
+    return demo_analysis
 
 
 @pytest.fixture(scope="module")

@@ -7,27 +7,19 @@ Assertions are on codes and on where a text sits, not on the catalogue's wording
 from __future__ import annotations
 
 import dataclasses
-from pathlib import Path
 
 import pytest
 
 from trimlog import cautions, findings
 from trimlog.findings import CATALOGUE, READING_NOTE_CODES, Severity, template_fields
-from trimlog.pipeline import chain as analysis
 from trimlog.stability.results import NextCg
 from trimlog.views import terminal
 from trimlog.views.advice import assumed_units, precision_sentence
 
-SAMPLES = Path(__file__).resolve().parents[2] / "sample_logs"
-
 
 @pytest.fixture(scope="module")
-def demo():
-    profile = analysis.load_profile(SAMPLES / "tinkerfinch_tf2.toml")
-    flights = []
-    for path in sorted(p for p in SAMPLES.glob("*.csv") if p.is_file()):
-        flights += analysis.load_flight_file(path, profile)
-    return analysis.analyze(flights, profile)
+def demo(demo_analysis):
+    return demo_analysis  # the demo programme, analysed once per session (conftest.py)
 
 
 @pytest.fixture(scope="module")
