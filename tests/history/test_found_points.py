@@ -38,8 +38,8 @@ def programme(tmp_path_factory):
     """A history of the demo's time-series logs and synthetic tables with turns."""
     directory = tmp_path_factory.mktemp("kept")
     rng = np.random.default_rng(5)
-    logs = list(DEMO_LOGS)
-    for k, h in enumerate(CGS[:3], 1):
+    logs = list(DEMO_LOGS[:3])  # a point table and two time-series logs with turns
+    for k, h in enumerate(CGS[:2], 1):
         path = directory / f"turns{k}.csv"
         path.write_text(_point_table(h, rng))
         logs.append(path)
@@ -129,3 +129,24 @@ def test_set_flight_detail_keeps_the_other_keys(programme, tmp_path):
         store.set_flight_detail(r.id, "extra", {"a": 1})
         after = store.flight(r.id).loading
         assert after == {**before, "extra": {"a": 1}}
+
+
+def test_catch_up_and_detail_on_either_engine(location, tmp_path):
+    """The catch-up writes one key per flight and keeps the others (SQLite and PostgreSQL)."""
+    rng = np.random.default_rng(11)
+    with open_store(location) as store:
+        for k, h in enumerate(CGS[:2], 1):
+            path = tmp_path / f"either{k}.csv"
+            path.write_text(_point_table(h, rng))
+            history.import_log(store, path, profile_text=PROFILE.read_text(),
+                               profile_source="profile")
+        expected = history._maneuvering_points(store, history._load(store, None))
+        assert history.keep_found_points(store) == 0  # kept at import already
+        _strip_kept(store)
+        store.set_flight_detail(store.flights(1)[0].id, "extra", {"a": 1})
+        assert history.keep_found_points(store) == 2
+        first = store.flights(1)[0]
+        assert first.loading["extra"] == {"a": 1} and choices.FOUND_KEY in first.loading
+        again = history._maneuvering_points(store, history._load(store, None))
+    for a, b in zip(again, expected, strict=True):
+        pd.testing.assert_frame_equal(a, b)
