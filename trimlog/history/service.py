@@ -394,15 +394,17 @@ def flight_listing(store: Store, aircraft: str | None = None) -> list[dict[str, 
     the ids needed to fix or exclude them can be seen.
     """
     record = _aircraft(store, aircraft)
-    records = store.flights(record.id)
-    names = _flight_names(records)
     try:
         stored = _load(store, aircraft)
+    except TrimlogError:
+        records = store.flights(record.id)
+        return list(_listing_rows(records, _flight_names(records), {}))
+    try:  # the flights as read for the reduction (one snapshot), not read a second time
         reduced, _, config = _reduce(stored)
         cg_by_flight = _cg_by_flight(reduced, config)
     except TrimlogError:
         cg_by_flight = {}
-    return list(_listing_rows(records, names, cg_by_flight))
+    return list(_listing_rows(stored.records, stored.names, cg_by_flight))
 
 
 def _reduce(stored: _Stored) -> tuple[pd.DataFrame | None, list[Finding], str]:
