@@ -167,5 +167,7 @@ def _refuse_high_cl(points: pd.DataFrame, profile: AircraftProfile, i: int, limi
         f"{row['weight_lb']:,.0f} lb, is above {limit:.2f} ({CL_MARGIN:g} x {source}, "
         f"{clmax:g}): the speed {row['eas_kt']:.0f} kt EAS is below the stall speed "
         f"{stall:.0f} kt EAS for that weight ({count} such point(s)), which no trim point can "
-        f"fly. Likely a unit mistake: {likely or 'check the speed, weight and wing area units'}",
+        f"fly. Likely a unit mistake: {likely or 'check the speed, weight and wing area units'}"
+        + ("; or the profile's CLmax (aircraft.clmax_clean / clmax_landing) is set too low"
+           if clmaxes else ""),
         file=file, line=line, column=speed_column)
