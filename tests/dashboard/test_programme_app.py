@@ -151,8 +151,10 @@ def test_declared_dependencies_and_floors():
     project = tomllib.loads((ROOT / "pyproject.toml").read_text())["project"]
     deps = {re.split(r"[<>=]", d)[0]: d for d in project["dependencies"]}
     assert "scipy" in deps  # imported by statistics/ (scipy.special, scipy.stats lazily)
-    # st.html(unsafe_allow_javascript=...) first appears in streamlit 1.52.0 (absent in 1.51.0)
-    assert deps["streamlit"] == "streamlit>=1.52"
+    # st.html(unsafe_allow_javascript=...) first appears in streamlit 1.52.0 (absent in 1.51.0);
+    # 1.56.0 is the first release whose requirements accept pandas 3 (the pandas floor; pip
+    # refuses pandas 3.0.0 with streamlit 1.55.0), so the floor is 1.56
+    assert deps["streamlit"] == "streamlit>=1.56"
 
 
 def test_a_loading_sheet_made_on_the_page_is_read_like_a_file(tmp_path):
