@@ -26,6 +26,7 @@ References
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass, fields
 from typing import Any, Literal
 
@@ -353,6 +354,7 @@ def shim(
     round_down: bool = False,
     elevator_ci95_deg: tuple[float, float] | None = None,
     tau_ci95: tuple[float, float] | None = None,
+    residual_ci95: Callable[[float], tuple[float, float]] | None = None,
 ) -> ShimResult:
     """Size the shim for an incidence change, rounded to practical stock.
 
@@ -379,6 +381,10 @@ def shim(
     elevator_ci95_deg, tau_ci95 : (float, float), optional
         95 % intervals of the elevator at cruise [deg] and of tau [-], to
         give the residual elevator its interval.
+    residual_ci95 : callable, optional
+        ``f(stock_change_deg) -> (lo, hi)``: the residual elevator's 95 %
+        interval from a joint model (tau flight-calibrated from the same fit
+        as the elevator); used instead of the independent Monte Carlo.
 
     Returns
     -------
@@ -442,7 +448,9 @@ def shim(
             raise TrimlogError(f"tau: expected > 0, found {t:g}")
         de = _finite("elevator_cruise_deg", elevator_cruise_deg)
         residual = de - stock_change / t
-        if elevator_ci95_deg is not None and tau_ci95 is not None:
+        if residual_ci95 is not None:
+            residual_ci = residual_ci95(stock_change)
+        elif elevator_ci95_deg is not None and tau_ci95 is not None:
             residual_ci = _residual_interval(
                 de, _interval("elevator_ci95_deg", elevator_ci95_deg, de), t,
                 _interval("tau_ci95", tau_ci95, t), stock_change)
@@ -616,6 +624,8 @@ def recommend_incidence(
     spacing_in: float,
     current_incidence_deg: float | None = None,
     stock: Literal["inch", "metric"] = "inch",
+    change: IncidenceChange | None = None,
+    residual_ci95: Callable[[float], tuple[float, float]] | None = None,
 ) -> IncidenceRecommendation:
     """Recommend the incidence change and the shim for the elevator at cruise.
 
@@ -639,6 +649,13 @@ def recommend_incidence(
         Present incidence to the waterline [deg].
     stock : {"inch", "metric"}
         Shim stock list to round to.
+    change : IncidenceChange, optional
+        The change with its interval when computed jointly with tau (tau
+        flight-calibrated from the same fit:
+        :func:`trimlog.incidence.before_after.joint_incidence_change`);
+        default :func:`incidence_change` (inputs independent).
+    residual_ci95 : callable, optional
+        Passed to :func:`shim` (the residual elevator's joint interval).
 
     Returns
     -------
@@ -666,13 +683,14 @@ def recommend_incidence(
     cg = _finite("cruise_cg_pct_mac", cruise_cg_pct_mac)
     de = _finite("elevator_cruise_deg", elevator_cruise_deg)
     de_ci = _interval("elevator_ci95_deg", elevator_ci95_deg, de)
-    change = incidence_change(de, de_ci, tau.tau, tau.ci95)
+    if change is None:
+        change = incidence_change(de, de_ci, tau.tau, tau.ci95)
     step, basis = first_step(change, tau)
     cut = shim(
         step, spacing_in, change_ci95_deg=change.ci95_deg,
         elevator_cruise_deg=de, tau=tau.tau, current_incidence_deg=current_incidence_deg,
         stock=stock, round_down=basis == "first step", elevator_ci95_deg=de_ci,
-        tau_ci95=tau.ci95,
+        tau_ci95=tau.ci95, residual_ci95=residual_ci95,
     )
     step_words: tuple[Finding, ...] = ()
     if basis == "first step" and cut.recommended:

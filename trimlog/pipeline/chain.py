@@ -24,6 +24,7 @@ from trimlog import __version__, cautions
 from trimlog.errors import InputFileError, NotIdentifiableError, TrimlogError
 from trimlog.files import file_stem
 from trimlog.findings import Finding, Severity, Subject, finding, lines
+from trimlog.incidence import before_after as beforeafter
 from trimlog.incidence import shim as incidence
 from trimlog.incidence import tau
 from trimlog.input.loading_sheet import LoadingSheet, read_loading_sheet
@@ -110,6 +111,9 @@ class ConfigurationResult:
     incidence_reason: str
     tau: tau.TauChoice | None
     tau_calibration: tau.TauCalibration | None
+    #: The elevator at cruise before and after an incidence change and the tau they
+    #: imply (None without two settings of known incidence, or no CG term).
+    before_after: beforeafter.BeforeAfter | None = None
 
 
 @dataclass(frozen=True)
@@ -666,17 +670,21 @@ def _analyze_configuration(
     flap_config = "landing" if config.startswith("flaps") and not config.startswith(
         "flaps 0 ") else "clean"
     result = stability.analyze_stability(points, profile, flap_config=flap_config)
-    calibration = _calibrate_tau(result, points)
+    joint = _before_after(result, points, profile)
+    calibration = joint[0].calibration() if joint is not None else _calibrate_tau(result, points)
     try:
         choice = tau.choose_tau(calibration, profile.tau, profile.elevator_chord_ratio)
     except NotIdentifiableError as exc:
-        return ConfigurationResult(config, result, None, str(exc), None, calibration)
-    recommendation, reason = _recommend(result, points, profile, choice)
-    return ConfigurationResult(config, result, recommendation, reason, choice, calibration)
+        return ConfigurationResult(config, result, None, str(exc), None, calibration,
+                                   joint[0] if joint else None)
+    recommendation, reason = _recommend(result, points, profile, choice, joint)
+    return ConfigurationResult(config, result, recommendation, reason, choice, calibration,
+                               joint[0] if joint else None)
 
 
-def _calibrate_tau(result: StabilityResult, points: pd.DataFrame) -> tau.TauCalibration | None:
-    """τ from the intercept shift between the first and the latest stabilizer setting."""
+def _two_settings(result: StabilityResult, points: pd.DataFrame
+                  ) -> tuple[str, str, float, float] | None:
+    """The first and latest stabilizer settings and their incidences, when they differ."""
     fit = result.stick_fixed
     if fit.linear is None or not fit.has_cg_term or len(fit.groups) < 2:
         return None
@@ -687,6 +695,31 @@ def _calibrate_tau(result: StabilityResult, points: pd.DataFrame) -> tau.TauCali
         math.isfinite(i_first) and math.isfinite(i_latest)
     ) or i_first == i_latest:
         return None
+    return str(first), str(latest), float(i_first), float(i_latest)
+
+
+def _before_after(result: StabilityResult, points: pd.DataFrame, profile: AircraftProfile
+                  ) -> tuple[beforeafter.BeforeAfter, margins.CruiseElevators] | None:
+    """The elevator at cruise under the first and latest settings, from one flight-level fit."""
+    pair = _two_settings(result, points)
+    if pair is None or result.stick_fixed.flight_level is None or \
+            result.stick_fixed.flight_level.cov_full is None:
+        return None
+    first, latest, i_first, i_latest = pair
+    cruise_cl = incidence.cruise_lift_coefficient(profile)
+    h_cruise = (profile.cruise_cg_in - profile.lemac_in) / profile.mac_in
+    elevators = margins.cruise_elevators(result.stick_fixed, cruise_cl, h_cruise,
+                                         (first, latest))
+    return beforeafter.before_after(elevators, first, latest, i_first, i_latest), elevators
+
+
+def _calibrate_tau(result: StabilityResult, points: pd.DataFrame) -> tau.TauCalibration | None:
+    """τ from the intercept shift of the independent-points fit (no flight-level fit)."""
+    pair = _two_settings(result, points)
+    if pair is None:
+        return None
+    fit = result.stick_fixed
+    first, latest, i_first, i_latest = pair
     intercepts, cov = fit.intercepts(), fit.intercept_cov()
     shift = float(intercepts[latest] - intercepts[first])
     variance = float(cov.loc[first, first] + cov.loc[latest, latest] - 2.0 * cov.loc[first, latest])
@@ -750,6 +783,7 @@ def _recommend(
     points: pd.DataFrame,
     profile: AircraftProfile,
     choice: tau.TauChoice,
+    joint: tuple[beforeafter.BeforeAfter, margins.CruiseElevators] | None = None,
 ) -> tuple[incidence.IncidenceRecommendation | None, str]:
     fit = result.stick_fixed
     if fit.linear is None:
@@ -762,20 +796,33 @@ def _recommend(
         return None, str(exc)
     if prediction.ci95_deg is None:
         return None, "the elevator at cruise has no interval"
+    elevator, elevator_ci = prediction.elevator_deg, prediction.ci95_deg
+    if fit.flight_level is not None and fit.flight_level.cov_full is not None:
+        # the headline model (errors shared by a flight), as for the neutral points
+        level = margins.cruise_elevators(fit, cruise_cl, h_cruise, (prediction.setting,))
+        elevator, elevator_ci = level.elevator_deg[0], level.ci95(prediction.setting)
     why_not = margins.cannot_say_yet(fit, 100.0 * h_cruise, "the cruise CG")
-    half = 0.5 * (prediction.ci95_deg[1] - prediction.ci95_deg[0])
+    half = 0.5 * (elevator_ci[1] - elevator_ci[0])
     if not why_not and half > margins.MAX_CRUISE_ELEVATOR_HALF_WIDTH_DEG:
         why_not = (f"cannot say yet: the elevator at cruise is known only to +-{half:.1f} deg "
                    "(95 %); more cruise-speed trim points near the cruise CG would settle it")
     if why_not:
         return None, why_not
+    change = residual = None
+    if joint is not None and choice.tau_source == "flight-calibrated":
+        # tau and the elevator at cruise come from the same intercepts: one joint interval
+        ba, elevators = joint
+        elevator, elevator_ci = ba.elevator_after_deg, ba.elevator_after_ci95_deg
+        change = beforeafter.joint_incidence_change(ba, elevators)
+        residual = beforeafter.joint_residual_interval(ba, elevators) if change else None
     recommendation = incidence.recommend_incidence(
         cruise_cl=cruise_cl,
         cruise_cg_pct_mac=100.0 * h_cruise,
-        elevator_cruise_deg=prediction.elevator_deg,
-        elevator_ci95_deg=prediction.ci95_deg,
+        elevator_cruise_deg=elevator,
+        elevator_ci95_deg=elevator_ci,
         tau=choice,
         spacing_in=profile.stabilizer_attach_spacing_in,
         current_incidence_deg=_latest_incidence(points, fit.latest_group, profile),
+        change=change, residual_ci95=residual,
     )
     return recommendation, ""

@@ -28,6 +28,7 @@ from trimlog.input.profile import AircraftProfile
 from trimlog.stability.critical import MIN_CG_SPREAD_PCT_MAC, margin_limit
 from trimlog.stability.results import (
     AuthorityCase,
+    CruiseElevators,
     ElevatorAuthority,
     ElevatorPrediction,
     NeutralPoint,
@@ -208,6 +209,86 @@ def predict_elevator(fit: PooledFit, cl: float, h: float, setting: str | None = 
                         f"({cg_lo:.1f}-{cg_hi:.1f} %MAC): extrapolated")
     return ElevatorPrediction(float(value), ci, pi, float(cl), 100.0 * h, setting,
                               tuple(warnings))
+
+
+def cruise_elevators(fit: PooledFit, cl: float, h: float,
+                     settings: tuple[str, ...] | None = None) -> CruiseElevators:
+    """Elevator to trim at one CL and CG under several settings, with their joint covariance.
+
+    Parameters
+    ----------
+    fit : PooledFit
+        The stick-fixed pooled fit.
+    cl : float
+        Lift coefficient [-] (the cruise CL).
+    h : float
+        CG as a fraction of the MAC [-].
+    settings : tuple of str, optional
+        Stabilizer settings flown; default every setting of the fit.
+
+    Returns
+    -------
+    CruiseElevators
+        From the flight-level model (errors shared by a flight, the
+        headline) when its full covariance is available, else from the
+        ordinary pooled fit.
+
+    Raises
+    ------
+    TrimlogError
+        A stick-free fit, a setting not flown, non-finite input.
+    NotIdentifiableError
+        No model could be fitted.
+
+    Notes
+    -----
+    ``delta_e(s) = a[s] + b CL + c h CL``; each value is the contrast
+    ``x_s' beta`` and the covariance ``X' V X`` of the model's coefficient
+    covariance ``V`` (Montgomery, Peck and Vining (2012), sec. 3.4).
+
+    Examples
+    --------
+    >>> import numpy as np, pandas as pd
+    >>> from trimlog.stability.neutral_points import pooled_fit
+    >>> cl = np.tile([0.3, 0.5, 0.7, 0.9], 4)
+    >>> h = np.repeat([0.15, 0.22, 0.29, 0.22], 4)
+    >>> s = np.repeat(["a", "a", "a", "b"], 4)
+    >>> de = 2.0 + (0.40 - h) * cl / -0.0227 + np.where(s == "b", 1.2, 0.0)
+    >>> de = de + 0.01 * np.tile([1, -1, -1, 1], 4)
+    >>> pts = pd.DataFrame({"flight": np.repeat(["1", "2", "3", "4"], 4), "point": 1,
+    ...                     "included": True, "cl": cl, "elevator_deg": de, "h": h,
+    ...                     "stab_setting": s})
+    >>> ce = cruise_elevators(pooled_fit(pts), 0.3, 0.22)
+    >>> round(ce.elevator_deg[1] - ce.elevator_deg[0], 2), ce.method
+    (1.2, 'flight_level')
+    """
+    if fit.kind != "stick_fixed":
+        raise TrimlogError("cruise_elevators: expected the stick-fixed fit, found the "
+                           f"{fit.kind} one")
+    fit._require()
+    if not (math.isfinite(cl) and math.isfinite(h)):
+        raise TrimlogError(f"cruise_elevators: expected finite cl and h, found {cl!r}, {h!r}")
+    settings = tuple(fit.groups) if settings is None else tuple(str(s) for s in settings)
+    for s in settings:
+        if s not in fit.groups:
+            raise TrimlogError(f"cruise_elevators: stabilizer setting '{s}' was not flown; "
+                               "expected one of " + ", ".join(f"'{g}'" for g in fit.groups))
+    rows = [{f"a[{s}]": 1.0, "cl": cl, "h_cl": h * cl} for s in settings]
+    level = fit.flight_level
+    if level is not None and level.cov_full is not None and fit.has_cg_term:
+        names = [f"a[{g}]" for g in level.group_labels] + ["cl", "h_cl"]
+        x = np.array([[r.get(n, 0.0) for n in names] for r in rows])
+        values, cov, df, method = x @ level.coef_full, x @ level.cov_full @ x.T, level.df, \
+            "flight_level"
+    else:
+        names = list(fit.linear.params.index)
+        x = np.array([[r.get(n, 0.0) for n in names] for r in rows])
+        values = x @ fit.linear.params.to_numpy()
+        cov = x @ fit.linear.cov.to_numpy() @ x.T
+        df, method = float(fit.linear.df_resid), "independent"
+    return CruiseElevators(settings, float(cl), 100.0 * float(h),
+                           tuple(float(v) for v in values), np.asarray(cov, dtype=float),
+                           float(df), method)
 
 
 def elevator_stop_flags(points: pd.DataFrame, up_stop_deg: float, down_stop_deg: float

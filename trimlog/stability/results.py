@@ -507,6 +507,51 @@ class ElevatorPrediction:
     warnings: tuple[str, ...] = ()
 
 
+@dataclass(frozen=True, eq=False)
+class CruiseElevators:
+    """Elevator to trim at one CL and CG under several stabilizer settings, jointly.
+
+    The values share the slopes of one fit, and the intercept of a setting
+    appears in each contrast that uses it, so their errors are correlated:
+    ``cov`` keeps that, for the incidence change (elevator at cruise over the
+    intercept shift) and the before/after comparison.
+
+    Attributes
+    ----------
+    settings : tuple of str
+        Stabilizer settings, in the order of ``elevator_deg``.
+    cl : float
+        Lift coefficient [-].
+    cg_pct_mac : float
+        CG [%MAC].
+    elevator_deg : tuple of float
+        Elevator to trim under each setting [deg, trailing-edge down positive].
+    cov : numpy.ndarray
+        Their covariance [deg^2].
+    df : float
+        Degrees of freedom of the t quantile.
+    method : str
+        ``"flight_level"`` (errors shared by a flight, the headline model) or
+        ``"independent"`` (every point independent; used only when the
+        flight-level model could not be fitted).
+    """
+
+    settings: tuple[str, ...]
+    cl: float
+    cg_pct_mac: float
+    elevator_deg: tuple[float, ...]
+    cov: object
+    df: float
+    method: str
+
+    def ci95(self, setting: str) -> tuple[float, float]:
+        """95 % t interval of the elevator under one setting [deg]."""
+        from trimlog.statistics.fits import t_quantile
+        i = self.settings.index(setting)
+        half = t_quantile(self.df) * float(self.cov[i, i]) ** 0.5
+        return (self.elevator_deg[i] - half, self.elevator_deg[i] + half)
+
+
 @dataclass(frozen=True)
 class StopFlag:
     """An included point whose elevator is at (within 0.5 deg of) a stop."""

@@ -73,6 +73,15 @@ class FlightLevelFit:
     tau2_excess : float
         Estimated excess slope variance between flights (DerSimonian-Laird).
     n_flights : int
+    group_labels : tuple of str
+        Intercept labels in the order of ``coef_full`` (sorted), when the full
+        covariance was computed (few groups, e.g. stabilizer settings).
+    coef_full : numpy.ndarray or None
+        ``[a[group]..., b, c]`` from the same GLS (None for many groups).
+    cov_full : numpy.ndarray or None
+        Their covariance: what a contrast of intercepts and slopes (the
+        elevator at cruise, the intercept shift that calibrates tau) needs,
+        with the correlations between them.
     """
 
     b: float
@@ -84,6 +93,42 @@ class FlightLevelFit:
     tau2_declared: np.ndarray
     tau2_excess: float
     n_flights: int
+    group_labels: tuple[str, ...] = ()
+    coef_full: np.ndarray | None = None
+    cov_full: np.ndarray | None = None
+
+    def contrast(self, weights: dict[str, float]) -> tuple[float, float]:
+        """Estimate and variance of a linear combination of the coefficients.
+
+        Parameters
+        ----------
+        weights : dict
+            Weight of each coefficient, keyed ``"a[<group>]"``, ``"cl"`` or
+            ``"h_cl"`` (the names of the pooled fit); others are zero.
+
+        Returns
+        -------
+        (float, float)
+            ``sum w_j beta_j`` and its variance under the flight-level model.
+
+        Raises
+        ------
+        KeyError
+            The full covariance was not computed, or an unknown name.
+        """
+        if self.coef_full is None or self.cov_full is None:
+            raise KeyError("full covariance not computed for this fit")
+        names = [f"a[{g}]" for g in self.group_labels] + ["cl", "h_cl"]
+        x = np.zeros(len(names))
+        for name, w in weights.items():
+            x[names.index(name)] = float(w)
+        return float(x @ self.coef_full), float(x @ self.cov_full @ x)
+
+
+#: Most intercept groups for which the full covariance (intercepts and slopes together)
+#: is computed by the dense solve; beyond it (stick-free: one intercept per flight) only
+#: the 2x2 block of the slopes is kept.
+MAX_GROUPS_FOR_FULL_COVARIANCE = 16
 
 
 def _codes(values: np.ndarray) -> tuple[np.ndarray, int]:
@@ -316,5 +361,27 @@ def fit_flight_level(
     denom = within**2 / df_w + (extra**2 / (k - 2) if k > 2 and extra > 0.0 else 0.0)
     df = total**2 / denom if denom > 0.0 else float(df_w)
     df = float(min(max(df, 1.0), df_w if extra == 0.0 else math.inf))
+    labels, full_coef, full_cov = (), None, None
+    if n_groups <= MAX_GROUPS_FOR_FULL_COVARIANCE:
+        full_coef, full_cov = _full_solution(y, cl, h, w, f, k, g_codes, n_groups, sigma2,
+                                             declared + excess)
+        if full_coef is not None:
+            labels = tuple(str(v) for v in np.unique(np.asarray(group).astype(str)))
     return FlightLevelFit(float(coef[-2]), float(coef[-1]), np.array(cov, dtype=float), df,
-                          sigma2, int(df_w), declared, float(excess), k)
+                          sigma2, int(df_w), declared, float(excess), k, labels, full_coef,
+                          full_cov)
+
+
+def _full_solution(y, cl, h, w, f, k, g_codes, n_groups, sigma2, tau2):
+    """Every coefficient ``[a[group]..., b, c]`` and their covariance (the dense GLS)."""
+    x = np.zeros((len(y), n_groups + 2))
+    x[np.arange(len(y)), g_codes] = 1.0
+    x[:, -2] = cl
+    x[:, -1] = h * cl
+    try:
+        coef, cov = _gls(y, x, cl, w, f, k, sigma2, tau2)
+    except np.linalg.LinAlgError:
+        return None, None
+    if not (np.all(np.isfinite(coef)) and np.all(np.isfinite(cov))):
+        return None, None
+    return np.asarray(coef, dtype=float), np.asarray(cov, dtype=float)

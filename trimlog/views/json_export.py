@@ -82,6 +82,13 @@ INCIDENCE_KEYS = (  # the issue's contract keys first, then the extras
     "residual_elevator_ci95_deg", "elevator_at_cruise_words", "change_words",
     "shim_step_thickness_in",
 )
+BEFORE_AFTER_KEYS = (
+    "setting_before", "setting_after", "incidence_before_deg", "incidence_after_deg",
+    "incidence_change_deg", "cruise_cl", "cruise_cg_pct_mac", "elevator_before_deg",
+    "elevator_before_ci95_deg", "elevator_after_deg", "elevator_after_ci95_deg",
+    "elevator_change_deg", "elevator_change_ci95_deg", "implied_tau", "implied_tau_ci95",
+    "df", "method", "reason",
+)
 REQUIREMENT_KEYS = (
     "control", "limit_load_factor_g", "force_to_limit_lbf", "per_g_23_155_lbf",
     "per_g_common_practice_lbf", "minimum_per_g_lbf", "assumed",
@@ -293,6 +300,7 @@ def configuration_dict(result: ConfigurationResult, analysis: Analysis) -> dict[
         "incidence": _record(result.incidence, INCIDENCE_KEYS),
         "incidence_reason": result.incidence_reason or None,
         "tau_calibration": _record(result.tau_calibration, TAU_CALIBRATION_KEYS),
+        "before_after": _record(result.before_after, BEFORE_AFTER_KEYS),
     }
 
 
