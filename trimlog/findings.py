@@ -275,6 +275,56 @@ _TEMPLATES: dict[str, str] = {
         "{upper95_lbf:.1f}), below the minimum {minimum_lbf:.1f} lbf/g or not clearly above it"),
     "stability.maneuver.not_identifiable": (
         "maneuvering: {kind} maneuver point cannot be said yet: {reason}"),
+    "stability.trim.assumed_tab": (
+        "trim system not declared (trim.system in the profile): the stick-force results assume "
+        "a trim tab, which trims the force to zero at the trim speed; declare the system if it "
+        "is a spring, an all-moving tail, a trimmable stabilizer or none"),
+    "stability.trim.spring": (
+        "spring (bungee) trim: the spring adds a force that does not grow with speed, which in "
+        "1 g trim points reads as part of each flight's Fs/q slope; the stick-free neutral point "
+        "shown is the apparent one at the spring settings flown (a downspring's pull moves it "
+        "aft), not the airframe's. Fly every CG with the spring at one recorded setting to "
+        "compare flights; judge each flight by its gradient at the trim speed and free return"),
+    "stability.trim.spring.np_free_not_identifiable": (
+        "stick-free neutral point cannot be said with a spring trim from these flights: the "
+        "spring's force at each flight's setting cannot be told apart from stick-free "
+        "stability in 1 g trim points, and another CG would not separate them ({reason}). Fly "
+        "the CGs with the spring at one recorded setting, and judge each flight by its "
+        "stick-force gradient at the trim speed and its free return"),
+    "stability.trim.stabilator": (
+        "all-moving tail (stabilator): the logged elevator is the tail's angle and its tab trims "
+        "the force as a trim tab does; there is no fixed stabilizer incidence, so no shim "
+        "applies"),
+    "stability.trim.trimmable_stabilizer": (
+        "trimmable stabilizer: the trim moves the stabilizer incidence, so each point's "
+        "stabilizer angle must be logged (stab_incidence_deg) for the trim lines to mean "
+        "anything; the elevator at trim stays near neutral whatever the CG, and no shim "
+        "applies"),
+    "stability.trim.none": (
+        "no pitch trim: the stick force is zero only at the one speed the aircraft trims itself "
+        "(the trim speed shown) and the pilot holds a force everywhere else; nothing changes "
+        "the stick-force intercept between flights"),
+    "stability.free_return.no_friction": (
+        "free return (14 CFR 23.173(b)) not checked: give the stick-force friction band as "
+        "trim.friction in the profile (half-width, e.g. \"0.5 lbf\")"),
+    "stability.free_return.cannot_say": (
+        "flight '{flight}': free return cannot be said yet: the stick-force gradient at the "
+        "trim speed {trim_eas_kt:.0f} kt EAS is not clearly stable, so with {friction_lbf:.2g} "
+        "lbf of friction the stick may stay where it is left at any speed"),
+    "stability.free_return.too_wide": (
+        "flight '{flight}': with {friction_lbf:.2g} lbf of friction the stick stays where it is "
+        "left between {band_lo_kt:.0f} and {band_hi_kt:.0f} kt EAS around the trim speed "
+        "{trim_eas_kt:.0f} kt ({band_pct:.1f} %, on the shallowest gradient the data allow, "
+        "{gradient_lbf_per_kt:+.3f} lbf/kt): wider than the {rule_pct:g} % free return of "
+        "14 CFR 23.173(b) (before amendment 23-64, from memory)"),
+    "stability.free_return.band": (
+        "flight '{flight}': free return within {band_pct:.1f} % of the trim speed "
+        "{trim_eas_kt:.0f} kt EAS ({band_lo_kt:.0f} to {band_hi_kt:.0f} kt with "
+        "{friction_lbf:.2g} lbf of friction, on the shallowest gradient the data allow), inside "
+        "the {rule_pct:g} % of 14 CFR 23.173(b) (before amendment 23-64, from memory)"),
+    "incidence.not_applicable.trim_system": (
+        "no shim: with {system} trim the stabilizer incidence is not fixed, so there is no "
+        "incidence to correct"),
     # ---- incidence
     "incidence.no_recommendation": "no incidence recommendation: {reason}",
     "incidence.tau.profile_outside_calibrated": (

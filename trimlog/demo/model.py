@@ -149,6 +149,10 @@ elevator_reserve = "3 deg"
 cg_uncertainty = 0.3
 stick_force_zero_uncertainty = "0.3 lbf"
 
+[trim]
+system = "tab"
+friction = "0.5 lbf"   # half-width of the friction band, invented like the aircraft
+
 [cruise]
 cas = "110 kt"
 pressure_altitude = "5500 ft"

@@ -47,6 +47,10 @@ are strings with units (``"118 ft^2"``, ``"51 in"``, ``"25 deg"``).
     cg_uncertainty = 0.3          # %MAC (default 0.3); a loading sheet may give its own
     stick_force_zero_uncertainty = "0.3 lbf"   # force-gauge zero (default 0.3 lbf)
 
+    [trim]                        # optional: how the pilot trims pitch
+    system = "tab"                # tab, spring, stabilator, trimmable_stabilizer or none
+    friction = "0.5 lbf"          # half-width of the stick-force friction band (free return)
+
     [fuel]                        # optional, for fuel burn through a flight
     arm = "68 in"
     density = "6.0 lb/gal"        # avgas, US gallon
@@ -89,6 +93,11 @@ DEFAULT_CG_UNCERTAINTY_PCT_MAC = 0.3
 #: Per-flight stick-force gauge zero uncertainty, 1 sigma [lbf]: zeroed on the ground, it
 #: drifts with temperature and the pilot's hand position.  # common practice, no source
 DEFAULT_STICK_FORCE_ZERO_UNCERTAINTY_LBF = 0.3
+
+#: Pitch trim systems a profile may declare (``trim.system``): an elevator trim tab (also a
+#: servo or anti-servo tab), a spring or bungee on the control circuit, an all-moving tail
+#: with its own tab, a stabilizer whose incidence the trim moves, or no trim at all.
+TRIM_SYSTEMS = ("tab", "spring", "stabilator", "trimmable_stabilizer", "none")
 
 #: Band around the MAC [%MAC] inside which every CG station of the profile
 #: must lie (limits and cruise CG); outside it lemac, mac or the datum is wrong.
@@ -176,6 +185,12 @@ PROFILE_KEYS: tuple[Key, ...] = (
         default=DEFAULT_STICK_FORCE_ZERO_UNCERTAINTY_LBF,
         attr="stick_force_zero_uncertainty_lbf",
         description="1-sigma zero error of the stick-force gauge on each flight"),
+    Key("trim.system", "text", choices=TRIM_SYSTEMS, attr="trim_system",
+        description="pitch trim: tab, spring (or bungee), stabilator (all-moving tail), "
+                    "trimmable_stabilizer or none; sets what the stick-force results mean"),
+    Key("trim.friction", "quantity", "lbf", low=0.0, high=20.0, attr="trim_friction_lbf",
+        description="half-width of the stick-force friction band: the force that does not "
+                    "yet move the stick (for the free-return check)"),
     Key("airspeed_calibration.ias", "numbers", description="indicated airspeeds of the table"),
     Key("airspeed_calibration.cas", "numbers", description="calibrated airspeeds of the table"),
     Key("airspeed_calibration.unit", "text", default="kt",
@@ -233,6 +248,8 @@ class AircraftProfile:
     fuel_density_lb_per_gal: float = DEFAULT_FUEL_DENSITY_LB_PER_GAL
     cg_uncertainty_pct_mac: float = DEFAULT_CG_UNCERTAINTY_PCT_MAC
     stick_force_zero_uncertainty_lbf: float = DEFAULT_STICK_FORCE_ZERO_UNCERTAINTY_LBF
+    trim_system: str | None = None
+    trim_friction_lbf: float | None = None
     position_error_ias_kt: tuple[float, ...] | None = None
     position_error_cas_kt: tuple[float, ...] | None = None
     column_map: Mapping[str, str] = field(default_factory=dict)

@@ -95,6 +95,8 @@ class Key:
         Name of the attribute the value goes to (default: the key's last part).
     description : str
         One line for the documentation and the messages.
+    choices : tuple of str
+        For ``"text"``: the only values accepted (empty: any text).
     """
 
     key: str
@@ -109,6 +111,7 @@ class Key:
     absolute: bool = False
     attr: str = ""
     description: str = ""
+    choices: tuple[str, ...] = ()
 
     def __post_init__(self) -> None:
         if self.kind not in KINDS:
@@ -131,6 +134,8 @@ class Key:
 
     def range_text(self) -> str:
         """The plausible range in words, e.g. ``"0..40 %MAC"``."""
+        if self.choices:
+            return "one of " + ", ".join(self.choices)
         if self.low is None and self.high is None:
             return ""
         unit = f" {self.unit}" if self.unit else ""
@@ -383,6 +388,11 @@ def _convert(spec: Key, raw: Any, fail: Fail) -> Any:  # noqa: PLR0911 - one bra
             raise fail(key, f"{key}: expected text, found {_kind_of(raw)}")
         if spec.required and not raw.strip():
             raise fail(key, f"{key}: expected a non-empty text, found {raw!r}")
+        if spec.choices and raw.strip() not in spec.choices:
+            near = difflib.get_close_matches(raw.strip().lower(), spec.choices, n=1, cutoff=0.5)
+            hint = f"; did you mean {near[0]!r}?" if near else ""
+            raise fail(key, f"{key}: expected one of " + ", ".join(
+                repr(c) for c in spec.choices) + f", found {_short(raw)}{hint}")
         return raw.strip()
     if spec.kind == "date":
         if not isinstance(raw, dt.date):

@@ -407,6 +407,9 @@ def analyze(
         found += [f.about(config=r.config) for f in r.stability.findings]
         if r.incidence is not None:
             found += [f.about(config=r.config) for f in r.incidence.findings]
+        elif profile.trim_system in NO_FIXED_INCIDENCE:
+            found.append(finding("incidence.not_applicable.trim_system", Severity.NOTE, subject,
+                                 system=profile.trim_system.replace("_", " ")))
         elif r.incidence_reason:
             found.append(finding("incidence.no_recommendation", Severity.CAUTION, subject,
                                  reason=r.incidence_reason))
@@ -670,6 +673,10 @@ def _analyze_configuration(
     flap_config = "landing" if config.startswith("flaps") and not config.startswith(
         "flaps 0 ") else "clean"
     result = stability.analyze_stability(points, profile, flap_config=flap_config)
+    if profile.trim_system in NO_FIXED_INCIDENCE:
+        reason = finding("incidence.not_applicable.trim_system", Severity.NOTE,
+                         system=profile.trim_system.replace("_", " ")).message
+        return ConfigurationResult(config, result, None, reason, None, None)
     joint = _before_after(result, points, profile)
     calibration = joint[0].calibration() if joint is not None else _calibrate_tau(result, points)
     try:
@@ -680,6 +687,10 @@ def _analyze_configuration(
     recommendation, reason = _recommend(result, points, profile, choice, joint)
     return ConfigurationResult(config, result, recommendation, reason, choice, calibration,
                                joint[0] if joint else None)
+
+
+#: Trim systems that move the stabilizer's incidence: no fixed incidence, so no shim.
+NO_FIXED_INCIDENCE = ("stabilator", "trimmable_stabilizer")
 
 
 def _two_settings(result: StabilityResult, points: pd.DataFrame

@@ -58,6 +58,7 @@ from trimlog.input.profile import (
     DEFAULT_STICK_FORCE_ZERO_UNCERTAINTY_LBF,
     AircraftProfile,
 )
+from trimlog.stability import stick_force
 from trimlog.stability.checks import CURVATURE_P, curvature_check, intercept_check, robust_check
 from trimlog.stability.critical import (
     MIN_CG_SPREAD_PCT_MAC,
@@ -834,9 +835,8 @@ def analyze_stability(points: pd.DataFrame, profile: AircraftProfile | None = No
             found.append(finding("stability.points_without_force", Severity.NOTE,
                                  count=n_without_force))
         if not free.neutral_point.identifiable:
-            found.append(finding("stability.np_not_identifiable", Severity.WARNING,
-                                 Subject(quantity="neutral_point.stick_free"),
-                                 kind="stick-free", reason=free.neutral_point.reason))
+            found.append(stick_force.stick_free_not_identifiable(
+                None if profile is None else profile.trim_system, free.neutral_point))
     pooled_np, staged_np = fixed.neutral_point, two.neutral_point
     if pooled_np.identifiable and staged_np.identifiable and (
             pooled_np.ci95_pct_mac[1] < staged_np.ci95_pct_mac[0]
@@ -887,6 +887,10 @@ def analyze_stability(points: pd.DataFrame, profile: AircraftProfile | None = No
                           Subject(flight=str(s.flight), point=int(s.point),
                                   quantity="elevator_deg"),
                           elevator_deg=s.elevator_deg, stop=s.stop) for s in stops]
+    if profile is not None:  # what the stick-force numbers mean for this trim; free return
+        found += stick_force.trim_system_findings(profile.trim_system, free is not None)
+        found += stick_force.free_return_findings(gradients, profile.trim_friction_lbf,
+                                                  free is not None)
     config = None
     if "config" in points.columns and points["config"].notna().any():
         config = str(points["config"].dropna().iloc[0])
