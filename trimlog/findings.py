@@ -322,6 +322,19 @@ _TEMPLATES: dict[str, str] = {
         "{trim_eas_kt:.0f} kt EAS ({band_lo_kt:.0f} to {band_hi_kt:.0f} kt with "
         "{friction_lbf:.2g} lbf of friction, on the shallowest gradient the data allow), inside "
         "the {rule_pct:g} % of 14 CFR 23.173(b) (before amendment 23-64, from memory)"),
+    "stability.force_zero.not_separable": (
+        "a stick-force gauge zero shared by every point of a flight cannot be told apart from "
+        "stick-free stability in 1 g trim points (q CL is constant in a flight): about 1 %MAC "
+        "of stick-free neutral point per lbf, and a zero common to every flight is not in the "
+        "interval. Give each flight's trim speed (trim.speed in the loading sheet: where the "
+        "force was trimmed to zero hands off) to fit the zero"),
+    "stability.force_zero.trim_speed_outside": (
+        "flight '{flight}': the declared trim speed {trim_kt:.0f} kt lies outside the speeds "
+        "flown, so it does not anchor the stick-force zero of that flight"),
+    "stability.force_zero.offset": (
+        "flight '{flight}': the stick-force gauge reads {offset_lbf:+.2f} lbf "
+        "[{lo:+.2f}, {hi:+.2f}] at zero force (fitted from the trim speed): check the gauge "
+        "zero; the stick-free results already allow for it"),
     "incidence.not_applicable.trim_system": (
         "no shim: with {system} trim the stabilizer incidence is not fixed, so there is no "
         "incidence to correct"),

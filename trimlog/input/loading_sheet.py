@@ -40,6 +40,9 @@ SHEET_KEYS: tuple[Key, ...] = (
     Key("config.stab_setting", "text", description="label of the stabilizer setting flown"),
     Key("config.stab_incidence", "quantity", "deg", low=-15.0, high=15.0,
         attr="stab_incidence_deg", description="its incidence, leading edge up positive"),
+    Key("trim.speed", "quantity", "kt", low=5.0, high=500.0, attr="trim_speed_kt",
+        description="indicated airspeed at which the stick force was trimmed to zero hands "
+                    "off before the stick-force points (fits the force-gauge zero)"),
 )
 _BY_KEY = {k.key: k for k in SHEET_KEYS}
 # The takeoff CG given in %MAC instead of as a station.
@@ -104,6 +107,8 @@ class LoadingSheet:
     stab_incidence_deg: float | None
     cg_uncertainty_in: float | None = None
     cg_uncertainty_pct_mac: float | None = None
+    #: Optional ``trim.speed`` [kt, indicated]: where the force was trimmed to zero.
+    trim_speed_kt: float | None = None
     #: The date and time flown, when ``date`` is a TOML date-time (``2026-06-14T09:30:00Z``);
     #: ``date`` then holds its day. Flights of one day are ordered by it.
     flown_at: dt.datetime | None = None
@@ -133,6 +138,9 @@ def read_loading_sheet(
         flap = "0 deg"
         stab_setting = "original"    # label of the incidence setting flown
         stab_incidence = "0 deg"     # its incidence, leading edge up positive
+
+        [trim]                       # optional
+        speed = "95 kt"              # IAS where the stick force was trimmed to zero
 
     Parameters
     ----------

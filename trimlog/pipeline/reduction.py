@@ -141,7 +141,17 @@ def reduce_points(
         out["fs_over_q_ft2"] = np.nan
 
     _incidence_and_configuration(out, loadings, found)
+    _trim_speed(out, loadings)
     return ReducedPoints(points=out, findings=tuple(found))
+
+
+def _trim_speed(out: pd.DataFrame, loadings: Mapping[str, FlightLoadingLike]) -> None:
+    """Column ``trim_ias_kt`` from the sheets' optional ``trim.speed`` (NaN where not given)."""
+    speeds = {str(f): getattr(sheet, "trim_speed_kt", None) for f, sheet in loadings.items()}
+    if not any(v is not None for v in speeds.values()):
+        return
+    out["trim_ias_kt"] = out["flight"].astype(str).map(
+        lambda f: np.nan if speeds.get(f) is None else float(speeds[f])).astype(float)
 
 
 def _where(out: pd.DataFrame, mask: pd.Series | np.ndarray) -> dict[str, object]:

@@ -588,12 +588,17 @@ def pooled_fit(points: pd.DataFrame, kind: str = "stick_fixed", *,
 
 def _flight_level_np(frame: pd.DataFrame, response: str, group_col: str, kind: str,
                      core: _Core, errors: tuple[float, float], lemac_in: float | None,
-                     mac_in: float | None) -> tuple[NeutralPoint, FlightLevelFit | None]:
+                     mac_in: float | None, anchor: stick_force.TrimAnchor | None = None,
+                     ) -> tuple[NeutralPoint, FlightLevelFit | None]:
     """The headline neutral point: the pooled model with errors shared by each flight.
 
     Stick-free points are weighted by ``q^2`` (force noise about constant in
     lbf, so the scatter of Fs/q grows as 1/q); a force-zero uncertainty
     ``F0`` adds ``F0/(q CL) = F0 S/(nW)`` to each flight's Fs/q gradient.
+    A flight trimmed at a declared speed (``anchor``) is fitted as
+    ``F0/q + B (CL - CL_trim)``: its gauge zero is a parameter, and the
+    declared force uncertainty then stands for the force left at the trim
+    speed (friction), which acts the same way.
     """
     independent = core.neutral_point
     if core.linear is None or not core.has_cg_term:
@@ -606,15 +611,19 @@ def _flight_level_np(frame: pd.DataFrame, response: str, group_col: str, kind: s
         given = pd.to_numeric(frame["cg_uncertainty_pct_mac"], errors="coerce").to_numpy(
             dtype=float, na_value=np.nan) / 100.0
         cg_sigma = np.where(np.isfinite(given), given, cg_sigma)
-    weights, slope_sigma = None, 0.0
+    weights, slope_sigma, zx, cl_fit = None, 0.0, None, cl
     if kind == "stick_free":
         q = _column(frame, "q_psf")
         if q is not None and np.all(np.isfinite(q) & (q > 0.0)):
             weights = (q / q.mean()) ** 2
             slope_sigma = force_zero_lbf / (q * cl)
-    fit = fit_flight_level(frame[response].to_numpy(dtype=float), cl, h,
+            if anchor is not None and anchor.flights:
+                zx = np.where(anchor.anchored, anchor.q_ref_psf / q, 1.0)
+                cl_fit = np.where(anchor.anchored, cl - anchor.cl_trim, cl)
+    fit = fit_flight_level(frame[response].to_numpy(dtype=float), cl_fit, h,
                            frame[group_col].to_numpy(), frame["flight"].to_numpy(),
-                           weights=weights, cg_sigma=cg_sigma, slope_sigma=slope_sigma)
+                           weights=weights, cg_sigma=cg_sigma, slope_sigma=slope_sigma,
+                           intercept_x=zx)
     if fit is None:
         return independent, None
     np_ = neutral_point_from_coefficients(
@@ -641,10 +650,11 @@ def _pooled_fit(frame: pd.DataFrame, kind: str, lemac_in: float | None,
     else:
         response, group_col = "elevator_deg", "stab_setting"
     core = _core(frame, response, group_col, kind, lemac_in, mac_in)
+    anchor = stick_force.trim_anchor(frame) if kind == "stick_free" else None
     headline, level = _flight_level_np(
         frame, response, group_col, kind, core,
         errors or (DEFAULT_CG_UNCERTAINTY_PCT_MAC, DEFAULT_STICK_FORCE_ZERO_UNCERTAINTY_LBF),
-        lemac_in, mac_in)
+        lemac_in, mac_in, anchor)
     groups = tuple(dict.fromkeys(frame[group_col]))
     latest = str(frame[group_col].iloc[-1]) if len(frame) else None
     ranges = {}
@@ -657,7 +667,9 @@ def _pooled_fit(frame: pd.DataFrame, kind: str, lemac_in: float | None,
             "cg_range_pct_mac": ranges.get("cg_range_pct_mac"),
             "has_cg_term": core.has_cg_term, "linear": core.linear,
             "neutral_point": headline, "independent_neutral_point": core.neutral_point,
-            "flight_level": level}
+            "flight_level": level, "trim_anchor": anchor,
+            "force_zeros": () if anchor is None or not anchor.flights
+            else stick_force.force_zeros(level, anchor)}
     if core.linear is None:
         return PooledFit(**base)
     power = _power(core.linear, "h_cl") if kind == "stick_fixed" and core.has_cg_term else (
@@ -891,6 +903,7 @@ def analyze_stability(points: pd.DataFrame, profile: AircraftProfile | None = No
         found += stick_force.trim_system_findings(profile.trim_system, free is not None)
         found += stick_force.free_return_findings(gradients, profile.trim_friction_lbf,
                                                   free is not None)
+        found += stick_force.force_zero_findings(free, None if free is None else free.trim_anchor)
     config = None
     if "config" in points.columns and points["config"].notna().any():
         config = str(points["config"].dropna().iloc[0])

@@ -301,6 +301,12 @@ class PooledFit:
         :mod:`trimlog.statistics.flight_effects`.
     flight_level : FlightLevelFit or None
         That model's fit (None when it could not be fitted).
+    force_zeros : tuple of ForceZero
+        Stick-free only: the fitted gauge zero of each flight whose trim speed was
+        declared (then ``Fs/q = F0/q + B (CL - CL_trim)``; see
+        :mod:`trimlog.stability.stick_force`).
+    trim_anchor : TrimAnchor or None
+        Which flights were so anchored.
     """
 
     kind: str
@@ -325,6 +331,10 @@ class PooledFit:
     #: Coded checks of the fit (``stability.fit.*``): outliers, robust shift, curvature,
     #: intercepts.
     findings: tuple[Finding, ...] = ()
+    #: Stick-free only: fitted force-gauge zero of each flight trimmed at a declared speed
+    #: (``trimlog.stability.stick_force.ForceZero``), and the anchor used.
+    force_zeros: tuple = ()
+    trim_anchor: object = None
 
     @property
     def params(self) -> pd.Series | None:

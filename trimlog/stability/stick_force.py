@@ -265,3 +265,185 @@ def free_return_findings(gradients: Iterable[FlightGradient], friction_lbf: floa
                 band_pct=100.0 * r.band_fraction,
                 gradient_lbf_per_kt=r.gradient_used_lbf_per_kt))
     return out
+
+
+# ------------------------------------------------------------------ force-gauge zero
+
+#: A declared trim speed this far outside the speeds a flight flew (fraction) is not used to
+#: anchor its force zero: the trim CL would be an extrapolation.  # common practice, no source
+TRIM_SPEED_MARGIN = 0.05
+
+
+@dataclass(frozen=True, eq=False)
+class TrimAnchor:
+    """Flights whose stick force was trimmed to zero at a declared speed.
+
+    With a trim tab the true force is zero at the trim speed, so ``Fs/q = F0/q + B (CL -
+    CL_trim)``: the gauge zero ``F0`` of the flight and its stick-free gradient ``B`` are
+    separable, which they are not from 1 g points alone (``q CL = W/S`` is constant in a
+    flight, so ``F0/q`` is a multiple of ``CL``).
+
+    Attributes
+    ----------
+    anchored : numpy.ndarray
+        Per point: the point's flight is anchored.
+    cl_trim : numpy.ndarray
+        Per point: the flight's trim CL [-] (NaN where not anchored).
+    flights : tuple of str
+        The anchored flights.
+    outside : tuple of (str, float)
+        Flights whose declared trim speed [kt] lies outside the speeds flown (not anchored).
+    q_ref_psf : float
+        Scale of the ``1/q`` regressor [psf] (the mean q of the points).
+    """
+
+    anchored: object
+    cl_trim: object
+    flights: tuple[str, ...]
+    outside: tuple[tuple[str, float], ...]
+    q_ref_psf: float
+
+
+def trim_anchor(frame) -> TrimAnchor | None:
+    """The flights whose declared trim speed anchors their force-gauge zero.
+
+    Parameters
+    ----------
+    frame : pandas.DataFrame
+        Included stick-force points with ``flight``, ``cl``, ``q_psf``, ``ias_kt`` (or
+        ``cas_kt``) and ``trim_ias_kt`` (the loading sheet's ``trim.speed``, NaN where
+        not given).
+
+    Returns
+    -------
+    TrimAnchor or None
+        None when no point has a trim speed (or no speeds or q to place it).
+
+    Notes
+    -----
+    The trim CL comes from a least-squares line of the flight's own CL against ``1/V^2``
+    (``CL = 2W/(rho S V^2)`` at one weight and altitude), so no airspeed correction is
+    repeated here.
+    """
+    import numpy as np
+
+    speed_col = "ias_kt" if "ias_kt" in frame.columns else "cas_kt"
+    if "trim_ias_kt" not in frame.columns or speed_col not in frame.columns or \
+            "q_psf" not in frame.columns:
+        return None
+    trim = frame["trim_ias_kt"].to_numpy(dtype=float, na_value=np.nan)
+    if not np.isfinite(trim).any():
+        return None
+    speed = frame[speed_col].to_numpy(dtype=float, na_value=np.nan)
+    cl = frame["cl"].to_numpy(dtype=float)
+    flight = frame["flight"].astype(str).to_numpy()
+    anchored = np.zeros(len(frame), dtype=bool)
+    cl_trim = np.full(len(frame), np.nan)
+    done, outside = [], []
+    for f in dict.fromkeys(flight):
+        rows = flight == f
+        v_t = trim[rows][np.isfinite(trim[rows])]
+        v = speed[rows]
+        if not len(v_t) or not np.isfinite(v).all() or rows.sum() < 3:
+            continue
+        v_t = float(v_t[0])
+        if not (1.0 - TRIM_SPEED_MARGIN) * v.min() <= v_t <= (1.0 + TRIM_SPEED_MARGIN) * v.max():
+            outside.append((str(f), v_t))
+            continue
+        x = 1.0 / v**2
+        order = np.argsort(x)
+        xs, ys = x[order], cl[rows][order]
+        slope, icpt = np.polyfit(xs, ys, 1)  # CL against 1/V^2: a line through the points
+        cl_trim[rows] = icpt + slope / v_t**2
+        anchored[rows] = True
+        done.append(str(f))
+    q = frame["q_psf"].to_numpy(dtype=float)
+    return TrimAnchor(anchored, cl_trim, tuple(done), tuple(outside), float(np.mean(q)))
+
+
+@dataclass(frozen=True)
+class ForceZero:
+    """A flight's fitted stick-force gauge zero (the force read at zero true force).
+
+    Attributes
+    ----------
+    flight : str
+    offset_lbf : float
+        Fitted zero offset [lbf], pull positive.
+    ci95_lbf : (float, float)
+        Its 95 % interval [lbf].
+    significant : bool
+        Whether the interval excludes zero.
+    """
+
+    flight: str
+    offset_lbf: float
+    ci95_lbf: tuple[float, float]
+    significant: bool
+
+
+def force_zeros(level, anchor: TrimAnchor) -> tuple[ForceZero, ...]:
+    """The fitted gauge zero of each anchored flight, from the flight-level fit.
+
+    Parameters
+    ----------
+    level : FlightLevelFit
+        The stick-free flight-level fit with ``intercept_x = q_ref/q`` for anchored flights
+        (its intercept of such a flight is ``F0 / q_ref``).
+    anchor : TrimAnchor
+
+    Returns
+    -------
+    tuple of ForceZero
+        Empty when the fit kept no full covariance (more flights than
+        :data:`trimlog.statistics.flight_effects.MAX_GROUPS_FOR_FULL_COVARIANCE`).
+    """
+    from trimlog.statistics.fits import t_quantile
+
+    if level is None or level.coef_full is None:
+        return ()
+    t = t_quantile(level.df)
+    out = []
+    for f in anchor.flights:
+        if f not in level.group_labels:
+            continue
+        value, var = level.contrast({f"a[{f}]": anchor.q_ref_psf})
+        half = t * math.sqrt(max(var, 0.0))
+        out.append(ForceZero(f, value, (value - half, value + half), abs(value) > half))
+    return tuple(out)
+
+
+def force_zero_findings(free_fit, anchor: TrimAnchor | None) -> list[Finding]:
+    """What the programme shows about the stick-force gauge zero.
+
+    Parameters
+    ----------
+    free_fit : PooledFit or None
+        The stick-free pooled fit (with ``force_zeros``).
+    anchor : TrimAnchor or None
+
+    Returns
+    -------
+    list of Finding
+        ``stability.force_zero.offset`` (caution) for each anchored flight whose zero
+        offset is clearly not zero; ``stability.force_zero.trim_speed_outside`` (note) for
+        a declared trim speed outside the speeds flown; ``stability.force_zero.not_separable``
+        (note) when no flight is anchored: a constant force error of a flight then reads as
+        stick-free stability.
+    """
+    if free_fit is None:
+        return []
+    out = []
+    if anchor is None or not anchor.flights:
+        out.append(finding("stability.force_zero.not_separable", Severity.NOTE,
+                           Subject(quantity="neutral_point.stick_free")))
+    for f, v in (anchor.outside if anchor is not None else ()):
+        out.append(finding("stability.force_zero.trim_speed_outside", Severity.NOTE,
+                           Subject(flight=f, quantity="trim.speed"), flight=f, trim_kt=v))
+    for z in getattr(free_fit, "force_zeros", ()):
+        if z.significant:
+            out.append(finding("stability.force_zero.offset", Severity.CAUTION,
+                               Subject(flight=z.flight, quantity="stick_force_lbf"),
+                               flight=z.flight, offset_lbf=z.offset_lbf, lo=z.ci95_lbf[0],
+                               hi=z.ci95_lbf[1]))
+    return out

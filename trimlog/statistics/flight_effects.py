@@ -136,14 +136,14 @@ def _codes(values: np.ndarray) -> tuple[np.ndarray, int]:
     return codes.astype(int), int(codes.max()) + 1 if len(codes) else 0
 
 
-def _within_slopes(y, cl, w, flight, cell):
-    """Per-flight slope of y on CL with an intercept per cell, weighted; sigma^2 within."""
+def _within_slopes(y, cl, w, flight, cell, z):
+    """Per-flight slope of y on CL with an intercept (on z) per cell, weighted; sigma^2 within."""
     k = int(flight.max()) + 1
     n_cells = int(cell.max()) + 1
-    sw = np.bincount(cell, w, n_cells)
-    mx = np.bincount(cell, w * cl, n_cells) / sw
-    my = np.bincount(cell, w * y, n_cells) / sw
-    dx, dy = cl - mx[cell], y - my[cell]
+    sw = np.bincount(cell, w * z * z, n_cells)
+    mx = np.bincount(cell, w * z * cl, n_cells) / sw
+    my = np.bincount(cell, w * z * y, n_cells) / sw
+    dx, dy = cl - mx[cell] * z, y - my[cell] * z
     sxx = np.bincount(flight, w * dx * dx, k)
     sxy = np.bincount(flight, w * dx * dy, k)
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -203,7 +203,7 @@ def _gls(y, x, cl, w, flight, k, sigma2, tau2):
     return cov @ r, cov
 
 
-def _gls_blocks(y, cl, h, w, flight, k, group, n_groups, group_of_flight, sigma2, tau2):
+def _gls_blocks(y, cl, h, w, flight, k, group, n_groups, group_of_flight, sigma2, tau2, z):
     """:func:`_gls` for a design of one intercept per group, each flight in one group.
 
     The same normal equations, solved by blocks: the intercept block is diagonal (a flight's
@@ -214,7 +214,7 @@ def _gls_blocks(y, cl, h, w, flight, k, group, n_groups, group_of_flight, sigma2
     # Each column split within a flight into its part along CL and the rest: the random
     # slope only shrinks the part along CL (by sigma^2 / (sigma^2 + tau^2 s)), so nothing
     # is subtracted and a large tau^2 s / sigma^2 loses no digits to cancellation.
-    cols = np.column_stack([np.ones_like(cl), cl, h * cl, y])
+    cols = np.column_stack([z, cl, h * cl, y])
     wcl = w * cl
     s = np.bincount(flight, wcl * cl, k)
     along = np.column_stack([np.bincount(flight, wcl * cols[:, j], k) for j in range(4)])
@@ -247,12 +247,12 @@ def _one_group_per_flight(f, g_codes, k):
     return first if np.array_equal(first[f], g_codes) else None
 
 
-def _block_rank_ok(cl, h, g_codes, n_groups):
-    """Full column rank of [one intercept per group, CL, h*CL] without the dense design."""
+def _block_rank_ok(cl, h, g_codes, n_groups, zx):
+    """Full column rank of [one intercept (on zx) per group, CL, h*CL] without the dense design."""
     z = np.column_stack([cl, h * cl])
-    count = np.bincount(g_codes, minlength=n_groups)
-    means = np.column_stack([np.bincount(g_codes, z[:, j], n_groups) for j in range(2)])
-    resid = z - (means / count[:, None])[g_codes]
+    count = np.bincount(g_codes, zx * zx, minlength=n_groups)
+    means = np.column_stack([np.bincount(g_codes, zx * z[:, j], n_groups) for j in range(2)])
+    resid = z - (means / count[:, None])[g_codes] * zx[:, None]
     scale = np.sqrt((z * z).sum(axis=0))
     if np.any(scale == 0.0):
         return False
@@ -262,7 +262,7 @@ def _block_rank_ok(cl, h, g_codes, n_groups):
 def fit_flight_level(
     y: np.ndarray, cl: np.ndarray, h: np.ndarray, group: np.ndarray, flight: np.ndarray, *,
     weights: np.ndarray | None = None, cg_sigma: np.ndarray | float = 0.0,
-    slope_sigma: np.ndarray | float = 0.0,
+    slope_sigma: np.ndarray | float = 0.0, intercept_x: np.ndarray | None = None,
 ) -> FlightLevelFit | None:
     """Fit ``y = a[group] + b CL + c h CL`` with a random slope per flight.
 
@@ -284,6 +284,11 @@ def fit_flight_level(
     slope_sigma : float or numpy.ndarray
         Declared extra slope uncertainty of each flight (1 sigma, units of
         y per CL), one value or one per point.
+    intercept_x : numpy.ndarray, optional
+        Regressor of each group's intercept, per point (default 1: a
+        constant).  The stick-free model of a flight trimmed at a known speed
+        uses ``1/q`` here (its force-gauge zero) and ``CL - CL_trim`` as
+        ``cl``.
 
     Returns
     -------
@@ -313,7 +318,8 @@ def fit_flight_level(
                                  np.char.add("\x1f", np.asarray(group).astype(str))))
     if k < 2 or n == 0:
         return None
-    g, sxx, sigma2, df_w = _within_slopes(y, cl, w, f, cell)
+    zx = np.ones(n) if intercept_x is None else np.asarray(intercept_x, dtype=float)
+    g, sxx, sigma2, df_w = _within_slopes(y, cl, w, f, cell, zx)
     scale = float(np.sum(w * (y - np.average(y, weights=w)) ** 2))
     if df_w < 1 or not np.all(sxx > 0.0) or not sigma2 > 1e-20 * max(scale, 1e-300):
         return None  # no within-flight scatter (noise-free data): nothing to weigh
@@ -328,15 +334,15 @@ def fit_flight_level(
     if group_of_flight is not None:
         # one intercept per group and each flight in one group (stick-free: per flight):
         # solved by blocks, linear in the number of flights (same numbers as the dense solve)
-        if not _block_rank_ok(cl, h, g_codes, n_groups):
+        if not _block_rank_ok(cl, h, g_codes, n_groups, zx):
             return None
 
         def solve(tau2):
             return _gls_blocks(y, cl, h, w, f, k, g_codes, n_groups, group_of_flight,
-                               sigma2, tau2)
+                               sigma2, tau2, zx)
     else:
         x = np.zeros((n, n_groups + 2))
-        x[np.arange(n), g_codes] = 1.0
+        x[np.arange(n), g_codes] = zx
         x[:, -2] = cl
         x[:, -1] = h * cl
         if np.linalg.matrix_rank(x) < x.shape[1]:
@@ -364,7 +370,7 @@ def fit_flight_level(
     labels, full_coef, full_cov = (), None, None
     if n_groups <= MAX_GROUPS_FOR_FULL_COVARIANCE:
         full_coef, full_cov = _full_solution(y, cl, h, w, f, k, g_codes, n_groups, sigma2,
-                                             declared + excess)
+                                             declared + excess, zx)
         if full_coef is not None:
             labels = tuple(str(v) for v in np.unique(np.asarray(group).astype(str)))
     return FlightLevelFit(float(coef[-2]), float(coef[-1]), np.array(cov, dtype=float), df,
@@ -372,10 +378,10 @@ def fit_flight_level(
                           full_cov)
 
 
-def _full_solution(y, cl, h, w, f, k, g_codes, n_groups, sigma2, tau2):
+def _full_solution(y, cl, h, w, f, k, g_codes, n_groups, sigma2, tau2, zx):
     """Every coefficient ``[a[group]..., b, c]`` and their covariance (the dense GLS)."""
     x = np.zeros((len(y), n_groups + 2))
-    x[np.arange(len(y)), g_codes] = 1.0
+    x[np.arange(len(y)), g_codes] = zx
     x[:, -2] = cl
     x[:, -1] = h * cl
     try:
