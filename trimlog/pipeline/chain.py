@@ -405,14 +405,7 @@ def analyze(
     for r in results:
         subject = Subject(config=r.config)
         found += [f.about(config=r.config) for f in r.stability.findings]
-        if r.incidence is not None:
-            found += [f.about(config=r.config) for f in r.incidence.findings]
-        elif profile.trim_system in NO_FIXED_INCIDENCE:
-            found.append(finding("incidence.not_applicable.trim_system", Severity.NOTE, subject,
-                                 system=profile.trim_system.replace("_", " ")))
-        elif r.incidence_reason:
-            found.append(finding("incidence.no_recommendation", Severity.CAUTION, subject,
-                                 reason=r.incidence_reason))
+        found += _incidence_findings(r, profile, subject)
         found += [f.about(config=r.config) for f in light_stick_force(r.stability.gradients)]
     measured = primary.stability.stick_fixed.neutral_point.pct_mac
     tail = tailgeometry.check_tail_geometry(profile, measured_neutral_point_pct_mac=measured)
@@ -687,6 +680,20 @@ def _analyze_configuration(
     recommendation, reason = _recommend(result, points, profile, choice, joint)
     return ConfigurationResult(config, result, recommendation, reason, choice, calibration,
                                joint[0] if joint else None)
+
+
+def _incidence_findings(r: ConfigurationResult, profile: AircraftProfile,
+                        subject: Subject) -> list[Finding]:
+    """The shim's findings, or why there is no shim."""
+    if r.incidence is not None:
+        return [f.about(config=r.config) for f in r.incidence.findings]
+    if profile.trim_system in NO_FIXED_INCIDENCE:
+        return [finding("incidence.not_applicable.trim_system", Severity.NOTE, subject,
+                        system=profile.trim_system.replace("_", " "))]
+    if r.incidence_reason:
+        return [finding("incidence.no_recommendation", Severity.CAUTION, subject,
+                        reason=r.incidence_reason)]
+    return []
 
 
 #: Trim systems that move the stabilizer's incidence: no fixed incidence, so no shim.
