@@ -129,3 +129,17 @@ def test_demo_flight_four_is_too_light_to_return_and_a_stabilator_gets_no_shim(t
     assert other.primary.incidence is None
     assert any(f.code == "incidence.not_applicable.trim_system" for f in other.findings)
     assert math.isfinite(other.primary.stability.stick_fixed.neutral_point.pct_mac)
+
+
+def test_the_aircraft_form_carries_the_trim_keys():
+    from pathlib import Path
+
+    from trimlog.dashboard import profile_form
+    from trimlog.input.profile import parse_profile
+    text = (Path(__file__).resolve().parents[2] / "sample_logs" / "tinkerfinch_tf2.toml"
+            ).read_text()
+    values, table = profile_form.initial_values(text, "demo.toml")
+    assert values["trim.system"] == "tab"
+    for typed, expected in (("spring", "spring"), ("", None)):  # cleared field: not declared
+        out, errors, _ = profile_form.build({**values, "trim.system": typed}, table, text, "d")
+        assert not errors and parse_profile(out, "form").trim_system == expected

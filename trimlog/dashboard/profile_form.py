@@ -36,6 +36,7 @@ GROUPS = {
     "cruise": "Cruise condition (for the shim)",
     "measurement": "Measurement errors (1 sigma, shared by every point of a flight)",
     "fuel": "Fuel",
+    "trim": "Pitch trim (what the stick-force results mean; free return)",
 }
 #: Sections kept as the profile gives them (edited in the TOML text only).
 KEPT = ("logger",)
@@ -49,6 +50,8 @@ LABELS = {
     "measurement.stick_force_zero_uncertainty": "Stick-force gauge zero per flight",
     "limits.min_static_margin": "Minimum static margin (policy)",
     "limits.cg_step_max": "Largest CG step beyond the most aft flown",
+    "trim.system": "Trim system (tab, spring, stabilator, trimmable_stabilizer, none)",
+    "trim.friction": "Stick-force friction band, half-width",
 }
 UNIT_WORDS = {"ft^2": "ft²", "": ""}
 PE_IAS, PE_CAS = "IAS [kt]", "CAS [kt]"

@@ -388,6 +388,8 @@ def _convert(spec: Key, raw: Any, fail: Fail) -> Any:  # noqa: PLR0911 - one bra
             raise fail(key, f"{key}: expected text, found {_kind_of(raw)}")
         if spec.required and not raw.strip():
             raise fail(key, f"{key}: expected a non-empty text, found {raw!r}")
+        if spec.choices and not raw.strip() and not spec.required:
+            return None  # an empty choice (a cleared form field) is not a declaration
         if spec.choices and raw.strip() not in spec.choices:
             near = difflib.get_close_matches(raw.strip().lower(), spec.choices, n=1, cutoff=0.5)
             hint = f"; did you mean {near[0]!r}?" if near else ""
