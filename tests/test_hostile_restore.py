@@ -283,3 +283,13 @@ def test_the_store_api_refuses_the_same_exports(exported, tmp_path):
             st.import_export(folder)
         assert st.aircraft_list() == []
     shutil.rmtree(folder)
+
+
+def test_the_restore_check_knows_every_key_a_flight_record_is_written_with():
+    """A key the import writes but the restore check does not know would refuse real exports."""
+    from trimlog.history import maneuver_choices, programme, reimport, restore_check
+
+    written = {programme.SHEET_TEXT, programme.SHEET_NAME, programme.FLOWN_AT,
+               maneuver_choices.KEY, maneuver_choices.REASONS_KEY, maneuver_choices.FOUND_KEY,
+               reimport.REPLACED}
+    assert written <= restore_check._LOADING_KEYS
