@@ -71,6 +71,9 @@ def test_results_page_orders_findings_and_shows_each_caution_once():
 
     # every caution of the result once on the page, the estimate statement included
     text = _page_text(at)
+    from trimlog.views.shim_text import before_after_text
+
+    assert before_after_text(a.primary.before_after) in text  # the elevator before/after
     for c in (*a.cautions, cautions.ESTIMATE_STATEMENT):
         assert text.count(c) == 1, (text.count(c), c)
 

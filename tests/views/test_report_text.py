@@ -161,3 +161,11 @@ def test_a_point_left_out_shows_its_reason(demo):
     rows = [x for x in _as_text(report.report_blocks(a, None, "TIME"))
             if x.startswith("  flight2 | 3 |")]
     assert len(rows) == 1 and " | NO (turbulence) | " in rows[0]
+
+
+def test_before_and_after_the_change_is_in_the_shim_section(demo, lines):
+    from trimlog.views.shim_text import before_after_text
+
+    start = lines.index("H2 Stabilizer incidence and shim")
+    end = next(i for i in range(start + 1, len(lines)) if lines[i].startswith("H"))
+    assert "P[body] " + before_after_text(demo.primary.before_after) in lines[start:end]

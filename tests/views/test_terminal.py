@@ -158,3 +158,18 @@ def test_signed_angles_of_the_headlines_carry_their_sign_in_words(demo, text):
 
     assert re.search(r"Stabilizer incidence \d+\.\d\d deg (leading edge (up|down)|\(neutral\)) "
                      r"to the waterline", " ".join(text.split()))
+
+
+def test_before_and_after_the_incidence_change_with_the_tau_it_implies(demo, text):
+    from trimlog.views.shim_text import before_after_text
+
+    ba = demo.primary.before_after
+    assert ba is not None  # the demo flies flight 5 after a 0.6 deg shim
+    # sample_logs/README.md (invented truth): elevator at cruise -2.38 deg as rigged,
+    # -1.05 deg after the shim, tau 0.45; the estimates' intervals must hold them
+    assert ba.elevator_before_ci95_deg[0] <= -2.38 <= ba.elevator_before_ci95_deg[1]
+    assert ba.elevator_after_ci95_deg[0] <= -1.05 <= ba.elevator_after_ci95_deg[1]
+    assert ba.implied_tau_ci95[0] <= 0.45 <= ba.implied_tau_ci95[1]
+    words = before_after_text(ba)
+    assert f"tau {ba.implied_tau:.2f}" in words and "trailing edge up" in words
+    assert words in _flat(_section(text, "Stabilizer incidence and shim"))

@@ -55,6 +55,8 @@ def shim_block(a: Analysis, *, with_cautions: bool = True) -> None:
                 if shim_text.steps_text(inc):
                     common.warn(shim_text.steps_text(inc))
             st.markdown(rec.words)
+            if a.primary.before_after is not None:
+                st.markdown(common.esc(shim_text.before_after_text(a.primary.before_after)))
             st.pyplot(shim_drawing.shim_side_view(
                 inc, a.profile.stabilizer_attach_spacing_in).figure, clear_figure=False)
             st.caption(rec.tau_explanation + ". " + rec.change_method + ".")

@@ -259,9 +259,11 @@ def _incidence_blocks(a: Analysis) -> list[Any]:
         head = f"Recommended shim: {_shim_headline(a)}."
     else:
         head = f"Shim: {_shim_headline(a)}."
+    ba = a.primary.before_after
     return blocks + [
         Para(head, "box"),
         Para(inc["words"]),
+        *([Para(shim_words.before_after_text(ba))] if ba is not None else []),
         Para(f"Elevator effectiveness tau: {inc['tau']:.2f} {interval(inc['tau_ci95'], '.2f')} "
               f"({inc['tau_source']}): {inc['tau_explanation']}. Interval method: "
               f"{inc['change_method']}.", "small"),

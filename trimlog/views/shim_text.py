@@ -12,7 +12,7 @@ from __future__ import annotations
 from collections.abc import Mapping
 from typing import Any
 
-from trimlog.incidence.shim import ELEVATOR_WORDS, angle_words
+from trimlog.incidence.shim import ELEVATOR_WORDS, INCIDENCE_WORDS, angle_words
 
 
 def _unit(inc: Mapping[str, Any]) -> tuple[str, str]:
@@ -107,3 +107,55 @@ def headline(inc: Mapping[str, Any]) -> str:
         parts.append(steps_text(inc))
     parts.append(residual_text(inc))
     return "; ".join(parts)
+
+
+def before_after_text(ba: Any) -> str:
+    """The elevator at cruise before and after an incidence change, and the tau they imply.
+
+    Parameters
+    ----------
+    ba : trimlog.incidence.before_after.BeforeAfter
+        ``ConfigurationResult.before_after`` (numbers from the core).
+
+    Returns
+    -------
+    str
+        One paragraph: the two settings and the change between them, the
+        elevator at cruise under each with its 95 % interval, and the tau
+        they imply with its interval, or why it cannot be said yet.
+
+    Examples
+    --------
+    >>> from types import SimpleNamespace
+    >>> ba = SimpleNamespace(setting_before="as rigged", setting_after="shim",
+    ...     incidence_before_deg=-1.0, incidence_after_deg=-1.6, incidence_change_deg=-0.6,
+    ...     cruise_cl=0.32, cruise_cg_pct_mac=23.6, elevator_before_deg=-2.38,
+    ...     elevator_before_ci95_deg=(-2.5, -2.26), elevator_after_deg=-1.04,
+    ...     elevator_after_ci95_deg=(-1.15, -0.94), elevator_change_deg=1.34,
+    ...     elevator_change_ci95_deg=(1.2, 1.48), implied_tau=0.45,
+    ...     implied_tau_ci95=(0.4, 0.5), reason=None)  # synthetic numbers
+    >>> print(before_after_text(ba))  # doctest: +NORMALIZE_WHITESPACE
+    Before and after the incidence change from 'as rigged' (-1.00 deg) to 'shim' (-1.60 deg),
+    0.60 deg leading edge down: elevator at cruise (CL 0.32, CG 23.6 %MAC) 2.38 deg trailing
+    edge up (95 %: 2.26 to 2.50 deg) before, 1.04 deg trailing edge up (95 %: 0.94 to 1.15
+    deg) after; it moved 1.34 deg trailing edge down (95 %: 1.20 to 1.48 deg), which implies
+    tau 0.45 (95 %: 0.40 to 0.50).
+    """
+    up, down = INCIDENCE_WORDS
+
+    def elevator(value: float, ci: tuple[float, float] | None) -> str:
+        return angle_words(value, *ELEVATOR_WORDS, 2, ci)
+
+    text = (f"Before and after the incidence change from '{ba.setting_before}' "
+            f"({ba.incidence_before_deg:+.2f} deg) to '{ba.setting_after}' "
+            f"({ba.incidence_after_deg:+.2f} deg), "
+            f"{angle_words(ba.incidence_change_deg, up, down)}: elevator at cruise (CL "
+            f"{ba.cruise_cl:.2f}, CG {ba.cruise_cg_pct_mac:.1f} %MAC) "
+            f"{elevator(ba.elevator_before_deg, ba.elevator_before_ci95_deg)} before, "
+            f"{elevator(ba.elevator_after_deg, ba.elevator_after_ci95_deg)} after; it moved "
+            f"{elevator(ba.elevator_change_deg, ba.elevator_change_ci95_deg)}")
+    if ba.implied_tau is None:
+        return text + f"; the tau it implies cannot be said yet: {ba.reason or 'no interval'}."
+    return (text + f", which implies tau {ba.implied_tau:.2f} (95 %: "
+            + (f"{ba.implied_tau_ci95[0]:.2f} to {ba.implied_tau_ci95[1]:.2f})."
+               if ba.implied_tau_ci95 is not None else "unbounded)."))

@@ -272,6 +272,9 @@ def _incidence_block(result: ConfigurationResult, s: _Style) -> str:
     lines = [textwrap.fill("Shim: " + shim_text.headline(inc), WIDTH, initial_indent="  ",
                            subsequent_indent="    ")]
     lines.append(textwrap.fill(rec.words, WIDTH, initial_indent="  ", subsequent_indent="  "))
+    if result.before_after is not None:
+        lines.append(textwrap.fill(shim_text.before_after_text(result.before_after), WIDTH,
+                                   initial_indent="  ", subsequent_indent="  "))
     return head + "\n" + "\n".join(lines)
 
 
