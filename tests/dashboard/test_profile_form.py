@@ -46,6 +46,8 @@ def test_every_number_key_of_the_profile_sections_is_a_field():
     for k in PROFILE_KEYS:
         if k.section in profile_form.GROUPS and k.kind in ("quantity", "number", "text"):
             assert k.key in shown
+    labels = [profile_form.label(k) for k in profile_form.fields()]
+    assert len(set(labels)) == len(labels)  # no two fields look alike
     # each label carries its unit
     for k in profile_form.fields():
         if k.unit:

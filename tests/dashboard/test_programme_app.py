@@ -129,7 +129,7 @@ def test_a_flights_facts_are_keyed_by_its_content_not_its_name():
     at.file_uploader[0].set_value([("flight2.csv", own, "text/csv")])
     at.run()
     assert not at.exception
-    values = [t.value for t in at.text_input]
+    values = [t.value for t in (*at.text_input, *at.text_area)]
     assert demo_label not in values
     assert not any("invented demo flight" in v for v in values)
 

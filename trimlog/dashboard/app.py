@@ -42,7 +42,20 @@ SCROLL_TO_TOP = (
     "[data-testid=stAppViewContainer]')) e.scrollTo(0, 0); window.scrollTo(0, 0);</script>"
 )
 
+#: Nothing is cut short (issue 20): tile values shrink with the window and, like tile and
+#: widget labels, wrap onto a second line rather than end in an ellipsis.
+NO_CLIPPING = """<style>
+[data-testid="stMetricValue"] { font-size: clamp(1.2rem, 2.3vw, 2.25rem); }
+[data-testid="stMetricValue"], [data-testid="stMetricValue"] *,
+[data-testid="stMetricLabel"], [data-testid="stMetricLabel"] *,
+[data-testid="stMetricDelta"], [data-testid="stMetricDelta"] *,
+[data-testid="stWidgetLabel"], [data-testid="stWidgetLabel"] * {
+  white-space: normal !important; overflow: visible !important;
+  text-overflow: clip !important; overflow-wrap: break-word; }
+</style>"""
+
 st.set_page_config(page_title="trimlog", page_icon=":material/flight:", layout="wide")
+st.html(NO_CLIPPING)
 # Never a traceback in the page, whichever way the app was started (issue 19).
 st.set_option("client.showErrorDetails", "none")
 session.init()

@@ -91,9 +91,9 @@ def _log_card(name: str, log: session.FileBytes, sheets: dict, p) -> None:
         head.markdown(f"**{common.esc(name)}**" + ("  (demo)" if is_demo else ""))
         if not is_demo:
             tail.button("Remove", key=f"rm_{name}", on_click=_remove, args=(name,))
-        sheet_col, label_col, notes_col = st.columns([2, 2, 3])
+        # one field a row: the sheet's name, the label and the notes are seen whole
         options = [NO_SHEET, *sheets]
-        sheet_col.selectbox("Loading sheet", options,
+        st.selectbox("Loading sheet", options,
                             index=options.index(chosen) if chosen else 0,
                             key=f"sheet_{log.digest}", on_change=_set_sheet,
                             args=(log.digest,))
@@ -104,14 +104,17 @@ def _log_card(name: str, log: session.FileBytes, sheets: dict, p) -> None:
             common.show_error(exc)
             return
         sheet = found[0].loading
-        for col, store, label in ((label_col, "labels", "Label"), (notes_col, "notes", "Notes")):
+        for store, label in (("labels", "Label"), ("notes", "Notes")):
             default = ss[store].get(log.digest)
             if default is None and sheet is not None:
                 default = sheet.label if store == "labels" else sheet.notes
             ss[store].setdefault(log.digest, default or "")
-            col.text_input(label, value=ss[store][log.digest], key=f"{store}_{log.digest}",
-                           on_change=_set_text, args=(store, log.digest),
-                           help="Kept with the flight when you save it to the history")
+            # notes wrap in a text area; the label is one line
+            field = st.text_input if store == "labels" else st.text_area
+            field(label, value=ss[store][log.digest], key=f"{store}_{log.digest}",
+                  on_change=_set_text, args=(store, log.digest),
+                  help="Kept with the flight when you save it to the history",
+                  **({"height": 68} if store == "notes" else {}))
         first = found[0]
         weighing_form.render(log, p)  # weight and CG from scale readings, into the sheet form
         loading_form.render(log, first.flight)

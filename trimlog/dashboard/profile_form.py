@@ -52,7 +52,11 @@ LABELS = {
     "limits.cg_step_max": "Largest CG step beyond the most aft flown",
     "trim.system": "Trim system (tab, spring, stabilator, trimmable_stabilizer, none)",
     "trim.friction": "Stick-force friction band, half-width",
+    "aircraft.clmax_clean": "Maximum lift coefficient, clean",
+    "aircraft.clmax_landing": "Maximum lift coefficient, landing flaps",
 }
+#: Fields side by side in a group (two leave room for the value at 900 px wide).
+COLUMNS = 2
 UNIT_WORDS = {"ft^2": "ft²", "": ""}
 PE_IAS, PE_CAS = "IAS [kt]", "CAS [kt]"
 
@@ -65,7 +69,7 @@ def fields() -> list[Key]:
 
 def label(spec: Key) -> str:
     """A field's label: what it is, with its unit in brackets."""
-    words = LABELS.get(spec.key) or spec.description.split(" (")[0].split(", ")[0]
+    words = LABELS.get(spec.key) or spec.description.split(" (")[0]
     words = words[:1].upper() + words[1:]
     unit = UNIT_WORDS.get(spec.unit, spec.unit)
     return f"{words} [{unit}]" if unit else words
@@ -229,9 +233,9 @@ def render(p: AircraftProfile, use: Callable[[str, str], None]) -> None:
         for section, title in GROUPS.items():
             specs = [k for k in fields() if k.section == section]
             st.markdown(f"**{title}**")
-            cols = st.columns(3)
+            cols = st.columns(COLUMNS)
             for i, spec in enumerate(specs):
-                col = cols[i % 3]
+                col = cols[i % COLUMNS]
                 _field(col, spec)
                 if spec.key in errors:
                     col.error(common.esc(errors[spec.key]), icon=":material/error:")
