@@ -243,6 +243,10 @@ def _build_parser() -> argparse.ArgumentParser:
     p.add_argument("--maneuver", action="store_true",
                    help="the point is a maneuvering point (numbered on their own; see the "
                    "'maneuvering' points of analyze)")
+    p.add_argument("--reason", metavar="TEXT",
+                   help="why the point is left out (e.g. turbulence, 'not stabilized', "
+                   "'wrong configuration'); kept in the history, shown in the report and "
+                   "--json (trim points only)")
 
     p = command(
         "export",
@@ -777,6 +781,13 @@ def _run_plan(args: argparse.Namespace) -> int:
 
 
 def _run_exclude(args: argparse.Namespace) -> int:
+    reason = (args.reason or "").strip()
+    if args.reason is not None and (args.include or args.maneuver or not reason):
+        raise TrimlogError(
+            "--reason: " + ("give the reason in words" if not reason else
+                            "a reason goes with a trim point being excluded, not with "
+                            + ("--include" if args.include else "--maneuver"))
+            + "; nothing was changed")
     if args.maneuver:
         from trimlog.history.maneuver_choices import set_maneuver_included
 
@@ -785,8 +796,13 @@ def _run_exclude(args: argparse.Namespace) -> int:
         return EXIT_OK
     with _open_store(args.db, must_exist=True) as st:
         st.set_point_included(args.flight, args.point, args.include)
+        if reason:
+            from trimlog.history.maneuver_choices import set_exclusion_reason
+
+            set_exclusion_reason(st, args.flight, args.point, reason)
     state = "included" if args.include else "excluded"
-    _print(f"flight {args.flight} point {args.point}: {state}")
+    _print(f"flight {args.flight} point {args.point}: {state}"
+           + (f" (reason: {reason})" if reason else ""))
     return EXIT_OK
 
 

@@ -174,3 +174,40 @@ def test_the_history_editor_shows_readable_names_and_one_click_choices(tmp_path)
         assert store.flight(fid).loading["exclusion_reasons"] == {"2": "turbulence"}
     editor = next(d.value for d in at.dataframe if "Why left out" in d.value.columns)
     assert editor.loc[1, "Why left out"] == "turbulence" and not editor.loc[1, "Used"]
+
+
+def test_display_factors_are_the_exact_definitions():
+    from trimlog.input.units import ureg
+    from trimlog.views.formatting import display_unit
+
+    # NIST SP 811 (2008), appendix B.8/B.9: exact by definition
+    assert display_unit("lb", "SI") == ("kg", 0.45359237)
+    assert display_unit("lbf", "SI") == ("N", 4.4482216152605)
+    assert display_unit("kt", "SI")[1] == pytest.approx(1852 / 3600, rel=1e-15)
+    # and the same as the package's unit registry says
+    for unit, si in (("lb", "kg"), ("kt", "m/s"), ("lbf", "N")):
+        assert display_unit(unit, "SI")[1] == pytest.approx(
+            ureg.Quantity(1.0, unit).to(si).magnitude, rel=1e-12)
+    assert display_unit("deg", "SI") == ("deg", 1.0)  # only weights, speeds, forces change
+
+
+def test_si_display_units_change_what_is_shown_not_what_is_computed(demo_analysis):
+    _, flights, a = demo_analysis
+    at = _app()
+    before = {m.label: m.value for m in at.metric}
+    at.session_state["display_units"] = "SI"
+    at.run()
+    assert not at.exception, at.exception
+    after = {m.label: m.value for m in at.metric}
+    assert after == before  # the headline numbers (%MAC, deg, in) do not move
+    gradients = next(d.value for d in at.dataframe if "Stick-force verdict" in d.value.columns)
+    assert "Force gradient [N per m/s]" in gradients.columns
+    assert "Trim speed, EAS [m/s]" in gradients.columns
+    g = a.primary.stability.gradients[0]
+    assert gradients["Trim speed, EAS [m/s]"].iloc[0] == f"{g.trim_eas_kt * 1852 / 3600:.0f}"
+    _go(at, "Points")
+    table = next(d.value for d in at.dataframe if "Why left out" in d.value.columns)
+    assert {"IAS [m/s]", "Stick force [N]"} <= set(table.columns)
+    (flight2,) = [f.points for f in flights if f.flight == "flight2"]
+    assert table["Stick force [N]"].iloc[0] == pytest.approx(
+        round(flight2["stick_force_lbf"].iloc[0] * 4.4482216152605, 1))

@@ -86,3 +86,24 @@ def test_a_reason_survives_export_and_restore(tmp_path):
         store.import_export(tmp_path / "out")
         (record,) = store.flights(store.aircraft_list()[0].id)
         assert record.loading[REASONS_KEY] == {"2": "wrong configuration"}
+
+
+def test_the_command_line_keeps_a_reason_and_refuses_one_that_cannot_apply(tmp_path, capsys):
+    from trimlog.cli import main
+
+    db = tmp_path / "h.sqlite"
+    with open_store(db) as store:
+        fid = history.import_log(store, SAMPLES / "flight2.csv", profile_text=PROFILE.read_text(),
+                                 profile_source="demo").flight_id
+    assert main(["exclude", "--db", str(db), "--flight", str(fid), "--point", "4",
+                 "--reason", "turbulence"]) == 0
+    assert "(reason: turbulence)" in capsys.readouterr().out
+    for extra, words in ((["--include"], "not with --include"),
+                         (["--maneuver"], "not with --maneuver"), ([], "in words")):
+        reason = "  " if not extra else "gust"
+        assert main(["exclude", "--db", str(db), "--flight", str(fid), "--point", "5",
+                     "--reason", reason, *extra]) == 2
+        assert words in capsys.readouterr().err
+    with open_store(db) as store:
+        assert store.flight(fid).loading[REASONS_KEY] == {"4": "turbulence"}
+        assert bool(store.flight_points(fid).set_index("point").loc[5, "included"])

@@ -19,6 +19,7 @@ from trimlog.dashboard import (
     session,
 )
 from trimlog.errors import TrimlogError
+from trimlog.views.formatting import DISPLAY_SYSTEMS
 
 PAGES = {
     "Results": results.render,
@@ -36,6 +37,7 @@ CAPTIONS = [
     "saved flights, trend, next CG",
     "airspeed from GPS legs",
 ]
+UNIT_WORDS = {"US": "lb, kt, lbf", "SI": "kg, m/s, N"}
 SCROLL_TO_TOP = (
     "<script>for (const e of document.querySelectorAll("
     "'[data-testid=stMain], [data-testid=stAppScrollToBottomContainer], "
@@ -65,6 +67,11 @@ with st.sidebar:
     st.markdown("### trimlog")
     st.caption("Stabilized-trim flight-test analysis. Estimates from your data, never an approval.")
     st.radio("Page", list(PAGES), captions=CAPTIONS, key="page")
+    st.session_state.setdefault("display_units", "US")
+    st.segmented_control("Display units", DISPLAY_SYSTEMS, key="display_units",
+                         format_func=UNIT_WORDS.__getitem__,
+                         help="Weights, speeds and forces in the tables: lb, kt, lbf or kg, "
+                         "m/s, N. Only what is shown changes; trimlog computes the same.")
 if st.session_state.get("page_shown") != st.session_state.page:
     # A page opened from a button at the bottom of another starts at its top, where its
     # headline numbers and the estimate statement are, not where the last one was scrolled.

@@ -13,7 +13,13 @@ from trimlog.dashboard import common
 from trimlog.dashboard.common import interval
 from trimlog.pipeline.chain import Analysis
 from trimlog.views import shim_drawing, shim_text
-from trimlog.views.formatting import elevator_words, incidence_words, rounded
+from trimlog.views.formatting import (
+    DISPLAY_SYSTEMS,
+    display_unit,
+    elevator_words,
+    incidence_words,
+    rounded,
+)
 
 
 def shim_block(a: Analysis, *, with_cautions: bool = True) -> None:
@@ -67,40 +73,58 @@ def shim_block(a: Analysis, *, with_cautions: bool = True) -> None:
 
 
 #: Point columns shown in the tables of points (Points page, History editor): readable
-#: names with units, and the decimals each is rounded to (what the measurement supports).
-POINT_COLUMNS: dict[str, tuple[str, int | None]] = {
-    "point": ("Point", None),
-    "t_start_s": ("From [s]", 1),
-    "t_end_s": ("To [s]", 1),
-    "duration_s": ("Held [s]", 1),
-    "ias_kt": ("IAS [kt]", 1),
-    "cas_kt": ("CAS [kt]", 1),
-    "pressure_alt_ft": ("Altitude [ft]", 0),
-    "elevator_deg": ("Elevator [deg]", 2),
-    "stick_force_lbf": ("Stick force [lbf]", 1),
-    "nz_g": ("Load factor [g]", 2),
-    "vs_fpm": ("Vertical speed [ft/min]", 0),
-    "flags": ("Flags", None),
+#: names, the package's unit, and the decimals each is rounded to (what the measurement
+#: supports).  Speeds and forces follow the display units (kt or m/s, lbf or N).
+POINT_COLUMNS: dict[str, tuple[str, str, int | None]] = {
+    "point": ("Point", "", None),
+    "t_start_s": ("From", "s", 1),
+    "t_end_s": ("To", "s", 1),
+    "duration_s": ("Held", "s", 1),
+    "ias_kt": ("IAS", "kt", 1),
+    "cas_kt": ("CAS", "kt", 1),
+    "pressure_alt_ft": ("Altitude", "ft", 0),
+    "elevator_deg": ("Elevator", "deg", 2),
+    "stick_force_lbf": ("Stick force", "lbf", 1),
+    "nz_g": ("Load factor", "g", 2),
+    "vs_fpm": ("Vertical speed", "ft/min", 0),
+    "flags": ("Flags", "", None),
 }
+
+
+def units() -> str:
+    """The display units chosen in the sidebar ("US" or "SI"); computation is unchanged."""
+    # a segmented control clicked twice holds no choice: the package's own units then
+    return "SI" if st.session_state.get("display_units") == "SI" else "US"
+
+
+def titled(name: str, unit: str, system: str) -> tuple[str, float]:
+    """A column title with its display unit, and the factor from the package's unit."""
+    shown, factor = display_unit(unit, system)
+    return (f"{name} [{shown}]" if shown else name), factor
+
+
 #: The reasons offered for leaving a point out (free text after "other").
 EXCLUSION_REASONS = ("turbulence", "not stabilized", "wrong configuration")
 NO_REASON = "(no reason given)"
 OTHER_REASON = "other (type it)"
 
 
-def points_table(points: pd.DataFrame) -> pd.DataFrame:
+def points_table(points: pd.DataFrame, system: str = "US") -> pd.DataFrame:
     """The points as shown: readable names with units, rounded, never ``-0``.
 
     Columns the points lack are left out; text columns are shown as they are
-    (an empty flags cell read back as NaN shows as empty).
+    (an empty flags cell read back as NaN shows as empty).  ``system`` "SI"
+    shows speeds in m/s and forces in N (the values converted, nothing else).
     """
     out = pd.DataFrame(index=points.index)
-    for column, (title, decimals) in POINT_COLUMNS.items():
+    for column, (name, unit, decimals) in POINT_COLUMNS.items():
         if column not in points.columns:
             continue
+        title, factor = titled(name, unit, system)
         values = points[column]
         if decimals is not None:
-            values = rounded(pd.to_numeric(values, errors="coerce").astype(float), decimals)
+            values = rounded(factor * pd.to_numeric(values, errors="coerce").astype(float),
+                             decimals)
         elif column == "flags":
             values = values.map(lambda v: v if isinstance(v, str) else "")
         out[title] = values
@@ -109,9 +133,13 @@ def points_table(points: pd.DataFrame) -> pd.DataFrame:
 
 def point_formats(table: pd.DataFrame) -> dict[str, object]:
     """Column settings of :func:`points_table`'s columns: each number at its decimals."""
-    return {title: st.column_config.NumberColumn(title, format=f"%.{decimals}f")
-            for title, decimals in POINT_COLUMNS.values()
-            if decimals is not None and title in table.columns}
+    out = {}
+    for name, unit, decimals in POINT_COLUMNS.values():
+        for system in DISPLAY_SYSTEMS:
+            title, _ = titled(name, unit, system)
+            if decimals is not None and title in table.columns:
+                out[title] = st.column_config.NumberColumn(title, format=f"%.{decimals}f")
+    return out
 
 
 def points_used(label: str, numbers: list[int], used: list[bool], key: str,

@@ -156,7 +156,7 @@ def _listing(listing: list[dict]) -> None:
         saved = compute.stored_reasons(fid)
         reasons = {p: blocks.exclusion_reason(p, f"history_why_{fid}_{p}", saved.get(p, ""))
                    for p, used in zip(numbers, after, strict=True) if not used}
-        table = blocks.points_table(pts)
+        table = blocks.points_table(pts, blocks.units())
         table.insert(0, "Used", after)
         table.insert(1, "Why left out", [reasons.get(p, "") for p in numbers])
         st.dataframe(table, hide_index=True, width="stretch",

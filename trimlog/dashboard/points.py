@@ -93,7 +93,7 @@ def render() -> None:
                 p, f"why_{log.digest[:16]}_{flight}_{p}", reasons.get((flight, p), ""))
     for gone in [k for k in reasons if k[0] == flight and k not in ss.exclusions]:
         del reasons[gone]
-    table = blocks.points_table(data.points)
+    table = blocks.points_table(data.points, blocks.units())
     table.insert(0, "Used", ticked)
     table.insert(1, "Why left out", [
         reasons.get((flight, p), "") if (flight, p) in ss.exclusions

@@ -135,6 +135,15 @@ def _banner(a: Analysis) -> None:
                 "own: set up the airplane on **Aircraft**, then upload logs on **Flights**.")
 
 
+def _times(factor: float, value):
+    """A number or a (low, high) pair times a display-unit factor (None stays None)."""
+    if value is None:
+        return None
+    if isinstance(value, tuple | list):
+        return tuple(factor * v for v in value)
+    return factor * value
+
+
 def _left_out(a: Analysis) -> None:
     """The points the user left out, with their reasons (the analysis' own column)."""
     pts = a.points
@@ -240,6 +249,9 @@ def _margins(a: Analysis) -> None:
 def _stick_forces(a: Analysis) -> None:
     s = a.primary.stability
     st.subheader("Trim gradients and stick force, per flight")
+    system = blocks.units()
+    grad_title, grad_k = blocks.titled("Force gradient", "lbf/kt", system)
+    speed_title, speed_k = blocks.titled("Trim speed, EAS", "kt", system)
     rows = [
         {
             "Flight": g.flight,
@@ -247,9 +259,9 @@ def _stick_forces(a: Analysis) -> None:
             "Points": g.n_points,
             "d(elevator)/dCL [deg]": with_interval(g.delev_dcl_deg, g.delev_dcl_ci95_deg, ".2f"),
             "Elevator verdict": g.elevator_verdict,
-            "Force gradient [lbf/kt]": with_interval(g.dfs_dv_lbf_per_kt,
-                                                     g.dfs_dv_ci95_lbf_per_kt, ".3f"),
-            "Trim speed [KEAS]": num(g.trim_eas_kt, ".0f"),
+            grad_title: with_interval(_times(grad_k, g.dfs_dv_lbf_per_kt),
+                                      _times(grad_k, g.dfs_dv_ci95_lbf_per_kt), ".3f"),
+            speed_title: num(_times(speed_k, g.trim_eas_kt), ".0f"),
             "Stick-force verdict": g.stick_force_verdict,
         }
         for g in s.gradients
@@ -272,12 +284,13 @@ def _maneuvering(a: Analysis) -> None:
     else:
         _np_metric(cols[1], "Stick-free maneuver point hm'", m.stick_free,
                    "Stick force per g (over the wing loading) against CG, extrapolated to zero.")
+    per_g_title, per_g_k = blocks.titled("stick force per g", "lbf/g", blocks.units())
     rows = [{"Flight": g.flight, "CG [%MAC]": num(g.cg_pct_mac), "Points": g.n_points,
              "n [g]": f"{g.nz_range[0]:.2f}-{g.nz_range[1]:.2f}",
              "elevator per g [deg/g]": with_interval(g.elevator_per_g_deg,
                                                      g.elevator_per_g_ci95_deg, ".2f"),
-             "stick force per g [lbf/g]": with_interval(g.stick_force_per_g_lbf,
-                                                        g.stick_force_per_g_ci95_lbf, ".1f"),
+             per_g_title: with_interval(_times(per_g_k, g.stick_force_per_g_lbf),
+                                        _times(per_g_k, g.stick_force_per_g_ci95_lbf), ".1f"),
              "note": "lightens at high n" if g.lightening else g.reason}
             for g in m.gradients]
     st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")

@@ -141,3 +141,47 @@ def rounded(values, decimals: int):
 
     # Adding +0.0 turns IEEE -0.0 into +0.0 and leaves every other value unchanged.
     return np.round(values, decimals) + 0.0
+
+
+#: Display unit systems: the package computes in US units (see DEVELOPERS.md); a view may
+#: show SI instead.  Factors are exact by definition (NIST SP 811, 2008, appendix B):
+#: 1 lb = 0.45359237 kg, 1 kt = 1852/3600 m/s, 1 lbf = 4.4482216152605 N.
+DISPLAY_SYSTEMS = ("US", "SI")
+_SI: dict[str, tuple[str, float]] = {
+    "lb": ("kg", 0.45359237),
+    "kt": ("m/s", 1852.0 / 3600.0),
+    "lbf": ("N", 4.4482216152605),
+    "lbf/kt": ("N per m/s", 4.4482216152605 / (1852.0 / 3600.0)),
+    "lbf/g": ("N/g", 4.4482216152605),
+}
+
+
+def display_unit(unit: str, system: str = "US") -> tuple[str, float]:
+    """The unit a view shows for a package unit, and the factor to it.
+
+    Only weights, speeds and forces change (kg, m/s, N in SI); every other
+    unit, and the computation itself, stays as it is.
+
+    Parameters
+    ----------
+    unit : str
+        The package's unit (``"lb"``, ``"kt"``, ``"lbf"``, ``"lbf/kt"``, ``"lbf/g"``, ...).
+    system : {"US", "SI"}
+
+    Returns
+    -------
+    (str, float)
+        The unit shown and the factor: shown value = factor x package value.
+
+    Examples
+    --------
+    >>> display_unit("lbf", "SI")
+    ('N', 4.4482216152605)
+    >>> display_unit("in", "SI"), display_unit("kt", "US")
+    (('in', 1.0), ('kt', 1.0))
+    """
+    if system not in DISPLAY_SYSTEMS:
+        raise ValueError(f"display units: expected one of {DISPLAY_SYSTEMS}, found {system!r}")
+    if system == "SI" and unit in _SI:
+        return _SI[unit]
+    return unit, 1.0
