@@ -110,8 +110,8 @@ def set_exclusion_reason(store: Store, flight_id: int, point: int, reason: str) 
         reasons.pop(str(int(point)), None)
     if reasons == (loading.get(REASONS_KEY) or {}):
         return
-    loading[REASONS_KEY] = reasons
-    store.update_flight(flight_id, loading=loading)
+    # one key of the details: a choice another process keeps meanwhile is not undone
+    store.set_flight_detail(flight_id, REASONS_KEY, reasons)
 
 
 def _terms(profile: AircraftProfile, label: str) -> dict[str, Any]:
