@@ -302,7 +302,7 @@ def test_neutral_point_trend_shows_limits_and_the_next_cg():
                                    maneuver_point_pct_mac=38.2)
     labels = [t.get_text() for t in ax.get_legend().get_texts()]
     assert "aft CG limit 31.1 %MAC" in labels
-    assert "next flight: CG at most 29.4 %MAC (stick-free NP)" in labels
+    assert "next flight: CG at most 29.4 %MAC (stick-free neutral point)" in labels
     assert "policy step: 2 %MAC beyond the most aft CG flown" in labels
     assert "stick-fixed maneuver point 38.2 %MAC" in labels
     levels = {round(float(line.get_ydata()[0]), 1) for line in ax.lines

@@ -13,6 +13,7 @@ from trimlog.dashboard.common import interval, num, with_interval
 from trimlog.errors import TrimlogError
 from trimlog.findings import Severity
 from trimlog.pipeline.chain import Analysis
+from trimlog.stability.critical import step_limit_words
 from trimlog.views.advice import ASSUMED_NOTE, assumed_units, precision_sentence
 
 FIGURES = (
@@ -214,7 +215,7 @@ def _next_step(a: Analysis) -> None:
             cols = st.columns(3)
             cols[0].metric("Most aft CG for the next flight", f"{nxt.max_cg_pct_mac:.1f} %MAC")
             cols[1].metric("As a station", num(nxt.max_cg_station_in, ".1f", "in"))
-            cols[2].metric("Limited by", nxt.limited_by)
+            cols[2].metric("Limited by", step_limit_words(nxt.limited_by))
         st.markdown(common.esc(nxt.reason))
 
 
@@ -238,12 +239,7 @@ def _margins(a: Analysis) -> None:
     st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
     if s.critical is not None:
         st.caption(common.esc(s.critical.reason))
-    if s.next_step is not None:
-        nxt = s.next_step
-        head = ("No step aft is supported" if nxt.max_cg_pct_mac is None else
-                f"Most aft CG for the next flight: **{nxt.max_cg_pct_mac:.1f} %MAC** "
-                f"(limited by {nxt.limited_by.replace('_np', ' neutral point').replace('_', '-')})")
-        st.markdown(f"{head}. {common.esc(nxt.reason)}")
+    # The next step and its reason are shown once, in the box above the margins.
 
 
 def _stick_forces(a: Analysis) -> None:

@@ -34,19 +34,23 @@ import math
 from collections.abc import Mapping, Sequence
 
 from trimlog.stability.results import (
+    STEP_LIMIT_WORDS,
     CriticalNeutralPoint,
     FlightGradient,
     NeutralPoint,
     NextStep,
+    step_limit_words,
 )
 
 __all__ = [
     "KIND_CODE",
     "MIN_CG_SPREAD_PCT_MAC",
+    "STEP_LIMIT_WORDS",
     "aft_flight_clearly_stable",
     "critical_neutral_point",
     "margin_limit",
     "next_cg_limit",
+    "step_limit_words",
     "tighten_next_step",
 ]
 
@@ -356,8 +360,7 @@ def _next_cg_limit(
              + f"; the policy step allows {by_step:.1f} %MAC ({step:g} %MAC beyond the most "
              f"aft CG flown, {most_aft:.1f} %MAC); the aft limit is {aft_limit_pct_mac:.1f} %MAC"
              + (f"; {unknown_free}" if unknown_free else ""))
-    names = {"stick_free_np": "stick-free neutral point", "stick_fixed_np":
-             "stick-fixed neutral point", "policy_step": "policy step", "aft_limit": "aft limit"}
+    names = STEP_LIMIT_WORDS
     bound = min((v for k, v in candidates.items() if k in ("stick_free_np", "stick_fixed_np")),
                 default=None)
     if value <= most_aft:

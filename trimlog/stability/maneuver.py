@@ -43,6 +43,7 @@ from scipy import special
 from trimlog.findings import Finding, Severity, Subject, finding
 from trimlog.input.profile import AircraftProfile
 from trimlog.stability.neutral_points import neutral_point_from_coefficients
+from trimlog.stability.results import MANEUVER_LIMIT_WORDS as LIMIT_WORDS
 from trimlog.stability.results import NeutralPoint
 from trimlog.statistics.fits import fit_matrix, t_quantile
 
@@ -577,12 +578,6 @@ def _difference(point: NeutralPoint | None, hn: NeutralPoint | None) -> float | 
     return float(point.pct_mac - hn.pct_mac)
 
 
-#: ``limited_by`` codes of the maneuvering limits on the next CG, and their words.
-LIMIT_WORDS = {
-    "stick_fixed_mp": "stick-fixed maneuver margin",
-    "stick_free_mp": "stick-free maneuver margin",
-    "min_stick_force_per_g": "minimum stick force per g",
-}
 
 
 def _aft_cg(gradients: tuple[ManeuverGradient, ...], fixed: NeutralPoint,

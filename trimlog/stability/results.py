@@ -742,3 +742,43 @@ class StabilityResult:
     def warnings(self) -> tuple[str, ...]:
         """The findings in words (from the catalogue), each once."""
         return tuple(dict.fromkeys(f.line() for f in self.findings))
+
+
+#: ``limited_by`` codes of the maneuvering limits on the next CG, and their words.
+MANEUVER_LIMIT_WORDS = {
+    "stick_fixed_mp": "stick-fixed maneuver margin",
+    "stick_free_mp": "stick-free maneuver margin",
+    "min_stick_force_per_g": "minimum stick force per g",
+}
+#: Words for the ``next_step.limited_by`` codes of the static rule (every view uses these;
+#: the maneuvering codes are in :data:`MANEUVER_LIMIT_WORDS`).
+STEP_LIMIT_WORDS = {"stick_free_np": "stick-free neutral point",
+                    "stick_fixed_np": "stick-fixed neutral point",
+                    "policy_step": "profile's policy step", "aft_limit": "aft CG limit",
+                    "none": "lack of an identifiable neutral point"}
+
+
+def step_limit_words(code: str | None) -> str:
+    """Words for a ``next_step.limited_by`` code, for every view.
+
+    Parameters
+    ----------
+    code : str or None
+        A static code (:data:`STEP_LIMIT_WORDS`) or a maneuvering one
+        (:data:`MANEUVER_LIMIT_WORDS`).
+
+    Returns
+    -------
+    str
+        The words, or the code itself when unknown ("" for None).
+
+    Examples
+    --------
+    >>> step_limit_words("stick_free_np")
+    'stick-free neutral point'
+    >>> step_limit_words("min_stick_force_per_g")
+    'minimum stick force per g'
+    """
+    if code is None:
+        return ""
+    return STEP_LIMIT_WORDS.get(code) or MANEUVER_LIMIT_WORDS.get(code, code)

@@ -41,6 +41,7 @@ from matplotlib.lines import Line2D
 from matplotlib.patches import Patch
 
 from trimlog.errors import TrimlogError
+from trimlog.stability.critical import step_limit_words
 from trimlog.views.formatting import number
 
 if TYPE_CHECKING:
@@ -736,9 +737,7 @@ def _trend_limits(ax: Axes, next_step: Mapping[str, Any] | None, aft_limit: floa
                    f"margin at {number(minimum, 'g')} %MAC")
     nxt = next_step.get("max_cg_pct_mac")
     if nxt is not None:
-        why = str(next_step.get("limited_by") or "")
-        why = {"stick_free_np": "stick-free NP", "stick_fixed_np": "stick-fixed NP",
-               "policy_step": "policy step", "aft_limit": "aft limit"}.get(why, why)
+        why = step_limit_words(next_step.get("limited_by"))
         ax.axhline(nxt, color=PALETTE[2], linestyle="-", linewidth=2.0,
                    label=f"next flight: CG at most {nxt:.1f} %MAC ({why})")
     else:

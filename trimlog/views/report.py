@@ -41,6 +41,7 @@ from trimlog.files import check_output_target, write_atomically
 from trimlog.findings import Severity
 from trimlog.history.codec import clean
 from trimlog.progress import SILENT, Progress
+from trimlog.stability.critical import step_limit_words
 from trimlog.views import maneuver_plots, plots, shim_drawing
 from trimlog.views import shim_text as shim_words
 from trimlog.views.advice import ASSUMED_NOTE, assumed_units, precision_sentence
@@ -285,11 +286,8 @@ def _next_cg_blocks(a: Analysis) -> list[Any]:
     if step is not None:
         aft = _f(step.max_cg_pct_mac)
         head = ("No step aft is supported" if aft is None else
-                f"Most aft CG for the next flight: {aft:.1f} %MAC, limited by "
-                + {"stick_free_np": "the stick-free neutral point",
-                   "stick_fixed_np": "the stick-fixed neutral point",
-                   "policy_step": "the profile's policy step",
-                   "aft_limit": "the aft CG limit"}.get(step.limited_by, step.limited_by))
+                f"Most aft CG for the next flight: {aft:.1f} %MAC, limited by the "
+                + step_limit_words(step.limited_by))
         out = [Heading("Next CG step", 2), Para(f"{head}: {step.reason}.")]
     advice = precision_sentence(s.next_cg)
     if advice is None:  # no suggestion, or one that would add nothing

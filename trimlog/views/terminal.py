@@ -14,6 +14,7 @@ from typing import TYPE_CHECKING, Any
 
 from trimlog import cautions, findings
 from trimlog.findings import Severity
+from trimlog.stability.critical import step_limit_words
 from trimlog.views.advice import ASSUMED_NOTE, assumed_units, precision_sentence
 from trimlog.views.formatting import elevator_words, interval, number
 
@@ -316,19 +317,6 @@ def render_plan(trend: Trend, *, color: bool = False) -> str:
     return "\n".join(lines)
 
 
-#: Words for the ``limited_by`` codes of the next step.
-LIMITED_BY_WORDS = {
-    "stick_free_np": "limited by the stick-free neutral point",
-    "stick_fixed_np": "limited by the stick-fixed neutral point",
-    "policy_step": "limited by the profile's policy step",
-    "aft_limit": "limited by the aft CG limit",
-    "stick_fixed_mp": "limited by the stick-fixed maneuver margin",
-    "stick_free_mp": "limited by the stick-free maneuver margin",
-    "min_stick_force_per_g": "limited by the minimum stick force per g",
-    "none": "",
-}
-
-
 def _next_step_block(step: dict[str, Any], s: _Style) -> str:
     """The most aft CG for the next flight (the one next-CG rule), naming what limits it."""
     lines = [s.head("Next CG step")]
@@ -340,7 +328,7 @@ def _next_step_block(step: dict[str, Any], s: _Style) -> str:
         where = "" if station is None else f" (station {station:.2f} in)"
         lines.append(textwrap.fill(
             f"most aft CG for the next flight: {step['max_cg_pct_mac']:.1f} %MAC{where}, "
-            f"{LIMITED_BY_WORDS.get(step['limited_by'], step['limited_by'])}, keeping the 95 % "
+            f"limited by the {step_limit_words(step['limited_by'])}, keeping the 95 % "
             f"lower bound of every known static margin at or above "
             f"{step['min_static_margin_pct_mac']:g} %MAC", WIDTH, initial_indent="  ",
             subsequent_indent="  "))
