@@ -133,7 +133,9 @@ def _png(ax) -> bytes:
     from trimlog.views.plots import for_screen
 
     buf = io.BytesIO()
-    for_screen(ax.figure).savefig(buf, format="png", dpi=FIGURE_DPI)
+    # fast zlib level (lossless, same pixels): the image goes to the browser, not an archive
+    for_screen(ax.figure).savefig(buf, format="png", dpi=FIGURE_DPI,
+                                  pil_kwargs={"compress_level": 1})
     return buf.getvalue()
 
 

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import dataclasses
+import functools
 
 import pandas as pd
 import streamlit as st
@@ -21,6 +22,10 @@ FIGURES = (
     ("gradient_vs_cg", "Trim gradient against CG: where it reaches zero is the neutral point"),
     ("stick_force_per_q", "Fs/q against CL (stick-free)"),
     ("stick_force_vs_speed", "Stick force against airspeed"),
+)
+#: Figures of the maneuvering points, drawn when asked for (each costs a few tenths of a
+#: second to draw on a new analysis, and the page's numbers need not wait for them).
+MANEUVER_FIGURES = (
     ("stick_force_vs_n", "Stick force against load factor (maneuvering points)"),
     ("maneuver_gradients_vs_cg", "Gradients per g against CG: maneuver and neutral points"),
 )
@@ -355,8 +360,12 @@ def _warnings(a: Analysis) -> None:
 
 def _figures(inputs: session.Inputs) -> None:
     st.subheader("Figures")
+    kinds = list(FIGURES)
+    if st.toggle("Draw the maneuvering figures too (stick force per g, gradients per g "
+                 "against CG)", key="want_maneuver_figures"):
+        kinds.extend(MANEUVER_FIGURES)
     cols = st.columns(2)
-    for i, (kind, caption) in enumerate(FIGURES):
+    for i, (kind, caption) in enumerate(kinds):
         try:
             png = compute.figure(kind, inputs)
         except TrimlogError as exc:
@@ -379,9 +388,10 @@ def _next_cg(a: Analysis) -> None:
 def _downloads(inputs: session.Inputs) -> None:
     st.subheader("Take the results with you")
     cols = st.columns(3)
-    cols[0].download_button("Results (JSON)", compute.json_text(inputs),
+    # Written when the button is pressed (a callable), not on every rerun of the page.
+    cols[0].download_button("Results (JSON)", functools.partial(compute.json_text, inputs),
                             file_name="trimlog-result.json", mime="application/json")
-    cols[1].download_button("Points (CSV)", compute.points_csv(inputs),
+    cols[1].download_button("Points (CSV)", functools.partial(compute.points_csv, inputs),
                             file_name="trimlog-points.csv", mime="text/csv")
     if cols[2].toggle("Prepare the PDF report", key="want_pdf"):
         try:

@@ -103,7 +103,7 @@ def _demo_files() -> tuple[dict[str, FileBytes], dict[str, FileBytes]]:
     return logs, sheets
 
 
-_WIDGET_KEYS = ("use_demo", "min_hold_s", "points_flight")
+_WIDGET_KEYS = ("use_demo", "min_hold_s", "points_flight", "want_maneuver_figures")
 
 
 def init() -> None:
