@@ -5,29 +5,25 @@ localhost with an explicit upload limit; the top-level ``app.py`` of a source
 checkout runs it too).
 """
 
+import importlib
 
 import streamlit as st
 
-from trimlog.dashboard import (
-    aircraft,
-    calibration_page,
-    common,
-    flights,
-    history_page,
-    points,
-    results,
-    session,
-)
+from trimlog.dashboard import aircraft, common, session
 from trimlog.errors import TrimlogError
 from trimlog.views.formatting import DISPLAY_SYSTEMS
 
+#: Page name -> module of :mod:`trimlog.dashboard` that draws it.  A page's module is
+#: imported when the page is first shown: a cold start's first page does not wait for
+#: the imports of the others (the history store's database layer, the calibration's
+#: figures).
 PAGES = {
-    "Results": results.render,
-    "Aircraft": aircraft.render,
-    "Flights": flights.render,
-    "Points": points.render,
-    "History": history_page.render,
-    "Calibration": calibration_page.render,
+    "Results": "results",
+    "Aircraft": "aircraft",
+    "Flights": "flights",
+    "Points": "points",
+    "History": "history_page",
+    "Calibration": "calibration_page",
 }
 CAPTIONS = [
     "neutral points, margins, shim",
@@ -78,7 +74,7 @@ if st.session_state.get("page_shown") != st.session_state.page:
     st.session_state.page_shown = st.session_state.page
     st.html(SCROLL_TO_TOP, unsafe_allow_javascript=True)
 try:
-    PAGES[st.session_state.page]()
+    importlib.import_module(f"trimlog.dashboard.{PAGES[st.session_state.page]}").render()
 except TrimlogError as exc:  # a page that did not catch a user's mistake itself
     common.show_error(exc, "This input cannot be used")
 except Exception as exc:  # noqa: BLE001 - the page shows a clear message, not a traceback

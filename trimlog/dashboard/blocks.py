@@ -12,7 +12,7 @@ from trimlog import cautions
 from trimlog.dashboard import common
 from trimlog.dashboard.common import interval
 from trimlog.pipeline.chain import Analysis
-from trimlog.views import shim_drawing, shim_text
+from trimlog.views import shim_text
 from trimlog.views.formatting import (
     DISPLAY_SYSTEMS,
     display_unit,
@@ -63,6 +63,10 @@ def shim_block(a: Analysis, *, with_cautions: bool = True) -> None:
             st.markdown(rec.words)
             if a.primary.before_after is not None:
                 st.markdown(common.esc(shim_text.before_after_text(a.primary.before_after)))
+            # matplotlib is imported here, once the numbers above are on their way to
+            # the browser, not when the page's module is (a cold start's first page)
+            from trimlog.views import shim_drawing
+
             st.pyplot(shim_drawing.shim_side_view(
                 inc, a.profile.stabilizer_attach_spacing_in).figure, clear_figure=False)
             st.caption(rec.tau_explanation + ". " + rec.change_method + ".")
