@@ -12,6 +12,8 @@ import threading
 from pathlib import Path
 
 import pytest
+from apptest_steps import go as _go
+from apptest_steps import start as _app
 from streamlit.testing.v1 import AppTest
 
 from trimlog import cautions
@@ -28,11 +30,6 @@ SAMPLES = ROOT / "sample_logs"
 TIMEOUT = 180
 
 
-@pytest.fixture(autouse=True)
-def _history_db(tmp_path, monkeypatch):
-    monkeypatch.setenv("TRIMLOG_DB", str(tmp_path / "history.sqlite"))
-
-
 @pytest.fixture(scope="module")
 def demo_analysis():
     profile = analysis.load_profile(SAMPLES / "tinkerfinch_tf2.toml")
@@ -40,20 +37,6 @@ def demo_analysis():
     for log in sorted(SAMPLES.glob("flight*.csv")):
         flights.extend(analysis.load_flight_file(log, profile))
     return profile, flights, analysis.analyze(flights, profile)
-
-
-def _app() -> AppTest:
-    at = AppTest.from_file(APP, default_timeout=TIMEOUT)
-    at.run()
-    assert not at.exception, at.exception
-    return at
-
-
-def _go(at: AppTest, page: str) -> AppTest:
-    at.sidebar.radio(key="page").set_value(page)
-    at.run()
-    assert not at.exception, at.exception
-    return at
 
 
 def _metrics(at: AppTest) -> dict[str, str]:

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 from pathlib import Path
 
-import pytest
 from streamlit.testing.v1 import AppTest
 
 from trimlog.input.profile import parse_profile
@@ -12,11 +11,6 @@ from trimlog.input.profile import parse_profile
 ROOT = Path(__file__).resolve().parents[2]
 APP = str(ROOT / "trimlog" / "dashboard" / "app.py")
 TIMEOUT = 180
-
-
-@pytest.fixture(autouse=True)
-def _history_db(tmp_path, monkeypatch):
-    monkeypatch.setenv("TRIMLOG_DB", str(tmp_path / "history.sqlite"))
 
 
 def test_calibration_page_and_one_click_to_use_the_table():

@@ -20,11 +20,6 @@ SAMPLES = ROOT / "sample_logs"
 PROFILE = SAMPLES / "tinkerfinch_tf2.toml"
 
 
-@pytest.fixture(autouse=True)
-def _history_db(tmp_path, monkeypatch):
-    monkeypatch.setenv("TRIMLOG_DB", str(tmp_path / "history.sqlite"))
-
-
 def _run(at: AppTest) -> AppTest:
     at.run()
     assert not at.exception, at.exception

@@ -23,11 +23,6 @@ DEMO = (ROOT / "sample_logs" / "tinkerfinch_tf2.toml").read_text()
 IGNORED = {"text", "source", "warnings"}
 
 
-@pytest.fixture(autouse=True)
-def _history_db(tmp_path, monkeypatch):
-    monkeypatch.setenv("TRIMLOG_DB", str(tmp_path / "history.sqlite"))
-
-
 def _same(a, b) -> dict:
     return {f.name: (getattr(a, f.name), getattr(b, f.name))
             for f in dataclasses.fields(a) if f.name not in IGNORED

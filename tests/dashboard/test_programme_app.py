@@ -10,7 +10,8 @@ from __future__ import annotations
 import re
 from pathlib import Path
 
-import pytest
+from apptest_steps import go as _go
+from apptest_steps import start as _app
 from streamlit.testing.v1 import AppTest
 
 from trimlog.history import service
@@ -21,25 +22,6 @@ ROOT = Path(__file__).resolve().parents[2]
 APP = str(ROOT / "trimlog" / "dashboard" / "app.py")
 SAMPLES = ROOT / "sample_logs"
 PROFILE = SAMPLES / "tinkerfinch_tf2.toml"
-
-
-@pytest.fixture(autouse=True)
-def _history_db(tmp_path, monkeypatch):
-    monkeypatch.setenv("TRIMLOG_DB", str(tmp_path / "history.sqlite"))
-
-
-def _app() -> AppTest:
-    at = AppTest.from_file(APP, default_timeout=180)
-    at.run()
-    assert not at.exception, at.exception
-    return at
-
-
-def _go(at: AppTest, page: str) -> AppTest:
-    at.sidebar.radio(key="page").set_value(page)
-    at.run()
-    assert not at.exception, at.exception
-    return at
 
 
 def _upload(at: AppTest, names: list[str]) -> AppTest:

@@ -9,7 +9,6 @@ from __future__ import annotations
 import re
 from pathlib import Path
 
-import pytest
 from streamlit.testing.v1 import AppTest
 
 from trimlog import cautions, findings
@@ -19,11 +18,6 @@ from trimlog.pipeline import chain as analysis
 ROOT = Path(__file__).resolve().parents[2]
 APP = str(ROOT / "trimlog" / "dashboard" / "app.py")
 SAMPLES = ROOT / "sample_logs"
-
-
-@pytest.fixture(autouse=True)
-def _history_db(tmp_path, monkeypatch):
-    monkeypatch.setenv("TRIMLOG_DB", str(tmp_path / "history.sqlite"))
 
 
 def _plain(markdown: str) -> str:

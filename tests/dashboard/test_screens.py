@@ -10,6 +10,8 @@ from __future__ import annotations
 from pathlib import Path
 
 import pytest
+from apptest_steps import go as _go
+from apptest_steps import start as _app
 from streamlit.testing.v1 import AppTest
 
 from trimlog.pipeline import chain as analysis
@@ -21,31 +23,12 @@ SAMPLES = ROOT / "sample_logs"
 TIMEOUT = 180
 
 
-@pytest.fixture(autouse=True)
-def _history_db(tmp_path, monkeypatch):
-    monkeypatch.setenv("TRIMLOG_DB", str(tmp_path / "history.sqlite"))
-
-
 @pytest.fixture(scope="module")
 def demo_analysis():
     profile = analysis.load_profile(SAMPLES / "tinkerfinch_tf2.toml")
     flights = [f for log in sorted(SAMPLES.glob("flight*.csv"))
                for f in analysis.load_flight_file(log, profile)]
     return profile, flights, analysis.analyze(flights, profile)
-
-
-def _app() -> AppTest:
-    at = AppTest.from_file(APP, default_timeout=TIMEOUT)
-    at.run()
-    assert not at.exception, at.exception
-    return at
-
-
-def _go(at: AppTest, page: str) -> AppTest:
-    at.sidebar.radio(key="page").set_value(page)
-    at.run()
-    assert not at.exception, at.exception
-    return at
 
 
 def _block(at: AppTest, key: str):
