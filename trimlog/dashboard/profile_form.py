@@ -233,8 +233,15 @@ def render(p: AircraftProfile, use: Callable[[str, str], None]) -> None:
         for section, title in GROUPS.items():
             specs = [k for k in fields() if k.section == section]
             st.markdown(f"**{title}**")
+            # a text field (the aircraft's name) takes a whole row, so a long name is not
+            # cut short in a narrow window; the numbers go two to a row below it
+            texts = [k for k in specs if k.kind == "text"]
+            for spec in texts:
+                _field(st, spec)
+                if spec.key in errors:
+                    st.error(common.esc(errors[spec.key]), icon=":material/error:")
             cols = st.columns(COLUMNS)
-            for i, spec in enumerate(specs):
+            for i, spec in enumerate(k for k in specs if k.kind != "text"):
                 col = cols[i % COLUMNS]
                 _field(col, spec)
                 if spec.key in errors:
