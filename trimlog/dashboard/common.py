@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import re
 from collections.abc import Iterable, Sequence
+from typing import Any
 
 import streamlit as st
 
@@ -64,3 +65,12 @@ def caution_list(texts: Iterable[str]) -> None:
 def go_to(page: str) -> None:
     """Switch the router to another page (used as a button callback)."""
     st.session_state.page = page
+
+
+def show_png(where: Any, png: bytes, caption: str) -> None:
+    """Show a figure's PNG as it is (``where`` is ``st`` or a column).
+
+    ``st.image`` left to choose re-encodes an opaque PNG as JPEG (slow, and blurs the
+    lines and lettering of a plot); saying PNG sends the bytes unchanged.
+    """
+    where.image(png, caption=caption, output_format="PNG")

@@ -188,8 +188,8 @@ def _trend(p) -> None:
     records = trend["trend"]
     png = compute.trend_figure(p.name, margin, step)
     if png is not None:
-        st.image(png, caption="Estimates of the neutral and maneuver points as flights were "
-                 "added, with their 95 % intervals, and the CG of each flight added")
+        common.show_png(st, png, "Estimates of the neutral and maneuver points as flights "
+                        "were added, with their 95 % intervals, and the CG of each flight added")
     st.dataframe(
         pd.DataFrame([
             {"After flight": f"{r['n_flights']}: {r['label']}", "CG [%MAC]": num(r["cg_pct_mac"]),

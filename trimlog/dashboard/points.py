@@ -64,8 +64,8 @@ def render() -> None:
         if png is None:
             st.info("The log plot appears here once trimlog.views.plots is installed.")
         else:
-            st.image(png, caption=f"{flight}: airspeed, elevator, stick force and load factor "
-                     "against time; stabilized points shaded and numbered")
+            common.show_png(st, png, f"{flight}: airspeed, elevator, stick force and load "
+                            "factor against time; stabilized points shaded and numbered")
     else:
         st.caption("A typed point table: one row per point, no time history to show.")
 

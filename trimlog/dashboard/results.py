@@ -374,7 +374,7 @@ def _figures(inputs: session.Inputs) -> None:
         if png is None:
             cols[i % 2].info(f"{caption}: appears once trimlog.views.plots is installed.")
         else:
-            cols[i % 2].image(png, caption=caption)
+            common.show_png(cols[i % 2], png, caption)
 
 
 def _next_cg(a: Analysis) -> None:
