@@ -186,10 +186,9 @@ def _trend(p) -> None:
         common.show_error(exc, "No trend")
         return
     records = trend["trend"]
-    png = compute.trend_figure(p.name, margin, step)
-    if png is not None:
-        common.show_png(st, png, "Estimates of the neutral and maneuver points as flights "
-                        "were added, with their 95 % intervals, and the CG of each flight added")
+    common.show_png(st, compute.trend_figure(p.name, margin, step),
+                    "Estimates of the neutral and maneuver points as flights were added, "
+                    "with their 95 % intervals, and the CG of each flight added")
     st.dataframe(
         pd.DataFrame([
             {"After flight": f"{r['n_flights']}: {r['label']}", "CG [%MAC]": num(r["cg_pct_mac"]),

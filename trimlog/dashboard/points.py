@@ -60,12 +60,9 @@ def render() -> None:
     flight, name, data = choices[picked]
     log, sheet = pairs[name]
     if data.log.kind == "time_series":
-        png = compute.log_figure(log, sheet, inputs, flight)
-        if png is None:
-            st.info("The log plot appears here once trimlog.views.plots is installed.")
-        else:
-            common.show_png(st, png, f"{flight}: airspeed, elevator, stick force and load "
-                            "factor against time; stabilized points shaded and numbered")
+        common.show_png(st, compute.log_figure(log, sheet, inputs, flight),
+                        f"{flight}: airspeed, elevator, stick force and load factor against "
+                        "time; stabilized points shaded and numbered")
     else:
         st.caption("A typed point table: one row per point, no time history to show.")
 

@@ -235,17 +235,11 @@ def render(p: AircraftProfile, use: Callable[[str, str], None]) -> None:
             st.markdown(f"**{title}**")
             # a text field (the aircraft's name) takes a whole row, so a long name is not
             # cut short in a narrow window; the numbers go two to a row below it
-            texts = [k for k in specs if k.kind == "text"]
-            for spec in texts:
-                _field(st, spec)
-                if spec.key in errors:
-                    st.error(common.esc(errors[spec.key]), icon=":material/error:")
+            for spec in (k for k in specs if k.kind == "text"):
+                _field(st, spec, errors)
             cols = st.columns(COLUMNS)
             for i, spec in enumerate(k for k in specs if k.kind != "text"):
-                col = cols[i % COLUMNS]
-                _field(col, spec)
-                if spec.key in errors:
-                    col.error(common.esc(errors[spec.key]), icon=":material/error:")
+                _field(cols[i % COLUMNS], spec, errors)
         st.markdown("**Position-error table (IAS to CAS, kt)**")
         st.data_editor(ss.form_pe_source, key="form_pe_table", num_rows="dynamic",
                        hide_index=True, width="content",
@@ -265,7 +259,14 @@ def render(p: AircraftProfile, use: Callable[[str, str], None]) -> None:
             st.success("Applied: the profile in use is the form's (kept in the history).")
 
 
-def _field(col, spec: Key) -> None:
+def _field(col: Any, spec: Key, errors: Mapping[str, str]) -> None:
+    """One key's input in ``col`` (``st`` or a column), with its error below it if any."""
+    _input(col, spec)
+    if spec.key in errors:
+        col.error(common.esc(errors[spec.key]), icon=":material/error:")
+
+
+def _input(col: Any, spec: Key) -> None:
     help_text = spec.description + (f"; plausible {spec.range_text()}" if spec.range_text()
                                     else "")
     if spec.default is not None and not spec.required:

@@ -371,10 +371,7 @@ def _figures(inputs: session.Inputs) -> None:
         except TrimlogError as exc:
             cols[i % 2].info(common.esc(f"{caption}: not drawn ({exc})"))
             continue
-        if png is None:
-            cols[i % 2].info(f"{caption}: appears once trimlog.views.plots is installed.")
-        else:
-            common.show_png(cols[i % 2], png, caption)
+        common.show_png(cols[i % 2], png, caption)
 
 
 def _next_cg(a: Analysis) -> None:

@@ -316,7 +316,8 @@ def _intercept_block(x: np.ndarray) -> tuple[int, np.ndarray] | None:
     n_rows, n_cols = x.shape
     # the leading columns of zeros and ones, tested on the whole matrix at once (a column
     # at a time strides through a row-major design: five times slower at 500 flights)
-    binary = np.all((x[:, : n_cols - 1] == 0.0) | (x[:, : n_cols - 1] == 1.0), axis=0)
+    head = x[:, : n_cols - 1]
+    binary = np.all((head == 0.0) | (head == 1.0), axis=0)
     k = int(binary.size if binary.all() else np.argmin(binary))
     if k < max(MIN_INTERCEPTS_FOR_BLOCKS, 1) or n_rows == 0:
         return None
