@@ -133,3 +133,42 @@ def test_planner_is_limited_by_margin_near_the_neutral_point():
     # hn = 40 %MAC (truth): 33 + 5 = 38 would leave 2 %MAC; the margin must limit it
     assert plan.limited_by in ("stick_fixed_np", "aft_limit")
     assert plan.max_cg_pct_mac is None or plan.max_cg_pct_mac <= 35.5
+
+
+def test_closed_form_2x2_is_numpys_least_squares():
+    # Synthetic data of known truth: the closed form against numpy's lstsq and inverse.
+    from trimlog.stability.trend import _solve_2x2
+
+    rng = np.random.default_rng(7)
+    for _ in range(200):
+        x = rng.normal(size=(30, 2)) * rng.uniform(0.01, 10.0, size=2)
+        y = x @ rng.normal(size=2) + rng.normal(scale=0.1, size=30)
+        z = np.column_stack([np.ones(30), x, y])
+        total = z.T @ z
+        b, c, rss, (v00, v11, v01) = _solve_2x2(total)
+        coef, res, *_ = np.linalg.lstsq(x, y, rcond=None)
+        inv = np.linalg.inv(x.T @ x)
+        assert np.allclose([b, c], coef, rtol=1e-9, atol=1e-12)
+        assert rss == pytest.approx(float(res[0]), rel=1e-7)
+        assert np.allclose([v00, v11, v01], [inv[0, 0], inv[1, 1], inv[0, 1]], rtol=1e-9)
+
+
+def test_closed_form_2x2_refuses_collinear_columns():
+    from trimlog.stability.trend import _solve_2x2
+
+    x = np.linspace(0.2, 1.0, 20)
+    z = np.column_stack([np.ones(20), x, 0.3 * x, 2.0 * x])  # h*CL a multiple of CL
+    assert _solve_2x2(z.T @ z) is None
+
+
+@pytest.mark.parametrize("cgs", [(15.0, 22.0, 29.0), tuple(12.0 + 0.8 * k for k in range(20)),
+                                 (20.0, 20.0)])
+def test_headline_neutral_point_is_pooled_fits(cgs):
+    # Synthetic points of known truth: the plan's light call gives pooled_fit's number,
+    # interval and reason, with up to 20 flights (intercepts removed as blocks) and none.
+    from trimlog.stability.neutral_points import headline_neutral_point
+
+    points = make_points(Truth(), cgs_pct_mac=cgs, sigma_elev_deg=0.15, sigma_force_lbf=0.5,
+                         seed=3)
+    for kind in ("stick_fixed", "stick_free"):
+        assert headline_neutral_point(points, kind) == pooled_fit(points, kind).neutral_point

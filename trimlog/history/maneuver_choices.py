@@ -61,13 +61,26 @@ def choices_of(record: FlightRecord) -> dict[int, bool]:
 
 
 def apply_choices(points: pd.DataFrame, record: FlightRecord) -> pd.DataFrame:
-    """A copy of a flight's maneuvering points with the stored choices applied."""
+    """A copy of a flight's maneuvering points with the stored choices applied.
+
+    A flight without points or without choices gives back ``points`` itself
+    (nothing to change; a long history has hundreds of such flights).
+    """
+    choices = choices_of(record)
+    if not choices or not len(points):
+        return points
     points = points.copy()
-    for point, included in choices_of(record).items():
-        mask = points["point"].astype(int) == point if len(points) else None
-        if mask is not None and mask.any():
+    numbers = points["point"].astype(int)
+    for point, included in choices.items():
+        mask = numbers == point
+        if mask.any():
             points.loc[mask, "included"] = included
     return points
+
+
+def kept_none(record: FlightRecord, profile: AircraftProfile, label: str) -> bool:
+    """Whether the points kept for a flight under the terms given now say it has none."""
+    return found_kept(record, profile, label) and not record.loading[FOUND_KEY].get("rows")
 
 
 def reasons_of(record: FlightRecord) -> dict[int, str]:

@@ -29,6 +29,7 @@ from trimlog.history.maneuver_choices import (
     found_kept,
     found_points,
     found_record,
+    kept_none,
     with_choices,
 )
 from trimlog.history.store import AircraftRecord, FlightRecord, ImportOutcome, Store
@@ -516,9 +517,13 @@ def _maneuvering_points(store: Store, stored: _Stored) -> list[pd.DataFrame]:
     log, with the same result.
     """
     profile = stored.profile
-    out = []
+    out: list[pd.DataFrame] = []
+    none = pd.DataFrame()  # one empty table for every flight without turns (only read)
     for r in stored.records:
         name = stored.names[r.id]
+        if kept_none(r, profile, name):
+            out.append(none)
+            continue
         found = found_points(r, profile, name)
         if found is None:
             found = _found_from_log(store, r, profile, name)
@@ -603,15 +608,14 @@ def _latest_flight_level(reduced: pd.DataFrame, config: str, profile: AircraftPr
     plan rests on the same model as ``trimlog analyze``, which allows for errors shared by
     a whole flight (CG, force zero), so the two commands give the same next step.
     """
-    from trimlog.stability.neutral_points import pooled_fit
+    from trimlog.stability.neutral_points import headline_neutral_point
 
     part = reduced.loc[reduced["config"] == config]
     errors = {"lemac_in": profile.lemac_in, "mac_in": profile.mac_in,
               "cg_uncertainty_pct_mac": profile.cg_uncertainty_pct_mac,
               "stick_force_zero_uncertainty_lbf": profile.stick_force_zero_uncertainty_lbf}
-    fixed = pooled_fit(part, "stick_fixed", **errors)
-    free = pooled_fit(part, "stick_free", **errors)
-    return fixed.neutral_point, None if free is None else free.neutral_point
+    return (headline_neutral_point(part, "stick_fixed", **errors),
+            headline_neutral_point(part, "stick_free", **errors))
 
 
 def _aft_flight_clearly_stable(

@@ -980,15 +980,16 @@ class Store:
         """
         f = flights_t.c
         with self._read(f"read the points of aircraft {aircraft_id}") as c:
-            schemas = {
-                fid: json.loads(cols) for fid, cols in c.execute(
-                    sa.select(f.id, f.points_columns).where(f.aircraft_id == aircraft_id))
-            }
+            texts = dict(c.execute(
+                sa.select(f.id, f.points_columns).where(f.aircraft_id == aircraft_id)).all())
             rows = c.execute(
                 sa.select(*_POINT_COLUMNS).join(flights_t, f.id == points_t.c.flight_id)
                 .where(f.aircraft_id == aircraft_id)
                 .order_by(f.flight_order, f.id, points_t.c.point)
             ).all()
+        # most flights share one column schema: each distinct text is parsed once
+        parsed = {text: json.loads(text) for text in set(texts.values())}
+        schemas = {fid: parsed[text] for fid, text in texts.items()}
         return decode_points(schemas, rows, with_flight_id=True)
 
     def set_point_included(self, flight_id: int, point: int, included: bool) -> None:

@@ -163,7 +163,7 @@ def included_points(points: pd.DataFrame) -> pd.DataFrame:
             + " (expected the reduced-points contract of DEVELOPERS.md)"
         )
     if "config" in points.columns:
-        configs = sorted({str(c) for c in points["config"].dropna()})
+        configs = sorted({str(c) for c in points["config"].dropna().unique()})
         if len(configs) > 1:
             raise TrimlogError(
                 "reduced points: one configuration per stability analysis, found "
@@ -634,10 +634,22 @@ def _flight_level_np(frame: pd.DataFrame, response: str, group_col: str, kind: s
     return np_, fit
 
 
-def _pooled_fit(frame: pd.DataFrame, kind: str, lemac_in: float | None,
-                mac_in: float | None, errors: tuple[float, float] | None = None
-                ) -> PooledFit | None:
-    """:func:`pooled_fit` of already validated included points."""
+@dataclass(frozen=True, eq=False)
+class _Headline:
+    """The pooled model's points, fit and headline neutral point (before the checks)."""
+
+    frame: pd.DataFrame
+    response: str
+    group_col: str
+    core: _Core
+    anchor: stick_force.TrimAnchor | None
+    neutral_point: NeutralPoint
+    level: FlightLevelFit | None
+
+
+def _headline(frame: pd.DataFrame, kind: str, lemac_in: float | None, mac_in: float | None,
+              errors: tuple[float, float] | None) -> _Headline | None:
+    """The pooled fit and its headline neutral point; None when stick-free has no force."""
     if kind == "stick_free":
         if "fs_over_q_ft2" not in frame.columns:
             return None
@@ -655,6 +667,54 @@ def _pooled_fit(frame: pd.DataFrame, kind: str, lemac_in: float | None,
         frame, response, group_col, kind, core,
         errors or (DEFAULT_CG_UNCERTAINTY_PCT_MAC, DEFAULT_STICK_FORCE_ZERO_UNCERTAINTY_LBF),
         lemac_in, mac_in, anchor)
+    return _Headline(frame, response, group_col, core, anchor, headline, level)
+
+
+def headline_neutral_point(
+    points: pd.DataFrame, kind: str = "stick_fixed", *,
+    lemac_in: float | None = None, mac_in: float | None = None,
+    cg_uncertainty_pct_mac: float = DEFAULT_CG_UNCERTAINTY_PCT_MAC,
+    stick_force_zero_uncertainty_lbf: float = DEFAULT_STICK_FORCE_ZERO_UNCERTAINTY_LBF,
+) -> NeutralPoint | None:
+    """The neutral point of :func:`pooled_fit`, without its fit checks.
+
+    For a caller that needs the number and its interval alone (the history's
+    plan, step after step): the same model and the same result as
+    ``pooled_fit(...).neutral_point``, without the outlier test, the Huber
+    refit, the CL^2 term and the intercept test, which cost most of the time
+    on a long programme.
+
+    Parameters
+    ----------
+    points, kind, lemac_in, mac_in, cg_uncertainty_pct_mac, stick_force_zero_uncertainty_lbf
+        As for :func:`pooled_fit`.
+
+    Returns
+    -------
+    NeutralPoint or None
+        None for ``"stick_free"`` when no included point has a stick force.
+
+    References
+    ----------
+    .. [1] Etkin and Reid (1996), sec. 2.5; Fieller (1954).
+    """
+    if kind not in ("stick_fixed", "stick_free"):
+        raise TrimlogError(
+            f"stability: kind expected 'stick_fixed' or 'stick_free', found {kind!r}")
+    head = _headline(included_points(points), kind, lemac_in, mac_in,
+                     (cg_uncertainty_pct_mac, stick_force_zero_uncertainty_lbf))
+    return None if head is None else head.neutral_point
+
+
+def _pooled_fit(frame: pd.DataFrame, kind: str, lemac_in: float | None,
+                mac_in: float | None, errors: tuple[float, float] | None = None
+                ) -> PooledFit | None:
+    """:func:`pooled_fit` of already validated included points."""
+    head = _headline(frame, kind, lemac_in, mac_in, errors)
+    if head is None:
+        return None
+    frame, response, group_col, core = head.frame, head.response, head.group_col, head.core
+    anchor, headline, level = head.anchor, head.neutral_point, head.level
     groups = tuple(dict.fromkeys(frame[group_col]))
     latest = str(frame[group_col].iloc[-1]) if len(frame) else None
     ranges = {}
