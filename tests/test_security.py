@@ -41,7 +41,7 @@ POINTS = SAMPLES / "flight1_points.csv"
 # (file, function) pairs allowed to start a subprocess: each passes a fixed
 # argument list built from sys.executable, never a shell command line.
 SUBPROCESS_ALLOWED = {
-    ("trimlog/cli.py", "_run_dashboard"),  # streamlit run app.py
+    ("trimlog/cli.py", "_run_dashboard"),  # the dashboard server (dashboard.serve)
     ("benchmarks/bench.py", "_process_time"),  # timing `trimlog analyze` start-up
     ("benchmarks/bench.py", "once"),
     ("benchmarks/bench.py", "_importtime"),  # python -X importtime

@@ -866,9 +866,9 @@ def _run_demo(args: argparse.Namespace) -> int:
 def _run_dashboard(args: argparse.Namespace) -> int:
     import subprocess
 
-    app = Path(__file__).resolve().parent / "dashboard" / "app.py"
+    # the server process loads the analysis stack before it answers (dashboard.serve)
     command = [
-        sys.executable, "-m", "streamlit", "run", str(app),
+        sys.executable, "-m", "trimlog.dashboard.serve",
         "--server.headless", "true",
         "--server.address", args.address,
         "--server.port", str(args.port),
