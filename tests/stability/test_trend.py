@@ -172,3 +172,21 @@ def test_headline_neutral_point_is_pooled_fits(cgs):
                          seed=3)
     for kind in ("stick_fixed", "stick_free"):
         assert headline_neutral_point(points, kind) == pooled_fit(points, kind).neutral_point
+
+
+def test_the_light_core_gives_the_dense_fits_independent_neutral_point():
+    # Synthetic points of known truth, 20 flights: the intercepts removed as groups give the
+    # ordinary pooled model's hn and interval (to rounding) and its reason when there is none.
+    from trimlog.stability import neutral_points as npm
+
+    for cgs in (tuple(12.0 + 0.8 * k for k in range(20)), (20.0,) * 20):
+        points = npm.included_points(make_points(Truth(), cgs_pct_mac=cgs, sigma_elev_deg=0.15,
+                                                 sigma_force_lbf=0.5, seed=5))
+        for kind in ("stick_fixed", "stick_free"):
+            light = npm._headline(points, kind, None, None, None, light=True).core.neutral_point
+            dense = pooled_fit(points, kind).independent_neutral_point
+            assert light.identifiable == dense.identifiable
+            assert light.reason == dense.reason
+            if dense.identifiable:
+                assert light.pct_mac == pytest.approx(dense.pct_mac, rel=1e-9)
+                assert light.ci95_pct_mac == pytest.approx(dense.ci95_pct_mac, rel=1e-9)

@@ -119,3 +119,32 @@ def test_outlier_test_equals_statsmodels_outlier_test(n_groups):
                                    rtol=1e-9, atol=1e-12)
         flagged = [o.position for o in fits.studentized_outliers(fit)]
         assert flagged == [int(i) for i in np.flatnonzero(table[:, 2] < fits.OUTLIER_ALPHA)]
+
+
+def test_within_fit_is_the_dense_fit_with_one_intercept_per_group():
+    # Synthetic data of known truth, 40 groups: the slopes, covariance and degrees of freedom
+    # of the dense least-squares fit with dummies (numpy lstsq), without building the dummies.
+    from trimlog.statistics.fits import within_fit
+
+    rng = np.random.default_rng(11)
+    k, n = 40, 400
+    codes = rng.permutation(np.repeat(np.arange(k), n // k))
+    x = np.column_stack([rng.uniform(0.2, 1.2, n), rng.uniform(0.1, 0.4, n)])
+    y = rng.normal(size=k)[codes] + x @ np.array([-3.0, 8.0]) + rng.normal(scale=0.2, size=n)
+    dense = np.column_stack([np.eye(k)[codes], x])
+    coef, res, *_ = np.linalg.lstsq(dense, y, rcond=None)
+    df = n - k - 2
+    cov = float(res[0]) / df * np.linalg.inv(dense.T @ dense)[k:, k:]
+    fit = within_fit(y, x, codes, k)
+    assert fit.df_resid == df
+    assert np.allclose(fit.coef, coef[k:], rtol=1e-9)
+    assert np.allclose(fit.cov, cov, rtol=1e-7)
+    assert fit.rss == pytest.approx(float(res[0]), rel=1e-9)
+
+
+def test_within_fit_refuses_a_column_constant_within_every_group():
+    from trimlog.statistics.fits import within_fit
+
+    codes = np.repeat(np.arange(5), 4)
+    x = np.column_stack([np.tile([0.3, 0.5, 0.7, 0.9], 5), np.repeat(np.arange(5.0), 4) + 1.0])
+    assert within_fit(np.arange(20.0), x, codes, 5) is None  # the second is the groups'

@@ -83,6 +83,7 @@ from trimlog.stability.results import (
     TwoStageFit,
 )
 from trimlog.statistics.fits import (
+    MIN_INTERCEPTS_FOR_BLOCKS,
     LinearFit,
     RatioInterval,
     finite,
@@ -95,6 +96,7 @@ from trimlog.statistics.fits import (
     t_quantile,
     trim_design,
     trim_matrix,
+    within_fit,
 )
 from trimlog.statistics.flight_effects import FlightLevelFit, fit_flight_level
 
@@ -494,25 +496,44 @@ class _Core:
     neutral_point: NeutralPoint
 
 
-def _core(frame: pd.DataFrame, response: str, group_col: str, kind: str,
-          lemac_in: float | None, mac_in: float | None) -> _Core:
-    """Fit the pooled model (the reduced one when the CG term is inestimable) and its hn."""
+def _core_before_fit(frame: pd.DataFrame, kind: str) -> tuple[float, int, int, _Core | None]:
+    """The CG spread, points and flights, and the answer when no fit is possible at all."""
     n, n_flights = len(frame), frame["flight"].nunique()
     spread = 100.0 * float(frame["h"].max() - frame["h"].min()) if n else 0.0
-    groups = list(dict.fromkeys(frame[group_col]))
 
     def no(reason: str) -> _Core:
         return _Core(None, False, _not_identifiable(kind, "pooled", reason, spread, n, n_flights))
 
     if n == 0:
-        return no("no included points")
+        return spread, n, n_flights, no("no included points")
     cl_spread = float(frame["cl"].max() - frame["cl"].min())
     if cl_spread < MIN_CL_SPREAD:
-        return no(f"CL spans only {cl_spread:.3f} over all points (all at nearly one speed): "
-                  "no trim gradient can be fitted")
+        return spread, n, n_flights, no(
+            f"CL spans only {cl_spread:.3f} over all points (all at nearly one speed): "
+            "no trim gradient can be fitted")
     swept = flights_with_speed_range(frame)
     if swept < MIN_FLIGHTS_WITH_SPEED_RANGE and spread >= MIN_CG_SPREAD_PCT_MAC:
-        return no(too_few_speed_ranges(swept))
+        return spread, n, n_flights, no(too_few_speed_ranges(swept))
+    return spread, n, n_flights, None
+
+
+def _no_cg_term_reason(spread: float, n: int, n_coefficients: int) -> str:
+    """Why the CG term of the pooled model cannot be fitted."""
+    if spread < 1e-9:
+        return "all points were flown at one CG: a neutral point needs flights at several CGs"
+    if n - n_coefficients < 1:
+        return f"{n} points for {n_coefficients} coefficients: more points are needed"
+    return ("the CG and CL of the points vary together (the CG term cannot be separated "
+            "from CL): fly each CG over a range of speeds")
+
+
+def _core(frame: pd.DataFrame, response: str, group_col: str, kind: str,
+          lemac_in: float | None, mac_in: float | None) -> _Core:
+    """Fit the pooled model (the reduced one when the CG term is inestimable) and its hn."""
+    spread, n, n_flights, none = _core_before_fit(frame, kind)
+    if none is not None:
+        return none
+    groups = list(dict.fromkeys(frame[group_col]))
     full = trim_design(frame, group_col, groups, cg_term=True)
     if is_full_rank(full) and n - full.shape[1] >= 1:
         fit = fit_linear(frame[response], full)
@@ -520,17 +541,36 @@ def _core(frame: pd.DataFrame, response: str, group_col: str, kind: str,
             fit, "cl", "h_cl", kind=kind, method="pooled", spread=spread, n=n,
             n_flights=n_flights, lemac_in=lemac_in, mac_in=mac_in))
     reduced = trim_design(frame, group_col, groups, cg_term=False)
-    if spread < 1e-9:
-        why = "all points were flown at one CG: a neutral point needs flights at several CGs"
-    elif n - full.shape[1] < 1:
-        why = (f"{n} points for {full.shape[1]} coefficients: more points are needed")
-    else:
-        why = ("the CG and CL of the points vary together (the CG term cannot be separated "
-               "from CL): fly each CG over a range of speeds")
+    why = _no_cg_term_reason(spread, n, full.shape[1])
+    fit = None
     if is_full_rank(reduced) and n - reduced.shape[1] >= 1:
         fit = fit_linear(frame[response], reduced)
-        return _Core(fit, False, _not_identifiable(kind, "pooled", why, spread, n, n_flights))
-    return no(why)
+    return _Core(fit, False, _not_identifiable(kind, "pooled", why, spread, n, n_flights))
+
+
+def _core_within(frame: pd.DataFrame, response: str, group_col: str, kind: str,
+                 lemac_in: float | None, mac_in: float | None) -> _Core:
+    """:func:`_core`'s neutral point without its fit: the intercepts removed as groups.
+
+    The coefficients of CL and h*CL, their covariance and the residual degrees
+    of freedom are those of the dense fit (Frisch-Waugh-Lovell); the design of
+    one intercept per flight is never built.  ``linear`` is None.
+    """
+    spread, n, n_flights, none = _core_before_fit(frame, kind)
+    if none is not None:
+        return none
+    codes, uniques = pd.factorize(frame[group_col])
+    cl = frame["cl"].to_numpy(dtype=float)
+    x = np.column_stack([cl, frame["h"].to_numpy(dtype=float) * cl])
+    fit = within_fit(frame[response].to_numpy(dtype=float), x, codes, len(uniques))
+    if fit is None:
+        why = _no_cg_term_reason(spread, n, len(uniques) + 2)
+        return _Core(None, False, _not_identifiable(kind, "pooled", why, spread, n, n_flights))
+    cov = fit.cov
+    return _Core(None, True, neutral_point_from_coefficients(
+        float(fit.coef[0]), float(fit.coef[1]), float(cov[0, 0]), float(cov[1, 1]),
+        float(cov[0, 1]), fit.df_resid, kind=kind, method="pooled", spread=spread, n=n,
+        n_flights=n_flights, lemac_in=lemac_in, mac_in=mac_in))
 
 
 def pooled_fit(points: pd.DataFrame, kind: str = "stick_fixed", *,
@@ -601,7 +641,7 @@ def _flight_level_np(frame: pd.DataFrame, response: str, group_col: str, kind: s
     speed (friction), which acts the same way.
     """
     independent = core.neutral_point
-    if core.linear is None or not core.has_cg_term:
+    if not core.has_cg_term:  # (a fit with the CG term always has its linear fit)
         return independent, None
     cg_pct, force_zero_lbf = errors
     cl = frame["cl"].to_numpy(dtype=float)
@@ -648,8 +688,11 @@ class _Headline:
 
 
 def _headline(frame: pd.DataFrame, kind: str, lemac_in: float | None, mac_in: float | None,
-              errors: tuple[float, float] | None) -> _Headline | None:
-    """The pooled fit and its headline neutral point; None when stick-free has no force."""
+              errors: tuple[float, float] | None, *, light: bool = False) -> _Headline | None:
+    """The pooled fit and its headline neutral point; None when stick-free has no force.
+
+    ``light``: the neutral point alone is wanted (``core.linear`` may be None).
+    """
     if kind == "stick_free":
         if "fs_over_q_ft2" not in frame.columns:
             return None
@@ -661,7 +704,9 @@ def _headline(frame: pd.DataFrame, kind: str, lemac_in: float | None, mac_in: fl
         response, group_col = "fs_over_q_ft2", "flight"
     else:
         response, group_col = "elevator_deg", "stab_setting"
-    core = _core(frame, response, group_col, kind, lemac_in, mac_in)
+    many = frame[group_col].nunique() >= MIN_INTERCEPTS_FOR_BLOCKS
+    core = (_core_within if light and many else _core)(
+        frame, response, group_col, kind, lemac_in, mac_in)
     anchor = stick_force.trim_anchor(frame) if kind == "stick_free" else None
     headline, level = _flight_level_np(
         frame, response, group_col, kind, core,
@@ -702,7 +747,7 @@ def headline_neutral_point(
         raise TrimlogError(
             f"stability: kind expected 'stick_fixed' or 'stick_free', found {kind!r}")
     head = _headline(included_points(points), kind, lemac_in, mac_in,
-                     (cg_uncertainty_pct_mac, stick_force_zero_uncertainty_lbf))
+                     (cg_uncertainty_pct_mac, stick_force_zero_uncertainty_lbf), light=True)
     return None if head is None else head.neutral_point
 
 

@@ -338,6 +338,82 @@ def _demeaned(z: np.ndarray, codes: np.ndarray, k: int, w: np.ndarray
     return z - means[codes], total, means
 
 
+@dataclass(frozen=True)
+class WithinFit:
+    """Least squares with one intercept per group, the intercepts removed (see :func:`within_fit`).
+
+    Attributes
+    ----------
+    coef : numpy.ndarray
+        Coefficients of the columns of ``x``.
+    cov : numpy.ndarray
+        Their covariance, ``s^2 (X'X)^-1`` of the group-demeaned columns.
+    rss : float
+        Residual sum of squares.
+    df_resid : int
+        Points less groups less columns.
+    """
+
+    coef: np.ndarray
+    cov: np.ndarray
+    rss: float
+    df_resid: int
+
+
+def within_fit(y: np.ndarray, x: np.ndarray, codes: np.ndarray, k: int) -> WithinFit | None:
+    """Fit ``y`` on one intercept per group and the columns of ``x``, without the dummies.
+
+    By the Frisch-Waugh-Lovell theorem the coefficients of ``x`` and their
+    covariance are those of the regression of the group-demeaned ``y`` on the
+    group-demeaned ``x`` (residual degrees of freedom ``n - k - p``).  The
+    rank rule is :func:`is_full_rank`'s for a design with many intercepts.
+
+    Parameters
+    ----------
+    y : numpy.ndarray
+        Response, length n.
+    x : numpy.ndarray
+        Regressors, n x p.
+    codes : numpy.ndarray
+        Each point's group, 0 .. k-1 (every group non-empty).
+    k : int
+        Number of groups.
+
+    Returns
+    -------
+    WithinFit or None
+        None when the design is not of full column rank or leaves no
+        residual degree of freedom.
+
+    References
+    ----------
+    .. [1] Frisch and Waugh (1933), Econometrica 1:387-401; Lovell (1963),
+       J. Am. Stat. Assoc. 58:993-1010.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> x = np.array([[1.0], [2.0], [3.0], [1.0], [2.0], [4.0]])
+    >>> y = np.array([2.0, 4.0, 6.1, 5.0, 7.0, 11.0])
+    >>> fit = within_fit(y, x, np.array([0, 0, 0, 1, 1, 1]), 2)
+    >>> round(float(fit.coef[0]), 3), fit.df_resid
+    (2.015, 3)
+    """
+    n, p = x.shape
+    df = n - k - p
+    scale = np.sqrt((x * x).sum(axis=0))
+    if df < 1 or np.any(scale == 0.0):
+        return None
+    z, *_ = _demeaned(np.column_stack([x, y]), codes, k, np.ones(n))
+    xt, yt = z[:, :p], z[:, p]
+    if int(np.linalg.matrix_rank(xt / scale, tol=1e-9)) < p:
+        return None
+    inv = np.linalg.inv(xt.T @ xt)
+    coef = inv @ (xt.T @ yt)
+    rss = float(np.sum((yt - xt @ coef) ** 2))
+    return WithinFit(coef, rss / df * inv, rss, df)
+
+
 def is_full_rank(design: pd.DataFrame | np.ndarray) -> bool:
     """Whether the columns of a design are linearly independent (after scaling each column)."""
     x = np.asarray(design, dtype=float)
