@@ -414,6 +414,12 @@ def _open_server(text: str) -> Store:
     engine = sa.create_engine(url, poolclass=NullPool)
     store = _connect(engine, shown, shown, "postgresql", hint)
     try:
+        # The tables and the version row are read by two statements, each seeing what was
+        # committed when it began: a first import creating the schema between them would look
+        # like a damaged database. Creators hold this lock exclusively (see
+        # _initialise_or_migrate); sharing it here waits for one to commit.
+        store._conn.execute(sa.text("SELECT pg_advisory_xact_lock_shared(:k)"),
+                            {"k": _PG_MIGRATION_LOCK})
         _, version = store._inspect()
         store._conn.rollback()
         if version != SCHEMA_VERSION:
