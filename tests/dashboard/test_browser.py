@@ -117,6 +117,11 @@ def test_upload_logs_and_see_the_neutral_point_the_shim_and_the_cautions(server)
             # A common laptop screen: the estimate statement must be seen without scrolling.
             page = browser.new_page(viewport={"width": 1366, "height": 768})
             page.set_default_timeout(WAIT_MS)  # a loaded machine can take over 30 s to start
+            # A hangar PC may have no network: nothing the dashboard shows may come from
+            # elsewhere (a Material icon as the page icon was fetched from a font server).
+            outside = []
+            page.on("request", lambda r: outside.append(r.url) if r.url.split("/")[0] in
+                    ("http:", "https:") and not r.url.startswith(server) else None)
             page.goto(server)
             sidebar = page.get_by_test_id("stSidebar")
             sidebar.get_by_text("Flights", exact=True).click()
@@ -138,6 +143,7 @@ def test_upload_logs_and_see_the_neutral_point_the_shim_and_the_cautions(server)
             ARTIFACTS.mkdir(exist_ok=True)
             page.screenshot(path=str(ARTIFACTS / "dashboard-results-1366x768.png"))
             expect(note).to_be_in_viewport()
+            assert outside == [], f"requests that left the dashboard's server: {outside}"
             shim = page.locator(".st-key-shim")
             expect(shim).to_contain_text("Shim:", timeout=WAIT_MS)
             expect(shim).to_contain_text("Incidence change")

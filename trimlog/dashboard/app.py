@@ -52,7 +52,7 @@ NO_CLIPPING = """<style>
   text-overflow: clip !important; overflow-wrap: break-word; }
 </style>"""
 
-st.set_page_config(page_title="trimlog", page_icon=":material/flight:", layout="wide")
+st.set_page_config(page_title="trimlog", page_icon="\u2708\ufe0f", layout="wide")
 st.html(NO_CLIPPING)
 # Never a traceback in the page, whichever way the app was started (issue 19).
 st.set_option("client.showErrorDetails", "none")
