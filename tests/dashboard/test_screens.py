@@ -183,7 +183,7 @@ def test_si_display_units_change_what_is_shown_not_what_is_computed(demo_analysi
     assert not at.exception, at.exception
     after = {m.label: m.value for m in at.metric}
     assert after == before  # the headline numbers (%MAC, deg, in) do not move
-    gradients = next(d.value for d in at.dataframe if "Stick-force verdict" in d.value.columns)
+    gradients = next(d.value for d in at.table if "Stick-force verdict" in d.value.columns)
     assert "Force gradient [N per m/s]" in gradients.columns
     assert "Trim speed, EAS [m/s]" in gradients.columns
     g = a.primary.stability.gradients[0]

@@ -44,3 +44,18 @@ def test_the_dashboard_command_starts_the_serve_module(monkeypatch):
     command = started["command"]
     assert command[:3] == [sys.executable, "-m", "trimlog.dashboard.serve"]
     assert command[command.index("--server.port") + 1] == "8602"
+
+
+def test_the_warm_up_computes_what_a_new_visitors_results_page_asks_for():
+    # The server's warm-up is worth something only if its inputs are the page's own: the
+    # Results page of a new session (the demo flights) must find its analysis computed.
+    from streamlit.testing.v1 import AppTest
+
+    from trimlog.dashboard import compute, session
+
+    compute._analysed.clear()
+    at = AppTest.from_file(str(serve.APP), default_timeout=120).run()
+    assert not at.exception, at.exception
+    assert [m.label for m in at.metric][:1] == ["Stick-fixed neutral point"]
+    assert compute._analysed == {session.first_inputs().key}
+

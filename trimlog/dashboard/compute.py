@@ -125,6 +125,18 @@ def analysis_with_status(inputs: Inputs) -> Analysis:
     return a
 
 
+def precompute(inputs: Inputs) -> Analysis:
+    """Read the logs and fit the inputs into the caches, with no page to show progress on.
+
+    The server's warm-up (:func:`trimlog.dashboard.results.precompute_first_page`); a page
+    asking meanwhile waits for these results rather than computing them again.
+    """
+    flights_of(inputs)
+    a = run_analysis(inputs)
+    _analysed.add(inputs.key)
+    return a
+
+
 #: Resolution of the dashboard's figures [dots per inch].
 FIGURE_DPI = 110
 

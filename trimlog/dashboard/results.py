@@ -92,6 +92,25 @@ def render() -> None:
     _downloads(inputs)
 
 
+def precompute_first_page() -> None:
+    """Compute what a new session's Results page shows, into the caches the page reads.
+
+    The server runs this once, as soon as it starts (:mod:`trimlog.dashboard.serve`): the
+    first visitor then waits for the page to be sent, not for the demo flights to be read,
+    fitted and drawn.  The inputs are the page's own (:func:`session.first_inputs`, the
+    saved programme of the demo aircraft if the history holds one).
+    """
+    inputs = session.first_inputs()
+    aircraft = compute.profile(inputs.profile_text, inputs.profile_source).name
+    inputs = dataclasses.replace(inputs, programme=compute.programme_state(aircraft))
+    compute.precompute(inputs)
+    for kind, _ in FIGURES:
+        try:
+            compute.figure(kind, inputs)
+        except TrimlogError:
+            continue  # the page says why it is not drawn, when it asks
+
+
 def _result_cautions(a: Analysis) -> list[str]:
     """The analysis's cautions that the general box does not already hold."""
     shown = {cautions.ESTIMATE_STATEMENT, *cautions.GENERAL}
@@ -241,7 +260,7 @@ def _margins(a: Analysis) -> None:
         }
         for m in s.margins
     ]
-    st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
+    st.table(pd.DataFrame(rows), hide_index=True)
     if s.critical is not None:
         st.caption(common.esc(s.critical.reason))
     # The next step and its reason are shown once, in the box above the margins.
@@ -267,7 +286,7 @@ def _stick_forces(a: Analysis) -> None:
         }
         for g in s.gradients
     ]
-    st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
+    st.table(pd.DataFrame(rows), hide_index=True)
 
 
 def _maneuvering(a: Analysis) -> None:
@@ -294,7 +313,7 @@ def _maneuvering(a: Analysis) -> None:
                                         _times(per_g_k, g.stick_force_per_g_ci95_lbf), ".1f"),
              "note": "lightens at high n" if g.lightening else g.reason}
             for g in m.gradients]
-    st.dataframe(pd.DataFrame(rows), hide_index=True, width="stretch")
+    st.table(pd.DataFrame(rows), hide_index=True)
     r = m.requirement
     text = (f"Minimum stick force per g {r.minimum_per_g_lbf:.1f} lbf/g: 14 CFR 23.155(a) "
             f"(pre-2017 text) {r.force_to_limit_lbf:.0f} lbf to {r.limit_load_factor_g:.2f} g "

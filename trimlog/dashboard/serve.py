@@ -5,7 +5,9 @@ Streamlit's options.  Streamlit imports what a page needs only when the first
 page is asked for, so the first user of a fresh server would wait for numpy,
 pandas, matplotlib and the pages' modules to load and for matplotlib to find
 its fonts (about 2.5 s on a 2-core machine).  Here that is done once, before
-the server listens; the page then only computes.
+the server listens.  Once Streamlit's runtime exists, a thread also reads, fits and
+draws what a new visitor's Results page shows (the demo flights) into the caches the
+page reads, while the browser is still loading Streamlit's scripts.
 
 Examples
 --------
@@ -17,7 +19,10 @@ Examples
 from __future__ import annotations
 
 import importlib
+import logging
 import sys
+import threading
+import time
 from collections.abc import Sequence
 from pathlib import Path
 
@@ -52,6 +57,29 @@ def warm() -> None:
     FigureCanvasAgg(figure).draw()
 
 
+def precompute_when_serving(timeout_s: float = 120.0) -> None:
+    """Once Streamlit's runtime exists, compute the first Results page into its caches.
+
+    Runs in a thread of the server beside Streamlit's own (started by :func:`main`).
+    The caches must be the runtime's, so this waits for it; a page that asks meanwhile
+    waits for the value being computed (Streamlit holds one lock per cached value).
+    """
+    from streamlit import runtime
+
+    deadline = time.monotonic() + timeout_s
+    while not runtime.exists():
+        if time.monotonic() > deadline:
+            return
+        time.sleep(0.05)
+    # Cached calls outside a page log "missing ScriptRunContext" (harmless, Streamlit says).
+    logging.getLogger("streamlit.runtime.scriptrunner_utils.script_run_context").setLevel(
+        logging.ERROR)
+    try:
+        importlib.import_module("trimlog.dashboard.results").precompute_first_page()
+    except Exception:  # noqa: BLE001 - only a warm-up: the page computes and reports it itself
+        return
+
+
 def streamlit_argv(options: Sequence[str]) -> list[str]:
     """Streamlit's command line that runs the dashboard with ``options``."""
     return ["streamlit", "run", str(APP), *options]
@@ -61,6 +89,9 @@ def main(options: Sequence[str] | None = None) -> None:
     """Load the stack, then run Streamlit's server on the dashboard (does not return)."""
     warm()
     from streamlit.web import cli
+
+    threading.Thread(target=precompute_when_serving, name="trimlog-first-page",
+                     daemon=True).start()
 
     sys.argv = streamlit_argv(sys.argv[1:] if options is None else options)
     cli.main()

@@ -10,6 +10,7 @@ from __future__ import annotations
 import hashlib
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import Any
 
 import streamlit as st
 
@@ -106,6 +107,42 @@ def _demo_files() -> tuple[dict[str, FileBytes], dict[str, FileBytes]]:
 _WIDGET_KEYS = ("use_demo", "min_hold_s", "points_flight", "want_maneuver_figures")
 
 
+def _new_session_values() -> dict[str, Any]:
+    """What a new session starts with: the demo aircraft with its flights."""
+    demo_logs, demo_sheets = _demo_files()
+    return {
+        "profile_text": demo.PROFILE_TOML,
+        "profile_source": DEMO_SOURCE,
+        "demo_logs": demo_logs,
+        "demo_sheets": demo_sheets,
+        "use_demo": bool(demo_logs),
+        "user_logs": {},
+        "user_sheets": {},
+        # Keyed by the log's SHA-256 (the flight itself), never by its file name.
+        "sheet_for": {},
+        "labels": {},
+        "notes": {},
+        # The user's choices where they differ from trimlog's own: points to leave out, and
+        # points trimlog left out (a flag, an elevator at a stop) to fit all the same.
+        "exclusions": set(),
+        "inclusions": set(),
+        # Why a point is left out, keyed like the exclusions: {(flight, point): reason}.
+        "exclusion_reasons": {},
+        "min_hold_s": None,
+        "uploader_round": 0,
+    }
+
+
+class _State(dict):
+    """Session values outside a session, read as ``st.session_state`` reads them."""
+
+    def __getattr__(self, name: str) -> Any:
+        try:
+            return self[name]
+        except KeyError:
+            raise AttributeError(name) from None
+
+
 def init() -> None:
     """Set the defaults on a new session: the demo aircraft with its flights."""
     ss = st.session_state
@@ -115,24 +152,17 @@ def init() -> None:
             if key in ss:
                 ss[key] = ss[key]
         return
-    ss.profile_text = demo.PROFILE_TOML
-    ss.profile_source = DEMO_SOURCE
-    ss.demo_logs, ss.demo_sheets = _demo_files()
-    ss.use_demo = bool(ss.demo_logs)
-    ss.user_logs = {}
-    ss.user_sheets = {}
-    # Keyed by the log's SHA-256 (the flight itself), never by its file name.
-    ss.sheet_for = {}
-    ss.labels = {}
-    ss.notes = {}
-    # The user's choices where they differ from trimlog's own: points to leave out, and
-    # points trimlog left out (a flag, an elevator at a stop) to fit all the same.
-    ss.exclusions = set()
-    ss.inclusions = set()
-    # Why a point is left out, keyed like the exclusions: {(flight, point): reason}.
-    ss.exclusion_reasons = {}
-    ss.min_hold_s = None
-    ss.uploader_round = 0
+    for key, value in _new_session_values().items():
+        ss[key] = value
+
+
+def first_inputs() -> Inputs:
+    """The inputs of a new session (the demo flights), computed with no session.
+
+    The server's warm-up analyses them before the first visitor asks
+    (:func:`trimlog.dashboard.results.precompute_first_page`).
+    """
+    return inputs(state=_State(_new_session_values()))
 
 
 def add_uploads(files: list[tuple[str, bytes]]) -> list[str]:
@@ -159,27 +189,27 @@ def remove_upload(name: str) -> None:
         ss.sheet_for.pop(log.digest, None)
 
 
-def logs() -> dict[str, FileBytes]:
+def logs(state: Any = None) -> dict[str, FileBytes]:
     """Logs in use: the user's, plus the demo flights when switched on (a user file wins)."""
-    ss = st.session_state
+    ss = st.session_state if state is None else state
     out = dict(ss.demo_logs) if ss.use_demo else {}
     out.update(ss.user_logs)
     return out
 
 
-def sheets() -> dict[str, FileBytes]:
+def sheets(state: Any = None) -> dict[str, FileBytes]:
     """Loading sheets available: the user's, plus the demo ones when the demo is on."""
-    ss = st.session_state
+    ss = st.session_state if state is None else state
     out = dict(ss.demo_sheets) if ss.use_demo else {}
     out.update(ss.user_sheets)
     return out
 
 
-def sheet_choice(log_name: str) -> str | None:
+def sheet_choice(log_name: str, state: Any = None) -> str | None:
     """The loading sheet chosen for a log: the user's pick, else the one named like it."""
-    ss = st.session_state
-    available = sheets()
-    log = logs().get(log_name)
+    ss = st.session_state if state is None else state
+    available = sheets(ss)
+    log = logs(ss).get(log_name)
     if log is not None and log.digest in ss.sheet_for:
         chosen = ss.sheet_for[log.digest]
         return chosen if chosen in available else None
@@ -188,15 +218,18 @@ def sheet_choice(log_name: str) -> str | None:
     return matches[0] if matches else None
 
 
-def inputs(readable: list[str] | None = None) -> Inputs:
-    """The analysis inputs now, limited to ``readable`` logs when given."""
-    ss = st.session_state
-    available = sheets()
+def inputs(readable: list[str] | None = None, state: Any = None) -> Inputs:
+    """The analysis inputs now, limited to ``readable`` logs when given.
+
+    ``state``: the session values to read (default this session's).
+    """
+    ss = st.session_state if state is None else state
+    available = sheets(ss)
     pairs = []
-    for name, log in logs().items():
+    for name, log in logs(ss).items():
         if readable is not None and name not in readable:
             continue
-        sheet = sheet_choice(name)
+        sheet = sheet_choice(name, ss)
         pairs.append((log, available.get(sheet) if sheet else None))
     return Inputs(
         profile_text=ss.profile_text,
