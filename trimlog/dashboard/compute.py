@@ -131,8 +131,7 @@ def precompute(inputs: Inputs) -> Analysis:
     The server's warm-up (:func:`trimlog.dashboard.results.precompute_first_page`); a page
     asking meanwhile waits for these results rather than computing them again.
     """
-    flights_of(inputs)
-    a = run_analysis(inputs)
+    a = run_analysis(inputs)  # reads each log through flight_data, as the page does
     _analysed.add(inputs.key)
     return a
 

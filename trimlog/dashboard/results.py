@@ -102,6 +102,7 @@ def precompute_first_page() -> None:
     """
     inputs = session.first_inputs()
     aircraft = compute.profile(inputs.profile_text, inputs.profile_source).name
+    # As render() does: saved flights of this aircraft join the flights in use.
     inputs = dataclasses.replace(inputs, programme=compute.programme_state(aircraft))
     compute.precompute(inputs)
     for kind, _ in FIGURES:

@@ -71,13 +71,17 @@ def precompute_when_serving(timeout_s: float = 120.0) -> None:
         if time.monotonic() > deadline:
             return
         time.sleep(0.05)
-    # Cached calls outside a page log "missing ScriptRunContext" (harmless, Streamlit says).
-    logging.getLogger("streamlit.runtime.scriptrunner_utils.script_run_context").setLevel(
-        logging.ERROR)
+    # Cached calls outside a page log "missing ScriptRunContext" (harmless, Streamlit says);
+    # quiet only while this runs.
+    context_log = logging.getLogger("streamlit.runtime.scriptrunner_utils.script_run_context")
+    level = context_log.level
+    context_log.setLevel(logging.ERROR)
     try:
         importlib.import_module("trimlog.dashboard.results").precompute_first_page()
     except Exception:  # noqa: BLE001 - only a warm-up: the page computes and reports it itself
         return
+    finally:
+        context_log.setLevel(level)
 
 
 def streamlit_argv(options: Sequence[str]) -> list[str]:
