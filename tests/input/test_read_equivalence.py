@@ -124,6 +124,13 @@ def _cases() -> dict[str, tuple[bytes, dict]]:  # noqa: PLR0915 - one line per c
     add("blank lines crlf", "\r\n".join(blank))
     add("whitespace line", "\n".join(lines[:5] + ["   "] + lines[5:]))
     add("empty used row", _text(_edit(base, {(4, j): "" for j in range(1, 7)})))
+    add("infinity in an otherwise blank row",
+        _text(_edit(base, {**{(4, j): "" for j in range(7)}, (4, 7): "inf",
+                           **{(6, j): "" for j in range(7)}, (6, 7): "-1e999",
+                           **{(8, j): "" for j in range(7)}, (8, 7): "5"})))
+    add("infinity in an otherwise blank row, marker reparse",
+        _text(_edit(base, {**{(4, j): "" for j in range(7)}, (4, 7): "1e999",
+                           (9, 1): "---", (10, 1): "x"})))
     add("comma-only row", "\n".join(lines[:6] + [",,,,,,,"] + lines[6:]))
     add("spaces after delimiter", _text(base, sep=", "))
     add("spaces semicolon comma", _text(base, sep="; ", decimal=","))
