@@ -84,7 +84,12 @@ class TerminalProgress(Progress):
         if self._bar is None:
             from tqdm import tqdm  # only when a bar is shown: nothing to import in pipes
 
-            self._bar = tqdm(total=self._total, file=self._stream, unit="step",
+            class Bar(tqdm):
+                # No monitor thread: the bar is refreshed at each step, and a second
+                # thread would keep the report from drawing pages in two processes.
+                monitor_interval = 0
+
+            self._bar = Bar(total=self._total, file=self._stream, unit="step",
                              leave=False, dynamic_ncols=True,
                              bar_format="{desc} {bar} {n_fmt}/{total_fmt} [{elapsed}]")
         elif self._started:

@@ -67,3 +67,81 @@ def test_characters_outside_the_core_fonts_keep_the_embedded_font():
     raw, text = _pdf([Heading("Żuraw, flight Ω", 0), Para("τ estimated"), _negative_plot()])
     assert b"FontFile2" in raw  # TrueType embedded
     assert "Żuraw" in text and "Ω" in text and "τ" in text
+
+
+_TWO_PROCESS_SCRIPT = r'''
+import io, json, os, sys
+from pypdf import PdfReader
+from trimlog.views import pdf_layout as p
+
+def draw(fig, rect):
+    ax = fig.add_axes(rect)
+    ax.plot([0, 1, 2], [3, 1, 2], label="flight A")
+    ax.legend()
+
+blocks = []
+for i in range(4):
+    blocks += [p.Heading(f"Section {i}", 1), p.Para("text " * 200),
+               p.Table(("n", "what"), tuple((str(k), f"row {i}.{k}") for k in range(40))),
+               p.Plot(f"Figure {i}", draw, f"caption {i}")]
+parent = os.getpid()
+forks = []
+real_fork = os.fork
+def counting_fork():
+    forks.append(1)
+    return real_fork()
+os.fork = counting_fork
+if sys.argv[1] == "child fails":
+    real_write = p._write_pages
+    def failing(pages, fh, metadata):
+        if os.getpid() != parent:
+            raise RuntimeError("child fails")
+        return real_write(pages, fh, metadata)
+    p._write_pages = failing
+
+def texts(data):
+    reader = PdfReader(io.BytesIO(data))
+    return {"pages": [page.extract_text() for page in reader.pages],
+            "title": reader.metadata.title, "creator": reader.metadata.creator}
+
+out = {}
+for mode in ("split", "alone"):
+    p.MIN_PAGES_TO_SPLIT = 6 if mode == "split" else 10**9
+    buf = io.BytesIO()
+    p.save_pdf(p.render_pdf(blocks, "foot"), buf, "the title")
+    out[mode] = texts(buf.getvalue())
+out["forks"] = len(forks)
+print(json.dumps(out))
+'''
+
+
+def _two_process_run(mode):
+    import json
+    import os
+    import subprocess
+    import sys
+
+    import pytest
+
+    if not hasattr(os, "fork"):
+        pytest.skip("no os.fork here: the PDF is always drawn in one process")
+    if len(os.sched_getaffinity(0)) < 2:
+        pytest.skip("one CPU: the PDF is always drawn in one process")
+    done = subprocess.run([sys.executable, "-c", _TWO_PROCESS_SCRIPT, mode], check=True,
+                          capture_output=True, text=True, timeout=300)
+    return json.loads(done.stdout.strip().splitlines()[-1])
+
+
+def test_pages_drawn_in_two_processes_are_the_pages_drawn_in_one():
+    # In a fresh interpreter: the test session may run threads, and then no fork is made.
+    out = _two_process_run("plain")
+    assert out["forks"] == 1
+    assert len(out["split"]["pages"]) >= 8
+    assert out["split"] == out["alone"]
+    assert out["split"]["title"] == "the title" and out["split"]["creator"] == "trimlog"
+
+
+def test_a_failing_second_process_leaves_the_whole_pdf_drawn_in_one():
+    out = _two_process_run("child fails")
+    assert out["forks"] == 1
+    assert out["split"] == out["alone"]
