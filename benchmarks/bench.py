@@ -731,10 +731,17 @@ def bench_dashboard(run: _Run) -> None:
     if not app.is_file():
         run.out(f"  skipped: {app} is not there (trimlog not installed from its source folder)")
         return
+    import logging
+
     import streamlit as st
     from streamlit.testing.v1 import AppTest
 
     from trimlog.dashboard import compute
+
+    # Clearing the caches between uploads, outside a script run, logs "missing
+    # ScriptRunContext" (harmless, Streamlit says): not part of the figures.
+    logging.getLogger("streamlit.runtime.scriptrunner_utils.script_run_context").setLevel(
+        logging.ERROR)
     from trimlog.dashboard.session import FileBytes
 
     log = run.log("long", run.sizes.log_minutes, seed=12)
