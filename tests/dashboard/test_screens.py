@@ -14,6 +14,7 @@ from apptest_steps import go as _go
 from apptest_steps import start as _app
 from streamlit.testing.v1 import AppTest
 
+from trimlog.dashboard import compute
 from trimlog.pipeline import chain as analysis
 from trimlog.views import shim_drawing
 
@@ -57,6 +58,7 @@ def test_the_results_page_draws_the_shim_side_view_of_the_demo(demo_analysis, mo
         return out
 
     monkeypatch.setattr(shim_drawing, "shim_side_view", recording)
+    compute.shim_png.clear()  # drawn once per recommendation: draw it again here
     at = _app()
     _, inside = _block(at, "shim")
     images = [e for e in inside if e.type == "image"]
@@ -73,6 +75,21 @@ def test_the_results_page_draws_the_shim_side_view_of_the_demo(demo_analysis, mo
     legend = [t.get_text() for t in ax.get_legend().get_texts()]
     assert any(t.startswith("before: elevator") for t in legend)
     assert any(t.startswith("after: elevator") for t in legend)
+
+
+def test_the_shim_side_view_is_sent_as_drawn(demo_analysis):
+    # Wider than Streamlit's content limit, st.image would decode, shrink and encode the
+    # PNG again on every run of the Results page (0.3-0.6 s each, measured).
+    import io
+
+    from PIL import Image
+    from streamlit.elements.lib.image_utils import MAXIMUM_CONTENT_WIDTH
+
+    _, _, a = demo_analysis
+    png = compute.shim_png(a.primary.incidence.to_json(), a.profile.stabilizer_attach_spacing_in)
+    image = Image.open(io.BytesIO(png))
+    assert image.format == "PNG"
+    assert 1000 < image.size[0] <= MAXIMUM_CONTENT_WIDTH  # fine enough for the page's width
 
 
 def _texts(at: AppTest) -> str:

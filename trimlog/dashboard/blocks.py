@@ -9,7 +9,7 @@ import pandas as pd
 import streamlit as st
 
 from trimlog import cautions
-from trimlog.dashboard import common
+from trimlog.dashboard import common, compute
 from trimlog.dashboard.common import interval
 from trimlog.pipeline.chain import Analysis
 from trimlog.views import shim_text
@@ -63,12 +63,8 @@ def shim_block(a: Analysis, *, with_cautions: bool = True) -> None:
             st.markdown(rec.words)
             if a.primary.before_after is not None:
                 st.markdown(common.esc(shim_text.before_after_text(a.primary.before_after)))
-            # matplotlib is imported here, once the numbers above are on their way to
-            # the browser, not when the page's module is (a cold start's first page)
-            from trimlog.views import shim_drawing
-
-            st.pyplot(shim_drawing.shim_side_view(
-                inc, a.profile.stabilizer_attach_spacing_in).figure, clear_figure=False)
+            st.image(compute.shim_png(inc, a.profile.stabilizer_attach_spacing_in),
+                     output_format="PNG", width="stretch")
             st.caption(rec.tau_explanation + ". " + rec.change_method + ".")
             for w in rec.warnings:
                 common.warn(w)

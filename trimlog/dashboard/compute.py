@@ -18,6 +18,7 @@ import tempfile
 import threading
 import time
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 import pandas as pd
@@ -157,6 +158,28 @@ def figure(kind: str, inputs: Inputs) -> bytes:
 
     module = plots if hasattr(plots, kind) else maneuver_plots
     return _png(getattr(module, kind)(run_analysis(inputs)))
+
+
+@st.cache_data(max_entries=16, show_spinner=False)
+def shim_png(inc: dict[str, Any] | None, spacing_in: float) -> bytes:
+    """PNG of the shim side view (:func:`trimlog.views.shim_drawing.shim_side_view`).
+
+    Drawn once per recommendation, not on every run of a page that shows it (the
+    drawing and its 200 dpi PNG took 0.6-1.1 s of each Results page).  ``inc`` is
+    the ``incidence`` block of the ``--json`` result.
+    """
+    from trimlog.views import shim_drawing
+
+    buf = io.BytesIO()
+    shim_drawing.shim_side_view(inc, spacing_in).figure.savefig(
+        buf, format="png", dpi=SHIM_DPI, bbox_inches="tight", pil_kwargs={"compress_level": 1})
+    return buf.getvalue()
+
+
+#: The shim side view is shown the page's whole width: drawn finer than the figures,
+#: but narrower than the 1460 px above which ``st.image`` decodes, shrinks and encodes
+#: the PNG again on every run of the page (the demo's: 1431 px).
+SHIM_DPI = 190
 
 
 class LogCanvas:

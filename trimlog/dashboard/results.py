@@ -104,7 +104,9 @@ def precompute_first_page() -> None:
     aircraft = compute.profile(inputs.profile_text, inputs.profile_source).name
     # As render() does: saved flights of this aircraft join the flights in use.
     inputs = dataclasses.replace(inputs, programme=compute.programme_state(aircraft))
-    compute.precompute(inputs)
+    a = compute.precompute(inputs)
+    if a.primary.incidence is not None:  # the shim block's side view
+        compute.shim_png(a.primary.incidence.to_json(), a.profile.stabilizer_attach_spacing_in)
     for kind, _ in FIGURES:
         try:
             compute.figure(kind, inputs)

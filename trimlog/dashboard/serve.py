@@ -34,6 +34,12 @@ APP = Path(__file__).resolve().with_name("app.py")
 #: must be imported once the server's runtime exists (their caches belong to it).
 WARM_MODULES = (
     "streamlit",
+    # Streamlit's own, loaded by a first page's elements: the emoji table checks the page
+    # icon and the warning boxes' icons (~0.15 s to import), the icon names, and Arrow's
+    # pandas conversion for the tables.
+    "streamlit.emojis",
+    "streamlit.material_icon_names",
+    "pyarrow.pandas_compat",
     "trimlog.history.service",
     "trimlog.pipeline.chain",
     "trimlog.views.json_export",
@@ -44,11 +50,15 @@ WARM_MODULES = (
 def warm() -> None:
     """Import the first page's modules and lay out one line of text with matplotlib.
 
-    The text layout makes matplotlib load its font list and the default font,
-    which the first figure would otherwise do while the user waits.
+    Pillow's common image plugins are loaded too (matplotlib and Streamlit use
+    Pillow).  The text layout makes matplotlib load its font list and the default
+    font, which the first figure would otherwise do while the user waits.
     """
     for name in WARM_MODULES:
         importlib.import_module(name)
+    from PIL import Image
+
+    Image.preinit()  # the image plugins st.image's first figure would load
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
 
