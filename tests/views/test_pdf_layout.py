@@ -1,5 +1,7 @@
 """Tests of trimlog.views.pdf_layout: blocks flowed down letter pages."""
 
+import pytest
+
 from trimlog.views.pdf_layout import Break, Heading, Para, Table, render_pdf
 
 
@@ -91,10 +93,14 @@ def counting_fork():
     forks.append(1)
     return real_fork()
 os.fork = counting_fork
-if sys.argv[1] == "child fails":
+if sys.argv[1] in ("child fails", "child hangs"):
+    import time
     real_write = p._write_pages
+    p.CHILD_WAIT_S = 0.2
     def failing(pages, fh, metadata):
         if os.getpid() != parent:
+            if sys.argv[1] == "child hangs":
+                time.sleep(3600)
             raise RuntimeError("child fails")
         return real_write(pages, fh, metadata)
     p._write_pages = failing
@@ -111,6 +117,11 @@ for mode in ("split", "alone"):
     p.save_pdf(p.render_pdf(blocks, "foot"), buf, "the title")
     out[mode] = texts(buf.getvalue())
 out["forks"] = len(forks)
+try:  # every child was reaped (a hanging one killed)
+    os.waitpid(-1, os.WNOHANG)
+    out["children left"] = True
+except ChildProcessError:
+    out["children left"] = False
 print(json.dumps(out))
 '''
 
@@ -120,8 +131,6 @@ def _two_process_run(mode):
     import os
     import subprocess
     import sys
-
-    import pytest
 
     if not hasattr(os, "fork"):
         pytest.skip("no os.fork here: the PDF is always drawn in one process")
@@ -139,9 +148,12 @@ def test_pages_drawn_in_two_processes_are_the_pages_drawn_in_one():
     assert len(out["split"]["pages"]) >= 8
     assert out["split"] == out["alone"]
     assert out["split"]["title"] == "the title" and out["split"]["creator"] == "trimlog"
+    assert not out["children left"]
 
 
-def test_a_failing_second_process_leaves_the_whole_pdf_drawn_in_one():
-    out = _two_process_run("child fails")
+@pytest.mark.parametrize("mode", ["child fails", "child hangs"])
+def test_a_failing_second_process_leaves_the_whole_pdf_drawn_in_one(mode):
+    out = _two_process_run(mode)
     assert out["forks"] == 1
     assert out["split"] == out["alone"]
+    assert not out["children left"]

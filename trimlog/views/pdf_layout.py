@@ -18,6 +18,7 @@ import signal
 import tempfile
 import textwrap
 import threading
+import time
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass
 from pathlib import Path
@@ -403,13 +404,16 @@ def _in_two_processes(pages: Sequence[Figure], metadata: dict[str, str]) -> byte
                 os._exit(code)
         reaped = False
         try:
+            start = time.monotonic()
             first = io.BytesIO()
             _write_pages(pages[:k], first, metadata)
             from pypdf import PdfReader, PdfWriter  # only here: ~0.1 s to import
 
-            _, status = os.waitpid(pid, 0)
-            reaped = True
-            if not os.WIFEXITED(status) or os.WEXITSTATUS(status) != 0:
+            # A child that hangs is given up (and killed below): the pages are drawn here.
+            status = _wait(pid, deadline=time.monotonic() + max(
+                CHILD_WAIT_S, 3.0 * (time.monotonic() - start)))
+            reaped = status is not None
+            if status is None or not os.WIFEXITED(status) or os.WEXITSTATUS(status) != 0:
                 return None
             writer = PdfWriter()
             head = PdfReader(first)
@@ -427,6 +431,21 @@ def _in_two_processes(pages: Sequence[Figure], metadata: dict[str, str]) -> byte
                 with contextlib.suppress(OSError):
                     os.kill(pid, signal.SIGKILL)
                     os.waitpid(pid, 0)
+
+
+#: Least time the forked process is waited for after this one's pages are written [s].
+CHILD_WAIT_S = 30.0
+
+
+def _wait(pid: int, deadline: float) -> int | None:
+    """The exit status of child ``pid``, or None if it is still running at ``deadline``."""
+    while True:
+        done, status = os.waitpid(pid, os.WNOHANG)
+        if done:
+            return status
+        if time.monotonic() > deadline:
+            return None
+        time.sleep(0.005)
 
 
 def _free_cpus() -> int:
