@@ -111,11 +111,17 @@ def test_the_window_helpers_give_what_pandas_gives():
         k = np.floor((t - t[0]) / 0.5).astype(np.int64)
         n_bins = int(k[-1]) + 1
         want = pd.Series(x).groupby(k).median().reindex(range(n_bins)).to_numpy()
-        got = maneuvers._binned_medians([x], k, n_bins)[0]
+        counts = np.bincount(k, minlength=n_bins)
+        got = maneuvers._binned_medians([x], k, counts)[0]
         np.testing.assert_array_equal(got, want)
         w = int(rng.choice([3, 5, 13]))
         smooth = pd.Series(want).rolling(w, center=True, min_periods=1).median().to_numpy()
         np.testing.assert_array_equal(_row_median(maneuvers._centred(got, w)), smooth)
+        np.testing.assert_array_equal(maneuvers._smoothed(x, k, counts, w), smooth)
+        where = rng.random(n_bins) < rng.choice([0.0, 0.05, 0.5])
+        part = maneuvers._smoothed(x, k, counts, w, where)
+        np.testing.assert_array_equal(part[where], smooth[where])
+        assert np.isnan(part[~where]).all()
         least = int(rng.integers(1, w + 1))
         rolling = pd.Series(smooth).rolling(w, center=True, min_periods=least)
         low, high = maneuvers._rolling_low_high(smooth, w, least)

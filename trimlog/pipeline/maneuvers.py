@@ -142,25 +142,55 @@ def _maneuvers_of_flight(
     tolerances["nz_g"] = settings.nz_tol_g
     k = np.floor((time - time[0]) / bin_s).astype(np.int64)
     n_bins = int(k[-1]) + 1
-    columns = [samples[name].to_numpy(dtype=float) for name in tolerances]
-    if any(np.isinf(c).any() for c in columns):  # the window helpers below assume none
+    columns = {name: samples[name].to_numpy(dtype=float) for name in tolerances}
+    if any(np.isinf(c).any() for c in columns.values()):  # the helpers below assume none
         return _maneuvers_by_pandas(samples, flight, settings, tolerances, core, k, bin_s)
-    binned = _binned_medians(columns, k, n_bins)
+    counts = np.bincount(k, minlength=n_bins)
     smooth_bins = max(3, int(round(settings.smooth_s / bin_s)) | 1)
-    smooth = {name: trim_points._row_median(_centred(column, smooth_bins))
-              for name, column in zip(tolerances, binned, strict=True)}
     half = max(1, int(round(settings.min_duration_s / bin_s)) // 2)
     window = 2 * half + 1
     min_periods = int(np.ceil(0.8 * window))
-    steady = np.ones(n_bins, dtype=bool)
+    # The load factor first: only a bin whose window holds it steady above
+    # MANEUVER_NZ_MIN_G can be steady, so the other signals are binned and
+    # smoothed only where such a window reads them (NaN elsewhere, never read).
+    smooth = {"nz_g": _smoothed(columns["nz_g"], k, counts, smooth_bins)}
+    low, high = _rolling_low_high(smooth["nz_g"], window, min_periods)
+    steady = (np.nan_to_num(high - low, nan=np.inf) <= tolerances["nz_g"]) & (
+        np.nan_to_num(low, nan=-np.inf) >= MANEUVER_NZ_MIN_G)
+    near = _widened(steady, half)
     for name, tol in tolerances.items():
-        low, high = _rolling_low_high(smooth[name], window, min_periods)
-        steady &= np.nan_to_num(high - low, nan=np.inf) <= tol
-        if name == "nz_g":
-            steady &= np.nan_to_num(low, nan=-np.inf) >= MANEUVER_NZ_MIN_G
+        if name != "nz_g":
+            smooth[name] = _smoothed(columns[name], k, counts, smooth_bins, near)
+            low, high = _rolling_low_high(smooth[name], window, min_periods)
+            steady &= np.nan_to_num(high - low, nan=np.inf) <= tol
     values = np.column_stack([smooth[name] for name in tolerances])
     return _summarise(samples, flight, settings, tolerances, core, steady, values,
                       (time[0], bin_s, half))
+
+
+def _smoothed(column: np.ndarray, k: np.ndarray, counts: np.ndarray, smooth_bins: int,
+              where: np.ndarray | None = None) -> np.ndarray:
+    """Running median of the bin medians of ``column``, at the bins ``where`` (default all).
+
+    As pandas' ``groupby(k).median().reindex(...).rolling(smooth_bins, center=True,
+    min_periods=1).median()``, bit for bit, at those bins; NaN at the others.
+    """
+    if where is None:
+        return trim_points._row_median(_centred(_binned_medians([column], k, counts)[0],
+                                                smooth_bins))
+    out = np.full(len(counts), np.nan)
+    if where.any():
+        binned = _binned_medians([column], k, counts, _widened(where, smooth_bins // 2))[0]
+        out[where] = trim_points._row_median(_centred(binned, smooth_bins)[where])
+    return out
+
+
+def _widened(mask: np.ndarray, reach: int) -> np.ndarray:
+    """``mask`` widened by ``reach`` places each way."""
+    total = np.concatenate(([0], np.cumsum(mask, dtype=np.int64)))
+    n = len(mask)
+    index = np.arange(n)
+    return total[np.minimum(index + reach + 1, n)] - total[np.maximum(index - reach, 0)] > 0
 
 
 def _maneuvers_by_pandas(
@@ -248,20 +278,21 @@ def _bin_width(least_s: float, positive_steps: np.ndarray) -> float:
     return max(least_s, float(np.median(positive_steps)))
 
 
-def _binned_medians(columns: list[np.ndarray], k: np.ndarray,
-                    n_bins: int) -> list[np.ndarray]:
-    """Median of each column in each bin ``0..n_bins-1`` of ``k`` (sorted), NaN ignored.
+def _binned_medians(columns: list[np.ndarray], k: np.ndarray, counts: np.ndarray,
+                    where: np.ndarray | None = None) -> list[np.ndarray]:
+    """Median of each column in each bin of ``k`` (sorted; ``counts`` its bincount), NaN ignored.
 
-    As pandas' ``groupby(k).median().reindex(range(n_bins))``, bit for bit: NaN
-    for a bin without a value, the middle pair averaged as (a + b) / 2.  The
+    As pandas' ``groupby(k).median().reindex(range(len(counts)))``, bit for bit:
+    NaN for a bin without a value, the middle pair averaged as (a + b) / 2.  The
     bins of each sample count are stacked as rows, one block per count (a
-    steady logging rate gives one or two).
+    steady logging rate gives one or two).  With ``where``, only those bins
+    (NaN at the others).
     """
-    counts = np.bincount(k, minlength=n_bins)
     starts = np.concatenate(([0], np.cumsum(counts)[:-1]))
-    out = [np.full(n_bins, np.nan) for _ in columns]
-    for count in np.unique(counts[counts > 0]).tolist():
-        bins = np.flatnonzero(counts == count)
+    out = [np.full(len(counts), np.nan) for _ in columns]
+    used = counts > 0 if where is None else (counts > 0) & where
+    for count in np.unique(counts[used]).tolist():
+        bins = np.flatnonzero(used & (counts == count))
         rows = starts[bins][:, None] + np.arange(count)
         for column, medians in zip(columns, out, strict=True):
             medians[bins] = trim_points._row_median(column[rows])
