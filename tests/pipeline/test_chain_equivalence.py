@@ -120,9 +120,12 @@ def _synthetic(folder: Path, name: str, minutes: float, rate: float, seed: int, 
 @functools.cache
 def _folders() -> tuple[Path, Path]:
     """The generated inputs (once per session): the demo of another seed, synthetic logs."""
+    import atexit
+    import shutil
     import tempfile
 
     folder = Path(tempfile.mkdtemp(prefix="trimlog-chain-"))
+    atexit.register(shutil.rmtree, folder, ignore_errors=True)
     write_demo(folder / "demo7", seed=7)
     syn = folder / "syn"
     syn.mkdir()
