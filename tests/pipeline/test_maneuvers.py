@@ -94,3 +94,47 @@ def test_point_table_rows_at_1_1_g_or_more_are_maneuvering_points():
 def test_detection_is_stable_under_noise(seed):
     found = find_maneuvering_points(_wind_up_log(seed))
     assert len(found) == len(STEPS)
+
+
+def test_the_window_helpers_give_what_pandas_gives():
+    """Binned medians, the running median and the rolling range, bit for bit (random data)."""
+    from trimlog.pipeline import maneuvers
+    from trimlog.pipeline.points import _row_median
+
+    rng = np.random.default_rng(3)
+    for _ in range(300):
+        n = int(rng.integers(3, 300))
+        t = np.cumsum(rng.choice([0.0, 0.02, 0.1, 0.3, 0.7, 2.0], size=n,
+                                 p=[0.05, 0.4, 0.3, 0.15, 0.07, 0.03]))
+        x = np.round(rng.normal(size=n), int(rng.integers(0, 3)))
+        x[rng.random(n) < rng.choice([0.0, 0.1, 0.5, 0.95])] = np.nan
+        k = np.floor((t - t[0]) / 0.5).astype(np.int64)
+        n_bins = int(k[-1]) + 1
+        want = pd.Series(x).groupby(k).median().reindex(range(n_bins)).to_numpy()
+        counts = np.bincount(k, minlength=n_bins)
+        got = maneuvers._binned_medians([x], k, counts)[0]
+        np.testing.assert_array_equal(got, want)
+        w = int(rng.choice([3, 5, 13]))
+        smooth = pd.Series(want).rolling(w, center=True, min_periods=1).median().to_numpy()
+        np.testing.assert_array_equal(_row_median(maneuvers._centred(got, w)), smooth)
+        np.testing.assert_array_equal(maneuvers._smoothed(x, k, counts, w), smooth)
+        where = rng.random(n_bins) < rng.choice([0.0, 0.05, 0.5])
+        part = maneuvers._smoothed(x, k, counts, w, where)
+        np.testing.assert_array_equal(part[where], smooth[where])
+        assert np.isnan(part[~where]).all()
+        least = int(rng.integers(1, w + 1))
+        rolling = pd.Series(smooth).rolling(w, center=True, min_periods=least)
+        low, high = maneuvers._rolling_low_high(smooth, w, least)
+        np.testing.assert_array_equal(low, rolling.min().to_numpy())
+        np.testing.assert_array_equal(high, rolling.max().to_numpy())
+        steps = np.diff(t)
+        steps = steps[steps > 0]
+        if len(steps):
+            assert maneuvers._bin_width(0.1, steps) == max(0.1, float(np.median(steps)))
+
+
+def test_infinite_samples_take_the_pandas_window_test():
+    samples = _wind_up_log()
+    plain = find_maneuvering_points(samples)
+    samples.loc[5, "elevator_deg"] = np.inf  # far from every step: the same points
+    pd.testing.assert_frame_equal(find_maneuvering_points(samples), plain)

@@ -586,6 +586,11 @@ def decode_raw(flight: Mapping[str, Any], src: Path) -> bytes:
 def clean(value: Any) -> Any:
     """JSON-safe copy: numpy scalars to Python, tuples to lists, non-finite floats to None."""
     if isinstance(value, dict):
+        if all(type(k) is str for k in value) and all(
+            v is None or type(v) is int or type(v) is str or type(v) is bool
+            or (type(v) is float and math.isfinite(v)) for v in value.values()
+        ):
+            return dict(value)  # plain already (a record of a table): no call per value
         return {str(k): clean(v) for k, v in value.items()}
     if isinstance(value, list | tuple):
         if all(type(v) is int or type(v) is str or (type(v) is float and math.isfinite(v))

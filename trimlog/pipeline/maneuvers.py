@@ -27,6 +27,7 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
+from numpy.lib.stride_tricks import sliding_window_view
 
 from trimlog.input.logs import LogRead
 from trimlog.pipeline import points as trim_points
@@ -126,17 +127,77 @@ def find_maneuvering_points(
 def _maneuvers_of_flight(
     samples: pd.DataFrame, flight: str, settings: PointSettings
 ) -> pd.DataFrame:
-    samples = samples[np.isfinite(samples["time_s"].to_numpy(dtype=float))]
     time = samples["time_s"].to_numpy(dtype=float)
+    finite = np.isfinite(time)
+    if not finite.all():
+        samples, time = samples[finite], time[finite]
     steps = np.diff(time)
     positive = steps[steps > 0] if len(time) > 2 else steps[:0]
     if not len(positive) or (steps < 0).any():
         # Too short, or out of order: the trim-point search reports the order error.
         return pd.DataFrame()
-    bin_s = max(settings.bin_s, float(np.median(positive)))
+    bin_s = _bin_width(settings.bin_s, positive)
     tolerances = trim_points._tolerances(samples, settings)
+    core = set(tolerances)
     tolerances["nz_g"] = settings.nz_tol_g
     k = np.floor((time - time[0]) / bin_s).astype(np.int64)
+    n_bins = int(k[-1]) + 1
+    columns = {name: samples[name].to_numpy(dtype=float) for name in tolerances}
+    if any(np.isinf(c).any() for c in columns.values()):  # the helpers below assume none
+        return _maneuvers_by_pandas(samples, flight, settings, tolerances, core, k, bin_s)
+    counts = np.bincount(k, minlength=n_bins)
+    smooth_bins = max(3, int(round(settings.smooth_s / bin_s)) | 1)
+    half = max(1, int(round(settings.min_duration_s / bin_s)) // 2)
+    window = 2 * half + 1
+    min_periods = int(np.ceil(0.8 * window))
+    # The load factor first: only a bin whose window holds it steady above
+    # MANEUVER_NZ_MIN_G can be steady, so the other signals are binned and
+    # smoothed only where such a window reads them (NaN elsewhere, never read).
+    smooth = {"nz_g": _smoothed(columns["nz_g"], k, counts, smooth_bins)}
+    low, high = _rolling_low_high(smooth["nz_g"], window, min_periods)
+    steady = (np.nan_to_num(high - low, nan=np.inf) <= tolerances["nz_g"]) & (
+        np.nan_to_num(low, nan=-np.inf) >= MANEUVER_NZ_MIN_G)
+    near = _widened(steady, half)
+    for name, tol in tolerances.items():
+        if name != "nz_g":
+            smooth[name] = _smoothed(columns[name], k, counts, smooth_bins, near)
+            low, high = _rolling_low_high(smooth[name], window, min_periods)
+            steady &= np.nan_to_num(high - low, nan=np.inf) <= tol
+    values = np.column_stack([smooth[name] for name in tolerances])
+    return _summarise(samples, flight, settings, tolerances, core, steady, values,
+                      (time[0], bin_s, half))
+
+
+def _smoothed(column: np.ndarray, k: np.ndarray, counts: np.ndarray, smooth_bins: int,
+              where: np.ndarray | None = None) -> np.ndarray:
+    """Running median of the bin medians of ``column``, at the bins ``where`` (default all).
+
+    As pandas' ``groupby(k).median().reindex(...).rolling(smooth_bins, center=True,
+    min_periods=1).median()``, bit for bit, at those bins; NaN at the others.
+    """
+    if where is None:
+        return trim_points._row_median(_centred(_binned_medians([column], k, counts)[0],
+                                                smooth_bins))
+    out = np.full(len(counts), np.nan)
+    if where.any():
+        binned = _binned_medians([column], k, counts, _widened(where, smooth_bins // 2))[0]
+        out[where] = trim_points._row_median(_centred(binned, smooth_bins)[where])
+    return out
+
+
+def _widened(mask: np.ndarray, reach: int) -> np.ndarray:
+    """``mask`` widened by ``reach`` places each way."""
+    total = np.concatenate(([0], np.cumsum(mask, dtype=np.int64)))
+    n = len(mask)
+    index = np.arange(n)
+    return total[np.minimum(index + reach + 1, n)] - total[np.maximum(index - reach, 0)] > 0
+
+
+def _maneuvers_by_pandas(
+    samples: pd.DataFrame, flight: str, settings: PointSettings, tolerances: dict[str, float],
+    core: set[str], k: np.ndarray, bin_s: float,
+) -> pd.DataFrame:
+    """The window test in pandas, for samples with infinities (the numpy helpers assume none)."""
     n_bins = int(k[-1]) + 1
     binned = samples[list(tolerances)].groupby(k).median().reindex(range(n_bins))
     smooth_bins = max(3, int(round(settings.smooth_s / bin_s)) | 1)
@@ -152,13 +213,26 @@ def _maneuvers_of_flight(
     low = smooth["nz_g"].rolling(window, center=True, min_periods=min_periods).min().to_numpy()
     steady &= np.nan_to_num(low, nan=-np.inf) >= MANEUVER_NZ_MIN_G
     values = smooth[list(tolerances)].to_numpy()
+    time0 = float(samples["time_s"].iloc[0])
+    return _summarise(samples, flight, settings, tolerances, core, steady, values,
+                      (time0, bin_s, half))
+
+
+def _summarise(
+    samples: pd.DataFrame, flight: str, settings: PointSettings, tolerances: dict[str, float],
+    core: set[str], steady: np.ndarray, values: np.ndarray, grid: tuple[float, float, int],
+) -> pd.DataFrame:
+    """The maneuvering points of the steady bins, summarised from the raw samples."""
+    time0, bin_s, half = grid
+    n_bins, window = len(steady), 2 * half + 1
     tol = np.array(list(tolerances.values()))
     rows = []
     for a, b in _spans(trim_points._runs(steady), half, n_bins):
         a, b = trim_points._trim_edges(values[a : b + 1], tol, a)
         if b - a + 1 >= window:
-            rows.append((time[0] + a * bin_s, time[0] + (b + 1) * bin_s, "maneuver", "", True))
-    out = trim_points._summaries(samples, rows, flight, settings)
+            rows.append((time0 + a * bin_s, time0 + (b + 1) * bin_s, "maneuver", "", True))
+    out = trim_points._summaries(_rows_in(samples, rows, core, settings), rows, flight,
+                                 settings)
     if len(out):
         # Every maneuvering point is off 1 g by design: its flag is "maneuver", not "nz_off".
         out["flags"] = [
@@ -168,6 +242,87 @@ def _maneuvers_of_flight(
         if "event" not in samples:
             out = out.drop(columns=["event"])
     return out
+
+
+def _rows_in(samples: pd.DataFrame, rows: list[tuple], core: set[str],
+             settings: PointSettings) -> pd.DataFrame:
+    """The samples within the windows of ``rows`` (all of them where that would change a flag).
+
+    A window's summary reads only the samples from its start up to its end, so
+    the rows between windows are not copied; the flight's signals that count for
+    the spike and dropout flags are told from all samples, so they must come
+    out the same from the rows kept.
+    """
+    if not rows:
+        return samples.iloc[0:0]
+    time = samples["time_s"].to_numpy(dtype=float)
+    bounds = np.searchsorted(time, np.array([(r[0], r[1]) for r in rows], dtype=float))
+    keep = np.zeros(len(time) + 1, dtype=np.int64)
+    np.add.at(keep, bounds[:, 0], 1)
+    np.add.at(keep, bounds[:, 1], -1)
+    index = np.flatnonzero(np.cumsum(keep[:-1]) > 0)
+    if len(index) == len(time):
+        return samples
+    part = samples.iloc[index]
+    return part if set(trim_points._tolerances(part, settings)) == core else samples
+
+
+def _bin_width(least_s: float, positive_steps: np.ndarray) -> float:
+    """``max(least_s, median step)``, the median computed only when it can exceed ``least_s``.
+
+    With fewer than half the steps longer than ``least_s`` both middle steps are
+    at most ``least_s``, and so is the median.
+    """
+    if 2 * np.count_nonzero(positive_steps > least_s) < len(positive_steps) - 2:
+        return least_s
+    return max(least_s, float(np.median(positive_steps)))
+
+
+def _binned_medians(columns: list[np.ndarray], k: np.ndarray, counts: np.ndarray,
+                    where: np.ndarray | None = None) -> list[np.ndarray]:
+    """Median of each column in each bin of ``k`` (sorted; ``counts`` its bincount), NaN ignored.
+
+    As pandas' ``groupby(k).median().reindex(range(len(counts)))``, bit for bit:
+    NaN for a bin without a value, the middle pair averaged as (a + b) / 2.  The
+    bins of each sample count are stacked as rows, one block per count (a
+    steady logging rate gives one or two).  With ``where``, only those bins
+    (NaN at the others).
+    """
+    starts = np.concatenate(([0], np.cumsum(counts)[:-1]))
+    out = [np.full(len(counts), np.nan) for _ in columns]
+    used = counts > 0 if where is None else (counts > 0) & where
+    for count in np.unique(counts[used]).tolist():
+        bins = np.flatnonzero(used & (counts == count))
+        rows = starts[bins][:, None] + np.arange(count)
+        for column, medians in zip(columns, out, strict=True):
+            medians[bins] = trim_points._row_median(column[rows])
+    return out
+
+
+def _centred(values: np.ndarray, window: int) -> np.ndarray:
+    """Each centred window of ``window`` (odd) values, one a row, NaN beyond the ends."""
+    pad = np.full(window // 2, np.nan)
+    return np.ascontiguousarray(sliding_window_view(np.concatenate((pad, values, pad)), window))
+
+
+def _rolling_low_high(values: np.ndarray, window: int,
+                      min_periods: int) -> tuple[np.ndarray, np.ndarray]:
+    """Centred rolling minimum and maximum, NaN ignored, NaN with under ``min_periods`` values.
+
+    As pandas' ``rolling(window, center=True, min_periods=min_periods)`` ``min()`` and
+    ``max()`` (``window`` odd): one pass over the array per place in the window.
+    """
+    n, pad = len(values), np.full(window // 2, np.nan)
+    padded = np.concatenate((pad, values, pad))
+    low, high = padded[:n].copy(), padded[:n].copy()
+    count = (~np.isnan(padded[:n])).astype(np.int64)
+    for shift in range(1, window):
+        part = padded[shift : shift + n]
+        np.fmin(low, part, out=low)
+        np.fmax(high, part, out=high)
+        count += ~np.isnan(part)
+    enough = count >= min_periods
+    return np.where(enough, low, np.nan), np.where(enough, high, np.nan)
 
 
 def _spans(runs: list[tuple[int, int]], half: int, n_bins: int) -> list[tuple[int, int]]:

@@ -308,13 +308,13 @@ def elevator_stop_flags(points: pd.DataFrame, up_stop_deg: float, down_stop_deg:
         A trim point at a stop is not a trim the elevator chose; offer it for exclusion.
     """
     frame = points.loc[points["included"].astype(bool)]
+    elevator = frame["elevator_deg"].to_numpy(dtype=float)
+    up = elevator <= -abs(up_stop_deg) + STOP_TOLERANCE_DEG
+    down = elevator >= abs(down_stop_deg) - STOP_TOLERANCE_DEG
     out = []
-    for row, r in frame.iterrows():
-        e = float(r["elevator_deg"])
-        stop = ("up" if e <= -abs(up_stop_deg) + STOP_TOLERANCE_DEG else
-                "down" if e >= abs(down_stop_deg) - STOP_TOLERANCE_DEG else None)
-        if stop:
-            out.append(StopFlag(str(r["flight"]), int(r["point"]), row, e, stop))
+    for i in np.flatnonzero(up | down).tolist():  # only the points at a stop are visited
+        out.append(StopFlag(str(frame["flight"].iloc[i]), int(frame["point"].iloc[i]),
+                            frame.index[i], float(elevator[i]), "up" if up[i] else "down"))
     return tuple(out)
 
 

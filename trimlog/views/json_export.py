@@ -19,8 +19,10 @@ block is built from explicit keys here, never from ``dataclasses.asdict``.
 
 from __future__ import annotations
 
+import math
 from typing import TYPE_CHECKING, Any
 
+import numpy as np
 import pandas as pd
 
 from trimlog.history.codec import clean
@@ -161,10 +163,8 @@ def maneuvering_dict(result: Any) -> dict[str, Any] | None:
     """The ``maneuvering`` block (issue 14 contract keys first); None without maneuvering points."""
     if result is None:
         return None
-    frame = result.points[[c for c in _MANEUVER_POINT_KEYS if c in result.points.columns]].copy()
-    frame["included"] = frame["included"].astype(bool)
-    points = [clean(r) for r in
-              frame.astype(object).where(frame.notna(), None).to_dict(orient="records")]
+    frame = result.points[[c for c in _MANEUVER_POINT_KEYS if c in result.points.columns]]
+    points = _records(frame)
 
     def point(p: NeutralPoint | None) -> dict[str, Any] | None:
         if p is None:
@@ -205,13 +205,34 @@ def maneuvering_dict(result: Any) -> dict[str, Any] | None:
 def points_records(points: pd.DataFrame) -> list[dict[str, Any]]:
     """One record per point, contract keys first."""
     columns = [c for c in (*POINT_KEYS, *POINT_EXTRAS) if c in points.columns]
-    frame = points[columns].copy()
-    for key in POINT_KEYS:
-        if key not in frame:
-            frame[key] = None
-    frame["included"] = frame["included"].astype(bool)
-    records = frame.astype(object).where(frame.notna(), None).to_dict(orient="records")
-    return [clean(r) for r in records]
+    missing = [key for key in POINT_KEYS if key not in points]
+    return _records(points[columns], missing)
+
+
+def _records(frame: pd.DataFrame, missing: list[str] | None = None) -> list[dict[str, Any]]:
+    """One JSON-safe record per row: ``included`` as bool, missing and non-finite values None.
+
+    Column by column (a float, integer or bool column straight from its numpy
+    values), the same as ``clean`` of each record of ``frame.astype(object)
+    .where(frame.notna(), None).to_dict(orient="records")``; the ``missing``
+    keys come last, None.
+    """
+    names = [str(c) for c in frame.columns]
+    values = []
+    for name in frame.columns:
+        column = frame[name].astype(bool) if name == "included" else frame[name]
+        kind = column.dtype.kind if isinstance(column.dtype, np.dtype) else ""
+        if kind == "f":
+            values.append([v if math.isfinite(v) else None for v in column.to_numpy().tolist()])
+        elif kind in "biu" and kind:
+            values.append(column.to_numpy().tolist())
+        else:
+            values.append([clean(v) for v in
+                           column.astype(object).where(column.notna(), None).tolist()])
+    for name in missing or ():
+        names.append(name)
+        values.append([None] * len(frame))
+    return [dict(zip(names, row, strict=True)) for row in zip(*values, strict=True)]
 
 
 # long: one literal of the configuration block of the JSON contract, key by key
