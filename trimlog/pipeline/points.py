@@ -734,7 +734,101 @@ def _robust_stats(
     [1]_, [2]_) from the median are left out of mean and std.  Where the MAD
     is zero (a quantised sensor), 1.2533 x the mean absolute deviation [3]_
     is used instead, so that a lone spike is still seen.
+
+    One sort of the rows gives both medians: the deviations from the median,
+    taken in sorted order, fall and then rise, so each order statistic of them
+    is the smallest of ``max(d[s], d[s + k])`` (:func:`_valley_order_stat`),
+    and the largest is at an end (no spike when it is within the limit).  The
+    masked sums are taken only for the rows that need them, each over the
+    window's samples in their own order as before, so every value is the same
+    bit for bit as :func:`_robust_stats_general`'s, which takes rows with
+    infinities.
     """
+    n_rows, n = rows.shape
+    ordered = np.sort(rows, axis=1)  # NaN last
+    count = n - np.isnan(ordered).sum(axis=1) if n else np.zeros(n_rows, dtype=np.int64)
+    last = ordered[np.arange(n_rows), np.maximum(count - 1, 0)] if n else ordered[:, :0]
+    if n == 0 or np.isinf(ordered[:, 0]).any() or np.isinf(last).any():
+        return _robust_stats_general(rows, spike_sigma)
+    gappy = np.flatnonzero(count < n)
+    median, mad, valley = _sorted_medians(ordered, count, gappy)
+    sigma = _MAD_TO_SIGMA * mad
+    limit = spike_sigma * sigma
+    simple = (count == n) & (sigma > 0) & (np.maximum(valley[:, 0], valley[:, -1]) <= limit)
+    mean = np.empty(n_rows)
+    square = np.empty(n_rows)
+    n_kept = count.copy()
+    if simple.any():
+        block = rows if simple.all() else rows[simple]
+        mean[simple] = block.sum(axis=1) / n
+        square[simple] = ((block - mean[simple][:, None]) ** 2).sum(axis=1)
+    if not simple.all():
+        # the other rows step by step as _robust_stats_general, only these rows
+        other = ~simple
+        part, c, m = rows[other], count[other], median[other]
+        finite = np.isfinite(part)
+        deviation = np.abs(part - m[:, None])
+        with np.errstate(invalid="ignore", divide="ignore"):
+            mean_dev = np.where(finite, deviation, 0.0).sum(axis=1) / c
+            s = sigma[other]
+            s = np.where(s > 0, s, 1.2533 * np.nan_to_num(mean_dev))
+            kept = finite & ((s[:, None] == 0) | (deviation <= spike_sigma * s[:, None]))
+            k = kept.sum(axis=1)
+            mu = np.where(kept, part, 0.0).sum(axis=1) / k
+            square[other] = np.where(kept, (part - mu[:, None]) ** 2, 0.0).sum(axis=1)
+        mean[other], n_kept[other] = mu, k
+    with np.errstate(invalid="ignore", divide="ignore"):
+        std = np.where(n_kept > 1, np.sqrt(square / (n_kept - 1)), np.nan)
+    mean = np.where(n_kept > 0, mean, np.nan)
+    return mean, std, count - n_kept, n - count
+
+
+def _sorted_medians(
+    ordered: np.ndarray, count: np.ndarray, gappy: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Median, MAD and sorted deviations of each row sorted with its ``count`` values first.
+
+    The medians are :func:`_row_median`'s, bit for bit; ``gappy`` are the rows
+    with NaN (after their values).
+    """
+    n = ordered.shape[1]
+    half = n // 2
+    if n % 2:
+        median = ordered[:, half] / 1.0
+    else:
+        median = (ordered[:, half - 1] + ordered[:, half]) / 2.0
+    for r in gappy:  # as _row_median: the mean of the middle two of the values there
+        c = count[r]
+        median[r] = (0.5 * (ordered[r, (c - 1) // 2] + ordered[r, c // 2]) if c > 0
+                     else np.nan)
+    valley = np.abs(ordered - median[:, None])
+    if n % 2:
+        mad = _valley_order_stat(valley, half) / 1.0
+    else:
+        mad = (_valley_order_stat(valley, half - 1) + _valley_order_stat(valley, half)) / 2.0
+    for r in gappy:
+        c = count[r]
+        part = valley[r : r + 1, :c]
+        mad[r] = (0.5 * (_valley_order_stat(part, (c - 1) // 2)[0]
+                         + _valley_order_stat(part, c // 2)[0]) if c > 0 else np.nan)
+    return median, mad, valley
+
+
+def _valley_order_stat(valley: np.ndarray, k: int) -> np.ndarray:
+    """The k-th smallest (from 0) of each row of values that fall and then rise.
+
+    The k + 1 smallest of such a row are a run of neighbours, and the largest
+    of a run is at one of its ends: so the k-th smallest is the smallest over
+    every run of k + 1 of the larger end.  No sort, and exact (a min and a max).
+    """
+    n = valley.shape[1]
+    return np.maximum(valley[:, : n - k], valley[:, k:]).min(axis=1)
+
+
+def _robust_stats_general(
+    rows: np.ndarray, spike_sigma: float
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """:func:`_robust_stats` of any rows, infinities too: every step on every row."""
     finite = np.isfinite(rows)
     median = _row_median(rows)
     deviation = np.abs(rows - median[:, None])
