@@ -473,11 +473,8 @@ def _points_of_flight(
     bin_s = max(settings.bin_s, float(np.median(positive)))
     tolerances = _tolerances(samples, settings, signals)
     tested = list(tolerances) + (["nz_g"] if "nz_g" in samples else [])
-    k = np.floor((time - time[0]) / bin_s).astype(np.int64)
-    n_bins = int(k[-1]) + 1
-    binned = samples[tested].groupby(k).median().reindex(range(n_bins))
-    smooth_bins = max(3, int(round(settings.smooth_s / bin_s)) | 1)
-    smooth = binned.rolling(smooth_bins, center=True, min_periods=1).median()
+    smooth = _smoothed_bins(samples, tested, time, bin_s, settings)
+    n_bins = len(smooth)
     half = max(1, int(round(settings.min_duration_s / bin_s)) // 2)
     window = 2 * half + 1
     min_periods = int(np.ceil(0.8 * window))
@@ -509,6 +506,99 @@ def _points_of_flight(
         (t0, t1, flags, "", True) for t0, t1, flags in windows
     ]
     return _summaries(samples, rows, flight, settings, signals)
+
+
+def _smoothed_bins(
+    samples: pd.DataFrame, names: list[str], time: np.ndarray, bin_s: float,
+    settings: PointSettings,
+) -> pd.DataFrame:
+    """Medians of ``names`` over time bins, smoothed by a running median (steps 1 and 2).
+
+    The same numbers as ``samples[names].groupby(bin).median()`` reindexed to
+    every bin, then ``.rolling(smooth_bins, center=True, min_periods=1).median()``
+    (pandas' own, taken when a value is infinite): both medians are order
+    statistics (the middle value, or the two middle ones added and halved, NaN
+    left out), found here by sorting bins of equal length side by side.  Where
+    the middle two are 0.0 and -0.0 the sign of the zero may differ, which
+    nothing downstream can see (every use is a comparison, a range or an abs).
+    """
+    k = np.floor((time - time[0]) / bin_s).astype(np.int64)
+    n_bins = int(k[-1]) + 1
+    smooth_bins = max(3, int(round(settings.smooth_s / bin_s)) | 1)
+    columns = np.array([samples[n].to_numpy(dtype=float) for n in names]).reshape(
+        len(names), len(time))
+    if np.isinf(columns).any():  # pandas' running median takes infinity for its end marker
+        binned = samples[names].groupby(k).median().reindex(range(n_bins))
+        return binned.rolling(smooth_bins, center=True, min_periods=1).median()
+    gappy = np.isnan(columns)
+    starts = np.searchsorted(k, np.arange(n_bins + 1))
+    binned = _stretch_medians(columns, starts, np.unique(k[gappy.any(axis=0)]))
+    h = smooth_bins // 2
+    padded = np.full((len(names), n_bins + 2 * h), np.nan)
+    padded[:, h : h + n_bins] = binned
+    windows = np.sort(np.lib.stride_tricks.sliding_window_view(padded, smooth_bins, axis=1), axis=2)
+    smooth = windows[:, :, h].copy()  # windows without NaN: the middle one
+    holes = np.isnan(padded).any(axis=0).astype(np.int64)
+    touched = np.convolve(holes, np.ones(smooth_bins, dtype=np.int64), mode="valid") > 0
+    if touched.any():
+        smooth[:, touched] = _middle(windows[:, touched])
+    return pd.DataFrame(dict(zip(names, smooth, strict=True)), columns=names)
+
+
+def _stretch_medians(columns: np.ndarray, starts: np.ndarray, gappy: np.ndarray) -> np.ndarray:
+    """Median of each row of ``columns`` over each stretch ``starts[i]:starts[i + 1]``.
+
+    NaN is left out (NaN for a stretch without a value); ``gappy`` are the
+    stretches that hold NaN.  Consecutive stretches of one length are sorted as
+    one block (a reshaped view); lone ones are gathered by length.
+    """
+    m = len(columns)
+    lengths = np.diff(starts)
+    out = np.full((m, len(lengths)), np.nan)
+    edges = np.flatnonzero(np.diff(lengths)) + 1
+    runs = zip([0, *edges.tolist()], [*edges.tolist(), len(lengths)], strict=True)
+    scattered: dict[int, list[np.ndarray]] = {}
+    for a, b in runs:
+        length = int(lengths[a])
+        if length == 0:
+            continue
+        if b - a < 16:
+            scattered.setdefault(length, []).append(np.arange(a, b))
+            continue
+        block = columns[:, starts[a] : starts[b]].reshape(m, b - a, length)
+        out[:, a:b] = _middle_of_full(np.sort(block, axis=2))
+    for length, parts in scattered.items():
+        where = np.concatenate(parts)
+        block = columns[:, starts[where][:, None] + np.arange(length)]
+        block.sort(axis=2)
+        out[:, where] = _middle_of_full(block)
+    for length in np.unique(lengths[gappy]).tolist():  # with NaN: count what is there
+        where = gappy[lengths[gappy] == length]
+        block = columns[:, starts[where][:, None] + np.arange(length)]
+        block.sort(axis=2)
+        out[:, where] = _middle(block)
+    return out
+
+
+def _middle_of_full(ordered: np.ndarray) -> np.ndarray:
+    """Median over the last axis of values sorted there, none NaN, as pandas' (see _middle)."""
+    n = ordered.shape[-1]
+    if n % 2:
+        return ordered[..., n // 2].copy()
+    return (ordered[..., n // 2] + ordered[..., n // 2 - 1]) / 2
+
+
+def _middle(ordered: np.ndarray) -> np.ndarray:
+    """Median over the last axis of values sorted there (NaN last, left out), as pandas'.
+
+    The middle value, or ``(upper + lower) / 2`` of the middle two; NaN where
+    there is no value.
+    """
+    count = ordered.shape[-1] - np.isnan(ordered).sum(axis=-1)
+    upper = np.take_along_axis(ordered, (count // 2)[..., None], axis=-1)[..., 0]
+    lower = np.take_along_axis(ordered, np.maximum(count // 2 - 1, 0)[..., None], axis=-1)[..., 0]
+    out = np.where(count % 2 == 1, upper, (upper + lower) / 2)
+    return np.where(count > 0, out, np.nan)
 
 
 def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
@@ -735,94 +825,50 @@ def _robust_stats(
     is zero (a quantised sensor), 1.2533 x the mean absolute deviation [3]_
     is used instead, so that a lone spike is still seen.
 
-    One sort of the rows gives both medians: the deviations from the median,
-    taken in sorted order, fall and then rise, so each order statistic of them
-    is the smallest of ``max(d[s], d[s + k])`` (:func:`_valley_order_stat`),
-    and the largest is at an end (no spike when it is within the limit).  The
-    masked sums are taken only for the rows that need them, each over the
-    window's samples in their own order as before, so every value is the same
-    bit for bit as :func:`_robust_stats_general`'s, which takes rows with
-    infinities.
+    The medians are order statistics, taken from the rows and their deviations
+    sorted (NaN last), with no row-by-row steps; the sums are masked only where
+    a row has gaps or spikes.  Every value is the same bit for bit as
+    :func:`_robust_stats_general`'s, which takes rows with infinities or
+    values beyond 1e307 (whose middle two could overflow when added).
     """
     n_rows, n = rows.shape
-    ordered = np.sort(rows, axis=1)  # NaN last
-    count = n - np.isnan(ordered).sum(axis=1) if n else np.zeros(n_rows, dtype=np.int64)
-    last = ordered[np.arange(n_rows), np.maximum(count - 1, 0)] if n else ordered[:, :0]
-    if n == 0 or np.isinf(ordered[:, 0]).any() or np.isinf(last).any():
+    if n == 0:
         return _robust_stats_general(rows, spike_sigma)
-    gappy = np.flatnonzero(count < n)
-    median, mad, valley = _sorted_medians(ordered, count, gappy)
-    sigma = _MAD_TO_SIGMA * mad
-    limit = spike_sigma * sigma
-    simple = (count == n) & (sigma > 0) & (np.maximum(valley[:, 0], valley[:, -1]) <= limit)
-    mean = np.empty(n_rows)
-    square = np.empty(n_rows)
-    n_kept = count.copy()
-    if simple.any():
-        block = rows if simple.all() else rows[simple]
-        mean[simple] = block.sum(axis=1) / n
-        square[simple] = ((block - mean[simple][:, None]) ** 2).sum(axis=1)
-    if not simple.all():
-        # the other rows step by step as _robust_stats_general, only these rows
-        other = ~simple
-        part, c, m = rows[other], count[other], median[other]
-        finite = np.isfinite(part)
-        deviation = np.abs(part - m[:, None])
-        with np.errstate(invalid="ignore", divide="ignore"):
-            mean_dev = np.where(finite, deviation, 0.0).sum(axis=1) / c
-            s = sigma[other]
-            s = np.where(s > 0, s, 1.2533 * np.nan_to_num(mean_dev))
-            kept = finite & ((s[:, None] == 0) | (deviation <= spike_sigma * s[:, None]))
-            k = kept.sum(axis=1)
-            mu = np.where(kept, part, 0.0).sum(axis=1) / k
-            square[other] = np.where(kept, (part - mu[:, None]) ** 2, 0.0).sum(axis=1)
-        mean[other], n_kept[other] = mu, k
+    ordered = np.sort(rows, axis=1)  # NaN last
+    count = n - np.isnan(ordered).sum(axis=1)
+    at = np.arange(n_rows)
+    last = np.maximum(count - 1, 0)
+    if (np.abs(ordered[:, 0]) >= 1e307).any() or (np.abs(ordered[at, last]) >= 1e307).any():
+        return _robust_stats_general(rows, spike_sigma)
+    low, high = np.maximum((count - 1) // 2, 0), count // 2
+    # as _row_median: (a + b) / 2 of the middle two, the middle one alone when odd
+    median = 0.5 * (ordered[at, low] + ordered[at, high])  # NaN without values
+    deviation = np.sort(np.abs(ordered - median[:, None]), axis=1)
+    sigma = _MAD_TO_SIGMA * (0.5 * (deviation[at, low] + deviation[at, high]))
+    widest = deviation[at, last]
+    gaps = np.isnan(rows) if (count < n).any() else None
     with np.errstate(invalid="ignore", divide="ignore"):
-        std = np.where(n_kept > 1, np.sqrt(square / (n_kept - 1)), np.nan)
+        zero = ~(sigma > 0)
+        if zero.any():  # 1.2533 x the mean absolute deviation instead
+            away = np.abs(rows[zero] - median[zero, None])
+            if gaps is not None:
+                away[gaps[zero]] = 0.0
+            sigma[zero] = 1.2533 * np.nan_to_num(away.sum(axis=1) / count[zero])
+        limit = spike_sigma * sigma
+        spiky = (sigma > 0) & (widest > limit)
+        out = gaps
+        if spiky.any():
+            out = gaps.copy() if gaps is not None else np.zeros(rows.shape, dtype=bool)
+            out[spiky] = ~(np.abs(rows[spiky] - median[spiky, None]) <= limit[spiky, None])
+        n_kept = count if out is None else n - out.sum(axis=1)
+        mean = (rows if out is None else np.where(out, 0.0, rows)).sum(axis=1) / n_kept
+        square = rows - mean[:, None]
+        np.multiply(square, square, out=square)
+        if out is not None:
+            square[out] = 0.0
+        std = np.where(n_kept > 1, np.sqrt(square.sum(axis=1) / (n_kept - 1)), np.nan)
     mean = np.where(n_kept > 0, mean, np.nan)
     return mean, std, count - n_kept, n - count
-
-
-def _sorted_medians(
-    ordered: np.ndarray, count: np.ndarray, gappy: np.ndarray
-) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Median, MAD and sorted deviations of each row sorted with its ``count`` values first.
-
-    The medians are :func:`_row_median`'s, bit for bit; ``gappy`` are the rows
-    with NaN (after their values).
-    """
-    n = ordered.shape[1]
-    half = n // 2
-    if n % 2:
-        median = ordered[:, half] / 1.0
-    else:
-        median = (ordered[:, half - 1] + ordered[:, half]) / 2.0
-    for r in gappy:  # as _row_median: the mean of the middle two of the values there
-        c = count[r]
-        median[r] = (0.5 * (ordered[r, (c - 1) // 2] + ordered[r, c // 2]) if c > 0
-                     else np.nan)
-    valley = np.abs(ordered - median[:, None])
-    if n % 2:
-        mad = _valley_order_stat(valley, half) / 1.0
-    else:
-        mad = (_valley_order_stat(valley, half - 1) + _valley_order_stat(valley, half)) / 2.0
-    for r in gappy:
-        c = count[r]
-        part = valley[r : r + 1, :c]
-        mad[r] = (0.5 * (_valley_order_stat(part, (c - 1) // 2)[0]
-                         + _valley_order_stat(part, c // 2)[0]) if c > 0 else np.nan)
-    return median, mad, valley
-
-
-def _valley_order_stat(valley: np.ndarray, k: int) -> np.ndarray:
-    """The k-th smallest (from 0) of each row of values that fall and then rise.
-
-    The k + 1 smallest of such a row are a run of neighbours, and the largest
-    of a run is at one of its ends: so the k-th smallest is the smallest over
-    every run of k + 1 of the larger end.  No sort, and exact (a min and a max).
-    """
-    n = valley.shape[1]
-    return np.maximum(valley[:, : n - k], valley[:, k:]).min(axis=1)
 
 
 def _robust_stats_general(
