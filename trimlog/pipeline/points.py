@@ -90,6 +90,7 @@ References
 
 from __future__ import annotations
 
+import bisect
 from collections.abc import Mapping
 from dataclasses import dataclass, fields
 
@@ -902,20 +903,23 @@ def _summaries(
     time = samples["time_s"].to_numpy(dtype=float)
     names = _numeric_names(samples)
     arrays = {n: samples[n].to_numpy(dtype=float) for n in names}
-    by_row = np.ascontiguousarray(samples[names].to_numpy(dtype=float).T)
+    by_row = np.array([arrays[n] for n in names]).reshape(len(names), len(time))
+    # steps over max_gap_s: a window i0:i1 has one when one starts in i0 .. i1 - 2
+    long_steps = np.flatnonzero(np.diff(time) > settings.max_gap_s).tolist()
     lines = samples["source_line"].to_numpy() if "source_line" in samples else np.zeros(len(time))
     core = set(_tolerances(samples, settings, signals))
     speed = _speed_name(samples)
     out = []
-    for t0, t1, flags, label, included in rows:
-        i0, i1 = np.searchsorted(time, [t0, t1])
+    bounds = np.searchsorted(time, [(t0, t1) for t0, t1, *_ in rows]).reshape(len(rows), 2)
+    for (i0, i1), (_, _, flags, label, included) in zip(bounds.tolist(), rows, strict=True):
         if i1 - i0 < 2:
             continue
         record: dict[str, object] = {"flight": flight, "event": label, "included": included}
         flag_set = [f for f in flags.split(";") if f]
-        means, stds, spikes, missing = _robust_stats(by_row[:, i0:i1], settings.spike_sigma)
+        means, stds, spikes, missing = (
+            a.tolist() for a in _robust_stats(by_row[:, i0:i1], settings.spike_sigma))
         for j, name in enumerate(names):
-            record[name], record[f"{name}_std"] = float(means[j]), float(stds[j])
+            record[name], record[f"{name}_std"] = means[j], stds[j]
             if name in core and spikes[j]:
                 flag_set.append("spike")
             if name in core and missing[j] > 0.1 * (i1 - i0):
@@ -931,7 +935,7 @@ def _summaries(
             record["vs_fpm"] = slope
         if scatter > settings.alt_scatter_ft:
             flag_set.append("alt_unsteady")
-        if np.any(np.diff(t) > settings.max_gap_s):
+        if bisect.bisect_left(long_steps, i0) < bisect.bisect_left(long_steps, i1 - 1):
             flag_set.append("gap")
         if record.get(f"{speed}_std", 0.0) > settings.turbulence_ias_kt:
             flag_set.append("turbulent")
@@ -953,9 +957,13 @@ def _summaries(
 def _altitude_trend(t: np.ndarray, altitude: np.ndarray) -> tuple[float, float]:
     """Return climb rate [ft/min] of a straight-line fit, and scatter about it [ft]."""
     ok = np.isfinite(altitude)
-    if ok.sum() < 3 or np.ptp(t[ok]) == 0:
+    if not ok.all():
+        t, altitude = t[ok], altitude[ok]
+    # t is in time order, so its range (np.ptp) is its last minus its first
+    if len(t) < 3 or t[-1] - t[0] == 0:
         return np.nan, 0.0
-    tc = t[ok] - t[ok].mean()
-    slope = float(np.dot(tc, altitude[ok] - altitude[ok].mean()) / np.dot(tc, tc))
-    residual = altitude[ok] - altitude[ok].mean() - slope * tc
+    tc = t - t.mean()
+    offset = altitude - altitude.mean()
+    slope = float(np.dot(tc, offset) / np.dot(tc, tc))
+    residual = offset - slope * tc
     return slope * 60.0, float(np.std(residual))
