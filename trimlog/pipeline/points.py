@@ -853,7 +853,7 @@ def _robust_stats(
         if zero.any():  # 1.2533 x the mean absolute deviation instead
             away = np.abs(rows[zero] - median[zero, None])
             if gaps is not None:
-                away[gaps[zero]] = 0.0
+                np.copyto(away, 0.0, where=gaps[zero])
             sigma[zero] = 1.2533 * np.nan_to_num(away.sum(axis=1) / count[zero])
         limit = spike_sigma * sigma
         spiky = (sigma > 0) & (widest > limit)
@@ -866,7 +866,7 @@ def _robust_stats(
         square = rows - mean[:, None]
         np.multiply(square, square, out=square)
         if out is not None:
-            square[out] = 0.0
+            np.copyto(square, 0.0, where=out)
         std = np.where(n_kept > 1, np.sqrt(square.sum(axis=1) / (n_kept - 1)), np.nan)
     mean = np.where(n_kept > 0, mean, np.nan)
     return mean, std, count - n_kept, n - count
