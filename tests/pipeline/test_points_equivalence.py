@@ -1,6 +1,7 @@
 """Point detection gives exactly the stored Points tables for a set of varied logs.
 
-The expectations in ``tests/data/logs/points_expectations.json`` were written
+The expectations in ``tests/data/points_expectations.json`` (beside, not in,
+``tests/data/logs``, whose every file the reader's equivalence test reads) were written
 by the point detection as it was before its speed work (commit 703e4a5): for
 each case every column of the Points table bit for bit (``float.hex``, as a
 digest per column), its dtypes, the flags and times of every point in full,
@@ -47,7 +48,7 @@ from trimlog.pipeline.points import PointSettings, find_stabilized_points, point
 ROOT = Path(__file__).resolve().parents[2]
 LOGS = ROOT / "tests" / "data" / "logs"
 SAMPLES = ROOT / "sample_logs"
-EXPECTED = LOGS / "points_expectations.json"
+EXPECTED = ROOT / "tests" / "data" / "points_expectations.json"
 MAP = {"ELEV_POS": "elevator_deg", "FSTK": "stick_force_N"}
 
 sys.path[:0] = [str(ROOT / "benchmarks"), str(ROOT / "tests")]  # also when run as a script
