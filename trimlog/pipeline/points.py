@@ -90,6 +90,7 @@ References
 
 from __future__ import annotations
 
+import bisect
 from collections.abc import Mapping
 from dataclasses import dataclass, fields
 
@@ -473,11 +474,8 @@ def _points_of_flight(
     bin_s = max(settings.bin_s, float(np.median(positive)))
     tolerances = _tolerances(samples, settings, signals)
     tested = list(tolerances) + (["nz_g"] if "nz_g" in samples else [])
-    k = np.floor((time - time[0]) / bin_s).astype(np.int64)
-    n_bins = int(k[-1]) + 1
-    binned = samples[tested].groupby(k).median().reindex(range(n_bins))
-    smooth_bins = max(3, int(round(settings.smooth_s / bin_s)) | 1)
-    smooth = binned.rolling(smooth_bins, center=True, min_periods=1).median()
+    smooth = _smoothed_bins(samples, tested, time, bin_s, settings)
+    n_bins = len(smooth)
     half = max(1, int(round(settings.min_duration_s / bin_s)) // 2)
     window = 2 * half + 1
     min_periods = int(np.ceil(0.8 * window))
@@ -509,6 +507,99 @@ def _points_of_flight(
         (t0, t1, flags, "", True) for t0, t1, flags in windows
     ]
     return _summaries(samples, rows, flight, settings, signals)
+
+
+def _smoothed_bins(
+    samples: pd.DataFrame, names: list[str], time: np.ndarray, bin_s: float,
+    settings: PointSettings,
+) -> pd.DataFrame:
+    """Medians of ``names`` over time bins, smoothed by a running median (steps 1 and 2).
+
+    The same numbers as ``samples[names].groupby(bin).median()`` reindexed to
+    every bin, then ``.rolling(smooth_bins, center=True, min_periods=1).median()``
+    (pandas' own, taken when a value is infinite): both medians are order
+    statistics (the middle value, or the two middle ones added and halved, NaN
+    left out), found here by sorting bins of equal length side by side.  Where
+    the middle two are 0.0 and -0.0 the sign of the zero may differ, which
+    nothing downstream can see (every use is a comparison, a range or an abs).
+    """
+    k = np.floor((time - time[0]) / bin_s).astype(np.int64)
+    n_bins = int(k[-1]) + 1
+    smooth_bins = max(3, int(round(settings.smooth_s / bin_s)) | 1)
+    columns = np.array([samples[n].to_numpy(dtype=float) for n in names]).reshape(
+        len(names), len(time))
+    if np.isinf(columns).any():  # pandas' running median takes infinity for its end marker
+        binned = samples[names].groupby(k).median().reindex(range(n_bins))
+        return binned.rolling(smooth_bins, center=True, min_periods=1).median()
+    gappy = np.isnan(columns)
+    starts = np.searchsorted(k, np.arange(n_bins + 1))
+    binned = _stretch_medians(columns, starts, np.unique(k[gappy.any(axis=0)]))
+    h = smooth_bins // 2
+    padded = np.full((len(names), n_bins + 2 * h), np.nan)
+    padded[:, h : h + n_bins] = binned
+    windows = np.sort(np.lib.stride_tricks.sliding_window_view(padded, smooth_bins, axis=1), axis=2)
+    smooth = windows[:, :, h].copy()  # windows without NaN: the middle one
+    holes = np.isnan(padded).any(axis=0).astype(np.int64)
+    touched = np.convolve(holes, np.ones(smooth_bins, dtype=np.int64), mode="valid") > 0
+    if touched.any():
+        smooth[:, touched] = _middle(windows[:, touched])
+    return pd.DataFrame(dict(zip(names, smooth, strict=True)), columns=names)
+
+
+def _stretch_medians(columns: np.ndarray, starts: np.ndarray, gappy: np.ndarray) -> np.ndarray:
+    """Median of each row of ``columns`` over each stretch ``starts[i]:starts[i + 1]``.
+
+    NaN is left out (NaN for a stretch without a value); ``gappy`` are the
+    stretches that hold NaN.  Consecutive stretches of one length are sorted as
+    one block (a reshaped view); lone ones are gathered by length.
+    """
+    m = len(columns)
+    lengths = np.diff(starts)
+    out = np.full((m, len(lengths)), np.nan)
+    edges = np.flatnonzero(np.diff(lengths)) + 1
+    runs = zip([0, *edges.tolist()], [*edges.tolist(), len(lengths)], strict=True)
+    scattered: dict[int, list[np.ndarray]] = {}
+    for a, b in runs:
+        length = int(lengths[a])
+        if length == 0:
+            continue
+        if b - a < 16:
+            scattered.setdefault(length, []).append(np.arange(a, b))
+            continue
+        block = columns[:, starts[a] : starts[b]].reshape(m, b - a, length)
+        out[:, a:b] = _middle_of_full(np.sort(block, axis=2))
+    for length, parts in scattered.items():
+        where = np.concatenate(parts)
+        block = columns[:, starts[where][:, None] + np.arange(length)]
+        block.sort(axis=2)
+        out[:, where] = _middle_of_full(block)
+    for length in np.unique(lengths[gappy]).tolist():  # with NaN: count what is there
+        where = gappy[lengths[gappy] == length]
+        block = columns[:, starts[where][:, None] + np.arange(length)]
+        block.sort(axis=2)
+        out[:, where] = _middle(block)
+    return out
+
+
+def _middle_of_full(ordered: np.ndarray) -> np.ndarray:
+    """Median over the last axis of values sorted there, none NaN, as pandas' (see _middle)."""
+    n = ordered.shape[-1]
+    if n % 2:
+        return ordered[..., n // 2].copy()
+    return (ordered[..., n // 2] + ordered[..., n // 2 - 1]) / 2
+
+
+def _middle(ordered: np.ndarray) -> np.ndarray:
+    """Median over the last axis of values sorted there (NaN last, left out), as pandas'.
+
+    The middle value, or ``(upper + lower) / 2`` of the middle two; NaN where
+    there is no value.
+    """
+    count = ordered.shape[-1] - np.isnan(ordered).sum(axis=-1)
+    upper = np.take_along_axis(ordered, (count // 2)[..., None], axis=-1)[..., 0]
+    lower = np.take_along_axis(ordered, np.maximum(count // 2 - 1, 0)[..., None], axis=-1)[..., 0]
+    out = np.where(count % 2 == 1, upper, (upper + lower) / 2)
+    return np.where(count > 0, out, np.nan)
 
 
 def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
@@ -734,7 +825,57 @@ def _robust_stats(
     [1]_, [2]_) from the median are left out of mean and std.  Where the MAD
     is zero (a quantised sensor), 1.2533 x the mean absolute deviation [3]_
     is used instead, so that a lone spike is still seen.
+
+    The medians are order statistics, taken from the rows and their deviations
+    sorted (NaN last), with no row-by-row steps; the sums are masked only where
+    a row has gaps or spikes.  Every value is the same bit for bit as
+    :func:`_robust_stats_general`'s, which takes rows with infinities or
+    values beyond 1e307 (whose middle two could overflow when added).
     """
+    n_rows, n = rows.shape
+    if n == 0:
+        return _robust_stats_general(rows, spike_sigma)
+    ordered = np.sort(rows, axis=1)  # NaN last
+    count = n - np.isnan(ordered).sum(axis=1)
+    at = np.arange(n_rows)
+    last = np.maximum(count - 1, 0)
+    if (np.abs(ordered[:, 0]) >= 1e307).any() or (np.abs(ordered[at, last]) >= 1e307).any():
+        return _robust_stats_general(rows, spike_sigma)
+    low, high = np.maximum((count - 1) // 2, 0), count // 2
+    # as _row_median: (a + b) / 2 of the middle two, the middle one alone when odd
+    median = 0.5 * (ordered[at, low] + ordered[at, high])  # NaN without values
+    deviation = np.sort(np.abs(ordered - median[:, None]), axis=1)
+    sigma = _MAD_TO_SIGMA * (0.5 * (deviation[at, low] + deviation[at, high]))
+    widest = deviation[at, last]
+    gaps = np.isnan(rows) if (count < n).any() else None
+    with np.errstate(invalid="ignore", divide="ignore"):
+        zero = ~(sigma > 0)
+        if zero.any():  # 1.2533 x the mean absolute deviation instead
+            away = np.abs(rows[zero] - median[zero, None])
+            if gaps is not None:
+                np.copyto(away, 0.0, where=gaps[zero])
+            sigma[zero] = 1.2533 * np.nan_to_num(away.sum(axis=1) / count[zero])
+        limit = spike_sigma * sigma
+        spiky = (sigma > 0) & (widest > limit)
+        out = gaps
+        if spiky.any():
+            out = gaps.copy() if gaps is not None else np.zeros(rows.shape, dtype=bool)
+            out[spiky] = ~(np.abs(rows[spiky] - median[spiky, None]) <= limit[spiky, None])
+        n_kept = count if out is None else n - out.sum(axis=1)
+        mean = (rows if out is None else np.where(out, 0.0, rows)).sum(axis=1) / n_kept
+        square = rows - mean[:, None]
+        np.multiply(square, square, out=square)
+        if out is not None:
+            np.copyto(square, 0.0, where=out)
+        std = np.where(n_kept > 1, np.sqrt(square.sum(axis=1) / (n_kept - 1)), np.nan)
+    mean = np.where(n_kept > 0, mean, np.nan)
+    return mean, std, count - n_kept, n - count
+
+
+def _robust_stats_general(
+    rows: np.ndarray, spike_sigma: float
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """:func:`_robust_stats` of any rows, infinities too: every step on every row."""
     finite = np.isfinite(rows)
     median = _row_median(rows)
     deviation = np.abs(rows - median[:, None])
@@ -762,20 +903,23 @@ def _summaries(
     time = samples["time_s"].to_numpy(dtype=float)
     names = _numeric_names(samples)
     arrays = {n: samples[n].to_numpy(dtype=float) for n in names}
-    by_row = np.ascontiguousarray(samples[names].to_numpy(dtype=float).T)
+    by_row = np.array([arrays[n] for n in names]).reshape(len(names), len(time))
+    # steps over max_gap_s: a window i0:i1 has one when one starts in i0 .. i1 - 2
+    long_steps = np.flatnonzero(np.diff(time) > settings.max_gap_s).tolist()
     lines = samples["source_line"].to_numpy() if "source_line" in samples else np.zeros(len(time))
     core = set(_tolerances(samples, settings, signals))
     speed = _speed_name(samples)
     out = []
-    for t0, t1, flags, label, included in rows:
-        i0, i1 = np.searchsorted(time, [t0, t1])
+    bounds = np.searchsorted(time, [(t0, t1) for t0, t1, *_ in rows]).reshape(len(rows), 2)
+    for (i0, i1), (_, _, flags, label, included) in zip(bounds.tolist(), rows, strict=True):
         if i1 - i0 < 2:
             continue
         record: dict[str, object] = {"flight": flight, "event": label, "included": included}
         flag_set = [f for f in flags.split(";") if f]
-        means, stds, spikes, missing = _robust_stats(by_row[:, i0:i1], settings.spike_sigma)
+        means, stds, spikes, missing = (
+            a.tolist() for a in _robust_stats(by_row[:, i0:i1], settings.spike_sigma))
         for j, name in enumerate(names):
-            record[name], record[f"{name}_std"] = float(means[j]), float(stds[j])
+            record[name], record[f"{name}_std"] = means[j], stds[j]
             if name in core and spikes[j]:
                 flag_set.append("spike")
             if name in core and missing[j] > 0.1 * (i1 - i0):
@@ -791,7 +935,7 @@ def _summaries(
             record["vs_fpm"] = slope
         if scatter > settings.alt_scatter_ft:
             flag_set.append("alt_unsteady")
-        if np.any(np.diff(t) > settings.max_gap_s):
+        if bisect.bisect_left(long_steps, i0) < bisect.bisect_left(long_steps, i1 - 1):
             flag_set.append("gap")
         if record.get(f"{speed}_std", 0.0) > settings.turbulence_ias_kt:
             flag_set.append("turbulent")
@@ -813,9 +957,13 @@ def _summaries(
 def _altitude_trend(t: np.ndarray, altitude: np.ndarray) -> tuple[float, float]:
     """Return climb rate [ft/min] of a straight-line fit, and scatter about it [ft]."""
     ok = np.isfinite(altitude)
-    if ok.sum() < 3 or np.ptp(t[ok]) == 0:
+    if not ok.all():
+        t, altitude = t[ok], altitude[ok]
+    # t is in time order, so its range (np.ptp) is its last minus its first
+    if len(t) < 3 or t[-1] - t[0] == 0:
         return np.nan, 0.0
-    tc = t[ok] - t[ok].mean()
-    slope = float(np.dot(tc, altitude[ok] - altitude[ok].mean()) / np.dot(tc, tc))
-    residual = altitude[ok] - altitude[ok].mean() - slope * tc
+    tc = t - t.mean()
+    offset = altitude - altitude.mean()
+    slope = float(np.dot(tc, offset) / np.dot(tc, tc))
+    residual = offset - slope * tc
     return slope * 60.0, float(np.std(residual))
