@@ -738,10 +738,12 @@ def bench_dashboard(run: _Run) -> None:
 
     from trimlog.dashboard import compute
 
-    # Clearing the caches between uploads, outside a script run, logs "missing
-    # ScriptRunContext" (harmless, Streamlit says): not part of the figures.
-    logging.getLogger("streamlit.runtime.scriptrunner_utils.script_run_context").setLevel(
-        logging.ERROR)
+    # Importing the cached functions and clearing the caches between uploads, outside a
+    # script run, log "missing ScriptRunContext" and "No runtime found" (harmless,
+    # Streamlit says): not part of the figures.
+    for name in ("streamlit.runtime.scriptrunner_utils.script_run_context",
+                 "streamlit.runtime.caching"):
+        logging.getLogger(name).setLevel(logging.ERROR)
     from trimlog.dashboard.session import FileBytes
 
     log = run.log("long", run.sizes.log_minutes, seed=12)
