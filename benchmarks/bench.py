@@ -736,14 +736,13 @@ def bench_dashboard(run: _Run) -> None:
     import streamlit as st
     from streamlit.testing.v1 import AppTest
 
-    from trimlog.dashboard import compute
-
     # Importing the cached functions and clearing the caches between uploads, outside a
     # script run, log "missing ScriptRunContext" and "No runtime found" (harmless,
     # Streamlit says): not part of the figures.
     for name in ("streamlit.runtime.scriptrunner_utils.script_run_context",
                  "streamlit.runtime.caching"):
         logging.getLogger(name).setLevel(logging.ERROR)
+    from trimlog.dashboard import compute  # after the loggers are quieted
     from trimlog.dashboard.session import FileBytes
 
     log = run.log("long", run.sizes.log_minutes, seed=12)
