@@ -21,8 +21,6 @@ clock and ISO time, glitches, a flight column, a point table) and some errors.
 from __future__ import annotations
 
 import functools
-import hashlib
-import json
 import sys
 from pathlib import Path
 
@@ -31,6 +29,9 @@ import pytest
 
 from trimlog.errors import TrimlogError
 from trimlog.input.logs import read_log
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))  # also when run as a script
+from stored_results import assert_same, bits, digest, load, write_when_asked  # noqa: E402
 
 LOGS = Path(__file__).resolve().parents[1] / "data" / "logs"
 EXPECTED = LOGS / "read_expectations.json"
@@ -180,18 +181,6 @@ def _cases() -> dict[str, tuple[bytes, dict]]:  # noqa: PLR0915 - one line per c
     return cases
 
 
-def _hex(value: object) -> object:
-    if isinstance(value, float | np.floating):
-        return None if np.isnan(value) else float(value).hex()
-    if isinstance(value, np.integer):
-        return int(value)
-    return value
-
-
-def _digest(values: list) -> str:
-    return hashlib.sha256(json.dumps(values).encode()).hexdigest()[:32]
-
-
 def describe(raw: bytes, name: str, kwargs: dict) -> dict:
     """Everything read_log gives for these bytes, as JSON-able values (floats bit for bit)."""
     try:
@@ -212,10 +201,10 @@ def describe(raw: bytes, name: str, kwargs: dict) -> dict:
         "started_at": log.started_at,
         "frame_columns": list(frame.columns),
         "dtypes": [str(d) for d in frame.dtypes],
-        "index": [_hex(v) for v in frame.index],
+        "index": [bits(v) for v in frame.index],
         # Each column's values bit for bit, as a digest (the file stays small).
-        "values": {c: _digest([_hex(v) for v in frame[c].tolist()]) for c in frame.columns},
-        "first_row": [_hex(v) for v in frame.iloc[0].tolist()] if len(frame) else [],
+        "values": {c: digest([bits(v) for v in frame[c].tolist()]) for c in frame.columns},
+        "first_row": [bits(v) for v in frame.iloc[0].tolist()] if len(frame) else [],
     }
 
 
@@ -226,7 +215,7 @@ def _all() -> dict[str, dict]:
 
 @pytest.fixture(scope="module")
 def expected() -> dict[str, dict]:
-    return json.loads(EXPECTED.read_text(encoding="utf-8"))
+    return load(EXPECTED)
 
 
 def test_the_cases_are_the_stored_ones(expected):
@@ -236,16 +225,8 @@ def test_the_cases_are_the_stored_ones(expected):
 @pytest.mark.parametrize("name", sorted(_cases()))
 def test_read_log_gives_the_stored_read(name, expected):
     raw, kwargs = _cases()[name]
-    got = json.loads(json.dumps(describe(raw, f"{name}.csv", kwargs)))
-    want = expected[name]
-    for key in want:
-        assert got.get(key) == want[key], f"{name}: {key} differs"
-    assert got == want
+    assert_same(name, describe(raw, f"{name}.csv", kwargs), expected[name])
 
 
 if __name__ == "__main__":
-    if sys.argv[1:] != ["--write"]:
-        sys.exit("usage: python tests/input/test_read_equivalence.py --write")
-    rows = [f"{json.dumps(k)}: {json.dumps(v, sort_keys=True)}" for k, v in sorted(_all().items())]
-    EXPECTED.write_text("{\n" + ",\n".join(rows) + "\n}\n", encoding="utf-8")
-    print(f"wrote {EXPECTED}")
+    write_when_asked(EXPECTED, _all, "tests/input/test_read_equivalence.py", sys.argv[1:])

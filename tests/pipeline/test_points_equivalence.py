@@ -27,8 +27,6 @@ All of the numbers are synthetic.
 from __future__ import annotations
 
 import functools
-import hashlib
-import json
 import sys
 import tempfile
 import warnings
@@ -53,6 +51,7 @@ MAP = {"ELEV_POS": "elevator_deg", "FSTK": "stick_force_N"}
 
 sys.path[:0] = [str(ROOT / "benchmarks"), str(ROOT / "tests")]  # also when run as a script
 import bench  # noqa: E402  (the generator of the benchmark's logs)
+from stored_results import assert_same, bits, digest, load, write_when_asked  # noqa: E402
 from synthetic_logs import Hold, make_log, standard_flight  # noqa: E402
 
 
@@ -243,18 +242,6 @@ def _cases() -> dict[str, Callable[[], pd.DataFrame]]:
     return cases
 
 
-def _hex(value: object) -> object:
-    if isinstance(value, float | np.floating):
-        return None if np.isnan(value) else float(value).hex()
-    if isinstance(value, np.integer | np.bool_):
-        return value.item()
-    return value
-
-
-def _digest(values: list) -> str:
-    return hashlib.sha256(json.dumps(values).encode()).hexdigest()[:32]
-
-
 def describe(call: Callable[[], pd.DataFrame]) -> dict:
     """Everything a detection gives, as JSON-able values (floats bit for bit)."""
     with warnings.catch_warnings(record=True) as caught:
@@ -267,12 +254,12 @@ def describe(call: Callable[[], pd.DataFrame]) -> dict:
         "warnings": sorted({f"{w.category.__name__}: {w.message}" for w in caught}),
         "columns": list(map(str, table.columns)),
         "dtypes": [str(d) for d in table.dtypes],
-        "index": [_hex(v) for v in table.index],
-        "values": {str(c): _digest([_hex(v) for v in table[c].tolist()]) for c in table.columns},
+        "index": [bits(v) for v in table.index],
+        "values": {str(c): digest([bits(v) for v in table[c].tolist()]) for c in table.columns},
     }
     for c in ("flags", "event", "t_start_s", "t_end_s"):
         if c in table:
-            out[c] = [_hex(v) for v in table[c].tolist()]
+            out[c] = [bits(v) for v in table[c].tolist()]
     return out
 
 
@@ -282,7 +269,7 @@ def _all() -> dict[str, dict]:
 
 @pytest.fixture(scope="module")
 def expected() -> dict[str, dict]:
-    return json.loads(EXPECTED.read_text(encoding="utf-8"))
+    return load(EXPECTED)
 
 
 def test_the_cases_are_the_stored_ones(expected):
@@ -291,16 +278,8 @@ def test_the_cases_are_the_stored_ones(expected):
 
 @pytest.mark.parametrize("name", sorted(_cases()))
 def test_detection_gives_the_stored_points(name, expected):
-    got = json.loads(json.dumps(describe(_cases()[name])))
-    want = expected[name]
-    for key in want:
-        assert got.get(key) == want[key], f"{name}: {key} differs"
-    assert got == want
+    assert_same(name, describe(_cases()[name]), expected[name])
 
 
 if __name__ == "__main__":
-    if sys.argv[1:] != ["--write"]:
-        sys.exit("usage: python tests/pipeline/test_points_equivalence.py --write")
-    rows = [f"{json.dumps(k)}: {json.dumps(v, sort_keys=True)}" for k, v in sorted(_all().items())]
-    EXPECTED.write_text("{\n" + ",\n".join(rows) + "\n}\n", encoding="utf-8")
-    print(f"wrote {EXPECTED}")
+    write_when_asked(EXPECTED, _all, "tests/pipeline/test_points_equivalence.py", sys.argv[1:])
