@@ -99,7 +99,7 @@ def test_detection_is_stable_under_noise(seed):
 def test_the_window_helpers_give_what_pandas_gives():
     """Binned medians, the running median and the rolling range, bit for bit (random data)."""
     from trimlog.pipeline import maneuvers
-    from trimlog.pipeline.points import _row_median
+    from trimlog.pipeline.points import bin_medians, running_median
 
     rng = np.random.default_rng(3)
     for _ in range(300):
@@ -111,15 +111,14 @@ def test_the_window_helpers_give_what_pandas_gives():
         k = np.floor((t - t[0]) / 0.5).astype(np.int64)
         n_bins = int(k[-1]) + 1
         want = pd.Series(x).groupby(k).median().reindex(range(n_bins)).to_numpy()
-        counts = np.bincount(k, minlength=n_bins)
-        got = maneuvers._binned_medians([x], k, counts)[0]
+        got = bin_medians(x[None, :], k, n_bins)[0]
         np.testing.assert_array_equal(got, want)
         w = int(rng.choice([3, 5, 13]))
         smooth = pd.Series(want).rolling(w, center=True, min_periods=1).median().to_numpy()
-        np.testing.assert_array_equal(_row_median(maneuvers._centred(got, w)), smooth)
-        np.testing.assert_array_equal(maneuvers._smoothed(x, k, counts, w), smooth)
+        np.testing.assert_array_equal(running_median(got[None, :], w)[0], smooth)
+        np.testing.assert_array_equal(maneuvers._smoothed(x, k, n_bins, w), smooth)
         where = rng.random(n_bins) < rng.choice([0.0, 0.05, 0.5])
-        part = maneuvers._smoothed(x, k, counts, w, where)
+        part = maneuvers._smoothed(x, k, n_bins, w, where)
         np.testing.assert_array_equal(part[where], smooth[where])
         assert np.isnan(part[~where]).all()
         least = int(rng.integers(1, w + 1))

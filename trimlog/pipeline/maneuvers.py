@@ -27,7 +27,6 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
-from numpy.lib.stride_tricks import sliding_window_view
 
 from trimlog.input.logs import LogRead
 from trimlog.pipeline import points as trim_points
@@ -145,7 +144,6 @@ def _maneuvers_of_flight(
     columns = {name: samples[name].to_numpy(dtype=float) for name in tolerances}
     if any(np.isinf(c).any() for c in columns.values()):  # the helpers below assume none
         return _maneuvers_by_pandas(samples, flight, settings, tolerances, core, k, bin_s)
-    counts = np.bincount(k, minlength=n_bins)
     smooth_bins = max(3, int(round(settings.smooth_s / bin_s)) | 1)
     half = max(1, int(round(settings.min_duration_s / bin_s)) // 2)
     window = 2 * half + 1
@@ -153,14 +151,14 @@ def _maneuvers_of_flight(
     # The load factor first: only a bin whose window holds it steady above
     # MANEUVER_NZ_MIN_G can be steady, so the other signals are binned and
     # smoothed only where such a window reads them (NaN elsewhere, never read).
-    smooth = {"nz_g": _smoothed(columns["nz_g"], k, counts, smooth_bins)}
+    smooth = {"nz_g": _smoothed(columns["nz_g"], k, n_bins, smooth_bins)}
     low, high = _rolling_low_high(smooth["nz_g"], window, min_periods)
     steady = (np.nan_to_num(high - low, nan=np.inf) <= tolerances["nz_g"]) & (
         np.nan_to_num(low, nan=-np.inf) >= MANEUVER_NZ_MIN_G)
     near = _widened(steady, half)
     for name, tol in tolerances.items():
         if name != "nz_g":
-            smooth[name] = _smoothed(columns[name], k, counts, smooth_bins, near)
+            smooth[name] = _smoothed(columns[name], k, n_bins, smooth_bins, near)
             low, high = _rolling_low_high(smooth[name], window, min_periods)
             steady &= np.nan_to_num(high - low, nan=np.inf) <= tol
     values = np.column_stack([smooth[name] for name in tolerances])
@@ -168,21 +166,16 @@ def _maneuvers_of_flight(
                       (time[0], bin_s, half))
 
 
-def _smoothed(column: np.ndarray, k: np.ndarray, counts: np.ndarray, smooth_bins: int,
+def _smoothed(column: np.ndarray, k: np.ndarray, n_bins: int, smooth_bins: int,
               where: np.ndarray | None = None) -> np.ndarray:
     """Running median of the bin medians of ``column``, at the bins ``where`` (default all).
 
-    As pandas' ``groupby(k).median().reindex(...).rolling(smooth_bins, center=True,
-    min_periods=1).median()``, bit for bit, at those bins; NaN at the others.
+    The trim search's steps 1 and 2 (:func:`trimlog.pipeline.points.bin_medians`,
+    :func:`~trimlog.pipeline.points.running_median`); NaN at the bins not ``where``.
     """
-    if where is None:
-        return trim_points._row_median(_centred(_binned_medians([column], k, counts)[0],
-                                                smooth_bins))
-    out = np.full(len(counts), np.nan)
-    if where.any():
-        binned = _binned_medians([column], k, counts, _widened(where, smooth_bins // 2))[0]
-        out[where] = trim_points._row_median(_centred(binned, smooth_bins)[where])
-    return out
+    smooth = trim_points.running_median(
+        trim_points.bin_medians(column[None, :], k, n_bins), smooth_bins)[0]
+    return smooth if where is None else np.where(where, smooth, np.nan)
 
 
 def _widened(mask: np.ndarray, reach: int) -> np.ndarray:
@@ -276,33 +269,6 @@ def _bin_width(least_s: float, positive_steps: np.ndarray) -> float:
     if 2 * np.count_nonzero(positive_steps > least_s) < len(positive_steps) - 2:
         return least_s
     return max(least_s, float(np.median(positive_steps)))
-
-
-def _binned_medians(columns: list[np.ndarray], k: np.ndarray, counts: np.ndarray,
-                    where: np.ndarray | None = None) -> list[np.ndarray]:
-    """Median of each column in each bin of ``k`` (sorted; ``counts`` its bincount), NaN ignored.
-
-    As pandas' ``groupby(k).median().reindex(range(len(counts)))``, bit for bit:
-    NaN for a bin without a value, the middle pair averaged as (a + b) / 2.  The
-    bins of each sample count are stacked as rows, one block per count (a
-    steady logging rate gives one or two).  With ``where``, only those bins
-    (NaN at the others).
-    """
-    starts = np.concatenate(([0], np.cumsum(counts)[:-1]))
-    out = [np.full(len(counts), np.nan) for _ in columns]
-    used = counts > 0 if where is None else (counts > 0) & where
-    for count in np.unique(counts[used]).tolist():
-        bins = np.flatnonzero(used & (counts == count))
-        rows = starts[bins][:, None] + np.arange(count)
-        for column, medians in zip(columns, out, strict=True):
-            medians[bins] = trim_points._row_median(column[rows])
-    return out
-
-
-def _centred(values: np.ndarray, window: int) -> np.ndarray:
-    """Each centred window of ``window`` (odd) values, one a row, NaN beyond the ends."""
-    pad = np.full(window // 2, np.nan)
-    return np.ascontiguousarray(sliding_window_view(np.concatenate((pad, values, pad)), window))
 
 
 def _rolling_low_high(values: np.ndarray, window: int,

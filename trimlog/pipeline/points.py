@@ -531,19 +531,38 @@ def _smoothed_bins(
     if np.isinf(columns).any():  # pandas' running median takes infinity for its end marker
         binned = samples[names].groupby(k).median().reindex(range(n_bins))
         return binned.rolling(smooth_bins, center=True, min_periods=1).median()
-    gappy = np.isnan(columns)
-    starts = np.searchsorted(k, np.arange(n_bins + 1))
-    binned = _stretch_medians(columns, starts, np.unique(k[gappy.any(axis=0)]))
-    h = smooth_bins // 2
-    padded = np.full((len(names), n_bins + 2 * h), np.nan)
+    smooth = running_median(bin_medians(columns, k, n_bins), smooth_bins)
+    return pd.DataFrame(dict(zip(names, smooth, strict=True)), columns=names)
+
+
+def running_median(binned: np.ndarray, window: int) -> np.ndarray:
+    """Centred running median of each row over ``window`` (odd) places, NaN left out.
+
+    As pandas' ``rolling(window, center=True, min_periods=1).median()`` of each
+    row (no infinities; the sign of a zero may differ, see :func:`_smoothed_bins`).
+    Shared with the maneuvering search (:mod:`trimlog.pipeline.maneuvers`).
+    """
+    h = window // 2
+    n_bins = binned.shape[1]
+    padded = np.full((len(binned), n_bins + 2 * h), np.nan)
     padded[:, h : h + n_bins] = binned
-    windows = np.sort(np.lib.stride_tricks.sliding_window_view(padded, smooth_bins, axis=1), axis=2)
+    windows = np.sort(np.lib.stride_tricks.sliding_window_view(padded, window, axis=1), axis=2)
     smooth = windows[:, :, h].copy()  # windows without NaN: the middle one
     holes = np.isnan(padded).any(axis=0).astype(np.int64)
-    touched = np.convolve(holes, np.ones(smooth_bins, dtype=np.int64), mode="valid") > 0
+    touched = np.convolve(holes, np.ones(window, dtype=np.int64), mode="valid") > 0
     if touched.any():
         smooth[:, touched] = _middle(windows[:, touched])
-    return pd.DataFrame(dict(zip(names, smooth, strict=True)), columns=names)
+    return smooth
+
+
+def bin_medians(columns: np.ndarray, k: np.ndarray, n_bins: int) -> np.ndarray:
+    """Median of each row of ``columns`` in each time bin ``k`` (sorted), NaN left out.
+
+    As pandas' ``groupby(k).median().reindex(range(n_bins))`` of each row (no
+    infinities); shared with the maneuvering search.
+    """
+    starts = np.searchsorted(k, np.arange(n_bins + 1))
+    return _stretch_medians(columns, starts, np.unique(k[np.isnan(columns).any(axis=0)]))
 
 
 def _stretch_medians(columns: np.ndarray, starts: np.ndarray, gappy: np.ndarray) -> np.ndarray:
