@@ -181,3 +181,33 @@ def test_analyze_path_imports_neither_plotting_nor_the_dashboard(tmp_path):
                             check=True)
     assert result.stdout.split()[1:] == ["[]"], result.stdout
     assert out.exists()
+
+
+def test_the_console_script_leaves_the_end_of_the_process_to_the_system(tmp_path):
+    # trimlog.cli.command: main's status, then the collector frozen so that Python does
+    # not search every object of a finished command for cycles before the process ends;
+    # the report it wrote is complete (a whole PDF, ending in %%EOF)
+    out = tmp_path / "r.pdf"
+    code = (
+        "import gc, sys; from trimlog import cli; "
+        f"sys.argv = ['trimlog', 'report', *{LOGS!r}, '--aircraft', {PROFILE!r}, "
+        f"'-o', {str(out)!r}]; "
+        "rc = cli.command(); "
+        "print(rc, gc.isenabled(), gc.get_freeze_count() > 0)"
+    )
+    result = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                            check=True)
+    assert result.stdout.split()[-3:] == [str(EXIT_OK), "False", "True"], result.stdout
+    assert out.read_bytes().rstrip().endswith(b"%%EOF")
+    # in-process callers of main keep their collector
+    assert main(["demo", str(tmp_path / "demo")]) == EXIT_OK
+    import gc
+
+    assert gc.isenabled()
+
+
+def test_the_installed_script_is_the_console_entry_point():
+    import tomllib
+
+    project = tomllib.loads((SAMPLES.parent / "pyproject.toml").read_text(encoding="utf-8"))
+    assert project["project"]["scripts"] == {"trimlog": "trimlog.cli:command"}

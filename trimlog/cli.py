@@ -51,6 +51,26 @@ def main(argv: Sequence[str] | None = None) -> int:
         return _internal_error(exc)
 
 
+def command() -> int:
+    """The ``trimlog`` console script: :func:`main` on ``sys.argv``, then a quick exit.
+
+    When a command is done the process ends, and everything it made goes
+    with it.  Python would first search all of it for reference cycles to
+    free (0.2 s after an analysis, 0.6 s after a report with its figures,
+    measured on the demo); :func:`gc.freeze` leaves those objects to the
+    operating system instead.  Files are closed, databases committed and
+    ``atexit`` handlers run before this as before, so nothing written is
+    lost.  Only for the console script: a caller of :func:`main` keeps its
+    collector.
+    """
+    import gc
+
+    status = main()
+    gc.disable()
+    gc.freeze()
+    return status
+
+
 def _print(*parts: object, file: TextIO | None = None, flush: bool = False,
            colour: bool = False) -> None:
     """Print without control characters or escape sequences from the user's files."""
@@ -929,4 +949,4 @@ def _use_color() -> bool:
 
 
 if __name__ == "__main__":
-    raise SystemExit(main())
+    raise SystemExit(command())
