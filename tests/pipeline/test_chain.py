@@ -7,6 +7,7 @@ end.  Published checks of each step live in the module tests.
 
 import json
 
+import pandas as pd
 import pytest
 
 from trimlog.demo.model import DEMO_TRUTH
@@ -174,3 +175,27 @@ def test_one_file_stem_rule_names_the_flight_and_finds_its_loading_sheet(tmp_pat
     sheet.write_text("", encoding="utf-8")
     assert analysis.sibling_sheet(log) == sheet
     assert file_stem(log) == file_stem(sheet) == "flight"
+
+
+def test_a_prepared_programme_gives_the_analysis_of_each_choice(flights, demo_profile):
+    # analyze = prepare + analyze_prepared; one preparation serves choice after choice
+    # (the dashboard's tick boxes) and is left as it was
+    prepared = analysis.prepare(flights, demo_profile)
+    trim = prepared.reduced.points.copy()
+    turns = prepared.maneuver_points.copy()
+    assert len(turns), "the demo has maneuvering points"
+    first_turn = (str(turns["flight"].iloc[0]), int(turns["point"].iloc[0]))
+    choices = [{}, {"exclusions": [("flight3", 4)]},
+               {"exclusions": [("flight3", 4), ("flight2", 1)], "inclusions": []},
+               {"maneuver_exclusions": [first_turn]},
+               {"exclusions": [("flight4", 2)],
+                "exclusion_reasons": {("flight4", 2): "turbulence"}}]
+    for chosen in choices:
+        expected = analysis_to_dict(analysis.analyze(flights, demo_profile, **chosen))
+        got = analysis_to_dict(analysis.analyze_prepared(prepared, **chosen))
+        assert json.dumps(got, sort_keys=True, default=str) == json.dumps(
+            expected, sort_keys=True, default=str), chosen
+    pd.testing.assert_frame_equal(prepared.reduced.points, trim)
+    pd.testing.assert_frame_equal(prepared.maneuver_points, turns)
+    with pytest.raises(InputFileError, match="no such point"):
+        analysis.analyze_prepared(prepared, exclusions=[("flight3", 99)])

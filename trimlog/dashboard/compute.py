@@ -73,6 +73,13 @@ def flights_of(inputs: Inputs) -> list[FlightData]:
     return out
 
 
+@st.cache_resource(max_entries=8, show_spinner=False)
+def _prepared(data_key: str, _inputs: Inputs) -> analysis.PreparedFlights:
+    """The inputs' flights ordered and reduced, whatever points are chosen (by ``data_key``)."""
+    return analysis.prepare(flights_of(_inputs),
+                            profile(_inputs.profile_text, _inputs.profile_source))
+
+
 @st.cache_resource(max_entries=16, show_spinner="Fitting the trim lines...", hash_funcs=_HASH)
 def run_analysis(inputs: Inputs) -> Analysis:
     """The analysis of the inputs.
@@ -92,10 +99,11 @@ def run_analysis(inputs: Inputs) -> Analysis:
                 exclusions=inputs.exclusions, inclusions=inputs.inclusions,
                 min_hold_s=inputs.min_hold_s, drop_unknown_choices=True,
                 exclusion_reasons=reasons)
-    return analysis.analyze(flights, profile(inputs.profile_text, inputs.profile_source),
-                            exclusions=[e for e in inputs.exclusions if e in present],
-                            inclusions=[i for i in inputs.inclusions if i in present],
-                            exclusion_reasons=reasons)
+    # a new choice of points on the same files reuses their reduction (a tick box)
+    return analysis.analyze_prepared(_prepared(inputs.data_key, inputs),
+                                     exclusions=[e for e in inputs.exclusions if e in present],
+                                     inclusions=[i for i in inputs.inclusions if i in present],
+                                     exclusion_reasons=reasons)
 
 
 #: Keys of the inputs whose analysis this server process has computed (and caches).

@@ -58,16 +58,23 @@ class Inputs:
     exclusion_reasons: tuple[tuple[str, int, str], ...] = ()
 
     @property
-    def key(self) -> str:
-        """Digest of every input."""
+    def data_key(self) -> str:
+        """Digest of the profile, the minimum hold and the files: not the choices of points."""
         h = hashlib.sha256()
-        for part in (self.profile_text, self.profile_source, repr(self.min_hold_s),
-                     repr(self.exclusions), repr(self.inclusions), repr(self.programme),
-                     repr(self.exclusion_reasons)):
+        for part in (self.profile_text, self.profile_source, repr(self.min_hold_s)):
             h.update(part.encode("utf-8") + b"\0")
         for log, sheet in self.logs:
             h.update(f"{log.name}\0{log.digest}\0".encode())
             h.update(b"-" if sheet is None else f"{sheet.name}\0{sheet.digest}".encode())
+        return h.hexdigest()
+
+    @property
+    def key(self) -> str:
+        """Digest of every input."""
+        h = hashlib.sha256(self.data_key.encode("ascii"))
+        for part in (repr(self.exclusions), repr(self.inclusions), repr(self.programme),
+                     repr(self.exclusion_reasons)):
+            h.update(part.encode("utf-8") + b"\0")
         return h.hexdigest()
 
 

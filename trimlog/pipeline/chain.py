@@ -12,6 +12,7 @@ read that one object, so they cannot disagree.
 from __future__ import annotations
 
 import dataclasses
+import functools
 import hashlib
 import math
 from collections.abc import Iterable, Mapping, Sequence
@@ -34,7 +35,7 @@ from trimlog.input.profile import load_profile as load_profile
 from trimlog.pipeline import ordering
 from trimlog.pipeline.maneuvers import maneuvers_from_log
 from trimlog.pipeline.points import PointSettings, points_from_log
-from trimlog.pipeline.reduction import reduce_points
+from trimlog.pipeline.reduction import ReducedPoints, reduce_points
 from trimlog.progress import SILENT, Progress
 from trimlog.stability import maneuver, margins
 from trimlog.stability import neutral_points as stability
@@ -77,9 +78,16 @@ class FlightData:
     maneuvers: pd.DataFrame | None = None
 
     def maneuvering_points(self) -> pd.DataFrame:
-        """The maneuvering points of this flight (found from the log when not given)."""
+        """The maneuvering points of this flight (found from the log when not given).
+
+        Found once per FlightData and kept; the table is shared: read it, or copy it.
+        """
         if self.maneuvers is not None:
             return self.maneuvers
+        return self._found_maneuvers
+
+    @functools.cached_property
+    def _found_maneuvers(self) -> pd.DataFrame:
         found = maneuvers_from_log(self.log, flight=self.flight)
         found = found.loc[found["flight"].astype(str) == self.flight].reset_index(drop=True)
         found["source"] = self.source
@@ -317,6 +325,85 @@ def sibling_sheet(path: Path) -> Path | None:
 # --------------------------------------------------------------------------- analysis
 
 
+@dataclass(frozen=True, eq=False)
+class PreparedFlights:
+    """The part of an analysis that no choice of points changes.
+
+    The flights in the order flown, their stabilized points reduced (EAS,
+    CL, Fs/q, CG) and their maneuvering points found and reduced, from
+    :func:`prepare`.  :func:`analyze_prepared` takes it with the user's
+    choices of points; a caller that tries choice after choice on the same
+    flights (the dashboard's tick boxes) prepares them once.  Its tables are
+    not changed by an analysis (each works on a copy).
+
+    Attributes
+    ----------
+    profile : AircraftProfile
+    flights : tuple of FlightData
+        In the order flown.
+    order_findings : tuple of Finding
+        What ordering the flights by date found.
+    reduced : ReducedPoints
+        The stabilized points of every flight, before any choice.
+    loadings : mapping of str to LoadingSheet
+        Each flight's loading sheet, by flight.
+    maneuver_points : DataFrame or None
+        The maneuvering points, reduced and marked off speed
+        (:func:`trimlog.stability.maneuver.mark_off_speed`); None without any.
+    """
+
+    profile: AircraftProfile
+    flights: tuple[FlightData, ...]
+    order_findings: tuple[Finding, ...]
+    reduced: ReducedPoints
+    loadings: Mapping[str, LoadingSheet]
+    maneuver_points: pd.DataFrame | None
+
+
+def prepare(flights: Sequence[FlightData], profile: AircraftProfile, *,
+            progress: Progress = SILENT) -> PreparedFlights:
+    """Order the flights and reduce their points: what :func:`analyze` does before any choice.
+
+    Parameters
+    ----------
+    flights : sequence of FlightData
+        As for :func:`analyze`.
+    profile : AircraftProfile
+    progress : trimlog.progress.Progress, optional
+        Told when the fits' stage begins.
+
+    Returns
+    -------
+    PreparedFlights
+
+    Raises
+    ------
+    InputFileError
+        No points at all, two files giving the same flight, or a loading
+        problem found by the reduction.
+    """
+    if not flights:
+        raise InputFileError("no flights given: expected at least one log or point table")
+    _check_unique(flights)
+    ordered, order_findings = ordering.order_by_date(flights)
+    progress.step("fits")
+    frames = [f.points for f in ordered if len(f.points)]
+    if not frames:
+        names = ", ".join(sorted({f.source for f in ordered}))
+        raise InputFileError(
+            "no stabilized points were found: check the logs, or shorten the minimum hold",
+            file=names,
+        )
+    points = pd.concat(frames, ignore_index=True)
+    points["flight"] = points["flight"].astype(str)
+    loadings = {f.flight: f.loading for f in ordered if f.loading is not None}
+    return PreparedFlights(
+        profile=profile, flights=tuple(ordered), order_findings=tuple(order_findings),
+        reduced=reduce_points(points, profile, loadings), loadings=loadings,
+        maneuver_points=_reduced_maneuvers([f.maneuvering_points() for f in ordered],
+                                           profile, loadings))
+
+
 def analyze(
     flights: Sequence[FlightData],
     profile: AircraftProfile,
@@ -329,6 +416,8 @@ def analyze(
     exclusion_reasons: Mapping[tuple[str, int], str] | None = None,
 ) -> Analysis:
     """Analyse a set of flights of one aircraft together.
+
+    :func:`prepare`, then :func:`analyze_prepared` with the choices.
 
     Parameters
     ----------
@@ -362,32 +451,42 @@ def analyze(
         No points at all, two files giving the same flight, an exclusion that
         names no point, or a loading problem found by the reduction.
     """
-    if not flights:
-        raise InputFileError("no flights given: expected at least one log or point table")
-    _check_unique(flights)
-    flights, order_findings = ordering.order_by_date(flights)
-    progress.step("fits")
-    frames = [f.points for f in flights if len(f.points)]
-    if not frames:
-        names = ", ".join(sorted({f.source for f in flights}))
-        raise InputFileError(
-            "no stabilized points were found: check the logs, or shorten the minimum hold",
-            file=names,
-        )
-    points = pd.concat(frames, ignore_index=True)
-    points["flight"] = points["flight"].astype(str)
-    loadings = {f.flight: f.loading for f in flights if f.loading is not None}
-    reduced = reduce_points(points, profile, loadings)
-    table = reduced.points
+    return analyze_prepared(
+        prepare(flights, profile, progress=progress), exclusions=exclusions,
+        inclusions=inclusions, maneuver_exclusions=maneuver_exclusions,
+        maneuver_inclusions=maneuver_inclusions, exclusion_reasons=exclusion_reasons)
+
+
+def analyze_prepared(
+    prepared: PreparedFlights,
+    *,
+    exclusions: Iterable[tuple[str, int]] = (),
+    inclusions: Iterable[tuple[str, int]] = (),
+    maneuver_exclusions: Iterable[tuple[str, int]] = (),
+    maneuver_inclusions: Iterable[tuple[str, int]] = (),
+    exclusion_reasons: Mapping[tuple[str, int], str] | None = None,
+) -> Analysis:
+    """:func:`analyze` of flights already prepared, with these choices of points.
+
+    The parameters after ``prepared`` are :func:`analyze`'s; ``prepared``
+    is not changed.
+
+    Raises
+    ------
+    InputFileError
+        A choice or a reason that names no point.
+    """
+    profile, flights = prepared.profile, prepared.flights
+    table = prepared.reduced.points.copy()
     _set_included(table, exclusions, False)
     _set_included(table, inclusions, True)
     set_exclusion_reasons(table, exclusion_reasons or {})
 
     found: list[Finding] = list(profile_findings(profile.tau, profile.elevator_chord_ratio,
                                                  profile.source))
-    found += order_findings
+    found += prepared.order_findings
     found += _reading_findings(flights)
-    found += reduced.findings
+    found += prepared.reduced.findings
     at_stop = _points_at_a_stop(table)
     found += _stop_findings(at_stop)
 
@@ -409,8 +508,11 @@ def analyze(
         found += [f.about(config=r.config) for f in light_stick_force(r.stability.gradients)]
     measured = primary.stability.stick_fixed.neutral_point.pct_mac
     tail = tailgeometry.check_tail_geometry(profile, measured_neutral_point_pct_mac=measured)
-    maneuvering = _analyze_maneuvers(flights, profile, loadings, primary,
-                                     maneuver_exclusions, maneuver_inclusions)
+    s = primary.stability
+    maneuvering = _maneuvers_chosen(
+        prepared.maneuver_points, profile, neutral_fixed=s.stick_fixed.neutral_point,
+        neutral_free=s.stick_free.neutral_point if s.stick_free is not None else None,
+        exclusions=maneuver_exclusions, inclusions=maneuver_inclusions)
     if maneuvering is not None:
         primary = _with_maneuver_limits(primary, maneuvering, profile)
         # typed by the analysis: a light or lightening stick force per g is a warning
@@ -462,22 +564,6 @@ def with_maneuver_limits(step: NextStep, maneuvering: maneuver.ManeuverResult | 
     if maneuvering is None:
         return step
     return tighten_next_step(step, maneuvering.next_step_limits(), profile.station)
-
-
-def _analyze_maneuvers(
-    flights: Sequence[FlightData],
-    profile: AircraftProfile,
-    loadings: dict[str, LoadingSheet],
-    primary: ConfigurationResult,
-    exclusions: Iterable[tuple[str, int]],
-    inclusions: Iterable[tuple[str, int]],
-) -> maneuver.ManeuverResult | None:
-    """Reduce the maneuvering points of every flight and analyse them (None without any)."""
-    s = primary.stability
-    free = s.stick_free.neutral_point if s.stick_free is not None else None
-    return analyze_maneuvers(flights, profile, loadings=loadings,
-                             neutral_fixed=s.stick_fixed.neutral_point, neutral_free=free,
-                             exclusions=exclusions, inclusions=inclusions)
 
 
 def analyze_maneuvers(
@@ -534,15 +620,38 @@ def analyze_maneuver_points(
 
     For callers that keep the points found (the history) and need not read a log again.
     """
+    return _maneuvers_chosen(_reduced_maneuvers(found, profile, loadings), profile,
+                             neutral_fixed=neutral_fixed, neutral_free=neutral_free,
+                             exclusions=exclusions, inclusions=inclusions)
+
+
+def _reduced_maneuvers(found: Sequence[pd.DataFrame], profile: AircraftProfile,
+                       loadings: Mapping[str, LoadingSheet]) -> pd.DataFrame | None:
+    """The maneuvering points of every flight reduced and marked off speed (None: none)."""
     frames = [m for m in found if len(m)]
-    exclusions, inclusions = list(exclusions), list(inclusions)
     if not frames:
-        if exclusions or inclusions:
-            raise InputFileError("cannot choose maneuvering points: none was found")
         return None
     points = pd.concat(frames, ignore_index=True)
     points["flight"] = points["flight"].astype(str)
-    table = maneuver.mark_off_speed(reduce_points(points, profile, loadings).points)
+    return maneuver.mark_off_speed(reduce_points(points, profile, loadings).points)
+
+
+def _maneuvers_chosen(
+    reduced: pd.DataFrame | None,
+    profile: AircraftProfile,
+    *,
+    neutral_fixed: NeutralPoint | None,
+    neutral_free: NeutralPoint | None,
+    exclusions: Iterable[tuple[str, int]],
+    inclusions: Iterable[tuple[str, int]],
+) -> maneuver.ManeuverResult | None:
+    """The maneuvering analysis of reduced points (not changed) with the user's choices."""
+    exclusions, inclusions = list(exclusions), list(inclusions)
+    if reduced is None:
+        if exclusions or inclusions:
+            raise InputFileError("cannot choose maneuvering points: none was found")
+        return None
+    table = reduced.copy()
     _set_included(table, exclusions, False)
     _set_included(table, inclusions, True)
     return maneuver.analyze_maneuvering(table, profile, neutral_fixed=neutral_fixed,
