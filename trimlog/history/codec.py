@@ -330,27 +330,36 @@ def decode_points(
     schemas: Mapping[int, list[list[str]]], rows: list[tuple], with_flight_id: bool
 ) -> pd.DataFrame:
     """Build a Points DataFrame from stored rows ``(flight_id, point, included, values_json)``."""
+    # Most flights share one schema: each distinct one is looked at once, in first-seen order.
+    distinct: dict[tuple[tuple[str, str], ...], None] = {}
+    key_of = {}
+    for fid, schema in schemas.items():
+        key_of[fid] = key = tuple((str(n), str(d)) for n, d in schema)
+        distinct.setdefault(key, None)
     union: dict[str, set[str]] = {}
-    for schema in schemas.values():
-        for name, dtype in schema:
+    for key in distinct:
+        for name, dtype in key:
             union.setdefault(name, set()).add(dtype)
     names = [n for n in union if n not in _FIXED_POINT_COLUMNS]
-    # For each flight, where each column of the union sits in its stored values (None: absent).
-    slots = {}
-    for fid, schema in schemas.items():
-        own = {n: i for i, n in enumerate(n for n, _ in schema if n not in _FIXED_POINT_COLUMNS)}
-        slots[fid] = [own.get(n) for n in names]
+    # For each schema, where each column of the union sits in its stored values (None:
+    # absent); None for a schema that holds the union's columns in the union's order.
     identity = list(range(len(names)))
+    placed = {}
+    for key in distinct:
+        own = {n: i for i, n in enumerate(n for n, _ in key if n not in _FIXED_POINT_COLUMNS)}
+        where = [own.get(n) for n in names]
+        placed[key] = None if where == identity else where
+    slots = {fid: placed[key] for fid, key in key_of.items()}
     values = json.loads("[" + ",".join(r[3] for r in rows) + "]")
     padded = [
-        v if slots[r[0]] == identity else [None if i is None else v[i] for i in slots[r[0]]]
+        v if (where := slots[r[0]]) is None else [None if i is None else v[i] for i in where]
         for r, v in zip(rows, values, strict=True)
     ]
     columns = dict(zip(names, zip(*padded, strict=True) if padded else [()] * len(names),
                        strict=True))
     columns["point"] = [r[1] for r in rows]
     columns["included"] = [bool(r[2]) for r in rows]
-    own_names = [{n for n, _ in s} for s in schemas.values()]
+    own_names = [{n for n, _ in key} for key in distinct]
     data = {"flight_id": pd.Series([r[0] for r in rows], dtype="int64")} if with_flight_id else {}
     for name, dtypes in union.items():
         missing = any(name not in o for o in own_names)

@@ -93,7 +93,10 @@ class _WithinSums:
 
     @staticmethod
     def _raw(y: np.ndarray, x: np.ndarray) -> np.ndarray:
-        z = np.column_stack([np.ones(len(y)), x, y])
+        z = np.empty((len(y), 4))  # (1, CL, h*CL, y), filled in place: called per flight
+        z[:, 0] = 1.0
+        z[:, 1:3] = x
+        z[:, 3] = y
         return z.T @ z
 
     @staticmethod
@@ -101,12 +104,16 @@ class _WithinSums:
         return m - np.outer(m[0], m[0]) / m[0, 0]
 
     def add_open(self, groups: np.ndarray, y: np.ndarray, x: np.ndarray) -> None:
-        for g in dict.fromkeys(groups):
-            mask = groups == g
+        one = len(groups) and bool((groups == groups[0]).all())  # a flight at one setting
+        for g in (groups[:1] if one else dict.fromkeys(groups)):
             if g not in self.open:
                 self.open[g] = np.zeros((4, 4))
                 self.n_groups += 1
-            self.open[g] += self._raw(y[mask], x[mask])
+            if one:
+                self.open[g] += self._raw(y, x)
+            else:
+                mask = groups == g
+                self.open[g] += self._raw(y[mask], x[mask])
         self.n += len(y)
 
     def add_closed(self, y: np.ndarray, x: np.ndarray) -> None:
