@@ -48,6 +48,7 @@ SUBPROCESS_ALLOWED = {
     ("benchmarks/bench.py", "_peak_rss"),  # python -c <benchmark code>
     ("benchmarks/bench.py", "bench_report"),  # trimlog demo / analyze / report, timed
     ("benchmarks/bench.py", "bench_browser"),  # streamlit run, for the first-page time
+    ("benchmarks/bench.py", "process_env"),  # python -m compileall of trimlog's own folder
 }
 FORBIDDEN_MODULES = {"pickle", "cPickle", "dill", "shelve", "marshal", "yaml", "toml", "tomli",
                      "cloudpickle", "joblib"}
