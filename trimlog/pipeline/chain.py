@@ -345,8 +345,6 @@ class PreparedFlights:
         What ordering the flights by date found.
     reduced : ReducedPoints
         The stabilized points of every flight, before any choice.
-    loadings : mapping of str to LoadingSheet
-        Each flight's loading sheet, by flight.
     maneuver_points : DataFrame or None
         The maneuvering points, reduced and marked off speed
         (:func:`trimlog.stability.maneuver.mark_off_speed`); None without any.
@@ -356,7 +354,6 @@ class PreparedFlights:
     flights: tuple[FlightData, ...]
     order_findings: tuple[Finding, ...]
     reduced: ReducedPoints
-    loadings: Mapping[str, LoadingSheet]
     maneuver_points: pd.DataFrame | None
 
 
@@ -399,7 +396,7 @@ def prepare(flights: Sequence[FlightData], profile: AircraftProfile, *,
     loadings = {f.flight: f.loading for f in ordered if f.loading is not None}
     return PreparedFlights(
         profile=profile, flights=tuple(ordered), order_findings=tuple(order_findings),
-        reduced=reduce_points(points, profile, loadings), loadings=loadings,
+        reduced=reduce_points(points, profile, loadings),
         maneuver_points=_reduced_maneuvers([f.maneuvering_points() for f in ordered],
                                            profile, loadings))
 
@@ -519,7 +516,7 @@ def analyze_prepared(
         found += list(maneuvering.findings)
     return Analysis(
         profile=profile,
-        flights=tuple(flights),
+        flights=flights,
         points=table,
         primary=primary,
         others=others,
@@ -552,7 +549,7 @@ def with_maneuver_limits(step: NextStep, maneuvering: maneuver.ManeuverResult | 
     step : NextStep
         From the neutral-point rule.
     maneuvering : ManeuverResult or None
-        From :func:`analyze_maneuvers`; None leaves the step as it is.
+        From :func:`analyze_maneuver_points` (or an analysis); None leaves the step as it is.
     profile : AircraftProfile
         For the station of the new limit.
 
@@ -566,24 +563,28 @@ def with_maneuver_limits(step: NextStep, maneuvering: maneuver.ManeuverResult | 
     return tighten_next_step(step, maneuvering.next_step_limits(), profile.station)
 
 
-def analyze_maneuvers(
-    flights: Sequence[FlightData],
+def analyze_maneuver_points(
+    found: Sequence[pd.DataFrame],
     profile: AircraftProfile,
     *,
-    loadings: dict[str, LoadingSheet] | None = None,
+    loadings: dict[str, LoadingSheet],
     neutral_fixed: NeutralPoint | None = None,
     neutral_free: NeutralPoint | None = None,
     exclusions: Iterable[tuple[str, int]] = (),
     inclusions: Iterable[tuple[str, int]] = (),
 ) -> maneuver.ManeuverResult | None:
-    """The maneuvering analysis of a set of flights (None when none has a maneuvering point).
+    """The maneuvering analysis of points already found (None when there are none).
+
+    For callers that keep the points found (the history) and need not read a
+    log again; :func:`analyze` takes them from :func:`prepare`.
 
     Parameters
     ----------
-    flights : sequence of FlightData
+    found : sequence of DataFrame
+        Each flight's maneuvering points (:meth:`FlightData.maneuvering_points`).
     profile : AircraftProfile
-    loadings : dict of str to LoadingSheet, optional
-        Each flight's loading sheet (default: the flights' own).
+    loadings : dict of str to LoadingSheet
+        Each flight's loading sheet.
     neutral_fixed, neutral_free : NeutralPoint, optional
         The neutral points, for hm - hn only (the limits do not use them).
     exclusions, inclusions : iterable of (flight, point)
@@ -597,28 +598,6 @@ def analyze_maneuvers(
     ------
     InputFileError
         A choice names no maneuvering point.
-    """
-    if loadings is None:
-        loadings = {f.flight: f.loading for f in flights if f.loading is not None}
-    return analyze_maneuver_points(
-        [f.maneuvering_points() for f in flights], profile, loadings=loadings,
-        neutral_fixed=neutral_fixed, neutral_free=neutral_free, exclusions=exclusions,
-        inclusions=inclusions)
-
-
-def analyze_maneuver_points(
-    found: Sequence[pd.DataFrame],
-    profile: AircraftProfile,
-    *,
-    loadings: dict[str, LoadingSheet],
-    neutral_fixed: NeutralPoint | None = None,
-    neutral_free: NeutralPoint | None = None,
-    exclusions: Iterable[tuple[str, int]] = (),
-    inclusions: Iterable[tuple[str, int]] = (),
-) -> maneuver.ManeuverResult | None:
-    """:func:`analyze_maneuvers` of maneuvering points already found (one table per flight).
-
-    For callers that keep the points found (the history) and need not read a log again.
     """
     return _maneuvers_chosen(_reduced_maneuvers(found, profile, loadings), profile,
                              neutral_fixed=neutral_fixed, neutral_free=neutral_free,

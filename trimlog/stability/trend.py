@@ -104,17 +104,20 @@ class _WithinSums:
         return m - np.outer(m[0], m[0]) / m[0, 0]
 
     def add_open(self, groups: np.ndarray, y: np.ndarray, x: np.ndarray) -> None:
-        one = len(groups) and bool((groups == groups[0]).all())  # a flight at one setting
-        for g in (groups[:1] if one else dict.fromkeys(groups)):
-            if g not in self.open:
-                self.open[g] = np.zeros((4, 4))
-                self.n_groups += 1
-            if one:
-                self.open[g] += self._raw(y, x)
-            else:
+        if len(groups) and bool((groups == groups[0]).all()):  # a flight at one setting
+            self._open(groups[0])[...] += self._raw(y, x)
+        else:
+            for g in dict.fromkeys(groups):
                 mask = groups == g
-                self.open[g] += self._raw(y[mask], x[mask])
+                self._open(g)[...] += self._raw(y[mask], x[mask])
         self.n += len(y)
+
+    def _open(self, group: str) -> np.ndarray:
+        """The raw sums of a group that can grow (new: zeros, and one more group)."""
+        if group not in self.open:
+            self.open[group] = np.zeros((4, 4))
+            self.n_groups += 1
+        return self.open[group]
 
     def add_closed(self, y: np.ndarray, x: np.ndarray) -> None:
         self.closed += self._demeaned(self._raw(y, x))
