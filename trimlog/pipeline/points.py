@@ -854,19 +854,25 @@ def _robust_stats(
     n_rows, n = rows.shape
     if n == 0:
         return _robust_stats_general(rows, spike_sigma)
-    ordered = np.sort(rows, axis=1)  # NaN last
-    count = n - np.isnan(ordered).sum(axis=1)
-    at = np.arange(n_rows)
-    last = np.maximum(count - 1, 0)
-    if (np.abs(ordered[:, 0]) >= 1e307).any() or (np.abs(ordered[at, last]) >= 1e307).any():
-        return _robust_stats_general(rows, spike_sigma)
-    low, high = np.maximum((count - 1) // 2, 0), count // 2
-    # as _row_median: (a + b) / 2 of the middle two, the middle one alone when odd
-    median = 0.5 * (ordered[at, low] + ordered[at, high])  # NaN without values
-    deviation = np.sort(np.abs(ordered - median[:, None]), axis=1)
-    sigma = _MAD_TO_SIGMA * (0.5 * (deviation[at, low] + deviation[at, high]))
-    widest = deviation[at, last]
-    gaps = np.isnan(rows) if (count < n).any() else None
+    gaps = np.isnan(rows)
+    if not gaps.any():
+        median, sigma, widest, count = _middle_and_spread(rows)
+        if median is None:
+            return _robust_stats_general(rows, spike_sigma)
+        gaps = None
+    else:
+        ordered = np.sort(rows, axis=1)  # NaN last
+        count = n - gaps.sum(axis=1)
+        at = np.arange(n_rows)
+        last = np.maximum(count - 1, 0)
+        if (np.abs(ordered[:, 0]) >= 1e307).any() or (np.abs(ordered[at, last]) >= 1e307).any():
+            return _robust_stats_general(rows, spike_sigma)
+        low, high = np.maximum((count - 1) // 2, 0), count // 2
+        # as _row_median: (a + b) / 2 of the middle two, the middle one alone when odd
+        median = 0.5 * (ordered[at, low] + ordered[at, high])  # NaN without values
+        deviation = np.sort(np.abs(ordered - median[:, None]), axis=1)
+        sigma = _MAD_TO_SIGMA * (0.5 * (deviation[at, low] + deviation[at, high]))
+        widest = deviation[at, last]
     with np.errstate(invalid="ignore", divide="ignore"):
         zero = ~(sigma > 0)
         if zero.any():  # 1.2533 x the mean absolute deviation instead
@@ -889,6 +895,28 @@ def _robust_stats(
         std = np.where(n_kept > 1, np.sqrt(square.sum(axis=1) / (n_kept - 1)), np.nan)
     mean = np.where(n_kept > 0, mean, np.nan)
     return mean, std, count - n_kept, n - count
+
+
+def _middle_and_spread(
+    rows: np.ndarray,
+) -> tuple[np.ndarray | None, np.ndarray, np.ndarray, np.ndarray]:
+    """Median, 1.4826 x MAD, widest deviation and count of rows without NaN.
+
+    The same order statistics as a full sort gives, from two partitions (linear
+    rather than n log n in the window's length); ``(None, ...)`` for rows with
+    infinities or values beyond 1e307, which need :func:`_robust_stats_general`.
+    """
+    n_rows, n = rows.shape
+    if max(-rows.min(), rows.max()) >= 1e307:  # NaN-free, so both are numbers
+        return None, rows[:, 0], rows[:, 0], np.full(n_rows, n)
+    low, high = (n - 1) // 2, n // 2
+    part = np.partition(rows, (low, high), axis=1)
+    median = 0.5 * (part[:, low] + part[:, high])
+    deviation = np.abs(rows - median[:, None])
+    widest = deviation.max(axis=1)
+    part = np.partition(deviation, (low, high), axis=1)
+    sigma = _MAD_TO_SIGMA * (0.5 * (part[:, low] + part[:, high]))
+    return median, sigma, widest, np.full(n_rows, n)
 
 
 def _robust_stats_general(
