@@ -777,9 +777,11 @@ def bench_dashboard(run: _Run) -> None:
     # Importing the cached functions and clearing the caches between uploads, outside a
     # script run, log "missing ScriptRunContext" and "No runtime found" (harmless,
     # Streamlit says): not part of the figures.
+    # Streamlit sets its loggers' levels again when a script runs: a filter stays.
     for name in ("streamlit.runtime.scriptrunner_utils.script_run_context",
-                 "streamlit.runtime.caching"):
-        logging.getLogger(name).setLevel(logging.ERROR)
+                 "streamlit.runtime.caching", "streamlit.runtime.caching.cache_data_api",
+                 "streamlit.runtime.caching.cache_resource_api"):
+        logging.getLogger(name).addFilter(lambda record: record.levelno >= logging.ERROR)
     from trimlog.dashboard import compute  # after the loggers are quieted
     from trimlog.dashboard.session import FileBytes
 
