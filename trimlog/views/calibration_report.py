@@ -228,6 +228,6 @@ def write_calibration_report(result: CalibrationResult, path: str | os.PathLike[
         data = _render_html(blocks, title, footer).encode("utf-8")
         write_atomically(path, data, what="report")
     else:
-        pages = render_pdf(blocks, footer, defer=True)
+        pages = render_pdf(blocks, footer)
         write_atomically(path, lambda fh: save_pdf(pages, fh, title), what="report")
     return path

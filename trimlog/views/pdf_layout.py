@@ -14,7 +14,6 @@ import contextlib
 import io
 import logging
 import os
-import select
 import signal
 import tempfile
 import textwrap
@@ -99,33 +98,10 @@ def _wrap(text: str, chars: int) -> list[str]:
                          break_long_words=True) or [""]
 
 
-class _Page(Figure):
-    """A letter page; a plot page may keep its plot to be drawn by whichever process writes it.
-
-    A plot has a page of its own and the layout of the rest of the page does
-    not depend on it, so ``pending`` (the plot's ``draw`` and its rectangle)
-    can wait until the page is written.
-    """
-
-    pending: tuple[Callable[[Figure, tuple[float, float, float, float]], Any],
-                   tuple[float, float, float, float]] | None = None
-
-
-def _draw_pending(pages: Sequence[Figure]) -> None:
-    """Draw the plots the pages still keep (each once)."""
-    for page in pages:
-        pending = getattr(page, "pending", None)
-        if pending is not None:
-            page.pending = None
-            draw, rect = pending
-            draw(page, rect)
-
-
 class _PdfLayout:
     """Flows blocks down letter pages, one Figure per page, a new page when one is full."""
 
-    def __init__(self, defer: bool = False) -> None:
-        self.defer = defer
+    def __init__(self) -> None:
         self.pages: list[Figure] = []
         self.fig: Figure | None = None
         self.y = 0.0
@@ -136,7 +112,7 @@ class _PdfLayout:
 
     # ---- primitives (points measured from the page's top-left corner)
     def _new_page(self) -> None:
-        self.fig = _Page(figsize=PAGE_IN)
+        self.fig = Figure(figsize=PAGE_IN)
         self.pages.append(self.fig)
         self.y = self.top
 
@@ -276,10 +252,7 @@ class _PdfLayout:
         height_in = 7.0 if block.tall else 6.0
         rect = (1.05 / page_w, 1.0 - (top_in + height_in) / page_h,
                 (page_w - 1.05 - 0.55) / page_w, height_in / page_h)
-        if self.defer:
-            self.fig.pending = (block.draw, rect)
-        else:
-            block.draw(self.fig, rect)
+        block.draw(self.fig, rect)
         self.y = (top_in + height_in + 0.95) * PT_PER_IN  # clear of the tick labels
         self._para(Para(block.caption))
         self.fig = None
@@ -302,13 +275,9 @@ def _rule(layout: _PdfLayout, y: float, width: float) -> Line2D:
                   transform=layout.fig.transFigure, color="black", linewidth=0.6)
 
 
-def render_pdf(blocks: Sequence[Any], footer: str, *, defer: bool = False) -> list[Figure]:
-    """Lay out the blocks on letter pages, one Figure per page, each with ``footer``.
-
-    With ``defer`` the plots are drawn only as :func:`save_pdf` writes their
-    pages (in two processes, each draws its own); otherwise here.
-    """
-    layout = _PdfLayout(defer)
+def render_pdf(blocks: Sequence[Any], footer: str) -> list[Figure]:
+    """Lay out the blocks on letter pages, one Figure per page, each with ``footer``."""
+    layout = _PdfLayout()
     for block in blocks:
         layout.add(block)
     layout.footers(footer)
@@ -365,25 +334,20 @@ def save_pdf(pages: Sequence[Figure], fh: IO[bytes], title: str) -> None:
     joined with pypdf; the pages are the same either way.
     """
     metadata = {"Title": title, "Creator": "trimlog"}
+    rc = ({"pdf.use14corefonts": True, "axes.unicode_minus": False}
+          if _core_fonts_suffice(pages) else {"pdf.fonttype": 42})
     font_log = logging.getLogger("matplotlib.font_manager")
     level = font_log.level
     font_log.setLevel(logging.ERROR)  # "no weight 'normal' for Helvetica, using medium"
     try:
-        joined = _in_two_processes(pages, metadata)
-        if joined is not None:
-            fh.write(joined)
-        else:
-            _draw_pending(pages)
-            with rc_context(_font_rc(_core_fonts_suffice(pages))):
+        with rc_context(rc):
+            joined = _in_two_processes(pages, metadata)
+            if joined is not None:
+                fh.write(joined)
+            else:
                 _write_pages(pages, fh, metadata)
     finally:
         font_log.setLevel(level)
-
-
-def _font_rc(core: bool) -> dict[str, Any]:
-    """The matplotlib settings for the PDF core fonts (``core``) or embedded TrueType."""
-    return ({"pdf.use14corefonts": True, "axes.unicode_minus": False} if core
-            else {"pdf.fonttype": 42})
 
 
 def _write_pages(pages: Sequence[Figure], fh: IO[bytes], metadata: dict[str, str]) -> None:
@@ -400,12 +364,10 @@ def _split_at(pages: Sequence[Figure]) -> int:
     """The first page the second process draws: about half the drawing each.
 
     A page with plots costs about four times a page of text per axes
-    (measured on the demo report), a plot still to be drawn about as much as
-    two and a half axes; the first process also joins the parts, so it takes
-    a little less.
+    (measured on the demo report); the first process also joins the parts,
+    so it takes a little less.
     """
-    weights = [1 + 3 * (2.5 if getattr(page, "pending", None) else len(page.axes))
-               for page in pages]
+    weights = [1 + 3 * len(page.axes) for page in pages]
     half, done = 0.47 * sum(weights), 0.0
     for k, weight in enumerate(weights):
         if done + weight > half:
@@ -419,54 +381,32 @@ def _in_two_processes(pages: Sequence[Figure], metadata: dict[str, str]) -> byte
 
     Only where ``os.fork`` exists, two CPUs are free to this process and no
     other thread runs (a fork copies one thread; a lock held by another would
-    stay held in the child): a command-line report, not the dashboard.  Each
-    process draws the plots its pages still keep; the child tells whether its
-    pages' text fits the core fonts and is told the choice for both (one font
-    for the whole report), then draws the later pages into a temporary file
-    and leaves with ``os._exit`` (nothing of the parent's is flushed or
-    cleaned twice; its stderr goes nowhere, so a progress bar is drawn once).
-    Any failure of the child, or of the join, gives None; the plots not yet
-    drawn here are then drawn by the caller and the whole PDF here.
+    stay held in the child): a command-line report, not the dashboard.  The
+    child draws the later pages into a temporary file and leaves with
+    ``os._exit`` (nothing of the parent's is flushed or cleaned twice); any
+    failure of the child, or of the join, gives None and the whole PDF is
+    then drawn here.
     """
     if (len(pages) < MIN_PAGES_TO_SPLIT or not hasattr(os, "fork")
             or threading.active_count() != 1 or _free_cpus() < 2):
         return None
     k = _split_at(pages)
-    to_parent, from_child = os.pipe()[::-1]  # (write end, read end) of each pipe
-    to_child, from_parent = os.pipe()[::-1]
     with tempfile.TemporaryDirectory(prefix="trimlog-pdf-") as folder:
         later = Path(folder) / "later.pdf"
         pid = os.fork()
-        if pid == 0:  # the child: draw, agree the font, write, leave
+        if pid == 0:  # the child: draw, write, leave
             code = 1
             try:
-                os.close(to_child)  # so that a parent gone leaves the read below at EOF
-                os.close(from_child)
-                os.dup2(os.open(os.devnull, os.O_WRONLY), 2)
-                _draw_pending(pages[k:])
-                os.write(to_parent, b"1" if _core_fonts_suffice(pages[k:]) else b"0")
-                choice = os.read(from_parent, 1)
-                if choice in (b"0", b"1"):
-                    with rc_context(_font_rc(choice == b"1")), open(later, "wb") as out:
-                        _write_pages(pages[k:], out, metadata)
-                    code = 0
+                with open(later, "wb") as out:
+                    _write_pages(pages[k:], out, metadata)
+                code = 0
             finally:
                 os._exit(code)
-        os.close(to_parent)
-        os.close(from_parent)
         reaped = False
         try:
             start = time.monotonic()
-            _draw_pending(pages[:k])
-            theirs = _read_flag(from_child, deadline=time.monotonic() + max(
-                CHILD_WAIT_S, 3.0 * (time.monotonic() - start)))
-            if theirs is None:
-                return None
-            core = theirs and _core_fonts_suffice(pages[:k])
-            os.write(to_child, b"1" if core else b"0")
             first = io.BytesIO()
-            with rc_context(_font_rc(core)):
-                _write_pages(pages[:k], first, metadata)
+            _write_pages(pages[:k], first, metadata)
             from pypdf import PdfReader, PdfWriter  # only here: ~0.1 s to import
 
             # A child that hangs is given up (and killed below): the pages are drawn here.
@@ -487,20 +427,10 @@ def _in_two_processes(pages: Sequence[Figure], metadata: dict[str, str]) -> byte
             logging.getLogger(__name__).debug("two-process PDF failed", exc_info=True)
             return None
         finally:
-            for fd in (to_child, from_child):
-                with contextlib.suppress(OSError):
-                    os.close(fd)
             if not reaped:
                 with contextlib.suppress(OSError):
                     os.kill(pid, signal.SIGKILL)
                     os.waitpid(pid, 0)
-
-
-def _read_flag(fd: int, deadline: float) -> bool | None:
-    """The child's b"1" or b"0" as a bool; None if it ends, or says nothing by ``deadline``."""
-    ready, _, _ = select.select([fd], [], [], max(deadline - time.monotonic(), 0.0))
-    flag = os.read(fd, 1) if ready else b""
-    return {b"1": True, b"0": False}.get(flag)
 
 
 #: Least time the forked process is waited for after this one's pages are written [s].

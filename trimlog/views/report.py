@@ -708,7 +708,7 @@ def write_report(analysis: Analysis, path: str | os.PathLike[str], *,
         progress.step("pages", path.name)
         write_atomically(path, data, what="report")
     else:
-        pages = render_pdf(blocks, footer, defer=True)
+        pages = render_pdf(blocks, footer)
         progress.step("pages", f"{len(pages)} pages")
         write_atomically(path, lambda fh: save_pdf(pages, fh, title), what="report")
     return path
