@@ -856,10 +856,11 @@ def _robust_stats(
         return _robust_stats_general(rows, spike_sigma)
     gaps = np.isnan(rows)
     if not gaps.any():
-        median, sigma, widest, count = _middle_and_spread(rows)
-        if median is None:
+        spread = _middle_and_spread(rows)
+        if spread is None:
             return _robust_stats_general(rows, spike_sigma)
-        gaps = None
+        median, sigma, widest = spread
+        count, gaps = np.full(n_rows, n), None
     else:
         ordered = np.sort(rows, axis=1)  # NaN last
         count = n - gaps.sum(axis=1)
@@ -897,26 +898,18 @@ def _robust_stats(
     return mean, std, count - n_kept, n - count
 
 
-def _middle_and_spread(
-    rows: np.ndarray,
-) -> tuple[np.ndarray | None, np.ndarray, np.ndarray, np.ndarray]:
-    """Median, 1.4826 x MAD, widest deviation and count of rows without NaN.
+def _middle_and_spread(rows: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray] | None:
+    """Median, 1.4826 x MAD and widest deviation of rows without NaN.
 
-    The same order statistics as a full sort gives, from two partitions (linear
-    rather than n log n in the window's length); ``(None, ...)`` for rows with
+    :func:`_median_of_finite_rows` of the rows and of their deviations: the
+    same order statistics as a full sort, in linear time.  None for rows with
     infinities or values beyond 1e307, which need :func:`_robust_stats_general`.
     """
-    n_rows, n = rows.shape
     if max(-rows.min(), rows.max()) >= 1e307:  # NaN-free, so both are numbers
-        return None, rows[:, 0], rows[:, 0], np.full(n_rows, n)
-    low, high = (n - 1) // 2, n // 2
-    part = np.partition(rows, (low, high), axis=1)
-    median = 0.5 * (part[:, low] + part[:, high])
+        return None
+    median = _median_of_finite_rows(rows)
     deviation = np.abs(rows - median[:, None])
-    widest = deviation.max(axis=1)
-    part = np.partition(deviation, (low, high), axis=1)
-    sigma = _MAD_TO_SIGMA * (0.5 * (part[:, low] + part[:, high]))
-    return median, sigma, widest, np.full(n_rows, n)
+    return median, _MAD_TO_SIGMA * _median_of_finite_rows(deviation), deviation.max(axis=1)
 
 
 def _robust_stats_general(
