@@ -655,9 +655,24 @@ def _write_calibrated_profile(source: str, target: str, result) -> None:
 
 
 def _run_report(args: argparse.Namespace) -> int:
-    from trimlog.pipeline import chain as analysis
-    from trimlog.views import report
+    from trimlog.views.report_worker import start_report_worker
 
+    # forked first: it imports the drawing stack while this process analyses
+    worker = start_report_worker()
+    try:
+        return _report(args, worker)
+    finally:
+        if worker is not None:
+            worker.close()
+
+
+def _report(args: argparse.Namespace, worker: Any) -> int:
+    from trimlog.pipeline import chain as analysis
+
+    if worker is not None:
+        write_report = worker.write
+    else:
+        from trimlog.views.report import write_report
     with TerminalProgress(2 * len(args.logs or ()) + 1) as progress:
         if args.db and args.logs:
             result = _analyze_with_db(args, progress)
@@ -676,9 +691,9 @@ def _run_report(args: argparse.Namespace) -> int:
             result = analysis.analyze(flights, profile, exclusions=_exclusions(args.exclude),
                                       progress=progress, **_maneuver_choices(args))
             trend = None
-        path = report.write_report(result, args.output,
-                                   trend=trend.records() if trend is not None else None,
-                                   progress=progress)
+        path = write_report(result, args.output,
+                            trend=trend.records() if trend is not None else None,
+                            progress=progress)
     _print(f"report written to {path}")
     return _analysis_status(result)
 

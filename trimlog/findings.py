@@ -525,6 +525,10 @@ class Finding:
         object.__setattr__(self, "severity", Severity(self.severity))
         object.__setattr__(self, "values", MappingProxyType(dict(self.values)))
 
+    def __reduce__(self) -> tuple[type[Finding], tuple[object, ...]]:
+        # pickled (the report's writer process receives the analysis) as a plain dict
+        return (type(self), (self.code, self.severity, self.subject, dict(self.values)))
+
     def _fields(self) -> dict[str, object]:
         subject = self.subject.as_dict() if self.subject is not None else {}
         return {**subject, **self.values}

@@ -17,7 +17,6 @@ import os
 import signal
 import tempfile
 import textwrap
-import threading
 import time
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass
@@ -30,6 +29,8 @@ from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 from matplotlib.patches import Rectangle
 from matplotlib.ticker import FixedFormatter
+
+from trimlog.views.forking import fork_may_help
 
 PAGE_IN = (8.5, 11.0)  # US letter, portrait
 MARGIN_IN = (0.75, 0.75, 0.7, 0.85)  # left, right, top, bottom
@@ -379,16 +380,13 @@ def _split_at(pages: Sequence[Figure]) -> int:
 def _in_two_processes(pages: Sequence[Figure], metadata: dict[str, str]) -> bytes | None:
     """The PDF drawn by this process and a forked one, or None to draw it here alone.
 
-    Only where ``os.fork`` exists, two CPUs are free to this process and no
-    other thread runs (a fork copies one thread; a lock held by another would
-    stay held in the child): a command-line report, not the dashboard.  The
-    child draws the later pages into a temporary file and leaves with
-    ``os._exit`` (nothing of the parent's is flushed or cleaned twice); any
-    failure of the child, or of the join, gives None and the whole PDF is
-    then drawn here.
+    Only where :func:`trimlog.views.forking.fork_may_help` says so (a
+    command-line report, not the dashboard).  The child draws the later pages
+    into a temporary file and leaves with ``os._exit`` (nothing of the
+    parent's is flushed or cleaned twice); any failure of the child, or of the
+    join, gives None and the whole PDF is then drawn here.
     """
-    if (len(pages) < MIN_PAGES_TO_SPLIT or not hasattr(os, "fork")
-            or threading.active_count() != 1 or _free_cpus() < 2):
+    if len(pages) < MIN_PAGES_TO_SPLIT or not fork_may_help():
         return None
     k = _split_at(pages)
     with tempfile.TemporaryDirectory(prefix="trimlog-pdf-") as folder:
@@ -446,11 +444,3 @@ def _wait(pid: int, deadline: float) -> int | None:
         if time.monotonic() > deadline:
             return None
         time.sleep(0.005)
-
-
-def _free_cpus() -> int:
-    """CPUs this process may run on."""
-    try:
-        return len(os.sched_getaffinity(0))
-    except (AttributeError, OSError):
-        return os.cpu_count() or 1
