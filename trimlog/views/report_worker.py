@@ -66,14 +66,11 @@ def _portable(exc: TrimlogError) -> TrimlogError:
 
 def _serve(conn: Connection) -> None:
     """The worker: import, wait for the job, write the report, tell how it went."""
+    # Before the analysis arrives: the drawing stack, and what unpickling the analysis
+    # imports anyway.  Not pypdf (~0.1 s here, while this process is the one waited
+    # for): the join of the PDF's two parts imports it once the second writer is drawing.
+    import trimlog.pipeline.chain  # noqa: F401
     from trimlog.views import report
-
-    try:  # what unpickling the analysis and joining the PDF's parts import anyway
-        import pypdf  # noqa: F401
-
-        import trimlog.pipeline.chain  # noqa: F401
-    except ImportError:
-        pass
     try:
         job = conn.recv()
     except (EOFError, OSError):
