@@ -758,8 +758,11 @@ def bench_history(run: _Run) -> None:
         run.out(f"  {name:20s} {_ms(seconds)}  (target < {target:g} s) "
                 f"{run.verdict(f'history {name} < {target:g} s', seconds < target)}")
     step = result
-    run.out(f"  next step: at most {step.get('max_cg_pct_mac')} %MAC "
-            f"(minimum margin {step.get('min_static_margin_pct_mac')} %MAC)")
+    if step.get("max_cg_pct_mac") is None:  # synthetic points: the plan may refuse a number
+        run.out(f"  next step: cannot say yet ({step.get('reason')})")
+    else:
+        run.out(f"  next step: at most {step['max_cg_pct_mac']:.2f} %MAC "
+                f"(minimum margin {step.get('min_static_margin_pct_mac')} %MAC)")
 
 
 def bench_dashboard(run: _Run) -> None:
