@@ -3,6 +3,10 @@
 * The package source never evaluates text, unpickles, loads YAML, runs a
   shell or ``os.system`` (an AST scan of ``trimlog/**/*.py`` and ``app.py``,
   with a short allow-list of subprocesses that run a fixed argument list).
+  The one pickle channel is the report worker's pipe (``multiprocessing``
+  connections pickle what they carry): an anonymous pipe made before the
+  command forks, between its own two processes, carrying only objects this
+  process built; nothing a user wrote reaches it as bytes to unpickle.
 * TOML is read with the standard library's ``tomllib`` only, and text in a
   profile or loading sheet stays text.
 * CSV files written by ``trimlog export`` neutralise cells a spreadsheet
@@ -50,6 +54,10 @@ SUBPROCESS_ALLOWED = {
     ("benchmarks/bench.py", "bench_browser"),  # streamlit run, for the first-page time
     ("benchmarks/bench.py", "process_env"),  # python -m compileall of trimlog's own folder
 }
+# Modules allowed to use a multiprocessing connection (it unpickles what it receives):
+# each only between the command's own processes, over a pipe made before its fork.
+PICKLING_PIPE_ALLOWED = {"trimlog/views/report_worker.py"}
+PICKLING_PIPE_MODULES = {"multiprocessing"}
 FORBIDDEN_MODULES = {"pickle", "cPickle", "dill", "shelve", "marshal", "yaml", "toml", "tomli",
                      "cloudpickle", "joblib"}
 FORBIDDEN_CALLS = {"eval", "exec", "compile", "__import__"}
@@ -85,6 +93,9 @@ def scan(source: str, filename: str) -> list[str]:
             for name in names:
                 if name.split(".")[0] in FORBIDDEN_MODULES:
                     found.append(f"{where}: imports {name}")
+                if (name.split(".")[0] in PICKLING_PIPE_MODULES
+                        and filename not in PICKLING_PIPE_ALLOWED):
+                    found.append(f"{where}: imports {name} (its connections unpickle)")
                 if name.split(".")[0] == "subprocess" and (
                         filename, function_of.get(node)) not in SUBPROCESS_ALLOWED:
                     found.append(f"{where}: imports subprocess outside the allow-list")
@@ -127,6 +138,9 @@ def test_the_scan_finds_what_it_looks_for():
                  "subprocess.call() outside the allow-list", "imports subprocess"):
         assert any(what in f for f in found), (what, found)
     assert scan("import tomllib\ntomllib.loads('a = 1')\n", "trimlog/ok.py") == []
+    pipe = "from multiprocessing import Pipe\n"
+    assert any("its connections unpickle" in f for f in scan(pipe, "trimlog/other.py"))
+    assert scan(pipe, "trimlog/views/report_worker.py") == []
 
 
 @pytest.mark.parametrize("path", package_sources(), ids=lambda p: p.relative_to(ROOT).as_posix())

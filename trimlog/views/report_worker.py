@@ -15,13 +15,18 @@ the same progress, the same error message.  Where the worker cannot be used
 gives None; where it fails for any reason other than a user's error (the
 analysis does not pickle, the process dies), :meth:`ReportWorker.write` writes
 the report in this process instead, so the result never depends on the worker.
+
+The pipe is the one place trimlog unpickles (``multiprocessing`` connections
+pickle what they carry): an anonymous pipe made before the fork, between the
+command's own two processes, carrying only objects this process built.  No
+file or text a user gives reaches it as bytes (``tests/test_security.py``
+holds it to this module).
 """
 
 from __future__ import annotations
 
 import contextlib
 import os
-import pickle
 import signal
 import sys
 import time
@@ -55,13 +60,23 @@ class _Relay(Progress):
         self._conn.send(("step", stage, detail))
 
 
-def _portable(exc: TrimlogError) -> TrimlogError:
-    """``exc`` if it survives pickling, else a plain TrimlogError with its message."""
-    try:
-        back = pickle.loads(pickle.dumps(exc))
-    except Exception:  # noqa: BLE001 - any exception class that does not round-trip
-        return TrimlogError(str(exc))
-    return back if str(back) == str(exc) else TrimlogError(str(exc))
+def _error_message(exc: TrimlogError) -> tuple[str, str, str]:
+    """What crosses the pipe of a user's error: its class (module, name) and message."""
+    return type(exc).__module__, type(exc).__qualname__, str(exc)
+
+
+def _error_from(module: str, name: str, message: str) -> TrimlogError:
+    """The error again, of its own class where that is a trimlog error, with its message."""
+    import importlib
+
+    cls: Any = TrimlogError
+    if module.split(".")[0] == "trimlog":
+        found = getattr(importlib.import_module(module), name, None)
+        if isinstance(found, type) and issubclass(found, TrimlogError):
+            cls = found
+    exc = cls.__new__(cls)
+    Exception.__init__(exc, message)  # the message as given; no constructor reformats it
+    return exc
 
 
 def _serve(conn: Connection) -> None:
@@ -79,7 +94,7 @@ def _serve(conn: Connection) -> None:
     try:
         written = report.write_report(analysis, path, trend=trend, progress=_Relay(conn))
     except TrimlogError as exc:
-        conn.send(("error", _portable(exc)))
+        conn.send(("error", *_error_message(exc)))
         return
     conn.send(("done", str(written)))
 
@@ -108,7 +123,7 @@ class ReportWorker:
             try:
                 self._conn.send((analysis, str(path), trend))
                 self._sent = True
-            except (pickle.PicklingError, TypeError, AttributeError, OSError):
+            except Exception:  # noqa: BLE001 - it does not pickle, the worker is gone: here
                 return self._here(analysis, path, trend, progress)
             while True:
                 message = self._receive()
@@ -120,7 +135,7 @@ class ReportWorker:
                 elif kind == "step":
                     progress.step(message[1], message[2])
                 elif kind == "error":
-                    raise message[1]
+                    raise _error_from(*message[1:])
                 else:
                     return Path(message[1])
         finally:
