@@ -190,12 +190,6 @@ class ReportWorker:
                 return
             time.sleep(0.01)
 
-    def __enter__(self) -> ReportWorker:
-        return self
-
-    def __exit__(self, *exc: object) -> None:
-        self.close()
-
 
 def start_report_worker() -> ReportWorker | None:
     """Fork the report's worker now, or None where it would not help or is not safe.
